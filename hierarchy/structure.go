@@ -1,0 +1,260 @@
+// Package hierarchy builds the grouped structure of a set of bottom series:
+// the chains named by --nest, every node formed by a prefix of each chain,
+// the levels those nodes fall into, and the sparse summing matrix that adds
+// bottom series up to every node.
+package hierarchy
+
+import (
+	"math"
+	"sort"
+	"strings"
+
+	"trueup/internal/inputerr"
+)
+
+var nan = math.NaN()
+
+// Chain is a list of key attributes from coarse to fine, such as
+// region, store.
+type Chain []string
+
+// ParseNest turns --nest values ("region,store", "category") into chains.
+// An attribute may appear in only one chain and only once.
+func ParseNest(values []string) ([]Chain, error) {
+	if len(values) == 0 {
+		return nil, inputerr.New("no --nest given: name the key columns, coarse to fine, e.g. --nest region,store --nest category")
+	}
+	seen := map[string]bool{}
+	var chains []Chain
+	for _, v := range values {
+		var c Chain
+		for _, a := range strings.Split(v, ",") {
+			a = strings.TrimSpace(a)
+			if a == "" {
+				return nil, inputerr.New("--nest %q has an empty attribute name", v)
+			}
+			if seen[a] {
+				return nil, inputerr.New("--nest names attribute %q twice", a)
+			}
+			seen[a] = true
+			c = append(c, a)
+		}
+		chains = append(chains, c)
+	}
+	return chains, nil
+}
+
+// Level is a set of nodes aggregated the same way. Depth[c] is how many
+// attributes of chain c the level keeps (0 = aggregated over the chain).
+type Level struct {
+	Name  string
+	Depth []int
+	Nodes []int // indices into Structure.Nodes, ascending
+}
+
+// Node is one series of the structure. Key has one entry per attribute of
+// Structure.Attrs; "" where the node aggregates over that attribute.
+type Node struct {
+	Level int
+	Key   []string
+}
+
+// Structure is the full grouped structure. Nodes are ordered by level
+// (coarsest first, so the total is node 0) and by key within a level; the
+// bottom level comes last and its order matches the columns of S.
+type Structure struct {
+	Chains []Chain
+	Attrs  []string // all attributes, chain by chain, coarse to fine
+	Levels []Level
+	Nodes  []Node
+	S      *SumMatrix
+}
+
+// NumBottom is m, the number of bottom series.
+func (s *Structure) NumBottom() int { _, m := s.S.Dims(); return m }
+
+// BottomOffset is the index in Nodes of the first bottom node.
+func (s *Structure) BottomOffset() int { return len(s.Nodes) - s.NumBottom() }
+
+// LevelByName finds a level by its name.
+func (s *Structure) LevelByName(name string) (int, bool) {
+	for i, l := range s.Levels {
+		if l.Name == name {
+			return i, true
+		}
+	}
+	return -1, false
+}
+
+// LevelNames lists the level names in order.
+func (s *Structure) LevelNames() []string {
+	out := make([]string, len(s.Levels))
+	for i, l := range s.Levels {
+		out[i] = l.Name
+	}
+	return out
+}
+
+// Label is a readable name for node i, such as "region=North store=N01".
+func (s *Structure) Label(i int) string {
+	var parts []string
+	for a, v := range s.Nodes[i].Key {
+		if v != "" {
+			parts = append(parts, s.Attrs[a]+"="+v)
+		}
+	}
+	if len(parts) == 0 {
+		return "total"
+	}
+	return strings.Join(parts, " ")
+}
+
+// levelName joins the kept attributes with "+", or "total".
+func levelName(chains []Chain, depth []int) string {
+	var kept []string
+	for c, d := range depth {
+		kept = append(kept, chains[c][:d]...)
+	}
+	if len(kept) == 0 {
+		return "total"
+	}
+	return strings.Join(kept, "+")
+}
+
+// Build forms the structure from the bottom keys. bottom[j] holds bottom
+// series j's value for every attribute of the chains, in chain order. Keys
+// must be distinct and non-empty. A fine attribute value that appears under
+// two different coarser values of its chain (one store in two regions) is an
+// input error naming it.
+func Build(chains []Chain, bottom [][]string) (*Structure, error) {
+	var attrs []string
+	start := make([]int, len(chains)) // offset of chain c in attrs
+	for c, ch := range chains {
+		start[c] = len(attrs)
+		attrs = append(attrs, ch...)
+	}
+	if len(bottom) == 0 {
+		return nil, inputerr.New("no series to forecast")
+	}
+	// Nesting: within a chain, each value at depth k>0 has one parent path.
+	for c, ch := range chains {
+		for k := 1; k < len(ch); k++ {
+			parent := map[string]string{}
+			for _, key := range bottom {
+				v := key[start[c]+k]
+				p := strings.Join(key[start[c]:start[c]+k], "/")
+				if prev, ok := parent[v]; ok && prev != p {
+					return nil, inputerr.New(
+						"nesting violated: %s %q appears under %s %q and under %q; each %s must belong to one %s",
+						ch[k], v, strings.Join(ch[:k], "/"), prev, p, ch[k], strings.Join(ch[:k], "/"))
+				}
+				parent[v] = p
+			}
+		}
+	}
+	// Sort bottom keys so node order is deterministic whatever the input order.
+	order := make([]int, len(bottom))
+	for i := range order {
+		order[i] = i
+	}
+	sort.Slice(order, func(a, b int) bool { return lessKey(bottom[order[a]], bottom[order[b]]) })
+	for i := 1; i < len(order); i++ {
+		if equalKey(bottom[order[i-1]], bottom[order[i]]) {
+			return nil, inputerr.New("bottom key %s appears twice", strings.Join(bottom[order[i]], "/"))
+		}
+	}
+	sorted := make([][]string, len(bottom))
+	for i, o := range order {
+		sorted[i] = bottom[o]
+	}
+	m := len(sorted)
+
+	// Enumerate depth vectors in lexicographic order: total first, bottom last.
+	var depths [][]int
+	var rec func(c int, cur []int)
+	rec = func(c int, cur []int) {
+		if c == len(chains) {
+			depths = append(depths, append([]int(nil), cur...))
+			return
+		}
+		for d := 0; d <= len(chains[c]); d++ {
+			rec(c+1, append(cur, d))
+		}
+	}
+	rec(0, nil)
+	sort.SliceStable(depths, func(a, b int) bool {
+		sa, sb := sum(depths[a]), sum(depths[b])
+		if sa != sb {
+			return sa < sb
+		}
+		for c := range depths[a] {
+			if depths[a][c] != depths[b][c] {
+				return depths[a][c] < depths[b][c]
+			}
+		}
+		return false
+	})
+
+	st := &Structure{Chains: chains, Attrs: attrs}
+	var members [][]int
+	for li, depth := range depths {
+		lv := Level{Name: levelName(chains, depth), Depth: depth}
+		groups := map[string]int{}
+		var keys [][]string
+		var mem [][]int
+		for j, key := range sorted {
+			nk := make([]string, len(attrs))
+			for c, d := range depth {
+				copy(nk[start[c]:start[c]+d], key[start[c]:start[c]+d])
+			}
+			id := strings.Join(nk, "\x00")
+			g, ok := groups[id]
+			if !ok {
+				g = len(keys)
+				groups[id] = g
+				keys = append(keys, nk)
+				mem = append(mem, nil)
+			}
+			mem[g] = append(mem[g], j)
+		}
+		idx := make([]int, len(keys))
+		for i := range idx {
+			idx[i] = i
+		}
+		sort.Slice(idx, func(a, b int) bool { return lessKey(keys[idx[a]], keys[idx[b]]) })
+		for _, g := range idx {
+			lv.Nodes = append(lv.Nodes, len(st.Nodes))
+			st.Nodes = append(st.Nodes, Node{Level: li, Key: keys[g]})
+			members = append(members, mem[g])
+		}
+		st.Levels = append(st.Levels, lv)
+	}
+	st.S = NewSumMatrix(m, members)
+	return st, nil
+}
+
+func sum(xs []int) int {
+	t := 0
+	for _, x := range xs {
+		t += x
+	}
+	return t
+}
+
+func lessKey(a, b []string) bool {
+	for i := range a {
+		if a[i] != b[i] {
+			return a[i] < b[i]
+		}
+	}
+	return false
+}
+
+func equalKey(a, b []string) bool {
+	for i := range a {
+		if a[i] != b[i] {
+			return false
+		}
+	}
+	return true
+}

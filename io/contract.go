@@ -1,0 +1,68 @@
+package tableio
+
+// This file states the package's contract. The implementation lives in the
+// other files of the package.
+
+// Format is a file format for tables.
+type Format string
+
+// The supported table formats.
+const (
+	Parquet Format = "parquet"
+	CSV     Format = "csv"
+	Arrow   Format = "arrow" // Arrow IPC file format
+)
+
+// ReadOptions says which columns of the input carry what.
+type ReadOptions struct {
+	// Format overrides the format chosen by file extension when non-empty.
+	Format Format
+	// Time, Value name the period and value columns.
+	Time, Value string
+	// Keys name the key attribute columns (all attributes of all chains).
+	Keys []string
+}
+
+// Rows is the input table reduced to the columns trueup uses. Key columns
+// are dictionary-encoded so that ten million rows stay small in memory.
+type Rows struct {
+	Path    string
+	SHA256  string   // of the input file's bytes, hex
+	Columns []string // every column the file has, in file order
+	N       int      // number of data rows
+	// Periods holds each row's period at the grain the data carries
+	// (Day for calendar dates and timestamps).
+	Periods []Period
+	Values  []float64
+	// KeyNames equals ReadOptions.Keys; KeyCodes[k][row] indexes KeyDict[k].
+	KeyNames []string
+	KeyCodes [][]int32
+	KeyDict  [][]string
+}
+
+// ColumnType is the type of an output column.
+type ColumnType int
+
+// Output column types.
+const (
+	String ColumnType = iota
+	Float64
+	Int64
+)
+
+// Column is one output column. Exactly one of Strings, Floats, Ints is used,
+// according to Type. Null, when non-nil, marks null entries; a NaN float is
+// also written as null.
+type Column struct {
+	Name    string
+	Type    ColumnType
+	Strings []string
+	Floats  []float64
+	Ints    []int64
+	Null    []bool
+}
+
+// Table is an output table: columns of equal length.
+type Table struct {
+	Columns []Column
+}
