@@ -1,0 +1,35 @@
+package main
+
+import (
+	"github.com/spf13/cobra"
+)
+
+// version is the program version written to run.json.
+const version = "0.1.0"
+
+// usageError is a bad flag or argument.
+type usageError struct{ err error }
+
+func (e *usageError) Error() string { return e.err.Error() }
+func (e *usageError) Unwrap() error { return e.err }
+
+func newRootCmd() *cobra.Command {
+	root := &cobra.Command{
+		Use:   "trueup",
+		Short: "Coherent forecasts for store × category × region sales",
+		Long: `trueup forecasts every node of a grouped sales structure (stores within
+regions, crossed with categories, and every total of them), chooses a
+seasonal model per node, and reconciles the forecasts so that every total
+equals the sum of its parts. Forecasts are estimates: review them before
+they go into a plan.`,
+		Version:       version,
+		SilenceUsage:  true,
+		SilenceErrors: true,
+	}
+	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return &usageError{err} })
+	// One constructor per command, each in its own file.
+	root.AddCommand(
+	// commands are added here
+	)
+	return root
+}
