@@ -68,6 +68,15 @@ type Structure struct {
 	Levels []Level
 	Nodes  []Node
 	S      *SumMatrix
+
+	bottomIndex map[string]int // joined bottom key → bottom position
+}
+
+// BottomIndex returns the position (0..m−1) of the bottom series with the
+// given key (one value per attribute of Attrs).
+func (s *Structure) BottomIndex(key []string) (int, bool) {
+	j, ok := s.bottomIndex[strings.Join(key, "\x00")]
+	return j, ok
 }
 
 // NumBottom is m, the number of bottom series.
@@ -230,6 +239,10 @@ func Build(chains []Chain, bottom [][]string) (*Structure, error) {
 		st.Levels = append(st.Levels, lv)
 	}
 	st.S = NewSumMatrix(m, members)
+	st.bottomIndex = make(map[string]int, m)
+	for j, key := range sorted {
+		st.bottomIndex[strings.Join(key, "\x00")] = j
+	}
 	return st, nil
 }
 
