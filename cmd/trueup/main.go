@@ -7,6 +7,7 @@ import (
 	"errors"
 	"fmt"
 	"os"
+	"strings"
 
 	"trueup/internal/inputerr"
 )
@@ -33,7 +34,8 @@ func run(args []string) int {
 	}
 	fmt.Fprintln(os.Stderr, "trueup:", err)
 	var ue *usageError
-	if inputerr.Is(err) || errors.As(err, &ue) {
+	// Cobra reports an unknown command as a plain error.
+	if inputerr.Is(err) || errors.As(err, &ue) || strings.HasPrefix(err.Error(), "unknown command") {
 		return exitInput
 	}
 	return exitOther

@@ -1,11 +1,13 @@
 package main
 
 import (
-	"github.com/spf13/cobra"
-)
+	"fmt"
+	"strings"
 
-// version is the program version written to run.json.
-const version = "0.1.0"
+	"github.com/spf13/cobra"
+
+	"trueup/internal/pipeline"
+)
 
 // usageError is a bad flag or argument.
 type usageError struct{ err error }
@@ -22,14 +24,24 @@ regions, crossed with categories, and every total of them), chooses a
 seasonal model per node, and reconciles the forecasts so that every total
 equals the sum of its parts. Forecasts are estimates: review them before
 they go into a plan.`,
-		Version:       version,
+		Version:       pipeline.Version,
 		SilenceUsage:  true,
 		SilenceErrors: true,
 	}
 	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return &usageError{err} })
 	// One constructor per command, each in its own file.
 	root.AddCommand(
-	// commands are added here
+		newDemoCmd(),
+		newForecastCmd(),
+		newInspectCmd(),
 	)
 	return root
+}
+
+// noArgs rejects positional arguments as a usage error (exit status 2).
+func noArgs(cmd *cobra.Command, args []string) error {
+	if len(args) > 0 {
+		return &usageError{fmt.Errorf("%s takes no arguments, got %q; flags start with --", cmd.Name(), strings.Join(args, " "))}
+	}
+	return nil
 }

@@ -1,0 +1,84 @@
+package main
+
+import (
+	"encoding/json"
+	"fmt"
+	"text/tabwriter"
+
+	"github.com/spf13/cobra"
+
+	"trueup/internal/pipeline"
+	tableio "trueup/io"
+)
+
+func newInspectCmd() *cobra.Command {
+	var (
+		cfg     pipeline.InspectConfig
+		format  string
+		asJSON  bool
+		listMax int
+	)
+	cmd := &cobra.Command{
+		Use:   "inspect --input FILE --nest CHAIN [--nest CHAIN ...]",
+		Short: "Describe a sales table before forecasting it",
+		Long: `Reads the sales table as forecast would and reports rows, series per level,
+the period range, gaps, zeros, duplicate key-and-period rows, negative
+values, and the series that start late (openings) or stop early (closures).
+Nothing is written.`,
+		Example: `  trueup inspect --input sales.parquet --time month --value sales \
+      --nest region,store --nest category`,
+		Args: noArgs,
+		RunE: func(cmd *cobra.Command, _ []string) error {
+			if cfg.Input == "" {
+				return &usageError{errMissing("--input")}
+			}
+			cfg.Format = tableio.Format(format)
+			rep, err := pipeline.Inspect(cfg)
+			if err != nil {
+				return err
+			}
+			w := cmd.OutOrStdout()
+			if asJSON {
+				enc := json.NewEncoder(w)
+				enc.SetIndent("", "  ")
+				return enc.Encode(rep)
+			}
+			fmt.Fprintf(w, "%s: %d rows, columns %v\n", rep.Input.Path, rep.Input.Rows, rep.Input.Columns)
+			fmt.Fprintf(w, "periods: %s to %s, %d %ss (grain from %s)\n", rep.FirstPeriod, rep.LastPeriod, rep.Periods, rep.Grain, rep.GrainFrom)
+			fmt.Fprintf(w, "bottom series: %d, nodes: %d\n\n", rep.BottomSeries, rep.Nodes)
+			tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+			fmt.Fprintln(tw, "level\tseries")
+			for _, l := range rep.SeriesByLevel {
+				fmt.Fprintf(tw, "%s\t%d\n", l.Level, l.Nodes)
+			}
+			tw.Flush()
+			fmt.Fprintf(w, "\nduplicate rows (same key and period): %d\n", rep.DuplicateRows)
+			fmt.Fprintf(w, "zero values: %d\nnegative values: %d\n", rep.ZeroValues, rep.NegativeRows)
+			fmt.Fprintf(w, "gap periods (no row inside a series' span, read as zero): %d\n", rep.GapPeriods)
+			for _, group := range []struct {
+				title string
+				spans []pipeline.SeriesSpan
+			}{{"series starting late", rep.LateStarts}, {"series ending early", rep.EarlyEnds}} {
+				fmt.Fprintf(w, "%s: %d\n", group.title, len(group.spans))
+				for i, s := range group.spans {
+					if i == listMax {
+						fmt.Fprintf(w, "  … and %d more (--json lists all)\n", len(group.spans)-listMax)
+						break
+					}
+					fmt.Fprintf(w, "  %s: %s to %s\n", s.Key, s.First, s.Last)
+				}
+			}
+			return nil
+		},
+	}
+	fl := cmd.Flags()
+	fl.StringVar(&cfg.Input, "input", "", "sales table, .parquet or .csv")
+	fl.StringVar(&format, "input-format", "", "read the input as parquet or csv whatever its extension")
+	fl.StringVar(&cfg.Time, "time", "period", "period column")
+	fl.StringVar(&cfg.Value, "value", "sales", "numeric value column")
+	fl.StringArrayVar(&cfg.Nest, "nest", nil, "key columns of one chain, coarse to fine (repeatable)")
+	fl.StringVar(&cfg.Grain, "grain", "", "inspect at this grain: day, week, month, quarter")
+	fl.BoolVar(&asJSON, "json", false, "print the report as JSON")
+	fl.IntVar(&listMax, "list", 10, "late-starting and early-ending series to list")
+	return cmd
+}

@@ -1,0 +1,189 @@
+package numeric
+
+import (
+	"errors"
+	"math"
+)
+
+// ARMAKalman computes the exact Gaussian likelihood of a zero-mean
+// stationary ARMA(p, q) series by the Kalman filter on the state-space form
+// of Gardner, Harvey & Phillips (1980, Applied Statistics 29(3), algorithm
+// AS 154) and Harvey (1989, Forecasting, Structural Time Series Models and
+// the Kalman Filter, §3.4):
+//
+//	α_{t+1} = T α_t + R ε_{t+1},  w_t = α_{1,t},
+//
+// with state dimension r = max(p, q+1), T holding φ_1..φ_r in its first
+// column and ones on its superdiagonal, and R = (1, θ_1, …, θ_{r−1})ᵀ. The
+// innovation variance is scaled out (σ² = 1), so the filter returns the sum
+// of squared standardised innovations and the sum of log innovation
+// variances, from which σ² is concentrated out of the likelihood.
+//
+// The initial state covariance is the stationary solution of
+// P = T P Tᵀ + R Rᵀ (closed form for pure moving averages, Lyapunov
+// doubling otherwise). The companion structure of T makes each filter step
+// O(r²); once the predicted covariance stops changing (to 1e-11) the filter
+// switches to the steady-state gain, making the remaining steps O(r).
+//
+// The zero value is ready to use; a workspace is reused across calls, so an
+// ARMAKalman is not safe for concurrent use.
+type ARMAKalman struct {
+	r               int
+	phi, rv         []float64
+	a, anew, pp, pn []float64
+	tm, rr, lyWork  []float64
+}
+
+// ErrBadVariance reports a non-positive or non-finite innovation variance
+// inside the filter, which happens only for invalid parameters.
+var ErrBadVariance = errors.New("numeric: Kalman filter innovation variance is not positive")
+
+// StateDim returns max(p, q+1), the state dimension for ARMA(p, q).
+func StateDim(p, q int) int { return max(p, q+1) }
+
+func (k *ARMAKalman) setup(phi, theta []float64) error {
+	r := StateDim(len(phi), len(theta))
+	k.r = r
+	grow := func(s []float64, n int) []float64 {
+		if cap(s) < n {
+			return make([]float64, n)
+		}
+		s = s[:n]
+		for i := range s {
+			s[i] = 0
+		}
+		return s
+	}
+	k.phi = grow(k.phi, r)
+	k.rv = grow(k.rv, r)
+	k.a = grow(k.a, r)
+	k.anew = grow(k.anew, r)
+	k.pp = grow(k.pp, r*r)
+	copy(k.phi, phi)
+	k.rv[0] = 1
+	copy(k.rv[1:], theta)
+	allZero := true
+	for _, v := range phi {
+		if v != 0 {
+			allZero = false
+			break
+		}
+	}
+	if allZero {
+		// Pure moving average: α_{i,t} = Σ_k R_{i+k} ε_{t−k}, so
+		// P0[i][j] = Σ_k R_{i+k} R_{j+k}.
+		for i := 0; i < r; i++ {
+			for j := i; j < r; j++ {
+				var s float64
+				for m := 0; i+m < r && j+m < r; m++ {
+					s += k.rv[i+m] * k.rv[j+m]
+				}
+				k.pp[i*r+j], k.pp[j*r+i] = s, s
+			}
+		}
+		return nil
+	}
+	k.tm = grow(k.tm, r*r)
+	k.rr = grow(k.rr, r*r)
+	k.lyWork = grow(k.lyWork, 3*r*r)
+	for i := 0; i < r; i++ {
+		k.tm[i*r] = k.phi[i]
+		if i+1 < r {
+			k.tm[i*r+i+1] = 1
+		}
+		for j := 0; j < r; j++ {
+			k.rr[i*r+j] = k.rv[i] * k.rv[j]
+		}
+	}
+	return Lyapunov(k.pp, k.tm, k.rr, r, k.lyWork)
+}
+
+// Filter runs the filter over w for the ARMA model with AR coefficients
+// phi and MA coefficients theta (signs: w_t = Σφ_i w_{t−i} + ε_t + Σθ_j
+// ε_{t−j}). It returns ssq = Σ v_t²/F_t and sumLog = Σ ln F_t, where v_t is
+// the one-step prediction error and F_t its variance relative to σ². The
+// concentrated log-likelihood is −n/2·(ln(2π·ssq/n) + 1) − sumLog/2.
+// When resid is non-nil (length len(w)) it receives the raw errors v_t.
+// After the call, State returns the prediction of the next state.
+// An error means the parameters give no stationary solution.
+func (k *ARMAKalman) Filter(w, phi, theta, resid []float64) (ssq, sumLog float64, err error) {
+	if err := k.setup(phi, theta); err != nil {
+		return 0, 0, err
+	}
+	r := k.r
+	if cap(k.pn) < r*r {
+		k.pn = make([]float64, r*r)
+	}
+	a, anew, pp, pn, ph, rv := k.a, k.anew, k.pp, k.pn[:r*r], k.phi, k.rv
+	steady := false
+	for t, wt := range w {
+		f := pp[0]
+		if !(f > 0) || math.IsInf(f, 0) {
+			return 0, 0, ErrBadVariance
+		}
+		v := wt - a[0]
+		if resid != nil {
+			resid[t] = v
+		}
+		ssq += v * v / f
+		sumLog += math.Log(f)
+		// Updated state a + P[:,0]·v/F, then predicted T·(updated).
+		g := v / f
+		a0 := a[0] + pp[0]*g
+		for i := 0; i < r; i++ {
+			next := 0.0
+			if i+1 < r {
+				next = a[i+1] + pp[(i+1)*r]*g
+			}
+			anew[i] = ph[i]*a0 + next
+		}
+		a, anew = anew, a
+		if steady {
+			continue
+		}
+		// Predicted covariance T·U·Tᵀ + R Rᵀ with the updated covariance
+		// U = P − c cᵀ/F, c = P[:,0], on the upper triangle, using the
+		// companion form of T: (TUTᵀ)_ij = φ_iφ_j U_00 + φ_i U_{0,j+1}
+		// + φ_j U_{i+1,0} + U_{i+1,j+1}.
+		invF := 1 / f
+		u00 := pp[0] - pp[0]*pp[0]*invF
+		var diff float64
+		for i := 0; i < r; i++ {
+			var ci1, ui0 float64
+			if i+1 < r {
+				ci1 = pp[(i+1)*r]
+				ui0 = pp[(i+1)*r] - ci1*pp[0]*invF
+			}
+			for j := i; j < r; j++ {
+				s := ph[i]*ph[j]*u00 + rv[i]*rv[j] + ph[j]*ui0
+				if j+1 < r {
+					cj1 := pp[j+1]
+					s += ph[i] * (pp[j+1] - pp[0]*cj1*invF)
+					if i+1 < r {
+						s += pp[(i+1)*r+j+1] - ci1*cj1*invF
+					}
+				}
+				pn[i*r+j] = s
+				diff = max(diff, math.Abs(s-pp[i*r+j]))
+			}
+		}
+		for i := 0; i < r; i++ {
+			for j := i + 1; j < r; j++ {
+				pn[j*r+i] = pn[i*r+j]
+			}
+		}
+		pp, pn = pn, pp
+		if diff < 1e-11 {
+			steady = true
+		}
+	}
+	k.a, k.anew, k.pp, k.pn = a, anew, pp, pn
+	return ssq, sumLog, nil
+}
+
+// State returns the predicted state mean and covariance (row-major r×r,
+// relative to σ²) for the step after the last one filtered. The slices are
+// the workspace's own and are overwritten by the next Filter call.
+func (k *ARMAKalman) State() (a, p []float64, r int) {
+	return k.a[:k.r], k.pp[:k.r*k.r], k.r
+}

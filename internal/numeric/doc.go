@@ -1,0 +1,10 @@
+// Package numeric holds numerical routines that several trueup packages
+// share: polynomial products, the partial-autocorrelation reparameterisation
+// of stationary autoregressions, a discrete Lyapunov solver, an exact
+// Kalman-filter likelihood for ARMA processes, the KPSS stationarity test and
+// the STL seasonal-trend decomposition.
+//
+// Routines work on plain []float64 (matrices row-major) and take
+// caller-owned destination slices or reusable workspaces in their hot loops,
+// in the manner of gonum's floats package.
+package numeric

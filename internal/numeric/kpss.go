@@ -1,0 +1,47 @@
+package numeric
+
+import "math"
+
+// KPSSLevel returns the KPSS statistic for the null hypothesis that x is
+// stationary around a constant level (Kwiatkowski, Phillips, Schmidt & Shin
+// 1992, J. Econometrics 54, eq. 10), with the Bartlett-weighted long-run
+// variance at lags = ⌊4·(n/100)^{1/4}⌋, the "l4" truncation of that paper.
+// Large values reject stationarity; see KPSSLevelCritical5.
+// It returns 0 for series shorter than 3 or with zero variance.
+func KPSSLevel(x []float64) float64 {
+	n := len(x)
+	if n < 3 {
+		return 0
+	}
+	var mean float64
+	for _, v := range x {
+		mean += v
+	}
+	mean /= float64(n)
+	var s, eta, s0 float64
+	for _, v := range x {
+		e := v - mean
+		s += e
+		eta += s * s
+		s0 += e * e
+	}
+	lags := int(math.Floor(4 * math.Pow(float64(n)/100, 0.25)))
+	lags = min(lags, n-1)
+	lrv := s0
+	for l := 1; l <= lags; l++ {
+		var g float64
+		for t := l; t < n; t++ {
+			g += (x[t] - mean) * (x[t-l] - mean)
+		}
+		lrv += 2 * (1 - float64(l)/float64(lags+1)) * g
+	}
+	lrv /= float64(n)
+	if !(lrv > 1e-300*float64(n)) {
+		return 0
+	}
+	return eta / (float64(n) * float64(n)) / lrv
+}
+
+// KPSSLevelCritical5 is the 5% asymptotic critical value of the level
+// statistic, 0.463 (Kwiatkowski et al. 1992, Table 1).
+const KPSSLevelCritical5 = 0.463

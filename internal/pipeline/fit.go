@@ -1,0 +1,146 @@
+package pipeline
+
+import (
+	"fmt"
+	"math"
+	"strings"
+	"sync"
+
+	"trueup/models"
+	"trueup/models/families"
+)
+
+// NodeFit is the fitted model of one node and what the pipeline needs
+// from it, aligned to the panel's calendar.
+type NodeFit struct {
+	Model    models.Model // nil for a closed node
+	First    int          // panel column of the node's first observation
+	Last     int          // panel column of its last observation
+	Mean     []float64    // h base forecasts
+	Variance []float64    // h base forecast-error variances
+	Warning  string
+	Closed   bool // the node stopped trading before the panel's last period
+}
+
+// fitNodes fits family to every node series in parallel. Results are
+// placed by node index, so the output does not depend on the number of
+// workers or the order in which they finish.
+//
+// Fitting rule for openings and closures: each node is fitted on its own
+// span, from its first to its last existing period (see Panel). A node
+// whose span ends before the last period has closed: it is forecast as
+// zero with zero variance and a warning. When the family cannot fit a node
+// (too short a history), the fallbacks are tried in order and the reason is
+// kept in the node's warning.
+func fitNodes(series [][]float64, family models.Family, opt models.FitOptions, workers int, progress func(done, total int)) []NodeFit {
+	n := len(series)
+	fits := make([]NodeFit, n)
+	jobs := make(chan int)
+	var wg sync.WaitGroup
+	var mu sync.Mutex
+	done := 0
+	if workers < 1 {
+		workers = 1
+	}
+	for w := 0; w < workers; w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := range jobs {
+				fits[i] = fitOne(series[i], family, opt)
+				if progress != nil {
+					mu.Lock()
+					done++
+					progress(done, n)
+					mu.Unlock()
+				}
+			}
+		}()
+	}
+	for i := 0; i < n; i++ {
+		jobs <- i
+	}
+	close(jobs)
+	wg.Wait()
+	return fits
+}
+
+func fitOne(y []float64, family models.Family, opt models.FitOptions) NodeFit {
+	first, last := -1, -1
+	for t, v := range y {
+		if !math.IsNaN(v) {
+			if first < 0 {
+				first = t
+			}
+			last = t
+		}
+	}
+	nf := NodeFit{First: first, Last: last}
+	h := opt.Horizon
+	if first < 0 || last < len(y)-1 {
+		nf.Closed = true
+		nf.Mean = make([]float64, h)
+		nf.Variance = make([]float64, h)
+		nf.Warning = "closed: no sales in the latest periods, forecast as zero"
+		return nf
+	}
+	span := make([]float64, last-first+1)
+	for t := range span {
+		v := y[first+t]
+		if math.IsNaN(v) {
+			v = 0 // an aggregate whose members all paused: nothing sold
+		}
+		span[t] = v
+	}
+	var reasons []string
+	tryFit := func(f models.Family) bool {
+		m, err := safeFit(f, span, opt)
+		if err != nil {
+			reasons = append(reasons, fmt.Sprintf("%s: %v", f.Name(), err))
+			return false
+		}
+		mean, variance := m.Forecast(h)
+		if !finite(mean) || !finite(variance) {
+			reasons = append(reasons, f.Name()+": non-finite forecast")
+			return false
+		}
+		nf.Model, nf.Mean, nf.Variance = m, mean, variance
+		return true
+	}
+	if !tryFit(family) {
+		for _, fb := range families.Fallbacks {
+			if fb.Name() != family.Name() && tryFit(fb) {
+				break
+			}
+		}
+	}
+	var warn []string
+	if len(reasons) > 0 {
+		warn = append(warn, "fell back ("+strings.Join(reasons, "; ")+")")
+	}
+	if nf.Model != nil && nf.Model.Warning() != "" {
+		warn = append(warn, nf.Model.Warning())
+	}
+	nf.Warning = strings.Join(warn, "; ")
+	return nf
+}
+
+// safeFit turns a panic inside a family into an error, so that one bad
+// node cannot stop a run of thousands; the fallback then takes over.
+func safeFit(f models.Family, y []float64, opt models.FitOptions) (m models.Model, err error) {
+	defer func() {
+		if r := recover(); r != nil {
+			m, err = nil, fmt.Errorf("internal error: %v", r)
+		}
+	}()
+	return f.Fit(y, opt)
+}
+
+func finite(xs []float64) bool {
+	for _, x := range xs {
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			return false
+		}
+	}
+	return true
+}

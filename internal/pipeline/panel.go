@@ -1,0 +1,269 @@
+package pipeline
+
+import (
+	"fmt"
+	"math"
+	"sort"
+	"strings"
+
+	"trueup/internal/inputerr"
+	tableio "trueup/io"
+)
+
+// Panel holds the bottom series on one common calendar.
+//
+// Openings and closures: a bottom series exists from the first to the last
+// period it has a row for. Inside that span a period without a row counts
+// as zero sales (the cell traded nothing); outside it the value is NaN (the
+// store had not opened, or had closed). Aggregates add the members that
+// exist, so a store adds nothing to its region before it opens.
+type Panel struct {
+	Grain   tableio.Grain
+	First   tableio.Period // period of column 0
+	T       int            // number of periods
+	Keys    [][]string     // per bottom series, one value per key column
+	Values  [][]float64    // per bottom series, T values (NaN outside its span)
+	Stats   PanelStats
+	KeyCols []string
+}
+
+// PanelStats counts what validation found.
+type PanelStats struct {
+	Rows         int
+	SummedRows   int // rows added into another row of the same key and period
+	Negative     int // rows with a negative value (returns)
+	Zero         int // rows with a zero value
+	Gaps         int // periods inside a series' span with no row (counted as zero)
+	LateStarts   int // series whose first period is after the panel's first
+	EarlyEnds    int // series whose last period is before the panel's last
+	NativeGrain  tableio.Grain
+	InferredFrom string // how the grain was found
+}
+
+// PanelOptions controls BuildPanel.
+type PanelOptions struct {
+	Grain         *tableio.Grain // nil: the data's own grain
+	SumDuplicates bool
+}
+
+// BuildPanel turns input rows into one series per distinct key. Without
+// SumDuplicates, two rows with the same key and period (at the data's own
+// grain) are an input error naming the first such key and period. With a
+// coarser Grain, rows are summed into its periods.
+func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
+	if rows.N == 0 {
+		return nil, inputerr.New("%s: no data rows", rows.Path)
+	}
+	native, how, err := nativeGrain(rows)
+	if err != nil {
+		return nil, err
+	}
+	target := native
+	if opt.Grain != nil {
+		target = *opt.Grain
+	}
+	// Periods at the native grain (dates at a coarser native grain map to
+	// their period) and at the target grain.
+	nat := make([]int, rows.N)
+	tgt := make([]int, rows.N)
+	var lastIn tableio.Period
+	var lastNat, lastTgt tableio.Period
+	for i, p := range rows.Periods {
+		if i == 0 || p != lastIn {
+			lastIn = p
+			lastNat, err = p.Coarsen(native)
+			if err != nil {
+				return nil, fmt.Errorf("%s: row %d: %w", rows.Path, i+1, err)
+			}
+			lastTgt, err = lastNat.Coarsen(target)
+			if err != nil {
+				return nil, err
+			}
+		}
+		nat[i] = lastNat.Index
+		tgt[i] = lastTgt.Index
+	}
+
+	// Combine key codes into one series id per row.
+	k := len(rows.KeyCodes)
+	radix := make([]int64, k)
+	var combined int64 = 1
+	for c := k - 1; c >= 0; c-- {
+		radix[c] = combined
+		combined *= int64(len(rows.KeyDict[c]))
+	}
+	seriesOf := map[int64]int32{}
+	var seriesKey [][]int32
+	sid := make([]int32, rows.N)
+	var last int64 = -1
+	var lastID int32
+	for i := 0; i < rows.N; i++ {
+		var id int64
+		for c := 0; c < k; c++ {
+			id += int64(rows.KeyCodes[c][i]) * radix[c]
+		}
+		if id != last {
+			s, ok := seriesOf[id]
+			if !ok {
+				s = int32(len(seriesKey))
+				seriesOf[id] = s
+				codes := make([]int32, k)
+				for c := 0; c < k; c++ {
+					codes[c] = rows.KeyCodes[c][i]
+				}
+				seriesKey = append(seriesKey, codes)
+			}
+			last, lastID = id, s
+		}
+		sid[i] = lastID
+	}
+	m := len(seriesKey)
+
+	// Duplicates at the native grain.
+	natMin, natMax := minMax(nat)
+	if !opt.SumDuplicates {
+		span := natMax - natMin + 1
+		seen := make([]uint64, (m*span+63)/64)
+		for i := 0; i < rows.N; i++ {
+			bit := int(sid[i])*span + nat[i] - natMin
+			if seen[bit/64]&(1<<(bit%64)) != 0 {
+				p := tableio.Period{Grain: native, Index: nat[i]}
+				return nil, inputerr.New("%s: row %d repeats key %s and period %s; use --sum-duplicates to add such rows together",
+					rows.Path, i+1, keyText(rows, seriesKey[sid[i]]), p)
+			}
+			seen[bit/64] |= 1 << (bit % 64)
+		}
+	}
+
+	tMin, tMax := minMax(tgt)
+	T := tMax - tMin + 1
+	pn := &Panel{
+		Grain:   target,
+		First:   tableio.Period{Grain: target, Index: tMin},
+		T:       T,
+		KeyCols: rows.KeyNames,
+	}
+	pn.Stats.Rows = rows.N
+	pn.Stats.NativeGrain = native
+	pn.Stats.InferredFrom = how
+	vals := make([][]float64, m)
+	has := make([][]bool, m)
+	backing := make([]float64, m*T)
+	hasBacking := make([]bool, m*T)
+	for s := range vals {
+		vals[s] = backing[s*T : (s+1)*T]
+		has[s] = hasBacking[s*T : (s+1)*T]
+	}
+	for i := 0; i < rows.N; i++ {
+		s, t := sid[i], tgt[i]-tMin
+		v := rows.Values[i]
+		if has[s][t] {
+			pn.Stats.SummedRows++
+		}
+		vals[s][t] += v
+		has[s][t] = true
+		if v < 0 {
+			pn.Stats.Negative++
+		} else if v == 0 {
+			pn.Stats.Zero++
+		}
+	}
+	// Spans: NaN outside, zero-filled gaps inside.
+	for s := 0; s < m; s++ {
+		first, lastT := -1, -1
+		for t := 0; t < T; t++ {
+			if has[s][t] {
+				if first < 0 {
+					first = t
+				}
+				lastT = t
+			}
+		}
+		for t := 0; t < T; t++ {
+			switch {
+			case t < first || t > lastT:
+				vals[s][t] = math.NaN()
+			case !has[s][t]:
+				pn.Stats.Gaps++
+			}
+		}
+		if first > 0 {
+			pn.Stats.LateStarts++
+		}
+		if lastT < T-1 {
+			pn.Stats.EarlyEnds++
+		}
+	}
+	pn.Keys = make([][]string, m)
+	for s, codes := range seriesKey {
+		key := make([]string, k)
+		for c, code := range codes {
+			key[c] = rows.KeyDict[c][code]
+		}
+		pn.Keys[s] = key
+	}
+	pn.Values = vals
+	return pn, nil
+}
+
+// Period returns the calendar period of column t.
+func (p *Panel) Period(t int) tableio.Period { return p.First.Next(t) }
+
+// nativeGrain is the grain the data carries: the grain of its period
+// labels, or, for calendar dates, the grain implied by the smallest gap
+// between distinct dates (1 day, 7 days, 28–31 days, 89–92 days).
+func nativeGrain(rows *tableio.Rows) (tableio.Grain, string, error) {
+	g := rows.Periods[0].Grain
+	for i, p := range rows.Periods {
+		if p.Grain != g {
+			return 0, "", inputerr.New("%s: row %d: period %s is a %s but row 1's is a %s; use one form throughout",
+				rows.Path, i+1, p, p.Grain, g)
+		}
+	}
+	if g != tableio.Day {
+		return g, "period labels", nil
+	}
+	seen := map[int]bool{}
+	for _, p := range rows.Periods {
+		seen[p.Index] = true
+	}
+	days := make([]int, 0, len(seen))
+	for d := range seen {
+		days = append(days, d)
+	}
+	if len(days) < 2 {
+		return tableio.Day, "a single date", nil
+	}
+	sort.Ints(days)
+	gap := math.MaxInt
+	for i := 1; i < len(days); i++ {
+		gap = min(gap, days[i]-days[i-1])
+	}
+	switch {
+	case gap == 1:
+		return tableio.Day, "dates one day apart", nil
+	case gap == 7:
+		return tableio.Week, "dates seven days apart", nil
+	case gap >= 28 && gap <= 31:
+		return tableio.Month, "dates about a month apart", nil
+	case gap >= 89 && gap <= 92:
+		return tableio.Quarter, "dates about a quarter apart", nil
+	}
+	return 0, "", inputerr.New("%s: dates are %d days apart at the closest; cannot tell the grain, give --grain", rows.Path, gap)
+}
+
+func minMax(xs []int) (lo, hi int) {
+	lo, hi = xs[0], xs[0]
+	for _, x := range xs {
+		lo, hi = min(lo, x), max(hi, x)
+	}
+	return lo, hi
+}
+
+func keyText(rows *tableio.Rows, codes []int32) string {
+	parts := make([]string, len(codes))
+	for c, code := range codes {
+		parts[c] = rows.KeyNames[c] + "=" + rows.KeyDict[c][code]
+	}
+	return strings.Join(parts, " ")
+}

@@ -1,0 +1,150 @@
+package pipeline
+
+import (
+	"encoding/json"
+	"fmt"
+	"path/filepath"
+	"sort"
+
+	"trueup/hierarchy"
+	tableio "trueup/io"
+	"trueup/reconcile"
+)
+
+// RunReport is the content of run.json: what was read, with which options,
+// what came out, how long each stage took and what deserves a look.
+type RunReport struct {
+	Version string         `json:"version"`
+	Input   InputReport    `json:"input"`
+	Options map[string]any `json:"options"`
+	Counts  CountsReport   `json:"counts"`
+	Models  map[string]int `json:"models"` // nodes per chosen family
+	// Reconcile holds the method and its facts, such as the shrinkage λ.
+	Reconcile ReconcileReport `json:"reconcile"`
+	// Timings holds seconds per stage. They vary from run to run, so
+	// run.json is the one output that is not byte-identical across runs.
+	Timings  map[string]float64 `json:"timings_seconds"`
+	Warnings []string           `json:"warnings"`
+	Files    []string           `json:"files"`
+}
+
+// InputReport identifies the input file.
+type InputReport struct {
+	Path    string   `json:"path"`
+	SHA256  string   `json:"sha256"`
+	Rows    int      `json:"rows"`
+	Columns []string `json:"columns"`
+}
+
+// CountsReport sizes the structure.
+type CountsReport struct {
+	BottomSeries  int            `json:"bottom_series"`
+	Nodes         int            `json:"nodes"`
+	NodesPerLevel []LevelCount   `json:"nodes_per_level"`
+	Periods       int            `json:"periods"`
+	FirstPeriod   string         `json:"first_period"`
+	LastPeriod    string         `json:"last_period"`
+	Grain         string         `json:"grain"`
+	SeasonalLag   int            `json:"seasonal_period"`
+	Horizon       int            `json:"horizon"`
+	ForecastRange [2]string      `json:"forecast_periods"`
+	Input         map[string]int `json:"input_checks"`
+}
+
+// LevelCount is the number of nodes in one level.
+type LevelCount struct {
+	Level string `json:"level"`
+	Nodes int    `json:"nodes"`
+}
+
+// ReconcileReport describes the reconciliation.
+type ReconcileReport struct {
+	Method string             `json:"method"`
+	Notes  map[string]float64 `json:"notes,omitempty"`
+}
+
+func (c Config) options() map[string]any {
+	formats := make([]string, len(c.Formats))
+	for i, f := range c.Formats {
+		formats[i] = string(f)
+	}
+	return map[string]any{
+		"input": c.Input, "format": string(c.Format), "time": c.Time, "value": c.Value,
+		"nest": c.Nest, "sum_duplicates": c.SumDuplicates, "grain": c.Grain, "period": c.Period,
+		"horizon": c.Horizon, "family": c.Family, "method": c.Method, "cov": c.Cov, "at": c.At,
+		"nonnegative": c.Nonnegative, "levels": c.Levels, "workers": c.Workers,
+		"out": c.OutDir, "formats": formats,
+	}
+}
+
+func (r *RunReport) fill(cfg Config, rows *tableio.Rows, pn *Panel, st *hierarchy.Structure, fits []NodeFit, sol reconcile.Solution, method string, period int) {
+	r.Input = InputReport{Path: rows.Path, SHA256: rows.SHA256, Rows: rows.N, Columns: rows.Columns}
+	c := CountsReport{
+		BottomSeries: st.NumBottom(), Nodes: len(st.Nodes), Periods: pn.T,
+		FirstPeriod: pn.Period(0).String(), LastPeriod: pn.Period(pn.T - 1).String(),
+		Grain: pn.Grain.String(), SeasonalLag: period, Horizon: cfg.Horizon,
+		ForecastRange: [2]string{pn.Period(pn.T).String(), pn.Period(pn.T + cfg.Horizon - 1).String()},
+		Input: map[string]int{
+			"summed_rows": pn.Stats.SummedRows, "negative_values": pn.Stats.Negative,
+			"zero_values": pn.Stats.Zero, "gap_periods": pn.Stats.Gaps,
+			"late_starts": pn.Stats.LateStarts, "early_ends": pn.Stats.EarlyEnds,
+		},
+	}
+	for _, l := range st.Levels {
+		c.NodesPerLevel = append(c.NodesPerLevel, LevelCount{l.Name, len(l.Nodes)})
+	}
+	r.Counts = c
+	r.Models = map[string]int{}
+	warned := 0
+	for _, f := range fits {
+		name := "closed"
+		if f.Model != nil {
+			name = f.Model.Family()
+		}
+		r.Models[name]++
+		if f.Warning != "" {
+			warned++
+		}
+	}
+	r.Reconcile = ReconcileReport{Method: method, Notes: sol.Notes}
+	r.Warnings = []string{}
+	if pn.Stats.Negative > 0 {
+		r.Warnings = append(r.Warnings, fmt.Sprintf("%d rows have negative values (returns?); they were kept", pn.Stats.Negative))
+	}
+	if pn.Stats.Gaps > 0 {
+		r.Warnings = append(r.Warnings, fmt.Sprintf("%d periods inside series' spans had no row and count as zero sales", pn.Stats.Gaps))
+	}
+	if pn.Stats.EarlyEnds > 0 {
+		r.Warnings = append(r.Warnings, fmt.Sprintf("%d bottom series stop before %s and are forecast as zero", pn.Stats.EarlyEnds, c.LastPeriod))
+	}
+	if warned > 0 {
+		r.Warnings = append(r.Warnings, fmt.Sprintf("%d nodes have a model warning; see the warning column of the models table", warned))
+	}
+}
+
+// LevelCounts returns nodes per level in level order.
+func (r *RunReport) LevelCounts() []LevelCount { return r.Counts.NodesPerLevel }
+
+// FamilyCount is the number of nodes whose chosen model is of one family.
+type FamilyCount struct {
+	Family string
+	Nodes  int
+}
+
+// FamilyCounts returns nodes per chosen family, sorted by family name.
+func (r *RunReport) FamilyCounts() []FamilyCount {
+	out := make([]FamilyCount, 0, len(r.Models))
+	for k, v := range r.Models {
+		out = append(out, FamilyCount{k, v})
+	}
+	sort.Slice(out, func(i, j int) bool { return out[i].Family < out[j].Family })
+	return out
+}
+
+func writeRunReport(dir string, r *RunReport) error {
+	data, err := json.MarshalIndent(r, "", "  ")
+	if err != nil {
+		return err
+	}
+	return tableio.WriteFileAtomic(filepath.Join(dir, "run.json"), append(data, '\n'))
+}
