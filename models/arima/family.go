@@ -1,0 +1,4 @@
+package arima
+
+// Name is the registry name of the ARIMA family.
+const Name = "arima"

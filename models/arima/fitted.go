@@ -1,0 +1,421 @@
+package arima
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"strings"
+
+	"gonum.org/v1/gonum/stat/distuv"
+
+	"trueup/internal/inputerr"
+	"trueup/models"
+)
+
+var _ models.Model = (*Fitted)(nil)
+
+// Fitted is a seasonal ARIMA model estimated on one series.
+type Fitted struct {
+	spec Spec
+	// Coefficients in the textbook signs of Spec.
+	ar, ma, sar, sma []float64
+	// beta holds the regression coefficients: the constant first (mean
+	// or drift slope) when Spec.Constant, then sin/cos pairs.
+	beta   []float64
+	sigma2 float64
+	crit   models.Criteria
+	nObs   int
+	resid  []float64 // response scale
+	warn   []string
+
+	// Forecast state on the transformed scale.
+	m      int
+	delta  []float64
+	phi    []float64 // expanded AR, padded to the state dimension
+	rv     []float64 // (1, θ_1..θ_{r−1})
+	a, p   []float64 // predicted ARMA state and covariance (σ² = 1)
+	r      int
+	zLags  []float64 // z_T, z_{T−1}, …, z_{T−nd+1} minus regression
+	approx bool
+}
+
+// FitOrder estimates the model spec on y by exact Gaussian maximum
+// likelihood: y is (log-)transformed and differenced, the regression
+// coefficients and ARMA parameters are started from conditional sum of
+// squares and then optimised by BFGS on the exact likelihood computed by
+// the Kalman filter (Gardner, Harvey & Phillips 1980), with σ²
+// concentrated out. Stationarity and invertibility hold throughout by the
+// partial-autocorrelation parameterisation of Jones (1980).
+//
+// Errors: input errors for series that cannot carry the spec (too short,
+// non-finite values, log of a non-positive series); other errors when the
+// estimation breaks down.
+func FitOrder(y []float64, spec Spec, opt Options) (*Fitted, error) {
+	for i, v := range y {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, inputerr.New("observation %d is not a finite number", i+1)
+		}
+	}
+	if spec.P < 0 || spec.D < 0 || spec.Q < 0 || spec.SP < 0 || spec.SD < 0 || spec.SQ < 0 || spec.Fourier < 0 {
+		return nil, inputerr.New("model %s has a negative order", spec)
+	}
+	if !spec.seasonal() {
+		spec.Period, spec.SP, spec.SD, spec.SQ, spec.Fourier = 0, 0, 0, 0, 0
+	}
+	if spec.Log {
+		for _, v := range y {
+			if !(v > 0) {
+				return nil, inputerr.New("model %s: the log transform needs a strictly positive series", spec)
+			}
+		}
+	}
+	if spec.Constant && spec.nDiff() > 1 {
+		return nil, inputerr.New("model %s: a constant needs d+D ≤ 1", spec)
+	}
+	pr, err := newProblem(y, spec)
+	if err != nil {
+		return nil, inputerr.New("model %s: %v", spec, err)
+	}
+	k := pr.nParams()
+	if len(pr.w) <= k+1 {
+		return nil, inputerr.New("model %s needs more than %d observations after differencing, the series has %d", spec, k+1, len(pr.w))
+	}
+	f := &Fitted{spec: pr.spec, nObs: len(y), m: pr.m, delta: pr.delta, approx: opt.Approximate}
+	x := make([]float64, k)
+	if xc, err := minimize(pr.cssObjective, x); err == nil {
+		x = xc
+	} else {
+		f.warn = append(f.warn, "conditional-sum-of-squares start failed, started from zero")
+	}
+	if !opt.Approximate {
+		start := x
+		if pr.mlObjective(start) >= 1e10 {
+			start = make([]float64, k)
+		}
+		xm, err := minimize(pr.mlObjective, start)
+		if err != nil {
+			f.warn = append(f.warn, "likelihood optimiser did not converge")
+		}
+		x = xm
+	}
+	if err := f.finish(pr, x); err != nil {
+		return nil, fmt.Errorf("model %s: %w", pr.spec, err)
+	}
+	return f, nil
+}
+
+// finish evaluates the fit at x: coefficients, σ², likelihood, residuals
+// and the state needed for forecasting.
+func (f *Fitted) finish(pr *problem, x []float64) error {
+	pr.unpack(x)
+	pr.errorsSeries()
+	n := len(pr.u)
+	v := make([]float64, n)
+	var ll, s2 float64
+	if f.approx {
+		ssq, _ := pr.css()
+		nc := max(n-len(pr.phi), 1)
+		s2 = ssq / float64(nc)
+		ll = -0.5 * float64(n) * (math.Log(2*math.Pi*s2) + 1)
+	}
+	ssq, sumLog, err := pr.kal.Filter(pr.u, pr.phi, pr.theta, v)
+	if err != nil {
+		return err
+	}
+	if !f.approx {
+		s2 = ssq / float64(n)
+		ll = -0.5 * (float64(n)*math.Log(2*math.Pi*s2) + sumLog + float64(n))
+	}
+	if !(s2 > 0) || math.IsNaN(ll) || math.IsInf(ll, 0) {
+		return errors.New("the fitted innovation variance is zero or not finite")
+	}
+	f.ar = append([]float64(nil), pr.ar...)
+	f.ma = append([]float64(nil), pr.ma...)
+	f.sar = append([]float64(nil), pr.sar...)
+	f.sma = append([]float64(nil), pr.sma...)
+	f.beta = append([]float64(nil), pr.beta...)
+	f.sigma2 = s2
+	f.crit = models.NewCriteria(ll, pr.nParams()+1, n)
+
+	a, p, r := pr.kal.State()
+	f.r = r
+	f.a = append([]float64(nil), a...)
+	f.p = append([]float64(nil), p...)
+	f.phi = make([]float64, r)
+	copy(f.phi, pr.phi)
+	f.rv = make([]float64, r)
+	f.rv[0] = 1
+	copy(f.rv[1:], pr.theta)
+
+	T := len(pr.z)
+	nd := len(pr.delta)
+	f.zLags = make([]float64, nd)
+	for j := 0; j < nd; j++ {
+		t := T - 1 - j
+		f.zLags[j] = pr.z[t] - f.regression(t+1)
+	}
+	f.resid = make([]float64, T)
+	for t := nd; t < T; t++ {
+		e := v[t-nd]
+		if f.spec.Log {
+			f.resid[t] = pr.y[t] - math.Exp(pr.z[t]-e)
+		} else {
+			f.resid[t] = e
+		}
+	}
+	return nil
+}
+
+// regression is x_tᵀβ at time t (1-based) on the transformed scale.
+func (f *Fitted) regression(t int) float64 {
+	var s float64
+	i := 0
+	tf := float64(t)
+	if f.spec.Constant {
+		if f.spec.nDiff() == 0 {
+			s += f.beta[0]
+		} else {
+			s += f.beta[0] * tf
+		}
+		i++
+	}
+	m := float64(f.m)
+	for k := 1; k <= f.spec.Fourier; k++ {
+		fk := float64(k)
+		s += f.beta[i] * math.Sin(2*math.Pi*fk*tf/m)
+		i++
+		if 2*k != f.m {
+			s += f.beta[i] * math.Cos(2*math.Pi*fk*tf/m)
+			i++
+		}
+	}
+	return s
+}
+
+// forecastTransformed returns the h-step means and variances on the
+// transformed (log or identity) scale, from the exact predictive
+// distribution of the state space form extended by the nd lags of the
+// undifferenced errors, so that estimation-sample state uncertainty is
+// carried into the variances.
+func (f *Fitted) forecastTransformed(h int) (mean, variance []float64) {
+	mean = make([]float64, h)
+	variance = make([]float64, h)
+	if h <= 0 {
+		return mean, variance
+	}
+	r, nd := f.r, len(f.delta)
+	n := r + nd
+	s := make([]float64, n)
+	copy(s, f.a)
+	copy(s[r:], f.zLags)
+	V := make([]float64, n*n)
+	for i := 0; i < r; i++ {
+		for j := 0; j < r; j++ {
+			V[i*n+j] = f.p[i*r+j] * f.sigma2
+		}
+	}
+	// Transition F: ARMA companion block; z_t = α_1 + Σ δ_j z_{t−j}; shift.
+	F := make([]float64, n*n)
+	for i := 0; i < r; i++ {
+		F[i*n] = f.phi[i]
+		if i+1 < r {
+			F[i*n+i+1] = 1
+		}
+	}
+	if nd > 0 {
+		F[r*n] = 1
+		for j := 0; j < nd; j++ {
+			F[r*n+r+j] = f.delta[j]
+		}
+		for j := 1; j < nd; j++ {
+			F[(r+j)*n+r+j-1] = 1
+		}
+	}
+	c := make([]float64, n)
+	c[0] = 1
+	copy(c[r:], f.delta)
+	T := f.nObs
+	tmp := make([]float64, n*n)
+	s2 := make([]float64, n)
+	for k := 0; k < h; k++ {
+		var mu, vv float64
+		for i := 0; i < n; i++ {
+			mu += c[i] * s[i]
+			var row float64
+			for j := 0; j < n; j++ {
+				row += V[i*n+j] * c[j]
+			}
+			vv += c[i] * row
+		}
+		mean[k] = mu + f.regression(T+k+1)
+		variance[k] = math.Max(vv, 0)
+		// s ← F s; V ← F V Fᵀ + σ² R Rᵀ.
+		for i := 0; i < n; i++ {
+			var acc float64
+			for j := 0; j < n; j++ {
+				acc += F[i*n+j] * s[j]
+			}
+			s2[i] = acc
+		}
+		copy(s, s2)
+		for i := 0; i < n; i++ {
+			for j := 0; j < n; j++ {
+				var acc float64
+				for l := 0; l < n; l++ {
+					acc += F[i*n+l] * V[l*n+j]
+				}
+				tmp[i*n+j] = acc
+			}
+		}
+		for i := 0; i < n; i++ {
+			for j := 0; j < n; j++ {
+				var acc float64
+				for l := 0; l < n; l++ {
+					acc += tmp[i*n+l] * F[j*n+l]
+				}
+				V[i*n+j] = acc
+			}
+		}
+		for i := 0; i < r; i++ {
+			for j := 0; j < r; j++ {
+				V[i*n+j] += f.sigma2 * f.rv[i] * f.rv[j]
+			}
+		}
+	}
+	return mean, variance
+}
+
+// maxExp keeps back-transformed values finite.
+const maxExp = 700
+
+// Forecast returns h-step point forecasts and forecast-error variances on
+// the response scale. Without a transform they are the Gaussian
+// predictive mean and variance. With the log transform, ln y_{T+h} is
+// Gaussian with mean μ and variance v, and the response-scale values are
+// the lognormal moments exp(μ + v/2) and (e^v − 1)·exp(2μ + v); intervals
+// built as mean ± z·sd from them are only approximate, so use Interval,
+// which back-transforms the exact quantiles.
+func (f *Fitted) Forecast(h int) (mean, variance []float64) {
+	mean, variance = f.forecastTransformed(h)
+	if !f.spec.Log {
+		return mean, variance
+	}
+	for k := range mean {
+		mu, v := mean[k], variance[k]
+		mean[k] = math.Exp(math.Min(mu+v/2, maxExp))
+		variance[k] = math.Expm1(math.Min(v, maxExp)) * math.Exp(math.Min(2*mu+v, maxExp))
+		if math.IsInf(variance[k], 0) {
+			variance[k] = math.MaxFloat64
+		}
+	}
+	return mean, variance
+}
+
+// Interval returns the central prediction interval at level (0 < level <
+// 1, e.g. 0.95) for steps 1..h on the response scale. It is computed on
+// the transformed scale, where the predictive distribution is Gaussian, and
+// back-transformed, so with the log transform it is asymmetric and exact
+// (quantiles are preserved by monotone maps).
+func (f *Fitted) Interval(h int, level float64) (lo, hi []float64) {
+	mean, variance := f.forecastTransformed(h)
+	lo = make([]float64, h)
+	hi = make([]float64, h)
+	level = math.Max(1e-6, math.Min(level, 1-1e-12))
+	z := distuv.UnitNormal.Quantile(0.5 + level/2)
+	for k := range mean {
+		sd := math.Sqrt(variance[k])
+		lo[k], hi[k] = mean[k]-z*sd, mean[k]+z*sd
+		if f.spec.Log {
+			lo[k] = math.Exp(math.Min(lo[k], maxExp))
+			hi[k] = math.Exp(math.Min(hi[k], maxExp))
+		}
+	}
+	return lo, hi
+}
+
+// Family returns "arima".
+func (f *Fitted) Family() string { return Name }
+
+// Spec returns the fitted form in trueup's spelling (see Spec.String).
+func (f *Fitted) Spec() string { return f.spec.String() }
+
+// Form returns the fitted Spec.
+func (f *Fitted) Form() Spec { return f.spec }
+
+// AR, MA, SAR, SMA return copies of the coefficient vectors in the signs of
+// Spec (φ, θ, Φ, Θ).
+func (f *Fitted) AR() []float64  { return append([]float64(nil), f.ar...) }
+func (f *Fitted) MA() []float64  { return append([]float64(nil), f.ma...) }
+func (f *Fitted) SAR() []float64 { return append([]float64(nil), f.sar...) }
+func (f *Fitted) SMA() []float64 { return append([]float64(nil), f.sma...) }
+
+// Intercept returns the mean (d+D = 0) or drift slope per period (d+D = 1)
+// on the transformed scale, and false when the model has no constant.
+func (f *Fitted) Intercept() (float64, bool) {
+	if !f.spec.Constant {
+		return 0, false
+	}
+	return f.beta[0], true
+}
+
+// Fourier returns the Fourier regression coefficients in the order
+// sin_1, cos_1, sin_2, … (the cosine of k = m/2 is omitted).
+func (f *Fitted) Fourier() []float64 {
+	if f.spec.Constant {
+		return append([]float64(nil), f.beta[1:]...)
+	}
+	return append([]float64(nil), f.beta...)
+}
+
+// Params returns the orders and estimates in JSON-marshalable form.
+func (f *Fitted) Params() map[string]any {
+	s := f.spec
+	p := map[string]any{
+		"order":          []int{s.P, s.D, s.Q},
+		"seasonal_order": []int{s.SP, s.SD, s.SQ},
+		"period":         max(s.Period, 1),
+		"constant":       s.Constant,
+		"log":            s.Log,
+		"ar":             f.AR(),
+		"ma":             f.MA(),
+		"sar":            f.SAR(),
+		"sma":            f.SMA(),
+		"sigma2":         f.sigma2,
+	}
+	if c, ok := f.Intercept(); ok {
+		p["intercept"] = c
+	} else {
+		p["intercept"] = nil
+	}
+	if s.Fourier > 0 {
+		p["fourier"] = f.Fourier()
+	}
+	return p
+}
+
+// Residuals returns the in-sample one-step errors y_t − ŷ_{t|t−1} on the
+// response scale for every observation. With the log transform ŷ is the
+// back-transformed one-step prediction exp(ln-scale prediction). The first
+// d + m·D observations have no one-step prediction under the likelihood of
+// the differenced series; their residuals are 0, the limit of the
+// standardised innovations under a diffuse initial state.
+func (f *Fitted) Residuals() []float64 { return append([]float64(nil), f.resid...) }
+
+// Sigma2 is the maximum-likelihood innovation variance on the transformed
+// scale.
+func (f *Fitted) Sigma2() float64 { return f.sigma2 }
+
+// Criteria returns the Gaussian log-likelihood of the transformed,
+// differenced series and AIC, AICc, BIC with K = number of coefficients + 1
+// and N = number of differenced observations.
+func (f *Fitted) Criteria() models.Criteria { return f.crit }
+
+// NObs is the length of the series the model was fitted to.
+func (f *Fitted) NObs() int { return f.nObs }
+
+// Warning explains any fallback taken during estimation or selection.
+func (f *Fitted) Warning() string { return strings.Join(f.warn, "; ") }
+
+// Approximate reports whether the likelihood is the conditional-sum-of-
+// squares approximation (Options.Approximate).
+func (f *Fitted) Approximate() bool { return f.approx }
