@@ -24,6 +24,11 @@ var grainNames = [...]string{"day", "week", "month", "quarter"}
 
 func (g Grain) String() string { return grainNames[g] }
 
+// adjective is the grain as in "the data is daily".
+func (g Grain) adjective() string {
+	return [...]string{"daily", "weekly", "monthly", "quarterly"}[g]
+}
+
 // ParseGrain reads --grain.
 func ParseGrain(s string) (Grain, error) {
 	for i, n := range grainNames {
@@ -59,16 +64,20 @@ func FromDate(t time.Time, g Grain) Period {
 	t = time.Date(t.Year(), t.Month(), t.Day(), 0, 0, 0, 0, time.UTC)
 	switch g {
 	case Day:
-		return Period{Day, int(t.Sub(epoch).Hours() / 24)}
+		return Period{Day, daysSinceEpoch(t)}
 	case Week:
-		d := int(t.Sub(weekEpoch).Hours() / 24)
-		return Period{Week, floorDiv(d, 7)}
+		return Period{Week, floorDiv(daysSinceEpoch(t)-4, 7)} // 1970-01-05 is day 4
 	case Month:
 		return Period{Month, (t.Year()-1970)*12 + int(t.Month()) - 1}
 	default:
 		return Period{Quarter, (t.Year()-1970)*4 + (int(t.Month())-1)/3}
 	}
 }
+
+// daysSinceEpoch counts days from 1970-01-01 to the midnight-UTC date t.
+// It uses Unix seconds rather than time.Duration, which overflows for dates
+// more than 292 years from 1970.
+func daysSinceEpoch(t time.Time) int { return floorDiv(int(t.Unix()), 86400) }
 
 func floorDiv(a, b int) int {
 	q := a / b
@@ -122,7 +131,7 @@ func (p Period) Coarsen(g Grain) (Period, error) {
 		return p, nil
 	}
 	if g < p.Grain {
-		return Period{}, inputerr.New("the data is %sly, finer grain %q is not possible", p.Grain, g)
+		return Period{}, inputerr.New("the data is %s, finer grain %q is not possible", p.Grain.adjective(), g)
 	}
 	if p.Grain == Week {
 		return Period{}, inputerr.New("weekly periods cannot be grouped into %ss (a week can span two); supply daily data", g)
@@ -134,46 +143,60 @@ func (p Period) Coarsen(g Grain) (Period, error) {
 // it, as in 2024-03-31T00:00:00Z, is ignored), 2024-W07, 2024-03 or 2024-Q1.
 func ParsePeriod(s string) (Period, error) {
 	s = strings.TrimSpace(s)
-	bad := inputerr.New("cannot read period %q (use 2024-03-31, 2024-W07, 2024-03 or 2024-Q1)", s)
-	if len(s) < 7 || s[4] != '-' {
-		return Period{}, bad
+	bad := func() (Period, error) {
+		return Period{}, inputerr.New("cannot read period %q (use 2024-03-31, 2024-W07, 2024-03 or 2024-Q1)", s)
 	}
-	year, err := strconv.Atoi(s[:4])
-	if err != nil {
-		return Period{}, bad
+	if len(s) < 7 || s[4] != '-' || !digits(s[:4]) {
+		return bad()
 	}
+	year, _ := strconv.Atoi(s[:4])
 	rest := s[5:]
 	switch {
 	case len(rest) >= 5 && rest[2] == '-': // day, maybe with a time after it
-		day := s[:10]
-		t, err := time.Parse("2006-01-02", day)
+		t, err := time.Parse("2006-01-02", s[:10])
 		if err != nil || (len(s) > 10 && s[10] != 'T' && s[10] != ' ') {
-			return Period{}, bad
+			return bad()
 		}
 		return FromDate(t, Day), nil
 	case rest[0] == 'W' || rest[0] == 'w':
-		w, err := strconv.Atoi(rest[1:])
-		if err != nil || w < 1 || w > 53 {
-			return Period{}, bad
+		if len(rest) > 3 || !digits(rest[1:]) {
+			return bad()
 		}
+		w, _ := strconv.Atoi(rest[1:])
+		if w < 1 || w > 53 {
+			return bad()
+		}
+		// ISO 8601: week 1 is the week (Monday to Sunday) holding 4 January.
 		jan4 := time.Date(year, 1, 4, 0, 0, 0, 0, time.UTC)
-		monday := jan4.AddDate(0, 0, -((int(jan4.Weekday())+6)%7))
+		monday := jan4.AddDate(0, 0, -((int(jan4.Weekday()) + 6) % 7))
 		start := monday.AddDate(0, 0, 7*(w-1))
 		if y, _ := start.ISOWeek(); y != year {
-			return Period{}, bad // week 53 of a 52-week year
+			return bad() // week 53 of a 52-week year
 		}
 		return FromDate(start, Week), nil
 	case rest[0] == 'Q' || rest[0] == 'q':
-		q, err := strconv.Atoi(rest[1:])
-		if err != nil || q < 1 || q > 4 || len(rest) != 2 {
-			return Period{}, bad
+		if len(rest) != 2 || rest[1] < '1' || rest[1] > '4' {
+			return bad()
 		}
-		return Period{Quarter, (year-1970)*4 + q - 1}, nil
+		return Period{Quarter, (year-1970)*4 + int(rest[1]-'1')}, nil
 	default:
-		mo, err := strconv.Atoi(rest)
-		if err != nil || mo < 1 || mo > 12 || len(rest) != 2 {
-			return Period{}, bad
+		if len(rest) != 2 || !digits(rest) {
+			return bad()
+		}
+		mo, _ := strconv.Atoi(rest)
+		if mo < 1 || mo > 12 {
+			return bad()
 		}
 		return Period{Month, (year-1970)*12 + mo - 1}, nil
 	}
+}
+
+// digits reports whether s is a non-empty run of ASCII digits.
+func digits(s string) bool {
+	for i := 0; i < len(s); i++ {
+		if s[i] < '0' || s[i] > '9' {
+			return false
+		}
+	}
+	return s != ""
 }

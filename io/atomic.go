@@ -1,0 +1,76 @@
+package tableio
+
+import (
+	"bufio"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+)
+
+// WriteFileAtomic writes data to path so that readers see either the old
+// file or the complete new one, never a part: the bytes go to a temporary
+// file in the same directory, which is synced, closed and renamed onto path.
+func WriteFileAtomic(path string, data []byte) error {
+	return writeAtomic(path, func(w io.Writer) error {
+		_, err := w.Write(data)
+		return err
+	})
+}
+
+// writeAtomic runs write against a buffered temporary file next to path
+// and renames it onto path once write, the flush, fsync and close all
+// succeed. On any failure the temporary file is removed and path is left
+// as it was.
+func writeAtomic(path string, write func(w io.Writer) error) (err error) {
+	dir, base := filepath.Split(path)
+	if dir == "" {
+		dir = "."
+	}
+	f, err := os.CreateTemp(dir, "."+base+".tmp-*")
+	if err != nil {
+		return fmt.Errorf("write %s: %w", path, err)
+	}
+	tmp := f.Name()
+	defer func() {
+		if err != nil {
+			f.Close() // may already be closed; the first error is the one to report
+			os.Remove(tmp)
+			err = fmt.Errorf("write %s: %w", path, err)
+		}
+	}()
+	bw := bufio.NewWriterSize(f, 1<<20)
+	if err = write(bw); err != nil {
+		return err
+	}
+	if err = bw.Flush(); err != nil {
+		return err
+	}
+	// CreateTemp makes the file private (0600); results are meant to be read.
+	if err = f.Chmod(0o644); err != nil {
+		return err
+	}
+	if err = f.Sync(); err != nil {
+		return err
+	}
+	if err = f.Close(); err != nil {
+		return err
+	}
+	if err = os.Rename(tmp, path); err != nil {
+		return err
+	}
+	syncDir(dir)
+	return nil
+}
+
+// syncDir makes the rename durable where the platform allows fsync on a
+// directory; where it does not, the rename is still atomic, so errors are
+// ignored.
+func syncDir(dir string) {
+	d, err := os.Open(dir)
+	if err != nil {
+		return
+	}
+	_ = d.Sync()
+	d.Close()
+}
