@@ -8,18 +8,20 @@ import (
 	"trueup/models"
 )
 
-// Usual bounds (HKOS §5.3): 1e−4 ≤ α ≤ 1−1e−4, 1e−4 ≤ β ≤ α,
-// 1e−4 ≤ γ ≤ 1−α, 0.8 ≤ φ ≤ 0.98.
+// Usual bounds (HKOS §5.3), written as boxes through β = β*·α and
+// γ = γ*·(1−α): α, β*, γ* ∈ [1e−4, 1−1e−4] (so 0 < β < α and
+// 0 < γ < 1−α) and 0.8 ≤ φ ≤ 0.98.
 const (
-	parLo  = 1e-4
-	parHi  = 1 - 1e-4
-	phiLo  = 0.8
-	phiHi  = 0.98
-	maxRun = 3 // Nelder–Mead restarts from the best point so far
+	parLo = 1e-4
+	parHi = 1 - 1e-4
+	phiLo = 0.8
+	phiHi = 0.98
 )
 
-// packer maps Params to the optimiser's vector and back. States are
-// divided by scale so that every coordinate is of order one.
+// packer maps Params to the optimiser's vector and back:
+// (α, β*, γ*, φ, ℓ0, b0, s_{1−m}..s_{−1}) with absent components left out.
+// States are divided by scale so that every coordinate is of order one;
+// the last initial seasonal state follows from the normalisation.
 type packer struct {
 	sp    Spec
 	m     int
@@ -42,16 +44,41 @@ func (k packer) size() int {
 	return n
 }
 
+// bounds fills the box of each coordinate.
+func (k packer) bounds(lo, hi []float64) {
+	i := 0
+	nSmooth := 1
+	if k.sp.HasTrend() {
+		nSmooth++
+	}
+	if k.sp.Seasonal() {
+		nSmooth++
+	}
+	for ; i < nSmooth; i++ {
+		lo[i], hi[i] = parLo, parHi
+	}
+	if k.sp.Damped() {
+		lo[i], hi[i] = phiLo, phiHi
+		i++
+	}
+	for ; i < len(lo); i++ {
+		lo[i], hi[i] = math.Inf(-1), math.Inf(1)
+		if k.sp.Season == Mul && i >= len(lo)-(k.m-1) {
+			lo[i] = 1e-6
+		}
+	}
+}
+
 func (k packer) pack(p *Params, x []float64) {
 	i := 0
 	x[i] = p.Alpha
 	i++
 	if k.sp.HasTrend() {
-		x[i] = p.Beta
+		x[i] = p.Beta / p.Alpha
 		i++
 	}
 	if k.sp.Seasonal() {
-		x[i] = p.Gamma
+		x[i] = p.Gamma / (1 - p.Alpha)
 		i++
 	}
 	if k.sp.Damped() {
@@ -76,36 +103,24 @@ func (k packer) pack(p *Params, x []float64) {
 	}
 }
 
-// unpack fills p from x and reports whether x lies within the usual
-// bounds (and gives positive multiplicative seasonal states).
+// unpack fills p (whose Season has length m) from x and reports whether
+// the normalised multiplicative seasonal states stay positive.
 func (k packer) unpack(x []float64, p *Params) bool {
 	i := 0
 	p.Alpha = x[i]
 	i++
-	if p.Alpha < parLo || p.Alpha > parHi {
-		return false
-	}
 	p.Beta, p.Gamma, p.Phi, p.Trend = 0, 0, 1, 0
 	if k.sp.HasTrend() {
-		p.Beta = x[i]
+		p.Beta = x[i] * p.Alpha
 		i++
-		if p.Beta < parLo || p.Beta > p.Alpha {
-			return false
-		}
 	}
 	if k.sp.Seasonal() {
-		p.Gamma = x[i]
+		p.Gamma = x[i] * (1 - p.Alpha)
 		i++
-		if p.Gamma < parLo || p.Gamma > 1-p.Alpha {
-			return false
-		}
 	}
 	if k.sp.Damped() {
 		p.Phi = x[i]
 		i++
-		if p.Phi < phiLo || p.Phi > phiHi {
-			return false
-		}
 	}
 	p.Level = x[i] * k.scale
 	i++
@@ -144,8 +159,8 @@ func (k packer) unpack(x []float64, p *Params) bool {
 // FitSpec estimates the ETS model sp for y with seasonal period m by
 // maximum likelihood (HKOS ch. 5): smoothing parameters, damping and
 // initial states maximise the concentrated Gaussian log-likelihood within
-// the usual bounds, by Nelder–Mead from heuristic initial states, restarted
-// from the best point until it stops improving. Multiplicative forms need
+// the usual bounds, by bounded Levenberg–Marquardt from heuristic initial
+// states and two sets of starting smoothing parameters. Multiplicative forms need
 // strictly positive y; seasonal forms need m ≥ 2 and at least two full
 // seasons.
 func FitSpec(y []float64, sp Spec, m int) (*Fitted, error) {
@@ -158,7 +173,7 @@ func FitSpec(y []float64, sp Spec, m int) (*Fitted, error) {
 	if err := checkData(y, sp, m); err != nil {
 		return nil, err
 	}
-	return fit(y, sp, m, nil)
+	return fit(y, sp, m)
 }
 
 func checkData(y []float64, sp Spec, m int) error {
@@ -185,15 +200,16 @@ func checkData(y []float64, sp Spec, m int) error {
 	return nil
 }
 
-// workspace holds the buffers of one fit; fits through the same workspace
-// allocate nothing in the likelihood loop.
-type workspace struct {
-	ring, x, step []float64
-	par           Params
-	nm            *nelderMead
-}
+// starts are the smoothing parameters (α, β*, γ*, φ) each fit starts
+// from; the best of the resulting local optima is kept.
+var starts = [][4]float64{{0.3, 0.1, 0.1, 0.95}, {0.05, 0.5, 0.2, 0.9}}
 
-func fit(y []float64, sp Spec, m int, ws *workspace) (*Fitted, error) {
+// fit maximises the concentrated likelihood by Levenberg–Marquardt on the
+// residuals r_t whose sum of squares the likelihood is a monotone function
+// of: r_t = y_t − ŷ_t for additive errors, and for multiplicative errors
+// r_t = ε_t·g with ε_t = (y_t − ŷ_t)/ŷ_t and g the geometric mean of the
+// ŷ_t, because n·ln Σε² + 2Σ ln ŷ = n·ln Σ(ε·g)².
+func fit(y []float64, sp Spec, m int) (*Fitted, error) {
 	scale := 0.0
 	for _, v := range y {
 		scale += math.Abs(v)
@@ -203,48 +219,53 @@ func fit(y []float64, sp Spec, m int, ws *workspace) (*Fitted, error) {
 		scale = 1
 	}
 	k := packer{sp: sp, m: m, scale: scale}
-	np := k.size()
-	if ws == nil || len(ws.x) != np || len(ws.ring) != m {
-		ws = &workspace{ring: make([]float64, m), x: make([]float64, np), step: make([]float64, np), nm: newNelderMead(np)}
-		ws.par.Season = make([]float64, m)
-	}
-	p0 := initialParams(y, sp, m)
-	k.pack(&p0, ws.x)
-	stepSizes(k, ws.x, ws.step)
-
-	n := len(y)
-	floor := sseFloor(y, sp)
-	obj := func(x []float64) float64 {
-		if !k.unpack(x, &ws.par) {
-			return math.Inf(1)
+	np, n := k.size(), len(y)
+	pr := &lmProblem{n: n, p: np, lo: make([]float64, np), hi: make([]float64, np)}
+	k.bounds(pr.lo, pr.hi)
+	par := Params{Season: make([]float64, m)}
+	ring := make([]float64, m)
+	out := filterOut{yhat: make([]float64, n)}
+	pr.resid = func(x, r []float64) bool {
+		if !k.unpack(x, &par) {
+			return false
 		}
-		sse, sumLog, ok := filter(sp, &ws.par, y, ws.ring, nil)
+		_, sumLog, ok := filter(sp, &par, y, ring, &out)
 		if !ok {
-			return math.Inf(1)
+			return false
 		}
-		return -logLik(sse, sumLog, n, floor)
+		if sp.Error == Mul {
+			g := math.Exp(sumLog / float64(n))
+			for t, f := range out.yhat {
+				r[t] = (y[t] - f) / f * g
+			}
+		} else {
+			for t, f := range out.yhat {
+				r[t] = y[t] - f
+			}
+		}
+		return true
 	}
-	best := obj(ws.x)
-	if math.IsInf(best, 1) {
+	w := newLMWork(n, np)
+	x, best := make([]float64, np), make([]float64, np)
+	bestF := math.Inf(1)
+	p0 := initialParams(y, sp, m)
+	for _, st := range starts {
+		p0.Alpha, p0.Beta, p0.Gamma, p0.Phi = st[0], st[1]*st[0], st[2]*(1-st[0]), st[3]
+		k.pack(&p0, x)
+		if f := levenbergMarquardt(pr, w, x, 200); f < bestF {
+			bestF = f
+			copy(best, x)
+		}
+	}
+	if math.IsInf(bestF, 1) {
 		return nil, fmt.Errorf("%s: heuristic initial states give no valid fit", sp)
 	}
-	for run := 0; run < maxRun; run++ {
-		v, _ := ws.nm.minimize(obj, ws.x, ws.step, 300*np, 1e-10)
-		improved := best - v
-		best = math.Min(best, v)
-		if run > 0 && improved < 1e-7*(math.Abs(best)+1) {
-			break
-		}
-		stepSizes(k, ws.x, ws.step)
-	}
-	par := Params{Season: make([]float64, m)}
-	if !k.unpack(ws.x, &par) {
-		return nil, fmt.Errorf("%s: optimiser left the feasible region", sp)
-	}
+	fin := Params{Season: make([]float64, m)}
+	k.unpack(best, &fin)
 	if !sp.Seasonal() {
-		par.Season = nil
+		fin.Season = nil
 	}
-	return newFitted(y, sp, m, par)
+	return newFitted(y, sp, m, fin)
 }
 
 // sseFloor keeps the likelihood finite for exact fits: n·(1e−8·scale)² on
@@ -260,44 +281,14 @@ func sseFloor(y []float64, sp Spec) float64 {
 	return float64(len(y)) * (1e-8 * mx) * (1e-8 * mx)
 }
 
-// stepSizes sets the initial simplex: 0.1 for smoothing parameters (halved
-// near a bound), 0.02 for φ, 5% of scale for level and seasonal states and
-// 0.5% for the trend.
-func stepSizes(k packer, x, step []float64) {
-	i := 0
-	smooth := 1
-	if k.sp.HasTrend() {
-		smooth++
-	}
-	if k.sp.Seasonal() {
-		smooth++
-	}
-	for ; i < smooth; i++ {
-		step[i] = math.Max(0.1*math.Min(x[i], 1-x[i]), 1e-3)
-	}
-	if k.sp.Damped() {
-		step[i] = 0.02
-		i++
-	}
-	step[i] = 0.05 * math.Max(math.Abs(x[i]), 0.1)
-	i++
-	if k.sp.HasTrend() {
-		step[i] = 0.005 + 0.1*math.Abs(x[i])
-		i++
-	}
-	for ; i < len(x); i++ {
-		step[i] = 0.05 * math.Max(math.Abs(x[i]), 0.1)
-	}
-}
-
 // initialParams gives starting values (HKOS §2.6.1, simplified): with
 // seasonality, a straight line fitted to the first (up to three) full
 // seasons gives the initial level and trend, and the average deviation
 // (difference or ratio) from that line per season position gives the
 // initial seasonal states; without, a line through the first (up to ten)
-// observations; α = 0.3, β = 0.03, γ = 0.05, φ = 0.95.
+// observations. fit sets the smoothing parameters.
 func initialParams(y []float64, sp Spec, m int) Params {
-	p := Params{Alpha: 0.3, Beta: 0.03, Gamma: 0.05, Phi: 0.95}
+	var p Params
 	nFit := min(len(y), 10)
 	if sp.Seasonal() {
 		nFit = m * min(len(y)/m, 3)
