@@ -31,6 +31,7 @@ type ARMAKalman struct {
 	r               int
 	phi, rv         []float64
 	a, anew, pp, pn []float64
+	u0, c           []float64
 	tm, rr, lyWork  []float64
 }
 
@@ -114,7 +115,7 @@ func (k *ARMAKalman) Filter(w, phi, theta, resid []float64) (ssq, sumLog float64
 	if cap(k.pn) < r*r {
 		k.pn = make([]float64, r*r)
 	}
-	a, anew, pp, pn, ph, rv := k.a, k.anew, k.pp, k.pn[:r*r], k.phi, k.rv
+	a, anew, pp, pn, ph := k.a, k.anew, k.pp, k.pn[:r*r], k.phi
 	steady := false
 	for t, wt := range w {
 		f := pp[0]
@@ -133,7 +134,7 @@ func (k *ARMAKalman) Filter(w, phi, theta, resid []float64) (ssq, sumLog float64
 		for i := 0; i < r; i++ {
 			next := 0.0
 			if i+1 < r {
-				next = a[i+1] + pp[(i+1)*r]*g
+				next = a[i+1] + pp[i+1]*g
 			}
 			anew[i] = ph[i]*a0 + next
 		}
@@ -146,32 +147,7 @@ func (k *ARMAKalman) Filter(w, phi, theta, resid []float64) (ssq, sumLog float64
 		// companion form of T: (TUTᵀ)_ij = φ_iφ_j U_00 + φ_i U_{0,j+1}
 		// + φ_j U_{i+1,0} + U_{i+1,j+1}.
 		invF := 1 / f
-		u00 := pp[0] - pp[0]*pp[0]*invF
-		var diff float64
-		for i := 0; i < r; i++ {
-			var ci1, ui0 float64
-			if i+1 < r {
-				ci1 = pp[(i+1)*r]
-				ui0 = pp[(i+1)*r] - ci1*pp[0]*invF
-			}
-			for j := i; j < r; j++ {
-				s := ph[i]*ph[j]*u00 + rv[i]*rv[j] + ph[j]*ui0
-				if j+1 < r {
-					cj1 := pp[j+1]
-					s += ph[i] * (pp[j+1] - pp[0]*cj1*invF)
-					if i+1 < r {
-						s += pp[(i+1)*r+j+1] - ci1*cj1*invF
-					}
-				}
-				pn[i*r+j] = s
-				diff = max(diff, math.Abs(s-pp[i*r+j]))
-			}
-		}
-		for i := 0; i < r; i++ {
-			for j := i + 1; j < r; j++ {
-				pn[j*r+i] = pn[i*r+j]
-			}
-		}
+		diff := k.predictCov(pn, pp, invF)
 		pp, pn = pn, pp
 		if diff < 1e-11 {
 			steady = true
@@ -181,9 +157,86 @@ func (k *ARMAKalman) Filter(w, phi, theta, resid []float64) (ssq, sumLog float64
 	return ssq, sumLog, nil
 }
 
+// predictCov writes the predicted covariance T·U·Tᵀ + R Rᵀ into pn, where
+// U = P − c cᵀ/F is the updated covariance, c = P[:,0] and invF = 1/F,
+// using the companion form of T:
+// (TUTᵀ)_ij = φ_iφ_j U_00 + φ_i U_{0,j+1} + φ_j U_{i+1,0} + U_{i+1,j+1}.
+// Only the upper triangles of pp and pn are read and written. It returns
+// the largest change from pp, entry by entry.
+func (k *ARMAKalman) predictCov(pn, pp []float64, invF float64) float64 {
+	r := k.r
+	ph, rv := k.phi[:r], k.rv[:r]
+	if cap(k.u0) < r+1 {
+		k.u0 = make([]float64, r+1)
+		k.c = make([]float64, r+1)
+	}
+	u0, cc := k.u0[:r+1], k.c[:r+1]
+	p00 := pp[0]
+	for j := 0; j < r; j++ {
+		cc[j] = pp[j]
+		u0[j] = pp[j] - p00*pp[j]*invF
+	}
+	u0[r], cc[r] = 0, 0
+	u00 := u0[0]
+	arFree := true
+	for _, v := range ph {
+		if v != 0 {
+			arFree = false
+			break
+		}
+	}
+	var diff float64
+	for i := 0; i < r; i++ {
+		ci1 := cc[i+1]
+		ui0 := u0[i+1] // U[i+1][0] = U[0][i+1] by symmetry
+		rvi, phi := rv[i], ph[i]
+		row := pn[i*r : i*r+r]
+		old := pp[i*r : i*r+r]
+		var next []float64
+		if i+1 < r {
+			next = pp[(i+1)*r : (i+1)*r+r]
+		}
+		if arFree {
+			for j := i; j < r-1; j++ {
+				s := rvi*rv[j] + next[j+1] - ci1*cc[j+1]*invF
+				row[j] = s
+				if d := math.Abs(s - old[j]); d > diff {
+					diff = d
+				}
+			}
+		} else {
+			for j := i; j < r-1; j++ {
+				s := phi*(ph[j]*u00+u0[j+1]) + rvi*rv[j] + ph[j]*ui0
+				if next != nil {
+					s += next[j+1] - ci1*cc[j+1]*invF
+				}
+				row[j] = s
+				if d := math.Abs(s - old[j]); d > diff {
+					diff = d
+				}
+			}
+		}
+		j := r - 1
+		if j >= i {
+			s := phi*ph[j]*u00 + rvi*rv[j] + ph[j]*ui0
+			row[j] = s
+			if d := math.Abs(s - old[j]); d > diff {
+				diff = d
+			}
+		}
+	}
+	return diff
+}
+
 // State returns the predicted state mean and covariance (row-major r×r,
 // relative to σ²) for the step after the last one filtered. The slices are
 // the workspace's own and are overwritten by the next Filter call.
 func (k *ARMAKalman) State() (a, p []float64, r int) {
+	// The filter keeps only the upper triangle current.
+	for i := 0; i < k.r; i++ {
+		for j := i + 1; j < k.r; j++ {
+			k.pp[j*k.r+i] = k.pp[i*k.r+j]
+		}
+	}
 	return k.a[:k.r], k.pp[:k.r*k.r], k.r
 }
