@@ -52,6 +52,9 @@ func filter(sp Spec, p *Params, y, ring []float64, out *filterOut) (sse, sumLog 
 	mulErr, mulSea := sp.Error == Mul, sp.Season == Mul
 	alpha, beta, gamma := p.Alpha, p.Beta, p.Gamma
 	j := 0
+	// Σ ln ŷ is accumulated as a running product, taking a logarithm only
+	// when the product nears the ends of the float range.
+	prod := 1.0
 	for t, yt := range y {
 		q := l + phi*b
 		f, s, pt := q, 0.0, yt
@@ -75,7 +78,12 @@ func filter(sp Spec, p *Params, y, ring []float64, out *filterOut) (sse, sumLog 
 			}
 			e := (yt - f) / f
 			sse += e * e
-			sumLog += math.Log(f)
+			if f > 1e100 || f < 1e-100 {
+				sumLog += math.Log(f)
+			} else if prod *= f; prod > 1e150 || prod < 1e-150 {
+				sumLog += math.Log(prod)
+				prod = 1
+			}
 		} else {
 			e := yt - f
 			sse += e * e
@@ -95,6 +103,7 @@ func filter(sp Spec, p *Params, y, ring []float64, out *filterOut) (sse, sumLog 
 			}
 		}
 	}
+	sumLog += math.Log(prod)
 	if math.IsNaN(sse) || math.IsInf(sse, 0) || math.IsInf(sumLog, 0) || math.IsNaN(l) || math.IsInf(l, 0) {
 		return 0, 0, false
 	}

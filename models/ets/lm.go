@@ -128,7 +128,7 @@ func levenbergMarquardt(pr *lmProblem, w *lmWork, x []float64, maxIter int) floa
 		rel := (f - ft) / math.Max(f, 1e-300)
 		f = ft
 		lambda = math.Max(lambda/10, 1e-10)
-		if rel < 1e-10 {
+		if rel < 1e-9 {
 			break
 		}
 	}
