@@ -13,7 +13,7 @@ import (
 // NodeFit is the fitted model of one node and what the pipeline needs
 // from it, aligned to the panel's calendar.
 type NodeFit struct {
-	Model    models.Model // nil for a closed node
+	Model    models.Model // in-sample fit; nil only for a node with no observations
 	First    int          // panel column of the node's first observation
 	Last     int          // panel column of its last observation
 	Mean     []float64    // h base forecasts
@@ -28,8 +28,9 @@ type NodeFit struct {
 //
 // Fitting rule for openings and closures: each node is fitted on its own
 // span, from its first to its last existing period (see Panel). A node
-// whose span ends before the last period has closed: it is forecast as
-// zero with zero variance and a warning. When the family cannot fit a node
+// whose span ends before the last period has closed: it is still fitted, for
+// its in-sample residuals, but forecast as zero with zero variance and a
+// warning. When the family cannot fit a node
 // (too short a history), the fallbacks are tried in order and the reason is
 // kept in the node's warning.
 func fitNodes(series [][]float64, family models.Family, opt models.FitOptions, workers int, progress func(done, total int)) []NodeFit {
@@ -77,11 +78,10 @@ func fitOne(y []float64, family models.Family, opt models.FitOptions) NodeFit {
 	}
 	nf := NodeFit{First: first, Last: last}
 	h := opt.Horizon
-	if first < 0 || last < len(y)-1 {
+	if first < 0 {
 		nf.Closed = true
-		nf.Mean = make([]float64, h)
-		nf.Variance = make([]float64, h)
-		nf.Warning = "closed: no sales in the latest periods, forecast as zero"
+		nf.Mean, nf.Variance = make([]float64, h), make([]float64, h)
+		nf.Warning = "no observations"
 		return nf
 	}
 	span := make([]float64, last-first+1)
@@ -120,6 +120,13 @@ func fitOne(y []float64, family models.Family, opt models.FitOptions) NodeFit {
 	}
 	if nf.Model != nil && nf.Model.Warning() != "" {
 		warn = append(warn, nf.Model.Warning())
+	}
+	if last < len(y)-1 {
+		// Closed: the fit still supplies in-sample residuals for
+		// reconciliation, but the forecast is zero with no uncertainty.
+		nf.Closed = true
+		nf.Mean, nf.Variance = make([]float64, h), make([]float64, h)
+		warn = append([]string{"closed: no sales in the latest periods, forecast as zero"}, warn...)
 	}
 	nf.Warning = strings.Join(warn, "; ")
 	return nf

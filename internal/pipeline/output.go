@@ -118,14 +118,17 @@ func modelTable(res *Result) *tableio.Table {
 		warn.Strings[i] = f.Warning
 		warn.Null[i] = f.Warning == ""
 		if f.Model == nil {
-			family.Strings[i], spec.Strings[i], params.Strings[i] = "closed", "zero after closing", "{}"
+			family.Strings[i], spec.Strings[i], params.Strings[i] = "closed", "no observations", "{}"
 			aicc.Floats[i], sigma2.Floats[i] = math.NaN(), math.NaN()
-			nobs.Ints[i] = int64(max(f.Last-f.First+1, 0))
 			continue
 		}
 		m := f.Model
 		family.Strings[i] = m.Family()
 		spec.Strings[i] = m.Spec()
+		if f.Closed {
+			family.Strings[i] = "closed"
+			spec.Strings[i] = "zero after closing; history fitted by " + m.Spec()
+		}
 		params.Strings[i] = paramsJSON(m.Params())
 		aicc.Floats[i] = finiteOrNaN(m.Criteria().AICc)
 		sigma2.Floats[i] = m.Sigma2()

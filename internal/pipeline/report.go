@@ -98,7 +98,7 @@ func (r *RunReport) fill(cfg Config, rows *tableio.Rows, pn *Panel, st *hierarch
 	warned := 0
 	for _, f := range fits {
 		name := "closed"
-		if f.Model != nil {
+		if !f.Closed {
 			name = f.Model.Family()
 		}
 		r.Models[name]++
