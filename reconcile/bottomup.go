@@ -1,8 +1,17 @@
 package reconcile
 
+import "trueup/internal/inputerr"
+
 // BottomUp keeps the bottom-level base forecasts and adds them up:
 // ỹ = S·b̂ (common practice; see e.g. Hyndman & Athanasopoulos, Forecasting:
-// Principles and Practice, 3rd ed., §11.2).
+// Principles and Practice, 3rd ed., §11.2). Its variance is that of the
+// bottom errors added up: for node i,
+//
+//	var_i = Σ_{j,k∈i} c_j c_k W_jk
+//	      = λ Σ_{j∈i} c_j² D_j + (1−λ)(1/T) Σ_t (Σ_{j∈i} c_j √D_j x_tj)²
+//
+// with the shrinkage covariance of the bottom residuals (no missing
+// residuals), computed in O(nnz(S)·T) per step.
 type BottomUp struct{}
 
 var _ Method = BottomUp{}
@@ -12,10 +21,19 @@ func (BottomUp) Name() string { return "bottom-up" }
 
 // Reconcile implements Method.
 func (BottomUp) Reconcile(p Problem) (Solution, error) {
-	off := p.Structure.BottomOffset()
-	bottom := make([][]float64, p.Structure.NumBottom())
-	for j := range bottom {
-		bottom[j] = append([]float64(nil), p.Base[off+j]...)
+	_, m, h, err := p.dims()
+	if err != nil {
+		return Solution{}, err
 	}
-	return coherent(p.Structure, bottom), nil
+	if p.Nonnegative {
+		return Solution{}, inputerr.New("--nonnegative applies to --method mint only (bottom-up keeps the bottom base forecasts)")
+	}
+	st := p.Structure
+	prop := newRows(m, h)
+	for j := range prop {
+		for k := range prop[j] {
+			prop[j][k] = 1
+		}
+	}
+	return newSplitPlan(st, len(st.Levels)-1).solve(&p, prop, h)
 }

@@ -1,9 +1,22 @@
 // Package reconcile turns base forecasts of every node of a grouped
 // structure into coherent forecasts, in which every aggregate equals the
-// sum of its parts, and attaches coherent prediction intervals.
+// sum of its parts, and attaches coherent forecast-error variances from
+// one joint Gaussian distribution, so that intervals are coherent too.
+//
+// Every method has the form ỹ = S·G·ŷ for an m × n matrix G: bottom-up,
+// top-down and middle-out pick G from proportions, the projections
+// (MinT and its special cases) from a covariance choice. Variances are the
+// diagonal of S·G·W_h·Gᵀ·Sᵀ; see Solution.Variance for how W_h is built.
 package reconcile
 
-import "trueup/hierarchy"
+import (
+	"fmt"
+	"math"
+	"strings"
+
+	"trueup/hierarchy"
+	"trueup/internal/inputerr"
+)
 
 // Problem is what a reconciliation method works on. Rows of every matrix
 // follow hierarchy.Structure.Nodes (n rows); bottom nodes are the last m.
@@ -20,7 +33,40 @@ type Problem struct {
 	// History holds the observed node series, n × T, NaN before a node
 	// existed. Used by the top-down methods. May be nil.
 	History [][]float64
+
+	// Nonnegative asks the projection methods for non-negative bottom
+	// forecasts (see Projection). Other methods refuse it.
+	Nonnegative bool
+	// Solver chooses the linear algebra of the projections; the zero value
+	// picks dense algebra up to DenseMaxNodes nodes and the large-n path
+	// above.
+	Solver Solver
+	// Paths is the number of Gaussian sample paths the large-n projection
+	// path uses for the diagonal part of the variance (0: DefaultPaths).
+	Paths int
+	// Seed seeds those paths (any fixed value gives identical output).
+	Seed uint64
 }
+
+// Solver selects the linear algebra of the projection methods.
+type Solver int
+
+const (
+	// SolverAuto uses SolverDense up to DenseMaxNodes nodes, else SolverLarge.
+	SolverAuto Solver = iota
+	// SolverDense forms n × n matrices and factorizes them.
+	SolverDense
+	// SolverLarge never forms an n × n matrix (see projection_large.go).
+	SolverLarge
+)
+
+// DenseMaxNodes is the largest structure SolverAuto reconciles with dense
+// algebra. Dense needs O(n²) memory and O(n³) time; at n = 2,000 it is
+// already slower than the large-n path (see bench/reconcile).
+const DenseMaxNodes = 1500
+
+// DefaultPaths is the number of sample paths used when Problem.Paths is 0.
+const DefaultPaths = 100
 
 // Solution is a coherent forecast.
 type Solution struct {
@@ -28,6 +74,22 @@ type Solution struct {
 	Bottom [][]float64
 	// Forecast holds S·Bottom, n × h: coherent by construction.
 	Forecast [][]float64
+	// Variance holds the reconciled forecast-error variance of every node,
+	// n × h, or is nil when the problem has no BaseVar or no Residuals.
+	// The variances are the diagonal of one joint Gaussian distribution
+	// of the reconciled errors, S·G·W_h·Gᵀ·Sᵀ, so the interval of a total
+	// is not the sum of its parts' intervals. W (one step) is always the
+	// shrinkage covariance of the residuals (see errCov), whatever
+	// covariance a projection uses for its weights, because it is the best
+	// available estimate of the error covariance. The h-step covariance
+	// W_h scales W per series by c_hi = √(BaseVar[i][h]/D_i), the growth
+	// of that series' base standard deviation from its one-step residual
+	// one, W_h = C_h·W·C_h, applied to the series the method takes its
+	// bottom forecasts from: the named level for top-down (the total) and
+	// middle-out, and the reconciled bottom series for bottom-up and the
+	// projections (S·C_h·G·W·Gᵀ·C_h·Sᵀ, bottom c_h). When every c_hi is 1
+	// this is exactly S·G·W·Gᵀ·Sᵀ. Intervals are forecast ± z·√Variance.
+	Variance [][]float64
 	// Notes records method facts worth keeping in run.json (such as the
 	// shrinkage intensity λ), keyed by name.
 	Notes map[string]float64
@@ -38,6 +100,108 @@ type Method interface {
 	// Name is the value of --method that selects it.
 	Name() string
 	Reconcile(p Problem) (Solution, error)
+}
+
+// Method names accepted by ByName, in the order help text lists them.
+var methodNames = []string{"bottom-up", "top-down-hist", "top-down-avg", "top-down-fcst", "middle-out", "mint"}
+
+// ByName returns the method that --method, --cov and --at select. cov
+// applies to mint only (empty means shrink) and at to middle-out only
+// (where it is required); giving at with another method is an error.
+func ByName(method, cov, at string) (Method, error) {
+	if at != "" && method != "middle-out" {
+		return nil, inputerr.New("--at %q applies to --method middle-out only", at)
+	}
+	switch method {
+	case "bottom-up":
+		return BottomUp{}, nil
+	case "top-down-hist":
+		return TopDown{Proportions: HistoricalProportions}, nil
+	case "top-down-avg":
+		return TopDown{Proportions: ProportionsOfAverages}, nil
+	case "top-down-fcst":
+		return TopDown{Proportions: ForecastProportions}, nil
+	case "middle-out":
+		if at == "" {
+			return nil, inputerr.New("--method middle-out needs --at LEVEL (a level name such as region+category)")
+		}
+		return MiddleOut{Level: at}, nil
+	case "mint":
+		if cov == "" {
+			cov = string(CovShrink)
+		}
+		c := Covariance(cov)
+		if !c.valid() {
+			return nil, inputerr.New("unknown --cov %q (use %s)", cov, strings.Join(covNames(), ", "))
+		}
+		return Projection{Cov: c}, nil
+	}
+	return nil, inputerr.New("unknown --method %q (use %s)", method, strings.Join(methodNames, ", "))
+}
+
+// dims checks the shapes and values of the problem and returns n, m, h.
+func (p *Problem) dims() (n, m, h int, err error) {
+	st := p.Structure
+	n = len(st.Nodes)
+	m = st.NumBottom()
+	if len(p.Base) != n {
+		return 0, 0, 0, fmt.Errorf("reconcile: %d base rows for %d nodes", len(p.Base), n)
+	}
+	h = len(p.Base[0])
+	for i, row := range p.Base {
+		if len(row) != h {
+			return 0, 0, 0, fmt.Errorf("reconcile: base row %d has %d steps, want %d", i, len(row), h)
+		}
+		for k, v := range row {
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return 0, 0, 0, inputerr.New("base forecast of %s at step %d is %v", st.Label(i), k+1, v)
+			}
+		}
+	}
+	if p.BaseVar != nil {
+		if len(p.BaseVar) != n {
+			return 0, 0, 0, fmt.Errorf("reconcile: %d base variance rows for %d nodes", len(p.BaseVar), n)
+		}
+		for i, row := range p.BaseVar {
+			if len(row) != h {
+				return 0, 0, 0, fmt.Errorf("reconcile: base variance row %d has %d steps, want %d", i, len(row), h)
+			}
+			for k, v := range row {
+				if !(v >= 0) || math.IsInf(v, 0) {
+					return 0, 0, 0, inputerr.New("base variance of %s at step %d is %v", st.Label(i), k+1, v)
+				}
+			}
+		}
+	}
+	if p.Residuals != nil && len(p.Residuals) != n {
+		return 0, 0, 0, fmt.Errorf("reconcile: %d residual rows for %d nodes", len(p.Residuals), n)
+	}
+	if p.Residuals != nil && len(p.Residuals[0]) == 0 {
+		return 0, 0, 0, inputerr.New("residuals have no periods")
+	}
+	return n, m, h, nil
+}
+
+// wantVariance reports whether the problem carries what variances need.
+func (p *Problem) wantVariance() bool { return p.BaseVar != nil && p.Residuals != nil }
+
+// errorCov estimates the shrinkage covariance W of the residuals.
+func (p *Problem) errorCov() (*errCov, error) {
+	return newErrCov(p.Residuals, -1, p.Structure.Label)
+}
+
+// growth returns c_hi = √(BaseVar[i][h] / D_i) for the nodes idx, as
+// len(idx) × h rows (see Solution.Variance).
+func growth(p *Problem, w *errCov, idx []int, h int) [][]float64 {
+	out := make([][]float64, len(idx))
+	for r, i := range idx {
+		row := make([]float64, h)
+		for k := range row {
+			row[k] = math.Sqrt(p.BaseVar[i][k] / w.D[i])
+		}
+		out[r] = row
+	}
+	return out
 }
 
 // coherent completes a solution from its bottom forecasts.
@@ -63,5 +227,14 @@ func coherent(st *hierarchy.Structure, bottom [][]float64) Solution {
 			out[i][k] = y[i]
 		}
 	}
-	return Solution{Bottom: bottom, Forecast: out}
+	return Solution{Bottom: bottom, Forecast: out, Notes: map[string]float64{}}
+}
+
+func newRows(r, c int) [][]float64 {
+	out := make([][]float64, r)
+	buf := make([]float64, r*c)
+	for i := range out {
+		out[i] = buf[i*c : (i+1)*c : (i+1)*c]
+	}
+	return out
 }

@@ -1,0 +1,334 @@
+package reconcile
+
+import (
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+
+	"trueup/hierarchy"
+	"trueup/internal/inputerr"
+)
+
+// Covariance names the matrix W whose inverse weights a projection.
+type Covariance string
+
+// The covariance choices of --cov.
+const (
+	// CovIdentity: W = I, ordinary least squares (Hyndman, Ahmed,
+	// Athanasopoulos & Shang 2011, "Optimal combination forecasts for
+	// hierarchical time series", CSDA 55(9), eq. 7).
+	CovIdentity Covariance = "identity"
+	// CovStructural: W = diag(S·1), the number of bottom series in each
+	// node (Athanasopoulos, Hyndman, Kourentzes & Petropoulos 2017,
+	// "Forecasting with temporal hierarchies", EJOR 262(1), §3.3).
+	CovStructural Covariance = "structural"
+	// CovVariance: W = diag(W1), the one-step residual variances
+	// (Wickramasuriya, Athanasopoulos & Hyndman 2019, §2.4, "WLS").
+	CovVariance Covariance = "variance"
+	// CovSample: W = W1, the sample covariance of the one-step residuals
+	// (Wickramasuriya et al. 2019, "MinT(Sample)"); singular when there
+	// are fewer residual periods than nodes.
+	CovSample Covariance = "sample"
+	// CovShrink: W = λD + (1−λ)W1 (Wickramasuriya et al. 2019,
+	// "MinT(Shrink)"), λ from Schäfer & Strimmer (2005); see errCov.
+	CovShrink Covariance = "shrink"
+)
+
+func covNames() []string {
+	return []string{string(CovIdentity), string(CovStructural), string(CovVariance), string(CovSample), string(CovShrink)}
+}
+
+func (c Covariance) valid() bool {
+	for _, n := range covNames() {
+		if string(c) == n {
+			return true
+		}
+	}
+	return false
+}
+
+// Projection is the optimal-combination family:
+//
+//	ỹ = S·G·ŷ,  G = (Sᵀ W⁻¹ S)⁻¹ Sᵀ W⁻¹
+//
+// the W⁻¹-orthogonal projection of the base forecasts onto the coherent
+// subspace (Wickramasuriya, Athanasopoulos & Hyndman 2019, "Optimal
+// forecast reconciliation for hierarchical and grouped time series
+// through trace minimization", JASA 114(526), Theorem 1). With
+// Problem.Nonnegative the bottom forecasts are constrained to be ≥ 0 and
+// the projection is solved as a quadratic programme in the same metric
+// (Wickramasuriya, Panagiotelis, Athanasopoulos & Hyndman 2020,
+// "Optimal non-negative forecast reconciliation", Statistics and
+// Computing 30).
+//
+// Small structures use dense algebra; large ones an equivalent
+// constraint form solved by conjugate gradients that never forms an
+// n × n matrix (projection_large.go). Both give the same G to solver
+// precision.
+type Projection struct{ Cov Covariance }
+
+var _ Method = Projection{}
+
+// Name implements Method.
+func (Projection) Name() string { return "mint" }
+
+// weights builds the W of the projection as a diagonal plus low rank
+// (errCov form). err is the residual covariance when residuals exist.
+func (pr Projection) weights(p *Problem, errc *errCov, n int) (*errCov, error) {
+	st := p.Structure
+	switch pr.Cov {
+	case CovIdentity, CovStructural:
+		w := &errCov{n: n, Delta: make([]float64, n), D: make([]float64, n)}
+		for i := range w.Delta {
+			v := 1.0
+			if pr.Cov == CovStructural {
+				v = float64(len(st.S.Row(i)))
+			}
+			w.Delta[i], w.D[i] = v, v
+		}
+		return w, nil
+	}
+	if errc == nil {
+		return nil, inputerr.New("--cov %s needs the in-sample residuals of every node", pr.Cov)
+	}
+	switch pr.Cov {
+	case CovVariance:
+		return &errCov{n: n, D: errc.D, Delta: errc.D}, nil
+	case CovShrink:
+		return errc, nil
+	}
+	// CovSample.
+	if T := len(p.Residuals[0]); T < n {
+		return nil, inputerr.New("--cov sample: the sample covariance of %d residual periods is singular for %d nodes (it needs at least as many periods as nodes); use --cov shrink", T, n)
+	}
+	return newErrCov(p.Residuals, 0, st.Label)
+}
+
+// Reconcile implements Method.
+func (pr Projection) Reconcile(p Problem) (Solution, error) {
+	n, _, h, err := p.dims()
+	if err != nil {
+		return Solution{}, err
+	}
+	var errc *errCov
+	if p.Residuals != nil {
+		if errc, err = p.errorCov(); err != nil {
+			return Solution{}, err
+		}
+	}
+	wg, err := pr.weights(&p, errc, n)
+	if err != nil {
+		return Solution{}, err
+	}
+	solver := p.Solver
+	if solver == SolverAuto {
+		solver = SolverLarge
+		if n <= DenseMaxNodes {
+			solver = SolverDense
+		}
+	}
+	var g projector
+	if solver == SolverDense {
+		g, err = newDenseProjector(p.Structure, wg)
+	} else {
+		g, err = newLargeProjector(p.Structure, wg)
+	}
+	if err != nil {
+		return Solution{}, err
+	}
+	base := mat.NewDense(n, h, nil)
+	for i, row := range p.Base {
+		base.SetRow(i, row)
+	}
+	var bottom *mat.Dense
+	if p.Nonnegative {
+		bottom, err = nonnegative(g, base)
+	} else {
+		bottom, err = g.apply(base, solveTol)
+	}
+	if err != nil {
+		return Solution{}, err
+	}
+	sol := coherent(p.Structure, denseRows(bottom))
+	if errc != nil {
+		sol.Notes["lambda"] = errc.lambda
+	}
+	if p.wantVariance() {
+		f, paths, err := g.errorFactor(errc, p.Paths, p.Seed)
+		if err != nil {
+			return Solution{}, err
+		}
+		off := p.Structure.BottomOffset()
+		bidx := make([]int, p.Structure.NumBottom())
+		for j := range bidx {
+			bidx[j] = off + j
+		}
+		sol.Variance = factorVariance(p.Structure, growth(&p, errc, bidx, h), f)
+		if paths > 0 {
+			sol.Notes["variance_paths"] = float64(paths)
+		}
+	}
+	for k, v := range g.notes() {
+		sol.Notes[k] = v
+	}
+	return sol, nil
+}
+
+// projector applies G for one choice of W.
+type projector interface {
+	// apply returns G·Y for Y with n rows (any number of columns), to a
+	// relative tolerance tol where the solver is iterative.
+	apply(y *mat.Dense, tol float64) (*mat.Dense, error)
+	// errorFactor returns F (m × r) with F·Fᵀ = G·W·Gᵀ for the residual
+	// covariance W, exactly or, on the large path, with the diagonal part
+	// of W represented by seeded Gaussian sample paths (their number is
+	// returned, 0 when exact).
+	errorFactor(w *errCov, paths int, seed uint64) (*mat.Dense, int, error)
+	// qp returns the quadratic programme of the non-negative projection.
+	qp() (qpProblem, error)
+	notes() map[string]float64
+}
+
+// solveTol is the relative residual the iterative solvers reach for
+// forecasts; tests hold dense and large paths to 1e-8 relative.
+const solveTol = 1e-12
+
+// denseProjector forms G = (SᵀW⁻¹S)⁻¹SᵀW⁻¹ explicitly.
+type denseProjector struct {
+	st *hierarchy.Structure
+	g  *mat.Dense // m × n
+	p  *mat.SymDense
+	sw *mat.Dense // n × m: W⁻¹S
+}
+
+// denseS returns S as a dense n × m matrix.
+func denseS(st *hierarchy.Structure) *mat.Dense {
+	n, m := st.S.Dims()
+	s := mat.NewDense(n, m, nil)
+	for i := 0; i < n; i++ {
+		for _, j := range st.S.Row(i) {
+			s.Set(i, j, 1)
+		}
+	}
+	return s
+}
+
+// denseW forms W = diag(Δ) + U·Uᵀ.
+func denseW(w *errCov) *mat.SymDense {
+	n := len(w.Delta)
+	out := mat.NewSymDense(n, nil)
+	if r := w.rank(); r > 0 {
+		u := mat.NewDense(n, r, w.U)
+		out.SymOuterK(1, u)
+	}
+	for i, d := range w.Delta {
+		out.SetSym(i, i, out.At(i, i)+d)
+	}
+	return out
+}
+
+func newDenseProjector(st *hierarchy.Structure, wg *errCov) (*denseProjector, error) {
+	n, m := st.S.Dims()
+	var ch mat.Cholesky
+	if !ch.Factorize(denseW(wg)) {
+		return nil, inputerr.New("the covariance W is singular, so the projection is not defined; use --cov shrink")
+	}
+	s := denseS(st)
+	sw := mat.NewDense(n, m, nil)
+	if err := ch.SolveTo(sw, s); err != nil {
+		return nil, inputerr.New("the covariance W is numerically singular; use --cov shrink")
+	}
+	var pm mat.Dense
+	pm.Mul(s.T(), sw)
+	p := mat.NewSymDense(m, nil)
+	for i := 0; i < m; i++ {
+		for j := i; j < m; j++ {
+			p.SetSym(i, j, 0.5*(pm.At(i, j)+pm.At(j, i)))
+		}
+	}
+	var pc mat.Cholesky
+	if !pc.Factorize(p) {
+		return nil, inputerr.New("SᵀW⁻¹S is singular; use --cov shrink")
+	}
+	g := mat.NewDense(m, n, nil)
+	if err := pc.SolveTo(g, sw.T()); err != nil {
+		return nil, inputerr.New("SᵀW⁻¹S is numerically singular; use --cov shrink")
+	}
+	return &denseProjector{st: st, g: g, p: p, sw: sw}, nil
+}
+
+func (d *denseProjector) apply(y *mat.Dense, _ float64) (*mat.Dense, error) {
+	var out mat.Dense
+	out.Mul(d.g, y)
+	return &out, nil
+}
+
+func (d *denseProjector) errorFactor(w *errCov, _ int, _ uint64) (*mat.Dense, int, error) {
+	n := len(w.Delta)
+	r := w.rank()
+	rhs := mat.NewDense(n, n+r, nil)
+	for i, v := range w.Delta {
+		rhs.Set(i, i, math.Sqrt(v))
+		for t := 0; t < r; t++ {
+			rhs.Set(i, n+t, w.U[i*r+t])
+		}
+	}
+	f, err := d.apply(rhs, 0)
+	return f, 0, err
+}
+
+func (d *denseProjector) notes() map[string]float64 { return nil }
+
+// factorVariance returns var_hi = Σ_r (Σ_{j∈i} c_hj F_jr)², the diagonal
+// of S·C_h·F·Fᵀ·C_h·Sᵀ, for every node and step: O(nnz(S)·r) per step.
+func factorVariance(st *hierarchy.Structure, c [][]float64, f *mat.Dense) [][]float64 {
+	n, m := st.S.Dims()
+	h := len(c[0])
+	_, r := f.Dims()
+	out := newRows(n, h)
+	fc := make([]float64, m*r)
+	acc := make([]float64, r)
+	raw := f.RawMatrix()
+	for k := 0; k < h; k++ {
+		for j := 0; j < m; j++ {
+			cj := c[j][k]
+			src := raw.Data[j*raw.Stride : j*raw.Stride+r]
+			dst := fc[j*r : (j+1)*r]
+			for q, v := range src {
+				dst[q] = cj * v
+			}
+		}
+		for i := 0; i < n; i++ {
+			row := st.S.Row(i)
+			if len(row) == 1 {
+				var v float64
+				for _, x := range fc[row[0]*r : (row[0]+1)*r] {
+					v += x * x
+				}
+				out[i][k] = v
+				continue
+			}
+			clear(acc)
+			for _, j := range row {
+				for q, x := range fc[j*r : (j+1)*r] {
+					acc[q] += x
+				}
+			}
+			var v float64
+			for _, x := range acc {
+				v += x * x
+			}
+			out[i][k] = v
+		}
+	}
+	return out
+}
+
+func denseRows(d *mat.Dense) [][]float64 {
+	r, c := d.Dims()
+	out := newRows(r, c)
+	for i := range out {
+		mat.Row(out[i], i, d)
+	}
+	return out
+}

@@ -1,0 +1,519 @@
+package reconcile
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/mat"
+
+	"trueup/hierarchy"
+	"trueup/internal/inputerr"
+)
+
+// largeProjector applies the projection without any n × n matrix, in the
+// equivalent constraint form. With the k = n − m aggregation constraints
+// Ucᵀy = 0 (Ucᵀy = y_agg − C·y_bottom), the W⁻¹-orthogonal projection onto
+// the coherent subspace is
+//
+//	ỹ = y − W·Uc·(UcᵀWUc)⁻¹·Ucᵀy
+//
+// (the same projector as S(SᵀW⁻¹S)⁻¹SᵀW⁻¹: both are the projection onto
+// range(S) along W·range(Uc); see Wickramasuriya et al. 2019, eq. 9,
+// and Rao 1973, Linear Statistical Inference, §4a). Q = UcᵀWUc is k × k
+// with W = diag(Δ) + U·Uᵀ, so Q·z costs two sparse products with the
+// summing matrix and two products with Y = UcᵀU (k × T). Q is solved by
+// block preconditioned conjugate gradients (Hestenes & Stiefel 1952),
+// preconditioned by diag(UcᵀΔUc) + Y·Yᵀ inverted through the Woodbury
+// identity, which captures the rank-T part exactly. Memory is
+// O(nnz(S)·r + nT) for r right-hand sides.
+type largeProjector struct {
+	st   *hierarchy.Structure
+	w    *errCov
+	n, m int
+	k    int            // aggregation constraints (nodes that are not bottom)
+	y    blas64.General // k × T, UcᵀU (nil rows when W is diagonal)
+	dq   []float64      // D0 = diag(UcᵀΔUc), the Jacobi part of the preconditioner
+	core *mat.Cholesky  // I + Yᵀ·D0⁻¹·Y
+	iter int            // most iterations any solve needed
+}
+
+func newLargeProjector(st *hierarchy.Structure, w *errCov) (*largeProjector, error) {
+	n, m := st.S.Dims()
+	lp := &largeProjector{st: st, w: w, n: n, m: m, k: n - m}
+	k := lp.k
+	lp.dq = make([]float64, k)
+	for a := 0; a < k; a++ {
+		v := w.Delta[a]
+		for _, j := range st.S.Row(a) {
+			v += w.Delta[k+j]
+		}
+		lp.dq[a] = v
+	}
+	if T := w.rank(); T > 0 && k > 0 {
+		lp.y = blas64.General{Rows: k, Cols: T, Stride: T, Data: make([]float64, k*T)}
+		ys := blas64.General{Rows: k, Cols: T, Stride: T, Data: make([]float64, k*T)}
+		for a := 0; a < k; a++ {
+			dst := lp.y.Data[a*T : (a+1)*T]
+			copy(dst, w.U[a*T:(a+1)*T])
+			for _, j := range st.S.Row(a) {
+				for t, x := range w.U[(k+j)*T : (k+j+1)*T] {
+					dst[t] -= x
+				}
+			}
+			f := 1 / math.Sqrt(lp.dq[a])
+			for t, x := range dst {
+				ys.Data[a*T+t] = f * x
+			}
+		}
+		if lp.hasZero() {
+			// D0 has zeros (the sample covariance): plain Jacobi on
+			// diag(Q) = D0 + diag(Y·Yᵀ).
+			for a := 0; a < k; a++ {
+				for _, x := range lp.y.Data[a*T : (a+1)*T] {
+					lp.dq[a] += x * x
+				}
+			}
+			return lp, lp.checkDiag()
+		}
+		// core = I + Yᵀ·D0⁻¹·Y.
+		c := blas64.Symmetric{N: T, Stride: T, Uplo: blas.Upper, Data: make([]float64, T*T)}
+		for t := 0; t < T; t++ {
+			c.Data[t*T+t] = 1
+		}
+		blas64.Syrk(blas.Trans, 1, ys, 1, c)
+		var cs mat.SymDense
+		cs.SetRawSymmetric(c)
+		lp.core = &mat.Cholesky{}
+		if !lp.core.Factorize(&cs) {
+			return nil, fmt.Errorf("reconcile: preconditioner core not positive definite")
+		}
+	}
+	return lp, lp.checkDiag()
+}
+
+// hasZero reports whether D0 has a zero, so that D0⁻¹ does not exist.
+func (lp *largeProjector) hasZero() bool {
+	for _, v := range lp.dq {
+		if !(v > 0) {
+			return true
+		}
+	}
+	return false
+}
+
+// checkDiag refuses a singular Q, seen as a zero on its diagonal.
+func (lp *largeProjector) checkDiag() error {
+	for a, v := range lp.dq {
+		if !(v > 0) {
+			return inputerr.New("the covariance W is singular at %s; use --cov shrink", lp.st.Label(a))
+		}
+	}
+	return nil
+}
+
+// ucMul sets dst (n × r) = Uc·z for z (k × r).
+func (lp *largeProjector) ucMul(dst, z []float64, r int) {
+	k := lp.k
+	copy(dst[:k*r], z)
+	clear(dst[k*r:])
+	for a := 0; a < k; a++ {
+		za := z[a*r : (a+1)*r]
+		for _, j := range lp.st.S.Row(a) {
+			d := dst[(k+j)*r : (k+j+1)*r]
+			for q, v := range za {
+				d[q] -= v
+			}
+		}
+	}
+}
+
+// ucTMul sets dst (k × r) = Ucᵀ·v for v (n × r).
+func (lp *largeProjector) ucTMul(dst, v []float64, r int) {
+	k := lp.k
+	copy(dst, v[:k*r])
+	for a := 0; a < k; a++ {
+		d := dst[a*r : (a+1)*r]
+		for _, j := range lp.st.S.Row(a) {
+			for q, x := range v[(k+j)*r : (k+j+1)*r] {
+				d[q] -= x
+			}
+		}
+	}
+}
+
+// qMul sets dst = Q·z = UcᵀΔUc·z + Y·(Yᵀ·z), with scratch of n × r.
+func (lp *largeProjector) qMul(dst, z, scratch, small []float64, r int) {
+	lp.ucMul(scratch, z, r)
+	for i, d := range lp.w.Delta {
+		row := scratch[i*r : (i+1)*r]
+		for q := range row {
+			row[q] *= d
+		}
+	}
+	lp.ucTMul(dst, scratch, r)
+	if lp.y.Data != nil {
+		T := lp.y.Cols
+		zm := blas64.General{Rows: lp.k, Cols: r, Stride: r, Data: z}
+		sm := blas64.General{Rows: T, Cols: r, Stride: r, Data: small}
+		blas64.Gemm(blas.Trans, blas.NoTrans, 1, lp.y, zm, 0, sm)
+		dm := blas64.General{Rows: lp.k, Cols: r, Stride: r, Data: dst}
+		blas64.Gemm(blas.NoTrans, blas.NoTrans, 1, lp.y, sm, 1, dm)
+	}
+}
+
+// precond sets dst = (D0 + Y·Yᵀ)⁻¹·v by the Woodbury identity:
+// D0⁻¹v − D0⁻¹Y·(I + YᵀD0⁻¹Y)⁻¹·YᵀD0⁻¹v.
+func (lp *largeProjector) precond(dst, v, small []float64, inv []float64, r int) {
+	for a := 0; a < lp.k; a++ {
+		f := inv[a]
+		for q := a * r; q < (a+1)*r; q++ {
+			dst[q] = f * v[q]
+		}
+	}
+	if lp.core == nil {
+		return
+	}
+	T := lp.y.Cols
+	dm := blas64.General{Rows: lp.k, Cols: r, Stride: r, Data: dst}
+	sm := blas64.General{Rows: T, Cols: r, Stride: r, Data: small}
+	blas64.Gemm(blas.Trans, blas.NoTrans, 1, lp.y, dm, 0, sm)
+	x := mat.NewDense(T, r, small)
+	if err := lp.core.SolveTo(x, x); err != nil {
+		panic("reconcile: preconditioner solve: " + err.Error())
+	}
+	tmp := make([]float64, lp.k*r)
+	tm := blas64.General{Rows: lp.k, Cols: r, Stride: r, Data: tmp}
+	blas64.Gemm(blas.NoTrans, blas.NoTrans, 1, lp.y, blas64.General{Rows: T, Cols: r, Stride: r, Data: x.RawMatrix().Data}, 0, tm)
+	for a := 0; a < lp.k; a++ {
+		f := inv[a]
+		for q := a * r; q < (a+1)*r; q++ {
+			dst[q] -= f * tmp[q]
+		}
+	}
+}
+
+// maxCGIter caps the conjugate-gradient iterations of one solve.
+const maxCGIter = 2000
+
+// solveQ solves Q·Z = B (k × r) column by column, all columns sharing each
+// product with Q, to relative residual tol per column.
+func (lp *largeProjector) solveQ(b []float64, r int, tol float64) ([]float64, error) {
+	k := lp.k
+	x := make([]float64, k*r)
+	if k == 0 {
+		return x, nil
+	}
+	res := append([]float64(nil), b...)
+	z := make([]float64, k*r)
+	p := make([]float64, k*r)
+	qp := make([]float64, k*r)
+	scratch := make([]float64, lp.n*r)
+	T := 0
+	if lp.y.Data != nil {
+		T = lp.y.Cols
+	}
+	small := make([]float64, T*r)
+	inv := make([]float64, k)
+	for a := range inv {
+		inv[a] = 1 / lp.dq[a]
+	}
+	bnorm := colNorms(b, r)
+	rz := make([]float64, r)
+	done := make([]bool, r)
+	ndone := 0
+	for q := range done {
+		if bnorm[q] == 0 {
+			done[q] = true
+			ndone++
+		}
+	}
+	lp.precond(z, res, small, inv, r)
+	copy(p, z)
+	colDots(rz, res, z, r)
+	pq := make([]float64, r)
+	var it int
+	for it = 0; ndone < r && it < maxCGIter; it++ {
+		lp.qMul(qp, p, scratch, small, r)
+		colDots(pq, p, qp, r)
+		for a := 0; a < k; a++ {
+			for q := 0; q < r; q++ {
+				if done[q] {
+					continue
+				}
+				alpha := rz[q] / pq[q]
+				x[a*r+q] += alpha * p[a*r+q]
+				res[a*r+q] -= alpha * qp[a*r+q]
+			}
+		}
+		rn := colNorms(res, r)
+		for q := 0; q < r; q++ {
+			if !done[q] && rn[q] <= tol*bnorm[q] {
+				done[q] = true
+				ndone++
+			}
+		}
+		lp.precond(z, res, small, inv, r)
+		old := append([]float64(nil), rz...)
+		colDots(rz, res, z, r)
+		for a := 0; a < k; a++ {
+			for q := 0; q < r; q++ {
+				if !done[q] {
+					p[a*r+q] = z[a*r+q] + rz[q]/old[q]*p[a*r+q]
+				}
+			}
+		}
+	}
+	if it > lp.iter {
+		lp.iter = it
+	}
+	if ndone < r {
+		rn := colNorms(res, r)
+		worst := 0.0
+		for q := range rn {
+			if !done[q] {
+				worst = math.Max(worst, rn[q]/bnorm[q])
+			}
+		}
+		return nil, fmt.Errorf("reconcile: conjugate gradients stopped after %d iterations at relative residual %.3g", it, worst)
+	}
+	return x, nil
+}
+
+func colNorms(v []float64, r int) []float64 {
+	out := make([]float64, r)
+	colDots(out, v, v, r)
+	for q := range out {
+		out[q] = math.Sqrt(out[q])
+	}
+	return out
+}
+
+func colDots(dst, a, b []float64, r int) {
+	clear(dst)
+	for i := 0; i < len(a); i += r {
+		for q := 0; q < r; q++ {
+			dst[q] += a[i+q] * b[i+q]
+		}
+	}
+}
+
+// apply returns G·Y: the bottom rows of Y − W·Uc·Q⁻¹·Ucᵀ·Y.
+func (lp *largeProjector) apply(ym *mat.Dense, tol float64) (*mat.Dense, error) {
+	n, r := ym.Dims()
+	yv := make([]float64, n*r)
+	for i := 0; i < n; i++ {
+		for q := 0; q < r; q++ {
+			yv[i*r+q] = ym.At(i, q)
+		}
+	}
+	rhs := make([]float64, lp.k*r)
+	lp.ucTMul(rhs, yv, r)
+	z, err := lp.solveQ(rhs, r, tol)
+	if err != nil {
+		return nil, err
+	}
+	// W·Uc·z, bottom rows only.
+	uz := make([]float64, n*r)
+	lp.ucMul(uz, z, r)
+	out := mat.NewDense(lp.m, r, nil)
+	raw := out.RawMatrix()
+	k := lp.k
+	for j := 0; j < lp.m; j++ {
+		d := lp.w.Delta[k+j]
+		for q := 0; q < r; q++ {
+			raw.Data[j*raw.Stride+q] = yv[(k+j)*r+q] - d*uz[(k+j)*r+q]
+		}
+	}
+	if T := lp.w.rank(); T > 0 {
+		// Uᵀ·Uc·z = Yᵀ·z (T × r), then subtract U_bottom·that.
+		small := blas64.General{Rows: T, Cols: r, Stride: r, Data: make([]float64, T*r)}
+		blas64.Gemm(blas.Trans, blas.NoTrans, 1, lp.y, blas64.General{Rows: k, Cols: r, Stride: r, Data: z}, 0, small)
+		ub := blas64.General{Rows: lp.m, Cols: T, Stride: T, Data: lp.w.U[k*T:]}
+		blas64.Gemm(blas.NoTrans, blas.NoTrans, -1, ub, small, 1, raw)
+	}
+	return out, nil
+}
+
+// varianceTol is the relative residual of the solves behind variances:
+// they feed interval widths, where 1e-8 is far below the sampling error.
+const varianceTol = 1e-8
+
+// errorFactor returns F = [G·U, G·diag(√Δ)·Z/√N] with Z an n × N matrix of
+// seeded standard normal draws, so F·Fᵀ estimates G·W·Gᵀ: the rank-T part
+// exactly, the diagonal part by N Gaussian sample paths (Panagiotelis,
+// Gamakumara, Athanasopoulos & Hyndman 2023, "Probabilistic forecast
+// reconciliation: properties, evaluation and score optimisation", EJOR
+// 306(2), §5, reconcile sample paths by the same G). Its exact value
+// would need one solve per node.
+func (lp *largeProjector) errorFactor(w *errCov, paths int, seed uint64) (*mat.Dense, int, error) {
+	if paths <= 0 {
+		paths = DefaultPaths
+	}
+	T := w.rank()
+	r := T + paths
+	rhs := mat.NewDense(lp.n, r, nil)
+	rng := rand.New(rand.NewPCG(seed, 0x7275e0b))
+	scale := 1 / math.Sqrt(float64(paths))
+	for i := 0; i < lp.n; i++ {
+		for t := 0; t < T; t++ {
+			rhs.Set(i, t, w.U[i*T+t])
+		}
+		s := math.Sqrt(w.Delta[i]) * scale
+		for q := 0; q < paths; q++ {
+			rhs.Set(i, T+q, s*rng.NormFloat64())
+		}
+	}
+	f, err := lp.apply(rhs, varianceTol)
+	return f, paths, err
+}
+
+func (lp *largeProjector) notes() map[string]float64 {
+	return map[string]float64{"cg_iterations": float64(lp.iter)}
+}
+
+// qp implements projector for the large path: P = SᵀW⁻¹S applied with
+// W⁻¹ = Δ⁻¹ − Δ⁻¹U·K⁻¹·UᵀΔ⁻¹, K = I + UᵀΔ⁻¹U (the Woodbury identity),
+// and restricted solves by Jacobi-preconditioned conjugate gradients.
+func (lp *largeProjector) qp() (qpProblem, error) {
+	w := lp.w
+	for i, d := range w.Delta {
+		if !(d > 0) {
+			return nil, inputerr.New("non-negative reconciliation needs W⁻¹, and W is singular at %s; use --cov shrink", lp.st.Label(i))
+		}
+	}
+	q := &largeQP{lp: lp, T: w.rank()}
+	T := q.T
+	if T > 0 {
+		ud := mat.NewDense(lp.n, T, nil)
+		for i := 0; i < lp.n; i++ {
+			f := 1 / math.Sqrt(w.Delta[i])
+			for t := 0; t < T; t++ {
+				ud.Set(i, t, f*w.U[i*T+t])
+			}
+		}
+		k := mat.NewSymDense(T, nil)
+		k.SymOuterK(1, ud.T())
+		for t := 0; t < T; t++ {
+			k.SetSym(t, t, k.At(t, t)+1)
+		}
+		q.k = &mat.Cholesky{}
+		if !q.k.Factorize(k) {
+			return nil, fmt.Errorf("reconcile: I + UᵀΔ⁻¹U not positive definite")
+		}
+	}
+	// Jacobi preconditioner: diag(P)_j = Σ_{i∋j} (W⁻¹)… computed exactly
+	// by P·e_j would cost m products; the diagonal-part bound Σ_{i∋j} 1/Δ_i
+	// is used instead (any positive diagonal keeps CG exact).
+	q.diag = make([]float64, lp.m)
+	for i := 0; i < lp.n; i++ {
+		for _, j := range lp.st.S.Row(i) {
+			q.diag[j] += 1 / w.Delta[i]
+		}
+	}
+	return q, nil
+}
+
+type largeQP struct {
+	lp   *largeProjector
+	T    int
+	k    *mat.Cholesky
+	diag []float64
+}
+
+// winv sets dst = W⁻¹·v (n-vectors).
+func (q *largeQP) winv(dst, v []float64) {
+	w := q.lp.w
+	for i, d := range w.Delta {
+		dst[i] = v[i] / d
+	}
+	if q.T == 0 {
+		return
+	}
+	T := q.T
+	s := mat.NewVecDense(T, nil)
+	for i := range dst {
+		for t := 0; t < T; t++ {
+			s.SetVec(t, s.AtVec(t)+w.U[i*T+t]*dst[i])
+		}
+	}
+	if err := q.k.SolveVecTo(s, s); err != nil {
+		panic("reconcile: Woodbury core solve: " + err.Error())
+	}
+	for i, d := range w.Delta {
+		var u float64
+		for t := 0; t < T; t++ {
+			u += w.U[i*T+t] * s.AtVec(t)
+		}
+		dst[i] -= u / d
+	}
+}
+
+func (q *largeQP) linear(y []float64) []float64 {
+	t := make([]float64, q.lp.n)
+	q.winv(t, y)
+	return q.lp.st.S.MulTransVec(nil, t)
+}
+
+func (q *largeQP) mul(dst, v []float64) {
+	sv := q.lp.st.S.MulVec(nil, v)
+	t := make([]float64, len(sv))
+	q.winv(t, sv)
+	q.lp.st.S.MulTransVec(dst, t)
+}
+
+func (q *largeQP) solveFree(free []bool, rhs []float64) ([]float64, error) {
+	m := len(free)
+	mask := func(v []float64) {
+		for j := range v {
+			if !free[j] {
+				v[j] = 0
+			}
+		}
+	}
+	x := make([]float64, m)
+	r := append([]float64(nil), rhs...)
+	mask(r)
+	bn := math.Sqrt(dot(r, r))
+	if bn == 0 {
+		return x, nil
+	}
+	z := make([]float64, m)
+	for j := range z {
+		z[j] = r[j] / q.diag[j]
+	}
+	p := append([]float64(nil), z...)
+	ap := make([]float64, m)
+	rz := dot(r, z)
+	for it := 0; it < maxCGIter; it++ {
+		q.mul(ap, p)
+		mask(ap)
+		alpha := rz / dot(p, ap)
+		for j := range x {
+			x[j] += alpha * p[j]
+			r[j] -= alpha * ap[j]
+		}
+		if math.Sqrt(dot(r, r)) <= solveTol*bn {
+			return x, nil
+		}
+		for j := range z {
+			z[j] = r[j] / q.diag[j]
+		}
+		old := rz
+		rz = dot(r, z)
+		for j := range p {
+			p[j] = z[j] + rz/old*p[j]
+		}
+	}
+	return nil, fmt.Errorf("conjugate gradients did not converge in %d iterations", maxCGIter)
+}
+
+func dot(a, b []float64) float64 {
+	var s float64
+	for i, x := range a {
+		s += x * b[i]
+	}
+	return s
+}

@@ -1,0 +1,254 @@
+package reconcile
+
+import (
+	"math"
+	"testing"
+
+	"gonum.org/v1/gonum/mat"
+
+	"trueup/hierarchy"
+)
+
+// TestTwoChildOLS is the worked example of a total with two children A, B.
+// S = [1 1; 1 0; 0 1], so SᵀS = [2 1; 1 2], (SᵀS)⁻¹ = (1/3)[2 −1; −1 2] and
+// Sᵀŷ = (ŷ_T + ŷ_A, ŷ_T + ŷ_B). Hence
+//
+//	b̃_A = (2(ŷ_T+ŷ_A) − (ŷ_T+ŷ_B))/3 = (ŷ_T + 2ŷ_A − ŷ_B)/3
+//	b̃_B = (ŷ_T − ŷ_A + 2ŷ_B)/3
+//	ỹ_T = b̃_A + b̃_B = (2ŷ_T + ŷ_A + ŷ_B)/3
+//
+// (Hyndman, Ahmed, Athanasopoulos & Shang 2011, eq. 7 with W = I.)
+func TestTwoChildOLS(t *testing.T) {
+	st, err := hierarchy.Build([]hierarchy.Chain{{"item"}}, [][]string{{"A"}, {"B"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	yt, ya, yb := 100.0, 70.0, 20.0
+	p := Problem{Structure: st, Base: [][]float64{{yt}, {ya}, {yb}}}
+	for _, solver := range []Solver{SolverDense, SolverLarge} {
+		p.Solver = solver
+		sol, err := Projection{Cov: CovIdentity}.Reconcile(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		want := []float64{(2*yt + ya + yb) / 3, (yt + 2*ya - yb) / 3, (yt - ya + 2*yb) / 3}
+		for i, w := range want {
+			if relDiff(sol.Forecast[i][0], w) > 1e-12 {
+				t.Errorf("solver %d %s: %g, want %g", solver, st.Label(i), sol.Forecast[i][0], w)
+			}
+		}
+	}
+}
+
+var allCovs = []Covariance{CovIdentity, CovStructural, CovVariance, CovSample, CovShrink}
+
+// TestDenseAndLargeAgree holds the two solvers to 1e-8 relative on every
+// covariance choice, and checks coherence.
+func TestDenseAndLargeAgree(t *testing.T) {
+	st := grouped(t, 2, 3, 3) // 48 nodes
+	for _, cov := range allCovs {
+		T := 20
+		if cov == CovSample {
+			T = 80
+		}
+		p := problemFor(st, T, 3, 21)
+		p.Solver = SolverDense
+		d, err := Projection{Cov: cov}.Reconcile(p)
+		if err != nil {
+			t.Fatalf("%s dense: %v", cov, err)
+		}
+		p.Solver = SolverLarge
+		l, err := Projection{Cov: cov}.Reconcile(p)
+		if err != nil {
+			t.Fatalf("%s large: %v", cov, err)
+		}
+		checkCoherent(t, st, d)
+		checkCoherent(t, st, l)
+		for i := range d.Forecast {
+			for k := range d.Forecast[i] {
+				if relDiff(d.Forecast[i][k], l.Forecast[i][k]) > 1e-8 {
+					t.Fatalf("%s %s: dense %.12g large %.12g", cov, st.Label(i), d.Forecast[i][k], l.Forecast[i][k])
+				}
+			}
+		}
+	}
+}
+
+// denseG returns G for a covariance choice through the dense path.
+func denseG(t *testing.T, p Problem, cov Covariance) *mat.Dense {
+	t.Helper()
+	errc, err := p.errorCov()
+	if err != nil {
+		t.Fatal(err)
+	}
+	wg, err := Projection{Cov: cov}.weights(&p, errc, len(p.Structure.Nodes))
+	if err != nil {
+		t.Fatal(err)
+	}
+	g, err := newDenseProjector(p.Structure, wg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return g.g
+}
+
+// TestProjectionIdentities: S·G·S = S for every projection (G·S = I,
+// Wickramasuriya et al. 2019, Lemma 1), and OLS is the orthogonal
+// projection onto range(S): Sᵀ(ŷ − ỹ) = 0.
+func TestProjectionIdentities(t *testing.T) {
+	st := tree(t, 2, 2, 3)
+	p := problemFor(st, 60, 1, 4)
+	s := denseS(st)
+	n, m := s.Dims()
+	for _, cov := range allCovs {
+		g := denseG(t, p, cov)
+		var sgs, gs mat.Dense
+		gs.Mul(g, s)
+		sgs.Mul(s, &gs)
+		if !mat.EqualApprox(&sgs, s, 1e-10) {
+			t.Errorf("%s: S·G·S ≠ S", cov)
+		}
+		// The large path's G·S = I, column by column.
+		errc, _ := p.errorCov()
+		wg, _ := Projection{Cov: cov}.weights(&p, errc, n)
+		lp, err := newLargeProjector(st, wg)
+		if err != nil {
+			t.Fatal(err)
+		}
+		lgs, err := lp.apply(s, solveTol)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !mat.EqualApprox(lgs, eye(m), 1e-9) {
+			t.Errorf("%s: large path G·S ≠ I", cov)
+		}
+	}
+	p.Solver = SolverDense
+	sol, err := Projection{Cov: CovIdentity}.Reconcile(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	d := make([]float64, n)
+	for i := range d {
+		d[i] = p.Base[i][0] - sol.Forecast[i][0]
+	}
+	for j, v := range st.S.MulTransVec(nil, d) {
+		if math.Abs(v) > 1e-9 {
+			t.Errorf("OLS residual not orthogonal to column %d of S: %g", j, v)
+		}
+	}
+}
+
+func eye(m int) *mat.Dense {
+	e := mat.NewDense(m, m, nil)
+	for i := 0; i < m; i++ {
+		e.Set(i, i, 1)
+	}
+	return e
+}
+
+// TestMinTTrace: for the same W (here the shrinkage covariance, and base
+// variances equal to its diagonal so W_1 = W), MinT's reconciled variance
+// has a trace no larger than OLS's or WLS's (Wickramasuriya et al. 2019,
+// Theorem 1: MinT minimizes tr(S·G·W·Gᵀ·Sᵀ) over G with S·G·S = S).
+func TestMinTTrace(t *testing.T) {
+	st := grouped(t, 2, 3, 4)
+	p := problemFor(st, 30, 1, 9)
+	w, _ := p.errorCov()
+	for i := range p.BaseVar {
+		p.BaseVar[i][0] = w.D[i]
+	}
+	p.Solver = SolverDense
+	trace := func(cov Covariance) float64 {
+		sol, err := Projection{Cov: cov}.Reconcile(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var s float64
+		for i := range sol.Variance {
+			s += sol.Variance[i][0]
+		}
+		return s
+	}
+	mint := trace(CovShrink)
+	for _, cov := range []Covariance{CovIdentity, CovStructural, CovVariance} {
+		if o := trace(cov); !(mint <= o*(1+1e-12)) {
+			t.Errorf("trace MinT %g > trace %s %g", mint, cov, o)
+		}
+	}
+	// Bottom-up is a G with S·G·S = S too.
+	bu, _ := BottomUp{}.Reconcile(p)
+	var s float64
+	for i := range bu.Variance {
+		s += bu.Variance[i][0]
+	}
+	if !(mint <= s) {
+		t.Errorf("trace MinT %g > bottom-up %g", mint, s)
+	}
+}
+
+// TestProjectionVarianceExact checks the dense variance against the
+// direct matrix product diag(S·C·G·W·Gᵀ·C·Sᵀ).
+func TestProjectionVarianceExact(t *testing.T) {
+	st := grouped(t, 2, 2, 3)
+	p := problemFor(st, 30, 2, 13)
+	p.Solver = SolverDense
+	sol, err := Projection{Cov: CovShrink}.Reconcile(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	g := denseG(t, p, CovShrink)
+	w, _ := p.errorCov()
+	wd := denseW(w)
+	s := denseS(st)
+	off := st.BottomOffset()
+	m := st.NumBottom()
+	for k := 0; k < 2; k++ {
+		c := mat.NewDiagDense(m, nil)
+		for j := 0; j < m; j++ {
+			c.SetDiag(j, math.Sqrt(p.BaseVar[off+j][k]/w.D[off+j]))
+		}
+		var sc, a, b, v mat.Dense
+		sc.Mul(s, c)
+		a.Mul(&sc, g)
+		b.Mul(&a, wd)
+		v.Mul(&b, a.T())
+		for i := range st.Nodes {
+			if relDiff(sol.Variance[i][k], v.At(i, i)) > 1e-9 {
+				t.Fatalf("%s: variance %g, direct %g", st.Label(i), sol.Variance[i][k], v.At(i, i))
+			}
+		}
+	}
+}
+
+// TestLargeVarianceEstimate: the large path's sample-path variance is
+// close to the exact one (the rank-T part is exact; only the diagonal
+// part is sampled).
+func TestLargeVarianceEstimate(t *testing.T) {
+	st := grouped(t, 2, 3, 3)
+	p := problemFor(st, 30, 1, 17)
+	p.Solver = SolverDense
+	d, err := Projection{Cov: CovShrink}.Reconcile(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p.Solver = SolverLarge
+	p.Paths = 2000
+	l, err := Projection{Cov: CovShrink}.Reconcile(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range d.Variance {
+		if r := l.Variance[i][0] / d.Variance[i][0]; math.Abs(r-1) > 0.15 {
+			t.Errorf("%s: sampled variance %g, exact %g", st.Label(i), l.Variance[i][0], d.Variance[i][0])
+		}
+	}
+}
+
+func TestSampleRefusedWhenSingular(t *testing.T) {
+	st := grouped(t, 2, 3, 3)
+	p := problemFor(st, 20, 1, 1)
+	if _, err := (Projection{Cov: CovSample}).Reconcile(p); err == nil {
+		t.Error("sample covariance with T < n accepted")
+	}
+}
