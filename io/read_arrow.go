@@ -50,6 +50,9 @@ func readParquet(data []byte, opt ReadOptions) (rows *Rows, err error) {
 			return nil, inputerr.New("column %q is nested (%s); trueup reads flat columns", columns[f], sf.Field.Type)
 		}
 		leaves = append(leaves, sf.ColIndex)
+		if f == vi {
+			continue // a text value column is refused with its own type in the message
+		}
 		switch sf.Field.Type.ID() {
 		case arrow.STRING, arrow.LARGE_STRING, arrow.BINARY, arrow.LARGE_BINARY:
 			props.SetReadDict(sf.ColIndex, true)
@@ -85,7 +88,7 @@ func readParquet(data []byte, opt ReadOptions) (rows *Rows, err error) {
 // readIPC reads an Arrow IPC file (the random-access file format).
 func readIPC(data []byte, opt ReadOptions) (rows *Rows, err error) {
 	defer recoverCorrupt("Arrow IPC", &rows, &err)
-	r, err := ipc.NewMappedFileReader(data)
+	r, err := ipc.NewFileReader(bytes.NewReader(data), ipc.WithAllocator(memory.DefaultAllocator))
 	if err != nil {
 		return nil, inputerr.New("not a valid Arrow IPC file: %v", err)
 	}

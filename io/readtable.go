@@ -144,7 +144,7 @@ func readTableIPC(data []byte) (t *Table, err error) {
 			t, err = nil, inputerr.New("not a readable Arrow IPC file (the decoder failed: %v)", r)
 		}
 	}()
-	r, err := ipc.NewMappedFileReader(data)
+	r, err := ipc.NewFileReader(bytes.NewReader(data), ipc.WithAllocator(memory.DefaultAllocator))
 	if err != nil {
 		return nil, inputerr.New("not a valid Arrow IPC file: %v", err)
 	}
