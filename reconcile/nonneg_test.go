@@ -1,0 +1,105 @@
+package reconcile
+
+import (
+	"testing"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// TestNonnegative checks the non-negative projection by its optimality
+// conditions (Karush–Kuhn–Tucker for min ½bᵀPb − qᵀb, b ≥ 0: with
+// g = P·b − q, b ≥ 0, g ≥ 0 where b = 0 and g = 0 where b > 0;
+// Wickramasuriya et al. 2020, §3), on both solvers, and that it returns
+// the unconstrained answer when that is already non-negative.
+func TestNonnegative(t *testing.T) {
+	st := grouped(t, 2, 2, 3)
+	p := problemFor(st, 30, 2, 31)
+	off := st.BottomOffset()
+	// Push some bottom base forecasts well below zero.
+	for j := 0; j < st.NumBottom(); j += 2 {
+		p.Base[off+j][0] = -60
+		p.Base[off+j][1] = -20
+	}
+	p.Nonnegative = true
+	var first Solution
+	for _, solver := range []Solver{SolverDense, SolverLarge} {
+		p.Solver = solver
+		sol, err := Projection{Cov: CovShrink}.Reconcile(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		checkCoherent(t, st, sol)
+		errc, _ := p.errorCov()
+		g, _ := newDenseProjector(st, errc)
+		qp, _ := g.qp()
+		zeros := 0
+		for k := 0; k < 2; k++ {
+			b := make([]float64, st.NumBottom())
+			for j := range b {
+				b[j] = sol.Bottom[j][k]
+				if b[j] < 0 {
+					t.Fatalf("bottom %d step %d negative: %g", j, k+1, b[j])
+				}
+			}
+			q := qp.linear(mat.Col(nil, k, mat.NewDense(len(p.Base), 2, flatten(p.Base))))
+			grad := make([]float64, len(b))
+			qp.mul(grad, b)
+			for j := range grad {
+				grad[j] -= q[j]
+				if b[j] == 0 {
+					zeros++
+					if grad[j] < -1e-8*(1+abs(q[j])) {
+						t.Errorf("step %d: bound bottom %d has gradient %g < 0", k+1, j, grad[j])
+					}
+				} else if abs(grad[j]) > 1e-7*(1+abs(q[j])) {
+					t.Errorf("step %d: free bottom %d has gradient %g ≠ 0", k+1, j, grad[j])
+				}
+			}
+		}
+		if zeros == 0 {
+			t.Fatal("test does not exercise the constraint")
+		}
+		if solver == SolverDense {
+			first = sol
+		} else {
+			for i := range sol.Forecast {
+				for k := range sol.Forecast[i] {
+					if relDiff(sol.Forecast[i][k], first.Forecast[i][k]) > 1e-7 {
+						t.Errorf("%s: dense %g large %g", st.Label(i), first.Forecast[i][k], sol.Forecast[i][k])
+					}
+				}
+			}
+		}
+	}
+	// Already non-negative: identical to the unconstrained projection.
+	q := problemFor(st, 30, 2, 31)
+	q.Solver = SolverDense
+	unc, _ := Projection{Cov: CovShrink}.Reconcile(q)
+	q.Nonnegative = true
+	nn, _ := Projection{Cov: CovShrink}.Reconcile(q)
+	for i := range unc.Forecast {
+		for k := range unc.Forecast[i] {
+			if unc.Forecast[i][k] != nn.Forecast[i][k] {
+				t.Fatalf("non-negative case changed: %g vs %g", unc.Forecast[i][k], nn.Forecast[i][k])
+			}
+		}
+	}
+	if _, err := (BottomUp{}).Reconcile(q); err == nil {
+		t.Error("bottom-up accepted Nonnegative")
+	}
+}
+
+func flatten(rows [][]float64) []float64 {
+	var out []float64
+	for _, r := range rows {
+		out = append(out, r...)
+	}
+	return out
+}
+
+func abs(x float64) float64 {
+	if x < 0 {
+		return -x
+	}
+	return x
+}
