@@ -20,8 +20,9 @@ import (
 // variances, from which σ² is concentrated out of the likelihood.
 //
 // The initial state covariance is the stationary solution of
-// P = T P Tᵀ + R Rᵀ (closed form for pure moving averages, Lyapunov
-// doubling otherwise). The companion structure of T makes each filter step
+// P = T P Tᵀ + R Rᵀ (closed form for pure moving averages, from the
+// autocovariances otherwise, Lyapunov doubling as a last resort). The
+// companion structure of T makes each filter step
 // O(r²); once the predicted covariance stops changing (to 1e-11) the filter
 // switches to the steady-state gain, making the remaining steps O(r).
 //
@@ -31,7 +32,7 @@ type ARMAKalman struct {
 	r               int
 	phi, rv         []float64
 	a, anew, pp, pn []float64
-	u0, c           []float64
+	u0, c, cov      []float64
 	tm, rr, lyWork  []float64
 }
 
@@ -84,6 +85,11 @@ func (k *ARMAKalman) setup(phi, theta []float64) error {
 		}
 		return nil
 	}
+	if k.stationaryCov(len(phi), len(theta)) {
+		return nil
+	}
+	// The autocovariance system was singular to working precision: solve
+	// the Lyapunov equation directly.
 	k.tm = grow(k.tm, r*r)
 	k.rr = grow(k.rr, r*r)
 	k.lyWork = grow(k.lyWork, 3*r*r)
@@ -97,6 +103,140 @@ func (k *ARMAKalman) setup(phi, theta []float64) error {
 		}
 	}
 	return Lyapunov(k.pp, k.tm, k.rr, r, k.lyWork)
+}
+
+// stationaryCov writes the stationary state covariance P0 into k.pp in
+// O(p³ + r²): the autocovariances γ(0..r) of the ARMA process come from
+// the (p+1)-equation linear system of Brockwell & Davis (1991, Time Series:
+// Theory and Methods, §3.3, method 2), the cross-covariances E[w_t ε_{t−j}]
+// are the ψ-weights; they give the first row of P0, and the Lyapunov
+// equation P0 = T P0 Tᵀ + R Rᵀ, read entry by entry with the companion T,
+// gives every other entry along the diagonals:
+// P_{i+1,j+1} = P_ij − φ_iφ_j P_00 − φ_i P_{0,j+1} − φ_j P_{0,i+1} − R_iR_j.
+// It returns false when the system is numerically singular.
+func (k *ARMAKalman) stationaryCov(p, q int) bool {
+	r := k.r
+	ph, rv := k.phi, k.rv
+	need := (r + 1) + r + (p+1)*(p+2)
+	if cap(k.cov) < need {
+		k.cov = make([]float64, need)
+	}
+	buf := k.cov[:need]
+	gamma, psi, sys := buf[:r+1], buf[r+1:2*r+1], buf[2*r+1:]
+	// ψ_0 = 1, ψ_j = θ_j + Σ_{i=1}^{min(j,p)} φ_i ψ_{j−i}.
+	for j := 0; j < r; j++ {
+		v := 0.0
+		if j == 0 {
+			v = 1
+		} else if j <= q {
+			v = rv[j]
+		}
+		for i := 1; i <= min(j, p); i++ {
+			v += ph[i-1] * psi[j-i]
+		}
+		psi[j] = v
+	}
+	// rhs(k) = Σ_{j=k}^{q} θ_j ψ_{j−k}, θ_0 = 1.
+	rhs := func(kk int) float64 {
+		var s float64
+		for j := kk; j <= q; j++ {
+			s += rv[j] * psi[j-kk]
+		}
+		return s
+	}
+	// γ(k) − Σ_i φ_i γ(|k−i|) = rhs(k), k = 0..p, as an augmented matrix.
+	w := p + 2
+	for i := range sys {
+		sys[i] = 0
+	}
+	for kk := 0; kk <= p; kk++ {
+		row := sys[kk*w : kk*w+w]
+		row[kk] += 1
+		for i := 1; i <= p; i++ {
+			d := kk - i
+			if d < 0 {
+				d = -d
+			}
+			row[d] -= ph[i-1]
+		}
+		row[p+1] = rhs(kk)
+	}
+	if !solveAugmented(sys, p+1) {
+		return false
+	}
+	for kk := 0; kk <= p; kk++ {
+		gamma[kk] = sys[kk*w+p+1]
+	}
+	for kk := p + 1; kk <= r; kk++ {
+		v := rhs(kk)
+		for i := 1; i <= p; i++ {
+			v += ph[i-1] * gamma[kk-i]
+		}
+		gamma[kk] = v
+	}
+	if !(gamma[0] >= 1) || math.IsInf(gamma[0], 0) {
+		return false
+	}
+	pp := k.pp
+	for j := 0; j < r; j++ {
+		var s float64
+		for kk := j; kk < r; kk++ {
+			s += ph[kk]*gamma[kk-j+1] + rv[kk]*psi[kk-j]
+		}
+		pp[j] = s
+		pp[j*r] = s
+	}
+	pp[0] = gamma[0]
+	p00 := gamma[0]
+	for i := 0; i+1 < r; i++ {
+		for j := i; j+1 < r; j++ {
+			v := pp[i*r+j] - ph[i]*ph[j]*p00 - ph[i]*pp[j+1] - ph[j]*pp[i+1] - rv[i]*rv[j]
+			pp[(i+1)*r+j+1] = v
+			pp[(j+1)*r+i+1] = v
+		}
+	}
+	return true
+}
+
+// solveAugmented solves the n×n system held with its right-hand side as an
+// n×(n+1) row-major augmented matrix by Gaussian elimination with partial
+// pivoting, leaving the solution in the last column. False when singular.
+func solveAugmented(a []float64, n int) bool {
+	w := n + 1
+	for c := 0; c < n; c++ {
+		piv := c
+		for r := c + 1; r < n; r++ {
+			if math.Abs(a[r*w+c]) > math.Abs(a[piv*w+c]) {
+				piv = r
+			}
+		}
+		if math.Abs(a[piv*w+c]) < 1e-13 {
+			return false
+		}
+		if piv != c {
+			for j := c; j < w; j++ {
+				a[c*w+j], a[piv*w+j] = a[piv*w+j], a[c*w+j]
+			}
+		}
+		inv := 1 / a[c*w+c]
+		for r := c + 1; r < n; r++ {
+			f := a[r*w+c] * inv
+			if f == 0 {
+				continue
+			}
+			for j := c; j < w; j++ {
+				a[r*w+j] -= f * a[c*w+j]
+			}
+		}
+	}
+	for c := n - 1; c >= 0; c-- {
+		s := a[c*w+n]
+		for j := c + 1; j < n; j++ {
+			s -= a[c*w+j] * a[j*w+n]
+		}
+		a[c*w+n] = s / a[c*w+c]
+	}
+	return true
 }
 
 // Filter runs the filter over w for the ARMA model with AR coefficients

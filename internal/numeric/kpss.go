@@ -5,10 +5,10 @@ import "math"
 // KPSSLevel returns the KPSS statistic for the null hypothesis that x is
 // stationary around a constant level (Kwiatkowski, Phillips, Schmidt & Shin
 // 1992, J. Econometrics 54, eq. 10), with the Bartlett-weighted long-run
-// variance at lags = ⌊4·(n/100)^{1/4}⌋, the "l4" truncation of that paper.
-// Large values reject stationarity; see KPSSLevelCritical5.
-// It returns 0 for series shorter than 3 or with zero variance.
-func KPSSLevel(x []float64) float64 {
+// variance truncated at lags (see KPSSLags). Large values reject
+// stationarity; see KPSSLevelCritical5. It returns 0 for series shorter
+// than 3 or with zero variance.
+func KPSSLevel(x []float64, lags int) float64 {
 	n := len(x)
 	if n < 3 {
 		return 0
@@ -25,8 +25,7 @@ func KPSSLevel(x []float64) float64 {
 		eta += s * s
 		s0 += e * e
 	}
-	lags := int(math.Floor(4 * math.Pow(float64(n)/100, 0.25)))
-	lags = min(lags, n-1)
+	lags = max(0, min(lags, n-1))
 	lrv := s0
 	for l := 1; l <= lags; l++ {
 		var g float64
@@ -45,3 +44,12 @@ func KPSSLevel(x []float64) float64 {
 // KPSSLevelCritical5 is the 5% asymptotic critical value of the level
 // statistic, 0.463 (Kwiatkowski et al. 1992, Table 1).
 const KPSSLevelCritical5 = 0.463
+
+// KPSSLags is the lag truncation ⌊3√n/13⌋ recommended by Hwang & Schmidt
+// (1996, J. Econometrics 70) for the KPSS test. It keeps the size of the
+// test close to nominal with fewer lags than the ⌊4(n/100)^{1/4}⌋ rule of
+// Kwiatkowski et al., and so detects the need to difference more often in
+// short monthly series.
+func KPSSLags(n int) int {
+	return int(math.Floor(3 * math.Sqrt(float64(n)) / 13))
+}

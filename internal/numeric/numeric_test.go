@@ -207,7 +207,7 @@ func TestKPSSAgainstStatsmodels(t *testing.T) {
 			}
 			x = x[:len(x)-1]
 		}
-		if got := KPSSLevel(x); math.Abs(got-c.Statistic) > 1e-9*math.Max(1, c.Statistic) {
+		if got := KPSSLevel(x, c.Lags); math.Abs(got-c.Statistic) > 1e-9*math.Max(1, c.Statistic) {
 			t.Errorf("%s/%s: %v, statsmodels %v", c.Series, c.Transform, got, c.Statistic)
 		}
 	}
@@ -237,5 +237,40 @@ func TestSTLAgainstR(t *testing.T) {
 	}
 	if fs := SeasonalStrength(s, r); !(fs > 0.9) {
 		t.Errorf("nottem seasonal strength %v, expected a strong seasonal pattern (> 0.9)", fs)
+	}
+}
+
+// TestStationaryCovMatchesLyapunov: the autocovariance route to the
+// initial state covariance solves the same equation as the doubling
+// solver, for an ARMA with seasonal structure.
+func TestStationaryCovMatchesLyapunov(t *testing.T) {
+	// (1 − 0.5B)(1 − 0.6B^4) and (1 + 0.3B)(1 − 0.4B^4), expanded.
+	phi := []float64{0.5, 0, 0, 0.6, -0.3}
+	theta := []float64{0.3, 0, 0, -0.4, -0.12}
+	var k ARMAKalman
+	if err := k.setup(phi, theta); err != nil {
+		t.Fatal(err)
+	}
+	r := k.r
+	got := append([]float64(nil), k.pp[:r*r]...)
+	tm := make([]float64, r*r)
+	q := make([]float64, r*r)
+	for i := 0; i < r; i++ {
+		tm[i*r] = k.phi[i]
+		if i+1 < r {
+			tm[i*r+i+1] = 1
+		}
+		for j := 0; j < r; j++ {
+			q[i*r+j] = k.rv[i] * k.rv[j]
+		}
+	}
+	want := make([]float64, r*r)
+	if err := Lyapunov(want, tm, q, r, make([]float64, 3*r*r)); err != nil {
+		t.Fatal(err)
+	}
+	for i := range want {
+		if math.Abs(got[i]-want[i]) > 1e-9*math.Max(1, math.Abs(want[i])) {
+			t.Fatalf("entry %d: %v, Lyapunov %v", i, got[i], want[i])
+		}
 	}
 }

@@ -14,3 +14,15 @@ func BenchmarkAirlineFixed(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkAutoSelect96 runs the automatic selection on 96 monthly values
+// (R datasets::co2, 1990–1997) (target: ≤ 40 ms per series on one core).
+func BenchmarkAutoSelect96(b *testing.B) {
+	y := loadSeries(b, "co2w")
+	b.ReportAllocs()
+	for b.Loop() {
+		if _, err := Auto(y, AutoOptions{Period: 12}); err != nil {
+			b.Fatal(err)
+		}
+	}
+}

@@ -1,0 +1,148 @@
+package arima
+
+import (
+	"math"
+	"testing"
+
+	"trueup/models"
+)
+
+// TestAutoAirline: on log Series G the automatic search should take one
+// regular and one seasonal difference (the differencing Box, Jenkins &
+// Reinsel use for this series) and find a model at least as good by AICc
+// as the airline model they fit.
+func TestAutoAirline(t *testing.T) {
+	y := loadSeries(t, "airpass")
+	f, err := Auto(y, AutoOptions{Period: 12, Log: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := f.Form()
+	if s.D != 1 || s.SD != 1 {
+		t.Fatalf("chose %s, want d=1, D=1", f.Spec())
+	}
+	air, err := FitOrder(y, Spec{Q: 1, D: 1, SQ: 1, SD: 1, Period: 12, Log: true}, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if f.Criteria().AICc > air.Criteria().AICc+1e-6 {
+		t.Errorf("chose %s with AICc %.3f, worse than the airline model's %.3f", f.Spec(), f.Criteria().AICc, air.Criteria().AICc)
+	}
+	t.Logf("chose %s AICc %.3f (airline %.3f)", f.Spec(), f.Criteria().AICc, air.Criteria().AICc)
+}
+
+// TestAutoNonSeasonal: the Nile flows (R datasets::Nile) are not
+// stationary by KPSS (statistic 0.97 > 0.463, see kpss.json), so d = 1.
+func TestAutoNonSeasonal(t *testing.T) {
+	f, err := Auto(loadSeries(t, "nile"), AutoOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if f.Form().D != 1 || f.Form().Period > 1 {
+		t.Errorf("chose %s, want d=1, non-seasonal", f.Spec())
+	}
+	// lh is stationary by KPSS (0.29 < 0.463): d = 0, with a mean.
+	g, err := Auto(loadSeries(t, "lh"), AutoOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if g.Form().D != 0 || !g.Form().Constant {
+		t.Errorf("lh: chose %s, want d=0 with a mean", g.Spec())
+	}
+}
+
+func checkFinite(t *testing.T, m models.Model, h int) {
+	t.Helper()
+	mean, v := m.Forecast(h)
+	for i := range mean {
+		if math.IsNaN(mean[i]) || math.IsInf(mean[i], 0) || math.IsNaN(v[i]) || math.IsInf(v[i], 0) || v[i] < 0 {
+			t.Fatalf("%s: forecast %d: mean %v var %v", m.Spec(), i+1, mean[i], v[i])
+		}
+	}
+	res := m.Residuals()
+	if len(res) != m.NObs() {
+		t.Fatalf("%s: %d residuals for %d observations", m.Spec(), len(res), m.NObs())
+	}
+	for i, r := range res {
+		if math.IsNaN(r) || math.IsInf(r, 0) {
+			t.Fatalf("%s: residual %d is %v", m.Spec(), i+1, r)
+		}
+	}
+	c := m.Criteria()
+	for _, x := range []float64{c.LogLik, c.AIC, c.BIC, m.Sigma2()} {
+		if math.IsNaN(x) {
+			t.Fatalf("%s: NaN criterion", m.Spec())
+		}
+	}
+}
+
+// TestAutoRobust feeds the awkward series of the robustness list: no
+// panic, no NaN, a warning where a fallback was taken.
+func TestAutoRobust(t *testing.T) {
+	ramp := make([]float64, 40)
+	for i := range ramp {
+		ramp[i] = float64(i)
+	}
+	walk := make([]float64, 60)
+	x := 0.0
+	for i := range walk { // deterministic near-unit-root path
+		x = 0.999*x + math.Sin(float64(i)*1.7)
+		walk[i] = x
+	}
+	cases := map[string]struct {
+		y      []float64
+		period int
+		warn   bool
+	}{
+		"constant":      {[]float64{5, 5, 5, 5, 5, 5, 5, 5}, 4, true},
+		"all zero":      {make([]float64, 30), 12, true},
+		"short":         {[]float64{1, 3, 2, 5, 4, 6, 5, 8, 7, 9}, 12, true},
+		"single":        {[]float64{3}, 1, true},
+		"ramp":          {ramp, 1, false},
+		"near unit":     {walk, 1, false},
+		"negative":      {[]float64{-3, 2, -1, 4, -2, 5, -3, 6, -1, 3, -2, 4, -4, 2, -1, 5}, 4, false},
+		"two seasons":   {[]float64{1, 5, 2, 8, 1.5, 5.5, 2.2, 8.1}, 4, false},
+		"spike of zero": {[]float64{0, 0, 0, 0, 0, 0, 0, 10, 0, 0, 0, 0, 0, 0}, 1, false},
+	}
+	for name, c := range cases {
+		t.Run(name, func(t *testing.T) {
+			m, err := Family{}.Fit(c.y, models.FitOptions{Period: c.period})
+			if err != nil {
+				t.Fatalf("error: %v", err)
+			}
+			checkFinite(t, m, 8)
+			if c.warn && m.Warning() == "" {
+				t.Errorf("%s: expected a warning", m.Spec())
+			}
+			t.Logf("%s: %s", m.Spec(), m.Warning())
+		})
+	}
+}
+
+// TestLogForecastMoments: with the log transform the response-scale mean
+// is the lognormal mean, above the back-transformed median, and the
+// Interval is the exponential of the log-scale interval.
+func TestLogForecastMoments(t *testing.T) {
+	y := loadSeries(t, "airpass")
+	f, err := FitOrder(y, Spec{Q: 1, D: 1, SQ: 1, SD: 1, Period: 12, Log: true}, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	mu, v := f.forecastTransformed(12)
+	mean, _ := f.Forecast(12)
+	lo, hi := f.Interval(12, 0.95)
+	for k := range mu {
+		if math.Abs(mean[k]-math.Exp(mu[k]+v[k]/2)) > 1e-9*mean[k] {
+			t.Fatalf("h=%d: mean %v", k+1, mean[k])
+		}
+		if math.Abs(lo[k]-math.Exp(mu[k]-1.959963984540054*math.Sqrt(v[k]))) > 1e-9*lo[k] || !(hi[k] > mean[k]) {
+			t.Fatalf("h=%d: interval [%v, %v]", k+1, lo[k], hi[k])
+		}
+	}
+	// Residuals on the response scale: for the first d+mD = 13 values 0,
+	// then y_t minus the back-transformed one-step prediction.
+	r := f.Residuals()
+	if r[0] != 0 || r[12] != 0 || r[13] == 0 {
+		t.Fatalf("residuals %v", r[:15])
+	}
+}
