@@ -33,6 +33,7 @@ type ARMAKalman struct {
 	phi, rv         []float64
 	a, anew, pp, pn []float64
 	u0, c, cov      []float64
+	chan3           []float64
 	tm, rr, lyWork  []float64
 }
 
@@ -43,7 +44,11 @@ var ErrBadVariance = errors.New("numeric: Kalman filter innovation variance is n
 // StateDim returns max(p, q+1), the state dimension for ARMA(p, q).
 func StateDim(p, q int) int { return max(p, q+1) }
 
-func (k *ARMAKalman) setup(phi, theta []float64) error {
+func (k *ARMAKalman) setup(phi, theta []float64) error { return k.setupInit(phi, theta, false) }
+
+// setupInit sizes the workspace and writes the stationary covariance into
+// k.pp; with rowOnly, only its first row and column are guaranteed.
+func (k *ARMAKalman) setupInit(phi, theta []float64, rowOnly bool) error {
 	r := StateDim(len(phi), len(theta))
 	k.r = r
 	grow := func(s []float64, n int) []float64 {
@@ -75,6 +80,9 @@ func (k *ARMAKalman) setup(phi, theta []float64) error {
 		// Pure moving average: α_{i,t} = Σ_k R_{i+k} ε_{t−k}, so
 		// P0[i][j] = Σ_k R_{i+k} R_{j+k}.
 		for i := 0; i < r; i++ {
+			if rowOnly && i > 0 {
+				break
+			}
 			for j := i; j < r; j++ {
 				var s float64
 				for m := 0; i+m < r && j+m < r; m++ {
@@ -85,7 +93,7 @@ func (k *ARMAKalman) setup(phi, theta []float64) error {
 		}
 		return nil
 	}
-	if k.stationaryCov(len(phi), len(theta)) {
+	if k.stationaryCov(len(phi), len(theta), rowOnly) {
 		return nil
 	}
 	// The autocovariance system was singular to working precision: solve
@@ -114,7 +122,7 @@ func (k *ARMAKalman) setup(phi, theta []float64) error {
 // gives every other entry along the diagonals:
 // P_{i+1,j+1} = P_ij − φ_iφ_j P_00 − φ_i P_{0,j+1} − φ_j P_{0,i+1} − R_iR_j.
 // It returns false when the system is numerically singular.
-func (k *ARMAKalman) stationaryCov(p, q int) bool {
+func (k *ARMAKalman) stationaryCov(p, q int, rowOnly bool) bool {
 	r := k.r
 	ph, rv := k.phi, k.rv
 	need := (r + 1) + r + (p+1)*(p+2)
@@ -187,6 +195,9 @@ func (k *ARMAKalman) stationaryCov(p, q int) bool {
 		pp[j*r] = s
 	}
 	pp[0] = gamma[0]
+	if rowOnly {
+		return true
+	}
 	p00 := gamma[0]
 	for i := 0; i+1 < r; i++ {
 		for j := i; j+1 < r; j++ {
@@ -366,6 +377,90 @@ func (k *ARMAKalman) predictCov(pn, pp []float64, invF float64) float64 {
 		}
 	}
 	return diff
+}
+
+// LogLik returns the same ssq and sumLog as Filter, without residuals or
+// final state, by the Chandrasekhar recursions (Morf, Sidhu & Kailath 1974,
+// IEEE Trans. Automatic Control 19(4); for ARMA likelihoods Mélard 1984,
+// Applied Statistics 33(1), algorithm AS 197). With the stationary initial
+// covariance the change P_{t+1} − P_t has rank one, P_{t+1} − P_t =
+// L_t M_t L_tᵀ, so F_t, the gain K_t = T P_t Z and L_t, M_t are updated in
+// O(r) per step instead of the O(r²) covariance update:
+//
+//	F_{t+1} = F_t + M_t (L_t)_1²,  K_{t+1} = K_t + M_t (L_t)_1 · T L_t,
+//	L_{t+1} = T L_t − K_t (L_t)_1 / F_t,  M_{t+1} = M_t − M_t² (L_t)_1² / F_{t+1},
+//
+// started from K_0 = T P_0 Z, L_0 = K_0, M_0 = −1/F_0.
+func (k *ARMAKalman) LogLik(w, phi, theta []float64) (ssq, sumLog float64, err error) {
+	if err := k.setupInit(phi, theta, true); err != nil {
+		return 0, 0, err
+	}
+	r := k.r
+	if cap(k.chan3) < 3*r {
+		k.chan3 = make([]float64, 3*r)
+	}
+	a := k.a[:r]
+	kg, l, tl := k.chan3[:r], k.chan3[r:2*r], k.chan3[2*r:3*r]
+	ph, pp := k.phi[:r], k.pp
+	// K_0 = T·P_0[:,0]; first column equals the first row.
+	tmul := func(dst, x []float64) {
+		x0 := x[0]
+		for i := 0; i < r-1; i++ {
+			dst[i] = ph[i]*x0 + x[i+1]
+		}
+		dst[r-1] = ph[r-1] * x0
+	}
+	col := k.anew[:r]
+	copy(col, pp[:r])
+	tmul(kg, col)
+	copy(l, kg)
+	f := pp[0]
+	if !(f > 0) || math.IsInf(f, 0) {
+		return 0, 0, ErrBadVariance
+	}
+	m := -1 / f
+	steady := false
+	for _, wt := range w {
+		if !(f > 0) || math.IsInf(f, 0) {
+			return 0, 0, ErrBadVariance
+		}
+		v := wt - a[0]
+		ssq += v * v / f
+		sumLog += math.Log(f)
+		// a ← T a + K v / F.
+		g := v / f
+		a0 := a[0]
+		for i := 0; i < r-1; i++ {
+			a[i] = ph[i]*a0 + a[i+1] + kg[i]*g
+		}
+		a[r-1] = ph[r-1]*a0 + kg[r-1]*g
+		if steady {
+			continue
+		}
+		hl := l[0]
+		fNext := f + m*hl*hl
+		tmul(tl, l)
+		mh := m * hl
+		c := hl / f
+		for i := 0; i < r; i++ {
+			ki := kg[i]
+			kg[i] = ki + mh*tl[i]
+			l[i] = tl[i] - ki*c
+		}
+		if fNext <= 0 {
+			return 0, 0, ErrBadVariance
+		}
+		m -= m * m * hl * hl / fNext
+		if math.Abs(fNext-f) < 1e-14*f && math.Abs(mh*hl) < 1e-14*f {
+			var big float64
+			for _, x := range l {
+				big = math.Max(big, math.Abs(x))
+			}
+			steady = big*big*math.Abs(m) < 1e-14*f
+		}
+		f = fNext
+	}
+	return ssq, sumLog, nil
 }
 
 // State returns the predicted state mean and covariance (row-major r×r,

@@ -274,3 +274,32 @@ func TestStationaryCovMatchesLyapunov(t *testing.T) {
 		}
 	}
 }
+
+// TestLogLikMatchesFilter: the Chandrasekhar recursions give the same
+// likelihood as the full Kalman covariance update.
+func TestLogLikMatchesFilter(t *testing.T) {
+	w := loadSeries(t, "lh")
+	for i := range w {
+		w[i] -= 2.4
+	}
+	cases := []struct{ phi, theta []float64 }{
+		{[]float64{0.6}, nil},
+		{nil, []float64{-0.5, 0.2}},
+		{[]float64{0.5, 0, 0, 0.6, -0.3}, []float64{0.3, 0, 0, -0.4, -0.12}},
+		{[]float64{0.99}, []float64{-0.98}},
+	}
+	var k ARMAKalman
+	for _, c := range cases {
+		s1, l1, err := k.Filter(w, c.phi, c.theta, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		s2, l2, err := k.LogLik(w, c.phi, c.theta)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if math.Abs(s1-s2) > 1e-9*s1 || math.Abs(l1-l2) > 1e-9*math.Max(1, math.Abs(l1)) {
+			t.Errorf("%v %v: filter (%v, %v), Chandrasekhar (%v, %v)", c.phi, c.theta, s1, l1, s2, l2)
+		}
+	}
+}

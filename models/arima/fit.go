@@ -374,7 +374,7 @@ func (pr *problem) mlObjective(x []float64) float64 {
 	pr.evals++
 	pr.unpack(x)
 	pr.errorsSeries()
-	ssq, sumLog, err := pr.kal.Filter(pr.u, pr.phi, pr.theta, nil)
+	ssq, sumLog, err := pr.kal.LogLik(pr.u, pr.phi, pr.theta)
 	n := float64(len(pr.u))
 	if err != nil || !(ssq > 0) || math.IsInf(ssq, 0) || math.IsNaN(sumLog) {
 		return 1e10
