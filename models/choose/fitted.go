@@ -1,0 +1,104 @@
+package choose
+
+import (
+	"fmt"
+	"math"
+	"strings"
+
+	"trueup/models"
+)
+
+// Fitted is the refitted winner of the automatic choice. It behaves as the
+// winning model (Family and Spec are the winner's) and adds the
+// validation record.
+type Fitted struct {
+	models.Model
+	scores  []Score
+	winner  int // index into scores; −1 when chosen without validation
+	origins int
+	horizon int
+	note    string
+}
+
+var _ models.Model = (*Fitted)(nil)
+
+// Winner returns the chosen model.
+func (f *Fitted) Winner() models.Model { return f.Model }
+
+// Scores returns every candidate's validation score.
+func (f *Fitted) Scores() []Score { return append([]Score(nil), f.scores...) }
+
+// Reason says which candidate won and why, for people reading the output.
+func (f *Fitted) Reason() string {
+	if f.winner < 0 {
+		return f.note
+	}
+	w := f.scores[f.winner]
+	var others []string
+	for i, s := range f.scores {
+		if i == f.winner {
+			continue
+		}
+		if math.IsInf(s.MASE, 1) {
+			others = append(others, s.Family+" failed")
+		} else {
+			others = append(others, fmt.Sprintf("%s %.3f", s.Family, s.MASE))
+		}
+	}
+	return fmt.Sprintf("%s had the lowest validation MASE, %.3f over %d origin(s) at horizon %d (others: %s)",
+		w.Family, w.MASE, f.origins, f.horizon, strings.Join(others, ", "))
+}
+
+// Params implements models.Model: the winner's parameters plus
+// "candidates" (family, spec, mase — null when the candidate failed — and
+// error), "winner", "reason", "origins" and "validation_horizon".
+func (f *Fitted) Params() map[string]any {
+	inner := f.Model.Params()
+	out := make(map[string]any, len(inner)+5)
+	for k, v := range inner {
+		out[k] = v
+	}
+	cands := make([]map[string]any, len(f.scores))
+	for i, s := range f.scores {
+		var m any
+		if !math.IsInf(s.MASE, 1) {
+			m = s.MASE
+		}
+		c := map[string]any{"family": s.Family, "spec": s.Spec, "mase": m}
+		if s.Err != "" {
+			c["error"] = s.Err
+		}
+		cands[i] = c
+	}
+	out["candidates"] = cands
+	out["winner"] = f.Model.Family()
+	out["reason"] = f.Reason()
+	out["origins"] = f.origins
+	out["validation_horizon"] = f.horizon
+	return out
+}
+
+// Interval passes through the winner's own intervals when it has them, and
+// otherwise gives the Gaussian mean ± z·sd.
+func (f *Fitted) Interval(h int, level float64) (lo, hi []float64) {
+	if iv, ok := f.Model.(interface {
+		Interval(int, float64) ([]float64, []float64)
+	}); ok {
+		return iv.Interval(h, level)
+	}
+	if h <= 0 || !(level > 0 && level < 1) {
+		return []float64{}, []float64{}
+	}
+	mean, v := f.Model.Forecast(h)
+	z := math.Sqrt2 * math.Erfinv(level)
+	lo, hi = make([]float64, h), make([]float64, h)
+	for i := range mean {
+		s := math.Sqrt(v[i])
+		lo[i], hi[i] = mean[i]-z*s, mean[i]+z*s
+	}
+	return lo, hi
+}
+
+// Warning implements models.Model: fallbacks of the choice, then the
+// winner's own warning.
+func (f *Fitted) Warning() string { return join(f.note, f.Model.Warning()) }
