@@ -28,10 +28,10 @@ const (
 
 var benchOpt = ReadOptions{Time: "period", Value: "sales", Keys: []string{"store", "category", "item"}}
 
-// writeBenchParquet writes n rows (a multiple of benchSeries) of invented
-// sales in row groups of 1Mi rows: date32 period, text store, category
-// and item, float64 sales.
-func writeBenchParquet(tb testing.TB, path string, n int) {
+// writeBenchParquet writes n rows of invented sales in row groups of 1Mi
+// rows: date32 period, text store, category and item, float64 sales. With
+// dict false the text columns are stored plainly, not dictionary-encoded.
+func writeBenchParquet(tb testing.TB, path string, n int, dict bool) {
 	tb.Helper()
 	mem := memory.DefaultAllocator
 	sc := arrow.NewSchema([]arrow.Field{
@@ -46,7 +46,8 @@ func writeBenchParquet(tb testing.TB, path string, n int) {
 		tb.Fatal(err)
 	}
 	defer f.Close()
-	props := parquet.NewWriterProperties(parquet.WithCompression(compress.Codecs.Snappy), parquet.WithMaxRowGroupLength(1<<20))
+	props := parquet.NewWriterProperties(parquet.WithCompression(compress.Codecs.Snappy),
+		parquet.WithMaxRowGroupLength(1<<20), parquet.WithDictionaryDefault(dict))
 	fw, err := pqarrow.NewFileWriter(sc, f, props, pqarrow.DefaultWriterProps())
 	if err != nil {
 		tb.Fatal(err)
@@ -85,10 +86,16 @@ func names(prefix string, n int) []string {
 	return out
 }
 
-func BenchmarkReadParquet10M(b *testing.B) {
+func BenchmarkReadParquet10M(b *testing.B) { benchReadParquet(b, true) }
+
+// BenchmarkReadParquet10MPlain is the same read when the writer did not
+// dictionary-encode the text columns, so the reader must hash every key.
+func BenchmarkReadParquet10MPlain(b *testing.B) { benchReadParquet(b, false) }
+
+func benchReadParquet(b *testing.B, dict bool) {
 	const n = 10_000_000
 	path := filepath.Join(b.TempDir(), "sales.parquet")
-	writeBenchParquet(b, path, n)
+	writeBenchParquet(b, path, n, dict)
 	b.ResetTimer()
 	for b.Loop() {
 		r, err := Read(path, benchOpt)
