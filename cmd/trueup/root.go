@@ -34,6 +34,7 @@ they go into a plan.`,
 		newDemoCmd(),
 		newForecastCmd(),
 		newInspectCmd(),
+		newFitCmd(),
 	)
 	return root
 }
