@@ -34,7 +34,7 @@ type Config struct {
 
 	Horizon     int       // 0 = one seasonal cycle
 	Family      string    // "" = families.Default
-	Method      string    // "" = bottom-up
+	Method      string    // "" = DefaultMethod
 	Cov         string    // covariance for projection methods
 	At          string    // level for middle-out
 	Nonnegative bool      // non-negative reconciliation
@@ -95,7 +95,7 @@ func Run(cfg Config) (*Result, error) {
 		cfg.Family = families.Default
 	}
 	if cfg.Method == "" {
-		cfg.Method = "bottom-up"
+		cfg.Method = DefaultMethod
 	}
 	family, err := families.Registry().Lookup(cfg.Family)
 	if err != nil {
@@ -122,7 +122,7 @@ func Run(cfg Config) (*Result, error) {
 		keyCols = append(keyCols, c...)
 	}
 
-	rep := RunReport{Version: Version, Options: cfg.options(), Timings: map[string]float64{}}
+	rep := RunReport{Version: Version, Timings: map[string]float64{}}
 	stage := func(name string, start time.Time) { rep.Timings[name] = time.Since(start).Seconds() }
 
 	start := time.Now()
@@ -156,12 +156,14 @@ func Run(cfg Config) (*Result, error) {
 	if cfg.Horizon == 0 {
 		cfg.Horizon = period
 	}
+	rep.Options = cfg.options() // as resolved, defaults filled in
 	start = time.Now()
 	fits := fitNodes(history, family, models.FitOptions{Period: period, Horizon: cfg.Horizon}, cfg.Workers, cfg.Progress)
 	stage("fit", start)
 
 	start = time.Now()
 	prob := problem(st, history, fits)
+	prob.Nonnegative = cfg.Nonnegative
 	sol, err := method.Reconcile(prob)
 	if err != nil {
 		return nil, err
@@ -212,6 +214,11 @@ func problem(st *hierarchy.Structure, history [][]float64, fits []NodeFit) recon
 func quantile(level float64) float64 {
 	return distuv.UnitNormal.Quantile(0.5 + level/200)
 }
+
+// DefaultMethod is the reconciliation used when --method is not given:
+// MinT with the shrinkage covariance (Wickramasuriya, Athanasopoulos &
+// Hyndman 2019), the most accurate of the published projections.
+const DefaultMethod = "mint"
 
 // Version is the program version recorded in run.json.
 const Version = "0.1.0"

@@ -4,17 +4,26 @@ package families
 
 import (
 	"trueup/models"
+	"trueup/models/arima"
+	"trueup/models/choose"
+	"trueup/models/ets"
 	"trueup/models/naive"
 )
 
-// Default is the family used when --family is not given.
-const Default = "snaive"
+// Default is the family used when --family is not given: the per-node
+// choice among ARIMA, ETS, their combination and the naive benchmarks.
+const Default = choose.Name
 
 // Registry returns a registry holding every family.
 func Registry() *models.Registry {
 	r := &models.Registry{}
-	r.Register(naive.SeasonalNaive{})
-	r.Register(naive.Drift{})
+	snaive, drift := naive.SeasonalNaive{}, naive.Drift{}
+	arimaFam, etsFam := arima.Family{}, ets.Family{}
+	r.Register(choose.New(arimaFam, etsFam, snaive, drift, choose.Options{}))
+	r.Register(arimaFam)
+	r.Register(etsFam)
+	r.Register(snaive)
+	r.Register(drift)
 	r.Register(naive.LastValue{})
 	return r
 }
