@@ -138,7 +138,7 @@ func TestAutoOnAirPassengers(t *testing.T) {
 }
 
 func TestShortSeries(t *testing.T) {
-	y := series(t, "USAccDeaths")[:30]
+	y := series(t, "USAccDeaths")[:45]
 	m, err := newAuto().Fit(y, models.FitOptions{Period: 12, Horizon: 12})
 	if err != nil {
 		t.Fatal(err)
