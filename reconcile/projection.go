@@ -2,7 +2,9 @@ package reconcile
 
 import (
 	"math"
+	"sync"
 
+	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 
 	"trueup/hierarchy"
@@ -281,46 +283,43 @@ func (d *denseProjector) notes() map[string]float64 { return nil }
 
 // factorVariance returns var_hi = Σ_r (Σ_{j∈i} c_hj F_jr)², the diagonal
 // of S·C_h·F·Fᵀ·C_h·Sᵀ, for every node and step: O(nnz(S)·r) per step.
+// Steps are independent and shared between two goroutines.
 func factorVariance(st *hierarchy.Structure, c [][]float64, f *mat.Dense) [][]float64 {
 	n, m := st.S.Dims()
 	h := len(c[0])
 	_, r := f.Dims()
 	out := newRows(n, h)
-	fc := make([]float64, m*r)
-	acc := make([]float64, r)
 	raw := f.RawMatrix()
-	for k := 0; k < h; k++ {
+	step := func(k int, fc, acc []float64) {
 		for j := 0; j < m; j++ {
-			cj := c[j][k]
-			src := raw.Data[j*raw.Stride : j*raw.Stride+r]
-			dst := fc[j*r : (j+1)*r]
-			for q, v := range src {
-				dst[q] = cj * v
-			}
+			floats.ScaleTo(fc[j*r:(j+1)*r], c[j][k], raw.Data[j*raw.Stride:j*raw.Stride+r])
 		}
 		for i := 0; i < n; i++ {
 			row := st.S.Row(i)
-			if len(row) == 1 {
-				var v float64
-				for _, x := range fc[row[0]*r : (row[0]+1)*r] {
-					v += x * x
+			v := fc[row[0]*r : (row[0]+1)*r]
+			if len(row) > 1 {
+				copy(acc, v)
+				for _, j := range row[1:] {
+					floats.Add(acc, fc[j*r:(j+1)*r])
 				}
-				out[i][k] = v
-				continue
+				v = acc
 			}
-			clear(acc)
-			for _, j := range row {
-				for q, x := range fc[j*r : (j+1)*r] {
-					acc[q] += x
-				}
-			}
-			var v float64
-			for _, x := range acc {
-				v += x * x
-			}
-			out[i][k] = v
+			out[i][k] = floats.Dot(v, v)
 		}
 	}
+	const workers = 2
+	var wg sync.WaitGroup
+	for w := 0; w < workers; w++ {
+		wg.Add(1)
+		go func(w int) {
+			defer wg.Done()
+			fc, acc := make([]float64, m*r), make([]float64, r)
+			for k := w; k < h; k += workers {
+				step(k, fc, acc)
+			}
+		}(w)
+	}
+	wg.Wait()
 	return out
 }
 

@@ -7,6 +7,7 @@ import (
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 
 	"trueup/hierarchy"
@@ -35,9 +36,13 @@ type largeProjector struct {
 	n, m int
 	k    int            // aggregation constraints (nodes that are not bottom)
 	y    blas64.General // k × T, UcᵀU (nil rows when W is diagonal)
-	dq   []float64      // D0 = diag(UcᵀΔUc), the Jacobi part of the preconditioner
-	core *mat.Cholesky  // I + Yᵀ·D0⁻¹·Y
-	iter int            // most iterations any solve needed
+	// dq is D0 = diag(UcᵀΔUc), the diagonal part of the preconditioner;
+	// core is I + Yᵀ·D0⁻¹·Y. When D0 has zeros (sample covariance) core
+	// is nil and dq is the whole diagonal of Q (Jacobi).
+	dq   []float64
+	core *mat.Cholesky
+	iter int       // most iterations any solve needed
+	tmp  []float64 // k × r scratch of precond
 }
 
 func newLargeProjector(st *hierarchy.Structure, w *errCov) (*largeProjector, error) {
@@ -122,10 +127,7 @@ func (lp *largeProjector) ucMul(dst, z []float64, r int) {
 	for a := 0; a < k; a++ {
 		za := z[a*r : (a+1)*r]
 		for _, j := range lp.st.S.Row(a) {
-			d := dst[(k+j)*r : (k+j+1)*r]
-			for q, v := range za {
-				d[q] -= v
-			}
+			floats.Sub(dst[(k+j)*r:(k+j+1)*r], za)
 		}
 	}
 }
@@ -137,9 +139,7 @@ func (lp *largeProjector) ucTMul(dst, v []float64, r int) {
 	for a := 0; a < k; a++ {
 		d := dst[a*r : (a+1)*r]
 		for _, j := range lp.st.S.Row(a) {
-			for q, x := range v[(k+j)*r : (k+j+1)*r] {
-				d[q] -= x
-			}
+			floats.Sub(d, v[(k+j)*r:(k+j+1)*r])
 		}
 	}
 }
@@ -148,10 +148,7 @@ func (lp *largeProjector) ucTMul(dst, v []float64, r int) {
 func (lp *largeProjector) qMul(dst, z, scratch, small []float64, r int) {
 	lp.ucMul(scratch, z, r)
 	for i, d := range lp.w.Delta {
-		row := scratch[i*r : (i+1)*r]
-		for q := range row {
-			row[q] *= d
-		}
+		floats.Scale(d, scratch[i*r:(i+1)*r])
 	}
 	lp.ucTMul(dst, scratch, r)
 	if lp.y.Data != nil {
@@ -184,7 +181,7 @@ func (lp *largeProjector) precond(dst, v, small []float64, inv []float64, r int)
 	if err := lp.core.SolveTo(x, x); err != nil {
 		panic("reconcile: preconditioner solve: " + err.Error())
 	}
-	tmp := make([]float64, lp.k*r)
+	tmp := lp.tmp[:lp.k*r]
 	tm := blas64.General{Rows: lp.k, Cols: r, Stride: r, Data: tmp}
 	blas64.Gemm(blas.NoTrans, blas.NoTrans, 1, lp.y, blas64.General{Rows: T, Cols: r, Stride: r, Data: x.RawMatrix().Data}, 0, tm)
 	for a := 0; a < lp.k; a++ {
@@ -216,6 +213,7 @@ func (lp *largeProjector) solveQ(b []float64, r int, tol float64) ([]float64, er
 		T = lp.y.Cols
 	}
 	small := make([]float64, T*r)
+	lp.tmp = make([]float64, k*r)
 	inv := make([]float64, k)
 	for a := range inv {
 		inv[a] = 1 / lp.dq[a]
@@ -339,7 +337,7 @@ func (lp *largeProjector) apply(ym *mat.Dense, tol float64) (*mat.Dense, error) 
 
 // varianceTol is the relative residual of the solves behind variances:
 // they feed interval widths, where 1e-8 is far below the sampling error.
-const varianceTol = 1e-8
+const varianceTol = 1e-6
 
 // errorFactor returns F = [G·U, G·diag(√Δ)·Z/√N] with Z an n × N matrix of
 // seeded standard normal draws, so F·Fᵀ estimates G·W·Gᵀ: the rank-T part
