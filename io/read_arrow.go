@@ -23,32 +23,70 @@ const batchRows = 1 << 16
 // Dictionary-encoded text columns are read as Arrow dictionaries, so each
 // distinct key or period label of a column chunk is looked up once, not
 // once per row.
-func readParquet(data []byte, opt ReadOptions) (rows *Rows, err error) {
-	defer recoverCorrupt("Parquet", &rows, &err)
-	pf, err := file.NewParquetReader(bytes.NewReader(data))
+func readParquet(data []byte, opt ReadOptions) (*Rows, error) {
+	var (
+		pf      *file.Reader
+		rr      pqarrow.RecordReader
+		columns []string
+	)
+	err := decode("Parquet", func() (err error) {
+		pf, rr, columns, err = openParquet(data, opt)
+		return err
+	})
 	if err != nil {
-		return nil, inputerr.New("not a valid Parquet file: %v", err)
+		return nil, err
 	}
 	defer pf.Close()
+	defer rr.Release()
+	c := newCollector(columns, opt, int(pf.NumRows()))
+	for {
+		var more bool
+		if err := decode("Parquet", func() error { more = rr.Next(); return nil }); err != nil {
+			return nil, err
+		}
+		if !more {
+			break
+		}
+		if err := c.add(rr.RecordBatch()); err != nil {
+			return nil, err
+		}
+	}
+	if err := rr.Err(); err != nil {
+		return nil, inputerr.New("corrupt Parquet data after row %d: %v", len(c.rows.Values), err)
+	}
+	return c.finish()
+}
+
+// openParquet checks the schema and returns a reader of the period, value
+// and key columns with the names of all columns.
+func openParquet(data []byte, opt ReadOptions) (*file.Reader, pqarrow.RecordReader, []string, error) {
+	pf, err := file.NewParquetReader(bytes.NewReader(data))
+	if err != nil {
+		return nil, nil, nil, inputerr.New("not a valid Parquet file: %v", err)
+	}
+	fail := func(err error) (*file.Reader, pqarrow.RecordReader, []string, error) {
+		pf.Close()
+		return nil, nil, nil, err
+	}
 	var props pqarrow.ArrowReadProperties
 	fr, err := pqarrow.NewFileReader(pf, props, memory.DefaultAllocator)
 	if err != nil {
-		return nil, inputerr.New("cannot read the Parquet schema: %v", err)
+		return fail(inputerr.New("cannot read the Parquet schema: %v", err))
 	}
 	sc, err := fr.Schema()
 	if err != nil {
-		return nil, inputerr.New("cannot read the Parquet schema: %v", err)
+		return fail(inputerr.New("cannot read the Parquet schema: %v", err))
 	}
 	columns := fieldNames(sc)
 	ti, vi, ki, err := findColumns(columns, opt)
 	if err != nil {
-		return nil, err
+		return fail(err)
 	}
 	var leaves []int
 	for _, f := range append([]int{ti, vi}, ki...) {
 		sf := fr.Manifest.Fields[f]
 		if !sf.IsLeaf() {
-			return nil, inputerr.New("column %q is nested (%s); trueup reads flat columns", columns[f], sf.Field.Type)
+			return fail(inputerr.New("column %q is nested (%s); trueup reads flat columns", columns[f], sf.Field.Type))
 		}
 		leaves = append(leaves, sf.ColIndex)
 		if f == vi {
@@ -61,31 +99,20 @@ func readParquet(data []byte, opt ReadOptions) (rows *Rows, err error) {
 			}
 		}
 	}
+	if pf.NumRows() == 0 {
+		return fail(inputerr.New("no data rows"))
+	}
 	props.BatchSize = batchRows
 	// The read-as-dictionary choice shapes the schema, so it takes a
 	// second reader built with the final properties.
 	if fr, err = pqarrow.NewFileReader(pf, props, memory.DefaultAllocator); err != nil {
-		return nil, inputerr.New("cannot read the Parquet schema: %v", err)
-	}
-	n := pf.NumRows()
-	if n == 0 {
-		return nil, inputerr.New("no data rows")
+		return fail(inputerr.New("cannot read the Parquet schema: %v", err))
 	}
 	rr, err := fr.GetRecordReader(context.Background(), leaves, nil)
 	if err != nil {
-		return nil, inputerr.New("cannot read the Parquet columns: %v", err)
+		return fail(inputerr.New("cannot read the Parquet columns: %v", err))
 	}
-	defer rr.Release()
-	c := newCollector(columns, opt, int(n))
-	for rr.Next() {
-		if err := c.add(rr.RecordBatch()); err != nil {
-			return nil, err
-		}
-	}
-	if err := rr.Err(); err != nil {
-		return nil, inputerr.New("corrupt Parquet data after row %d: %v", len(c.rows.Values), err)
-	}
-	return c.finish()
+	return pf, rr, columns, nil
 }
 
 // dictionaryEncoded reports whether every chunk of the leaf column has a
@@ -105,11 +132,17 @@ func dictionaryEncoded(pf *file.Reader, leaf int) bool {
 }
 
 // readIPC reads an Arrow IPC file (the random-access file format).
-func readIPC(data []byte, opt ReadOptions) (rows *Rows, err error) {
-	defer recoverCorrupt("Arrow IPC", &rows, &err)
-	r, err := ipc.NewFileReader(bytes.NewReader(data), ipc.WithAllocator(memory.DefaultAllocator))
+func readIPC(data []byte, opt ReadOptions) (*Rows, error) {
+	var r *ipc.FileReader
+	err := decode("Arrow IPC", func() (err error) {
+		r, err = ipc.NewFileReader(bytes.NewReader(data), ipc.WithAllocator(memory.DefaultAllocator))
+		if err != nil {
+			return inputerr.New("not a valid Arrow IPC file: %v", err)
+		}
+		return nil
+	})
 	if err != nil {
-		return nil, inputerr.New("not a valid Arrow IPC file: %v", err)
+		return nil, err
 	}
 	defer r.Close()
 	columns := fieldNames(r.Schema())
@@ -118,9 +151,15 @@ func readIPC(data []byte, opt ReadOptions) (rows *Rows, err error) {
 	}
 	c := newCollector(columns, opt, 0)
 	for i := 0; i < r.NumRecords(); i++ {
-		rec, err := r.RecordBatch(i)
+		var rec arrow.RecordBatch
+		err := decode("Arrow IPC", func() (err error) {
+			if rec, err = r.RecordBatch(i); err != nil {
+				return inputerr.New("corrupt Arrow IPC record batch %d: %v", i, err)
+			}
+			return nil
+		})
 		if err != nil {
-			return nil, inputerr.New("corrupt Arrow IPC record batch %d: %v", i, err)
+			return nil, err
 		}
 		if err := c.add(rec); err != nil {
 			return nil, err
@@ -129,13 +168,16 @@ func readIPC(data []byte, opt ReadOptions) (rows *Rows, err error) {
 	return c.finish()
 }
 
-// recoverCorrupt turns a panic inside the Arrow decoders, which a damaged
-// file can provoke, into an input error naming the format.
-func recoverCorrupt(format string, rows **Rows, err *error) {
-	if r := recover(); r != nil {
-		*rows = nil
-		*err = inputerr.New("not a readable %s file (the decoder failed: %v)", format, r)
-	}
+// decode runs a call into the Arrow or Parquet decoders, turning a panic,
+// which a damaged file can provoke, into an input error naming the format.
+// trueup's own code runs outside decode, so its bugs still panic.
+func decode(format string, f func() error) (err error) {
+	defer func() {
+		if r := recover(); r != nil {
+			err = inputerr.New("not a readable %s file (the decoder failed: %v)", format, r)
+		}
+	}()
+	return f()
 }
 
 func fieldNames(sc *arrow.Schema) []string {
@@ -178,7 +220,7 @@ func (c *collector) add(rec arrow.RecordBatch) error {
 			if idx := sc.FieldIndices(name); len(idx) > 0 {
 				return idx[0]
 			}
-			panic("tableio: column " + name + " missing from record batch")
+			panic("tableio: column " + name + " missing from record batch") // findColumns checked the schema
 		}
 		c.ti, c.vi = pos(c.opt.Time), pos(c.opt.Value)
 		c.ki = make([]int, len(c.opt.Keys))

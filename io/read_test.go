@@ -483,3 +483,52 @@ func TestReadBadInput(t *testing.T) {
 		})
 	}
 }
+
+// A table trueup wrote (text periods and keys, float values) reads back
+// as input in each format.
+func TestReadWhatWriteTableWrote(t *testing.T) {
+	tab := &Table{Columns: []Column{
+		{Name: "period", Type: String, Strings: []string{"2024-Q1", "2024-Q2", "2024-Q1"}},
+		{Name: "store", Type: String, Strings: []string{"North 1", "North 1", "South 2"}},
+		{Name: "units", Type: Int64, Ints: []int64{3, 4, 5}},
+		{Name: "sales", Type: Float64, Floats: []float64{1.5, 2.25, 1e6}},
+	}}
+	for _, f := range []Format{Parquet, CSV, Arrow} {
+		path := filepath.Join(t.TempDir(), "in"+f.Ext())
+		if err := WriteTable(path, tab, f); err != nil {
+			t.Fatal(err)
+		}
+		for _, value := range []string{"sales", "units"} {
+			r, err := Read(path, ReadOptions{Time: "period", Value: value, Keys: []string{"store"}})
+			if err != nil {
+				t.Fatalf("%s: %v", f, err)
+			}
+			want := map[string][]float64{"sales": {1.5, 2.25, 1e6}, "units": {3, 4, 5}}[value]
+			if !reflect.DeepEqual(r.Values, want) || !reflect.DeepEqual(periodsOf(r.Periods), []string{"2024-Q1", "2024-Q2", "2024-Q1"}) ||
+				!reflect.DeepEqual(keysOf(r, 0), []string{"North 1", "North 1", "South 2"}) {
+				t.Errorf("%s %s: values %v periods %v keys %q", f, value, r.Values, periodsOf(r.Periods), keysOf(r, 0))
+			}
+		}
+	}
+}
+
+func TestReadTableBadInput(t *testing.T) {
+	cases := []struct {
+		path func(t *testing.T) string
+		want string
+	}{
+		{func(t *testing.T) string { return filepath.Join(t.TempDir(), "gone.parquet") }, "no such file"},
+		{func(t *testing.T) string { return writeFile(t, "g.parquet", "not parquet at all") }, "not a valid Parquet file"},
+		{func(t *testing.T) string { return writeFile(t, "g.arrow", "not arrow at all") }, "not a valid Arrow IPC file"},
+		{func(t *testing.T) string { return writeFile(t, "e.csv", "") }, "the file is empty"},
+		{func(t *testing.T) string { return writeFile(t, "r.csv", "a,b\n1\n") }, "wrong number of fields"},
+		{func(t *testing.T) string { return writeFile(t, "x.json", "{}") }, "cannot tell the format"},
+	}
+	for _, c := range cases {
+		path := c.path(t)
+		_, err := ReadTable(path, "")
+		if !inputerr.Is(err) || !strings.Contains(err.Error(), c.want) || !strings.Contains(err.Error(), filepath.Base(path)) {
+			t.Errorf("ReadTable(%s) error %v, want an input error naming the file and saying %q", filepath.Base(path), err, c.want)
+		}
+	}
+}

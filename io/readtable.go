@@ -115,18 +115,20 @@ func setNull(c *Column, i, n int) {
 	}
 }
 
-func readTableParquet(data []byte) (t *Table, err error) {
-	defer func() {
-		if r := recover(); r != nil {
-			t, err = nil, inputerr.New("not a readable Parquet file (the decoder failed: %v)", r)
+func readTableParquet(data []byte) (*Table, error) {
+	var tbl arrow.Table
+	err := decode("Parquet", func() (err error) {
+		tbl, err = pqarrow.ReadTable(context.Background(), bytes.NewReader(data), nil, pqarrow.ArrowReadProperties{}, memory.DefaultAllocator)
+		if err != nil {
+			return inputerr.New("not a valid Parquet file: %v", err)
 		}
-	}()
-	tbl, err := pqarrow.ReadTable(context.Background(), bytes.NewReader(data), nil, pqarrow.ArrowReadProperties{}, memory.DefaultAllocator)
+		return nil
+	})
 	if err != nil {
-		return nil, inputerr.New("not a valid Parquet file: %v", err)
+		return nil, err
 	}
 	defer tbl.Release()
-	t = &Table{}
+	t := &Table{}
 	for j := 0; j < int(tbl.NumCols()); j++ {
 		col := tbl.Column(j)
 		c := Column{Name: col.Name()}
@@ -138,31 +140,38 @@ func readTableParquet(data []byte) (t *Table, err error) {
 	return t, nil
 }
 
-func readTableIPC(data []byte) (t *Table, err error) {
-	defer func() {
-		if r := recover(); r != nil {
-			t, err = nil, inputerr.New("not a readable Arrow IPC file (the decoder failed: %v)", r)
-		}
-	}()
-	r, err := ipc.NewFileReader(bytes.NewReader(data), ipc.WithAllocator(memory.DefaultAllocator))
-	if err != nil {
-		return nil, inputerr.New("not a valid Arrow IPC file: %v", err)
-	}
-	defer r.Close()
-	sc := r.Schema()
-	chunks := make([][]arrow.Array, sc.NumFields())
-	n := 0
-	for i := 0; i < r.NumRecords(); i++ {
-		rec, err := r.RecordBatch(i)
+func readTableIPC(data []byte) (*Table, error) {
+	var (
+		sc     *arrow.Schema
+		chunks [][]arrow.Array
+		n      int
+	)
+	err := decode("Arrow IPC", func() error {
+		r, err := ipc.NewFileReader(bytes.NewReader(data), ipc.WithAllocator(memory.DefaultAllocator))
 		if err != nil {
-			return nil, inputerr.New("corrupt Arrow IPC record batch %d: %v", i, err)
+			return inputerr.New("not a valid Arrow IPC file: %v", err)
 		}
-		for j := range chunks {
-			chunks[j] = append(chunks[j], rec.Column(j))
+		defer r.Close()
+		sc = r.Schema()
+		chunks = make([][]arrow.Array, sc.NumFields())
+		for i := 0; i < r.NumRecords(); i++ {
+			rec, err := r.RecordBatch(i)
+			if err != nil {
+				return inputerr.New("corrupt Arrow IPC record batch %d: %v", i, err)
+			}
+			for j := range chunks {
+				a := rec.Column(j)
+				a.Retain() // the reader releases rec at the next call or Close
+				chunks[j] = append(chunks[j], a)
+			}
+			n += int(rec.NumRows())
 		}
-		n += int(rec.NumRows())
+		return nil
+	})
+	if err != nil {
+		return nil, err
 	}
-	t = &Table{}
+	t := &Table{}
 	for j, f := range sc.Fields() {
 		c := Column{Name: f.Name}
 		if err := fromChunks(&c, chunks[j], n); err != nil {
