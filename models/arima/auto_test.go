@@ -4,6 +4,7 @@ import (
 	"math"
 	"testing"
 
+	"trueup/internal/inputerr"
 	"trueup/models"
 )
 
@@ -144,5 +145,51 @@ func TestLogForecastMoments(t *testing.T) {
 	r := f.Residuals()
 	if r[0] != 0 || r[12] != 0 || r[13] == 0 {
 		t.Fatalf("residuals %v", r[:15])
+	}
+}
+
+// TestAutoFourier: periods above 24 use Fourier pairs, never seasonal ARMA
+// terms. nottem (R datasets, monthly) is fed with a pretended period of 36
+// only to take that path; the check is on the form and finiteness.
+func TestAutoFourier(t *testing.T) {
+	y := loadSeries(t, "nottem")
+	f, err := Auto(y, AutoOptions{Period: 36})
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := f.Form()
+	if s.SP != 0 || s.SQ != 0 || s.SD != 0 || s.Fourier < 1 {
+		t.Errorf("chose %s, want Fourier terms only", f.Spec())
+	}
+	checkFinite(t, f, 40)
+}
+
+// TestFitOrderAwkward: fixed orders that are hard to estimate — AR and MA
+// roots that cancel on white-noise-like data, over-differencing, a model
+// too large for the series — give a finite fit or an input error, never a
+// panic or NaN.
+func TestFitOrderAwkward(t *testing.T) {
+	lh := loadSeries(t, "lh")
+	nile := loadSeries(t, "nile")
+	cases := []struct {
+		y    []float64
+		spec Spec
+	}{
+		{lh, Spec{P: 2, Q: 2, Constant: true}},
+		{lh, Spec{P: 1, Q: 1, D: 2}},
+		{nile, Spec{P: 3, Q: 3, D: 1, Constant: true}},
+		{lh[:10], Spec{P: 2, Q: 2, SP: 1, SD: 1, SQ: 1, Period: 4}},
+		{[]float64{1, 2}, Spec{P: 1}},
+	}
+	for _, c := range cases {
+		f, err := FitOrder(c.y, c.spec, Options{})
+		if err != nil {
+			t.Logf("%s: %v", c.spec, err)
+			if !inputerr.Is(err) {
+				t.Errorf("%s: non-input error %v", c.spec, err)
+			}
+			continue
+		}
+		checkFinite(t, f, 12)
 	}
 }

@@ -28,6 +28,8 @@ type refCase struct {
 	SAR           []float64 `json:"sar"`
 	SMA           []float64 `json:"sma"`
 	Intercept     *float64  `json:"intercept"`
+	FourierK      int       `json:"fourier_k"`
+	Fourier       []float64 `json:"fourier"`
 	Sigma2        float64   `json:"sigma2"`
 	LogLik        float64   `json:"loglik"`
 	Forecast      []float64 `json:"forecast"`
@@ -72,7 +74,7 @@ func loadCases(t testing.TB) []refCase {
 func (c refCase) spec() Spec {
 	return Spec{P: c.Order[0], D: c.Order[1], Q: c.Order[2],
 		SP: c.SeasonalOrder[0], SD: c.SeasonalOrder[1], SQ: c.SeasonalOrder[2],
-		Period: c.Period, Constant: c.Constant, Log: c.Log}
+		Period: c.Period, Constant: c.Constant, Log: c.Log, Fourier: c.FourierK}
 }
 
 // TestAgainstR fits every reference case and applies the pass rules: the
@@ -107,6 +109,9 @@ func TestAgainstR(t *testing.T) {
 				cmp("ma", f.MA(), c.MA)
 				cmp("sar", f.SAR(), c.SAR)
 				cmp("sma", f.SMA(), c.SMA)
+				if c.FourierK > 0 {
+					cmp("fourier", f.Fourier(), c.Fourier)
+				}
 				if c.Intercept != nil {
 					got, ok := f.Intercept()
 					if !ok || math.Abs(got-*c.Intercept) > 0.01*math.Max(1, math.Abs(*c.Intercept)) {

@@ -1,0 +1,39 @@
+package arima
+
+import (
+	"testing"
+
+	"trueup/internal/inputerr"
+)
+
+func TestParseSpecRoundTrip(t *testing.T) {
+	for _, text := range []string{
+		"ARIMA(0,1,1)(0,1,1) m=12",
+		"log ARIMA(0,1,1)(0,1,1) m=12",
+		"ARIMA(2,0,1) + mean",
+		"ARIMA(0,1,1) + drift",
+		"ARIMA(1,1,1) + 4 Fourier m=52",
+		"ARIMA(1,0,0)(2,0,0) + mean m=12",
+	} {
+		s, err := ParseSpec(text)
+		if err != nil {
+			t.Fatalf("%q: %v", text, err)
+		}
+		if got := s.String(); got != text {
+			t.Errorf("%q printed back as %q", text, got)
+		}
+	}
+	s, err := ParseSpec(" arima( 0, 1 ,1 )(0,1,1) ")
+	if err != nil || s.Q != 1 || s.D != 1 || s.SD != 1 || s.SQ != 1 || s.Period != 0 {
+		t.Errorf("loose spelling: %+v, %v", s, err)
+	}
+}
+
+func TestParseSpecErrors(t *testing.T) {
+	for _, text := range []string{"", "ARMA(1,1)", "ARIMA(1,1)", "ARIMA(1,-1,0)", "ARIMA(0,1,1)(0,1)",
+		"ARIMA(0,1,1) m=x", "ARIMA(0,3,1)", "ARIMA(0,1,1) + trend"} {
+		if _, err := ParseSpec(text); err == nil || !inputerr.Is(err) {
+			t.Errorf("%q: got %v, want an input error", text, err)
+		}
+	}
+}
