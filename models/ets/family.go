@@ -90,8 +90,9 @@ func Candidates(y []float64, m int) ([]Spec, string) {
 	return out, strings.Join(notes, "; ")
 }
 
-// Auto fits every candidate form (see Candidates) and returns the
-// admissible fit with the smallest AICc, with every candidate's AICc.
+// Auto fits every candidate form (see Candidates) from the first starting
+// point, picks the admissible fit with the smallest AICc, refits it from
+// every starting point, and returns it with every candidate's AICc.
 // Forms whose fit fails or lands outside the admissible region are left
 // out of the choice.
 func Auto(y []float64, m int) (*Fitted, []Candidate, error) {
@@ -112,7 +113,7 @@ func Auto(y []float64, m int) (*Fitted, []Candidate, error) {
 		if s.Seasonal() {
 			mm = m
 		}
-		f, err := fit(y, s, mm)
+		f, err := fit(y, s, mm, starts[:1])
 		if err != nil || !f.admissible || math.IsInf(f.crit.AICc, 0) {
 			continue
 		}
@@ -123,6 +124,10 @@ func Auto(y []float64, m int) (*Fitted, []Candidate, error) {
 	}
 	if best == nil {
 		return nil, cands, fmt.Errorf("ets: no candidate form gave an admissible fit")
+	}
+	// The search used one start per form; refit the choice from all starts.
+	if g, err := fit(y, best.spec, best.m, starts); err == nil && g.admissible && g.crit.AICc < best.crit.AICc {
+		best = g
 	}
 	if note != "" {
 		best.warn = joinWarn(best.warn, note)

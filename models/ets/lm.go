@@ -1,6 +1,10 @@
 package ets
 
-import "math"
+import (
+	"math"
+
+	"gonum.org/v1/gonum/floats"
+)
 
 // lmProblem is a bounded nonlinear least-squares problem: minimise Σ r_i(x)²
 // over lo ≤ x ≤ hi. resid writes r(x) into r and reports false where x is
@@ -79,17 +83,9 @@ func levenbergMarquardt(pr *lmProblem, w *lmWork, x []float64, maxIter int) floa
 		// Normal equations A = JᵀJ, g = Jᵀr.
 		for j := 0; j < p; j++ {
 			cj := w.jac[j*n : (j+1)*n]
-			s := 0.0
-			for i, v := range cj {
-				s += v * w.r[i]
-			}
-			w.g[j] = s
+			w.g[j] = floats.Dot(cj, w.r)
 			for k := 0; k <= j; k++ {
-				ck := w.jac[k*n : (k+1)*n]
-				s := 0.0
-				for i, v := range cj {
-					s += v * ck[i]
-				}
+				s := floats.Dot(cj, w.jac[k*n:(k+1)*n])
 				w.a[j*p+k], w.a[k*p+j] = s, s
 			}
 		}
@@ -128,7 +124,9 @@ func levenbergMarquardt(pr *lmProblem, w *lmWork, x []float64, maxIter int) floa
 		rel := (f - ft) / math.Max(f, 1e-300)
 		f = ft
 		lambda = math.Max(lambda/10, 1e-10)
-		if rel < 1e-9 {
+		// Stop when the log-likelihood, −n/2·ln Σr² + const, gains less
+		// than 1e-6.
+		if float64(n)/2*rel < 1e-6 {
 			break
 		}
 	}
