@@ -47,9 +47,9 @@ Nothing is written.`,
 			fmt.Fprintf(w, "periods: %s to %s, %d %ss (grain from %s)\n", rep.FirstPeriod, rep.LastPeriod, rep.Periods, rep.Grain, rep.GrainFrom)
 			fmt.Fprintf(w, "bottom series: %d, nodes: %d\n\n", rep.BottomSeries, rep.Nodes)
 			tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-			fmt.Fprintln(tw, "level\tseries")
+			fmt.Fprintln(tw, "level\tseries\tstarting late\tending early")
 			for _, l := range rep.SeriesByLevel {
-				fmt.Fprintf(tw, "%s\t%d\n", l.Level, l.Nodes)
+				fmt.Fprintf(tw, "%s\t%d\t%d\t%d\n", l.Level, l.Nodes, l.LateStarts, l.EarlyEnds)
 			}
 			tw.Flush()
 			fmt.Fprintf(w, "\nduplicate rows (same key and period): %d\n", rep.DuplicateRows)
@@ -58,8 +58,11 @@ Nothing is written.`,
 			for _, group := range []struct {
 				title string
 				spans []pipeline.SeriesSpan
-			}{{"series starting late", rep.LateStarts}, {"series ending early", rep.EarlyEnds}} {
-				fmt.Fprintf(w, "%s: %d\n", group.title, len(group.spans))
+			}{{"starting late", rep.LateStarts}, {"ending early", rep.EarlyEnds}} {
+				if len(group.spans) == 0 {
+					continue
+				}
+				fmt.Fprintf(w, "%s (%s level):\n", group.title, group.spans[0].Level)
 				for i, s := range group.spans {
 					if i == listMax {
 						fmt.Fprintf(w, "  … and %d more (--json lists all)\n", len(group.spans)-listMax)

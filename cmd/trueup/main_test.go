@@ -1,6 +1,7 @@
 package main
 
 import (
+	"encoding/json"
 	"math"
 	"os"
 	"path/filepath"
@@ -212,4 +213,53 @@ func captureStderr(t *testing.T, f func()) string {
 	data := make([]byte, 1<<16)
 	n, _ := r.Read(data)
 	return string(data[:n])
+}
+
+func TestInspectReportsOpeningsAndClosures(t *testing.T) {
+	dir := t.TempDir()
+	p := filepath.Join(dir, "demo.parquet")
+	if err := os.WriteFile(p, fixtures.DemoMonthlyParquet, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	// Add a duplicate and a negative row to a CSV copy of a small table.
+	csv := filepath.Join(dir, "dup.csv")
+	os.WriteFile(csv, []byte("period,store,sales\n2024-01,A,1\n2024-01,A,2\n2024-02,A,-1\n2024-03,A,0\n"), 0o644)
+
+	var out strings.Builder
+	root := newRootCmd()
+	root.SetOut(&out)
+	root.SetArgs([]string{"inspect", "--json", "--input", p, "--nest", "region,store", "--nest", "category"})
+	if err := root.Execute(); err != nil {
+		t.Fatal(err)
+	}
+	var rep struct {
+		Rows          int `json:"bottom_series"`
+		SeriesByLevel []struct {
+			Level      string `json:"level"`
+			LateStarts int    `json:"late_starts"`
+			EarlyEnds  int    `json:"early_ends"`
+		} `json:"series_per_level"`
+		LateStarts []struct{ Level, Key string } `json:"late_starts"`
+	}
+	if err := json.Unmarshal([]byte(out.String()), &rep); err != nil {
+		t.Fatal(err)
+	}
+	// The demo chain opens three stores and closes one (fixtures/demo/README.md).
+	stores := rep.SeriesByLevel[4]
+	if rep.Rows != 224 || stores.Level != "region+store" || stores.LateStarts != 3 || stores.EarlyEnds != 1 || len(rep.LateStarts) != 3 {
+		t.Errorf("inspect report: %s", out.String())
+	}
+
+	out.Reset()
+	root = newRootCmd()
+	root.SetOut(&out)
+	root.SetArgs([]string{"inspect", "--input", csv, "--nest", "store"})
+	if err := root.Execute(); err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{"duplicate rows (same key and period): 1", "negative values: 1", "zero values: 1"} {
+		if !strings.Contains(out.String(), want) {
+			t.Errorf("inspect output lacks %q:\n%s", want, out.String())
+		}
+	}
 }

@@ -67,15 +67,7 @@ func fitNodes(series [][]float64, family models.Family, opt models.FitOptions, w
 }
 
 func fitOne(y []float64, family models.Family, opt models.FitOptions) NodeFit {
-	first, last := -1, -1
-	for t, v := range y {
-		if !math.IsNaN(v) {
-			if first < 0 {
-				first = t
-			}
-			last = t
-		}
-	}
+	first, last := span(y)
 	nf := NodeFit{First: first, Last: last}
 	h := opt.Horizon
 	if first < 0 {

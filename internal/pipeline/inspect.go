@@ -1,6 +1,8 @@
 package pipeline
 
 import (
+	"math"
+
 	"trueup/hierarchy"
 	"trueup/internal/inputerr"
 	tableio "trueup/io"
@@ -31,12 +33,16 @@ type InspectReport struct {
 	ZeroValues    int          `json:"zero_values"`
 	NegativeRows  int          `json:"negative_values"`
 	GapPeriods    int          `json:"gap_periods"` // periods inside a series' span with no row
-	LateStarts    []SeriesSpan `json:"late_starts"` // series starting after the first period
-	EarlyEnds     []SeriesSpan `json:"early_ends"`  // series ending before the last period
+	// LateStarts and EarlyEnds list the nodes starting after the first
+	// period (openings) or ending before the last (closures), at the
+	// coarsest level that has any.
+	LateStarts []SeriesSpan `json:"late_starts"`
+	EarlyEnds  []SeriesSpan `json:"early_ends"`
 }
 
 // SeriesSpan is a bottom series and the periods it covers.
 type SeriesSpan struct {
+	Level string `json:"level"`
 	Key   string `json:"key"`
 	First string `json:"first"`
 	Last  string `json:"last"`
@@ -87,28 +93,51 @@ func Inspect(cfg InspectConfig) (*InspectReport, error) {
 	if grain == nil || *grain == pn.Stats.NativeGrain {
 		rep.DuplicateRows = pn.Stats.SummedRows
 	}
-	for _, l := range st.Levels {
-		rep.SeriesByLevel = append(rep.SeriesByLevel, LevelCount{l.Name, len(l.Nodes)})
-	}
-	off := st.BottomOffset()
+	// Spans of every node: the openings and closures show at the
+	// coarsest level where they happen (a store, rather than each of its
+	// categories), so that is the level listed.
+	bottom := make([][]float64, len(pn.Keys))
 	for s, key := range pn.Keys {
 		j, _ := st.BottomIndex(key)
-		first, last := -1, -1
-		for t, v := range pn.Values[s] {
-			if v == v {
-				if first < 0 {
-					first = t
-				}
-				last = t
+		bottom[j] = pn.Values[s]
+	}
+	history := st.S.Aggregate(bottom)
+	for _, l := range st.Levels {
+		lc := LevelCount{Level: l.Name, Nodes: len(l.Nodes)}
+		var late, early []SeriesSpan
+		for _, i := range l.Nodes {
+			first, last := span(history[i])
+			sp := SeriesSpan{Level: l.Name, Key: st.Label(i), First: pn.Period(first).String(), Last: pn.Period(last).String()}
+			if first > 0 {
+				late = append(late, sp)
+			}
+			if last < pn.T-1 {
+				early = append(early, sp)
 			}
 		}
-		span := SeriesSpan{Key: st.Label(off + j), First: pn.Period(first).String(), Last: pn.Period(last).String()}
-		if first > 0 {
-			rep.LateStarts = append(rep.LateStarts, span)
+		lc.LateStarts, lc.EarlyEnds = len(late), len(early)
+		rep.SeriesByLevel = append(rep.SeriesByLevel, lc)
+		if len(rep.LateStarts) == 0 {
+			rep.LateStarts = append(rep.LateStarts, late...)
 		}
-		if last < pn.T-1 {
-			rep.EarlyEnds = append(rep.EarlyEnds, span)
+		if len(rep.EarlyEnds) == 0 {
+			rep.EarlyEnds = append(rep.EarlyEnds, early...)
 		}
 	}
 	return rep, nil
+}
+
+// span returns the first and last period index at which y is not NaN, or
+// −1, −1 when it never is.
+func span(y []float64) (first, last int) {
+	first, last = -1, -1
+	for t, v := range y {
+		if !math.IsNaN(v) {
+			if first < 0 {
+				first = t
+			}
+			last = t
+		}
+	}
+	return first, last
 }

@@ -55,6 +55,10 @@ type CountsReport struct {
 type LevelCount struct {
 	Level string `json:"level"`
 	Nodes int    `json:"nodes"`
+	// LateStarts and EarlyEnds count nodes that start after the first
+	// period or end before the last (filled by Inspect).
+	LateStarts int `json:"late_starts,omitempty"`
+	EarlyEnds  int `json:"early_ends,omitempty"`
 }
 
 // ReconcileReport describes the reconciliation.
@@ -91,7 +95,7 @@ func (r *RunReport) fill(cfg Config, rows *tableio.Rows, pn *Panel, st *hierarch
 		},
 	}
 	for _, l := range st.Levels {
-		c.NodesPerLevel = append(c.NodesPerLevel, LevelCount{l.Name, len(l.Nodes)})
+		c.NodesPerLevel = append(c.NodesPerLevel, LevelCount{Level: l.Name, Nodes: len(l.Nodes)})
 	}
 	r.Counts = c
 	r.Models = map[string]int{}
