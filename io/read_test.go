@@ -178,8 +178,8 @@ func TestReadCSV(t *testing.T) {
 	}
 }
 
-func TestReadCSVByteOrderMarkAndFormatOverride(t *testing.T) {
-	path := writeFile(t, "export.txt", "\xef\xbb\xbfday,v\n2024-03-31,1\n2024-04-01,2\n")
+func TestReadCSVByteOrderMarkCRLFAndFormatOverride(t *testing.T) {
+	path := writeFile(t, "export.txt", "\xef\xbb\xbfday,v\r\n2024-03-31,1\r\n2024-04-01,2\r\n")
 	r, err := Read(path, ReadOptions{Format: CSV, Time: "day", Value: "v"})
 	if err != nil {
 		t.Fatal(err)
