@@ -174,6 +174,12 @@ func stepwise(y []float64, base Spec, opt AutoOptions, approx, seasonal bool) (*
 			f, err := FitOrder(y, s, Options{Approximate: approx})
 			if err == nil && !nearBoundary(f) {
 				r = result{f: f, aicc: f.crit.AICc}
+				if math.IsInf(r.aicc, 1) {
+					// Too few observations for AICc's correction: keep
+					// the model, ranked after every model with a finite
+					// AICc.
+					r.aicc = math.MaxFloat64
+				}
 			}
 		}
 		tried[c] = r
@@ -341,6 +347,7 @@ func fallback(y []float64, base Spec) (*Fitted, string) {
 		{D: base.D, SD: base.SD, Period: base.Period, Log: base.Log, Constant: base.nDiff() <= 1},
 		{D: 1, Log: base.Log},
 		{D: 0, Constant: true, Log: base.Log},
+		{Log: base.Log},
 	}
 	for _, s := range tries {
 		if f, err := FitOrder(y, s, Options{}); err == nil {

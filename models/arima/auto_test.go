@@ -99,6 +99,7 @@ func TestAutoRobust(t *testing.T) {
 		"all zero":      {make([]float64, 30), 12, true},
 		"short":         {[]float64{1, 3, 2, 5, 4, 6, 5, 8, 7, 9}, 12, true},
 		"single":        {[]float64{3}, 1, true},
+		"two values":    {[]float64{2, 1}, 12, true},
 		"ramp":          {ramp, 1, false},
 		"near unit":     {walk, 1, false},
 		"negative":      {[]float64{-3, 2, -1, 4, -2, 5, -3, 6, -1, 3, -2, 4, -4, 2, -1, 5}, 4, false},
