@@ -35,6 +35,7 @@ they go into a plan.`,
 		newForecastCmd(),
 		newInspectCmd(),
 		newFitCmd(),
+		newReconcileCmd(),
 	)
 	return root
 }
