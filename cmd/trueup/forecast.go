@@ -67,6 +67,7 @@ into a plan.`,
 	fl.BoolVar(&sumDup, "sum-duplicates", false, "add up rows with the same key and period instead of refusing them")
 	fl.StringVar(&grain, "grain", "", "forecast at this grain, summing finer periods: day, week, month, quarter")
 	fl.IntVar(&period, "period", 0, "seasonal period (default from the grain: 7, 52, 12, 4)")
+	groupFlags(cmd, "Input", "input", "input-format", "time", "value", "nest", "sum-duplicates", "grain", "period")
 	rf.register(cmd, "trueup-out")
 	return cmd
 }

@@ -46,6 +46,9 @@ func (f *runFlags) register(cmd *cobra.Command, defaultOut string) {
 	fl.StringVar(&f.formats, "format", "parquet", "output formats, comma-separated: parquet, csv, arrow")
 	fl.BoolVarP(&f.quiet, "quiet", "q", false, "no progress bar")
 	fl.BoolVar(&f.json, "json", false, "print a machine-readable summary on stdout")
+	groupFlags(cmd, "Model", "horizon", "family", "levels", "workers")
+	groupFlags(cmd, "Reconciliation", "method", "cov", "at", "nonnegative")
+	groupFlags(cmd, "Output", "out", "format", "quiet", "json")
 }
 
 // apply copies the flags into a pipeline configuration.
