@@ -18,6 +18,7 @@ import (
 	tableio "trueup/io"
 	"trueup/models"
 	"trueup/models/arima"
+	"trueup/models/naive"
 )
 
 // fitFlags are the options of trueup fit.
@@ -26,6 +27,7 @@ type fitFlags struct {
 	timeCol, valueCol string
 	key               string
 	model             string
+	family            string
 	period            int
 	transform         string
 	constant          bool
@@ -44,13 +46,17 @@ type fitFamily struct {
 
 var fitFamilies = map[string]fitFamily{
 	arima.Name: {fit: fitARIMA, fields: arimaFields},
+	"ets":      {fit: fitETS, fields: modelFields},
+	"snaive":   {fit: fitNaive(naive.SeasonalNaive{}), fields: modelFields},
+	"drift":    {fit: fitNaive(naive.Drift{}), fields: modelFields},
+	"auto":     {fit: fitAuto, fields: modelFields},
 }
 
 func newFitCmd() *cobra.Command {
 	var fl fitFlags
 	cmd := &cobra.Command{
 		Use:   "fit --input FILE --time COL --value COL [--key COL] [--model SPEC]",
-		Short: "Fit a seasonal ARIMA model to one series, or to each key's series",
+		Short: "Fit a forecasting model to one series, or to each key's series",
 		Long: `Fits a seasonal ARIMA model to the series in a table, by exact maximum
 likelihood, and prints the estimates, information criteria, forecasts with
 prediction intervals, and in-sample one-step residuals. With --key COL every
@@ -63,6 +69,14 @@ is written as ARIMA(p,d,q)(P,D,Q), optionally followed by "m=12" (the
 seasonal period; otherwise --period or the period implied by the data's
 grain) and "+ mean" or "+ drift". Signs: AR polynomial 1 − φ1B − …, MA
 polynomial 1 + θ1B + ….
+
+--family chooses the kind of model: arima (the default), ets (exponential
+smoothing; a fixed form is written as --model "ETS(M,Ad,M)", otherwise
+the form is chosen by AICc), snaive, drift, or auto, which validates
+ARIMA, ETS, seasonal naive, drift and the ARIMA+ETS average at the last
+three forecast origins by MASE at --horizon and refits the winner; its
+JSON lists every candidate's score and the reason. --transform boxcox
+(λ by Guerrero's method) works with every family but arima.
 
 With --json each series gives one JSON object per line. Forecasts and
 bounds are on the original scale; loglik, aic, aicc and bic refer to the
@@ -81,9 +95,10 @@ modelled (transformed, differenced) series.`,
 	f.StringVar(&fl.timeCol, "time", "", "period column")
 	f.StringVar(&fl.valueCol, "value", "", "value column")
 	f.StringVar(&fl.key, "key", "", "column whose values name separate series")
-	f.StringVar(&fl.model, "model", "", `fixed model, e.g. "ARIMA(0,1,1)(0,1,1)"; automatic choice when empty`)
+	f.StringVar(&fl.model, "model", "", `fixed model, e.g. "ARIMA(0,1,1)(0,1,1)" or "ETS(M,Ad,M)"; automatic choice when empty`)
+	f.StringVar(&fl.family, "family", "", "model family: auto, arima, ets, snaive or drift (default: that of --model, else arima)")
 	f.IntVar(&fl.period, "period", 0, "seasonal period (default: 12 for months, 4 for quarters, 52 for weeks, 7 for days)")
-	f.StringVar(&fl.transform, "transform", "none", "transform before fitting: none or log (log needs positive values)")
+	f.StringVar(&fl.transform, "transform", "none", "transform before fitting: none, log or boxcox (log needs positive values)")
 	f.BoolVar(&fl.constant, "constant", false, "with --model: include a mean (d+D=0) or drift (d+D=1)")
 	f.IntVar(&fl.horizon, "horizon", 0, "periods to forecast (default: one seasonal cycle, or 8 without seasonality)")
 	f.StringVar(&fl.levels, "levels", "80,95", "prediction interval levels in percent, comma-separated")
@@ -107,9 +122,6 @@ func runFit(w io.Writer, fl *fitFlags) error {
 	case fl.valueCol == "":
 		return &usageError{errMissing("--value")}
 	}
-	if fl.transform != "none" && fl.transform != "log" {
-		return &usageError{fmt.Errorf("--transform: %q is not none or log", fl.transform)}
-	}
 	if fl.constant && fl.model == "" {
 		return &usageError{fmt.Errorf("--constant needs --model (the automatic choice decides the constant itself)")}
 	}
@@ -120,10 +132,9 @@ func runFit(w io.Writer, fl *fitFlags) error {
 	if err != nil {
 		return err
 	}
-	if fl.model != "" {
-		if _, err := arima.ParseSpec(fl.model); err != nil {
-			return &usageError{fmt.Errorf("--model: %w", err)}
-		}
+	famName, err := resolveFitFamily(fl)
+	if err != nil {
+		return &usageError{err}
 	}
 	opt := tableio.ReadOptions{Format: tableio.Format(fl.format), Time: fl.timeCol, Value: fl.valueCol}
 	if fl.key != "" {
@@ -148,7 +159,8 @@ func runFit(w io.Writer, fl *fitFlags) error {
 			horizon = period
 		}
 	}
-	fam := fitFamilies[arima.Name]
+	fl.horizon = horizon
+	fam := fitFamilies[famName]
 	for _, s := range series {
 		m, err := fam.fit(s.values, period, fl)
 		if err != nil {
