@@ -64,8 +64,14 @@ func checkFinite(t *testing.T, m models.Model, h int) {
 	if len(res) != m.NObs() {
 		t.Fatalf("%s: %d residuals for %d observations", m.Spec(), len(res), m.NObs())
 	}
+	// NaN only for the first d+mD observations, which have no one-step
+	// prediction.
+	nd := 0
+	if f, ok := m.(*Fitted); ok {
+		nd = len(f.delta)
+	}
 	for i, r := range res {
-		if math.IsNaN(r) || math.IsInf(r, 0) {
+		if (i >= nd && math.IsNaN(r)) || math.IsInf(r, 0) || (i < nd && !math.IsNaN(r)) {
 			t.Fatalf("%s: residual %d is %v", m.Spec(), i+1, r)
 		}
 	}
@@ -141,10 +147,10 @@ func TestLogForecastMoments(t *testing.T) {
 			t.Fatalf("h=%d: interval [%v, %v]", k+1, lo[k], hi[k])
 		}
 	}
-	// Residuals on the response scale: for the first d+mD = 13 values 0,
+	// Residuals on the response scale: NaN for the first d+mD = 13 values,
 	// then y_t minus the back-transformed one-step prediction.
 	r := f.Residuals()
-	if r[0] != 0 || r[12] != 0 || r[13] == 0 {
+	if !math.IsNaN(r[0]) || !math.IsNaN(r[12]) || math.IsNaN(r[13]) {
 		t.Fatalf("residuals %v", r[:15])
 	}
 }
@@ -192,5 +198,30 @@ func TestFitOrderAwkward(t *testing.T) {
 			continue
 		}
 		checkFinite(t, f, 12)
+	}
+}
+
+// TestResidualsAreOneStepErrors: for an AR(1) with mean the one-step
+// prediction of y_t is μ + φ(y_{t−1} − μ) for t ≥ 2 (Box, Jenkins &
+// Reinsel, AR(1) forecast function), so the residuals must be exactly
+// those errors at the fitted μ, φ.
+func TestResidualsAreOneStepErrors(t *testing.T) {
+	y := loadSeries(t, "lh")
+	f, err := FitOrder(y, Spec{P: 1, Constant: true}, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	mu, _ := f.Intercept()
+	phi := f.AR()[0]
+	r := f.Residuals()
+	for i := 1; i < len(y); i++ {
+		want := y[i] - (mu + phi*(y[i-1]-mu))
+		if math.Abs(r[i]-want) > 1e-9 {
+			t.Fatalf("t=%d: residual %v, want %v", i+1, r[i], want)
+		}
+	}
+	// The first has the stationary mean as its prediction.
+	if math.Abs(r[0]-(y[0]-mu)) > 1e-9 {
+		t.Fatalf("t=1: residual %v, want %v", r[0], y[0]-mu)
 	}
 }

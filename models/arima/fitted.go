@@ -155,6 +155,9 @@ func (f *Fitted) finish(pr *problem, x []float64) error {
 		f.zLags[j] = pr.z[t] - f.regression(t+1)
 	}
 	f.resid = make([]float64, T)
+	for t := 0; t < nd; t++ {
+		f.resid[t] = math.NaN()
+	}
 	for t := nd; t < T; t++ {
 		e := v[t-nd]
 		if f.spec.Log {
@@ -394,11 +397,12 @@ func (f *Fitted) Params() map[string]any {
 }
 
 // Residuals returns the in-sample one-step errors y_t − ŷ_{t|t−1} on the
-// response scale for every observation. With the log transform ŷ is the
+// response scale, one per observation. With the log transform ŷ is the
 // back-transformed one-step prediction exp(ln-scale prediction). The first
-// d + m·D observations have no one-step prediction under the likelihood of
-// the differenced series; their residuals are 0, the limit of the
-// standardised innovations under a diffuse initial state.
+// d + m·D observations have no one-step prediction (their predictive
+// variance is unbounded: the differencing has not yet seen enough values),
+// so, as the models.Model contract says, their residuals are NaN; all later
+// ones are finite.
 func (f *Fitted) Residuals() []float64 { return append([]float64(nil), f.resid...) }
 
 // Sigma2 is the maximum-likelihood innovation variance on the transformed
