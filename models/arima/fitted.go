@@ -101,6 +101,9 @@ func FitOrder(y []float64, spec Spec, opt Options) (*Fitted, error) {
 	if err := f.finish(pr, x); err != nil {
 		return nil, fmt.Errorf("model %s: %w", pr.spec, err)
 	}
+	if nearBoundary(f) {
+		f.warn = append(f.warn, "an AR or MA root lies within about 1% of the unit circle (over-differencing or cancelling roots?)")
+	}
 	return f, nil
 }
 
