@@ -36,7 +36,7 @@ func retail(tb testing.TB, states, storesPer, cats, deptsPer, itemsPer int) *hie
 // about 2,000 nodes (T = 60, h = 28), variances included. Run with
 // go test -bench MinT -run '^$' ./reconcile
 func BenchmarkMinT(b *testing.B) {
-	st := retail(b, 2, 3, 2, 4, 18) // 2,058 nodes, 864 bottom
+	st := retail(b, 2, 3, 2, 4, 26) // 1,971 nodes, 1,248 bottom
 	p := problemFor(st, 60, 28, 1)
 	for _, s := range []struct {
 		name   string

@@ -61,9 +61,10 @@ const (
 )
 
 // DenseMaxNodes is the largest structure SolverAuto reconciles with dense
-// algebra. Dense needs O(n²) memory and O(n³) time; at n = 2,000 it is
-// already slower than the large-n path (see bench/reconcile).
-const DenseMaxNodes = 1500
+// algebra, which gives exact variances. Dense needs O(n²) memory and
+// O(n³) time: at n = 1,971 it takes about 18 times as long as the large-n
+// path (BenchmarkMinT), whose variances are partly sampled.
+const DenseMaxNodes = 600
 
 // DefaultPaths is the number of sample paths used when Problem.Paths is 0.
 const DefaultPaths = 100

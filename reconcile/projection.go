@@ -266,17 +266,20 @@ func (d *denseProjector) apply(y *mat.Dense, _ float64) (*mat.Dense, error) {
 }
 
 func (d *denseProjector) errorFactor(w *errCov, _ int, _ uint64) (*mat.Dense, int, error) {
-	n := len(w.Delta)
+	m, n := d.g.Dims()
 	r := w.rank()
-	rhs := mat.NewDense(n, n+r, nil)
-	for i, v := range w.Delta {
-		rhs.Set(i, i, math.Sqrt(v))
-		for t := 0; t < r; t++ {
-			rhs.Set(i, n+t, w.U[i*r+t])
+	// F = [G·diag(√Δ), G·U]: the first block is G with scaled columns.
+	f := mat.NewDense(m, n+r, nil)
+	for j := 0; j < m; j++ {
+		for i, v := range w.Delta {
+			f.Set(j, i, d.g.At(j, i)*math.Sqrt(v))
 		}
 	}
-	f, err := d.apply(rhs, 0)
-	return f, 0, err
+	if r > 0 {
+		gu := f.Slice(0, m, n, n+r).(*mat.Dense)
+		gu.Mul(d.g, mat.NewDense(n, r, w.U))
+	}
+	return f, 0, nil
 }
 
 func (d *denseProjector) notes() map[string]float64 { return nil }

@@ -619,7 +619,7 @@ func countTrue(b []bool) int {
 
 func describe(v float64, null bool) string {
 	if null {
-		return "missing"
+		return "missing (empty, null or NaN)"
 	}
 	return strconv.FormatFloat(v, 'g', -1, 64)
 }
