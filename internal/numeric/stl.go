@@ -2,9 +2,9 @@ package numeric
 
 import "math"
 
-// STLOptions sets the smoothing spans of STL. Zero values take the
-// defaults of Cleveland et al. (1990, §3.4) as R's stats::stl applies them:
-// TrendWindow the next odd integer ≥ 1.5·period/(1 − 1.5/SeasonalWindow),
+// STLOptions sets the smoothing spans of STL. A zero SeasonalWindow means
+// 13; other zero values take the defaults of Cleveland et al. (1990, §3.4)
+// as R's stats::stl applies them: TrendWindow the next odd integer ≥ 1.5·period/(1 − 1.5/SeasonalWindow),
 // LowpassWindow the next odd integer ≥ period, jumps ⌈window/10⌉.
 type STLOptions struct {
 	SeasonalWindow int // span of the cycle-subseries smoother (odd, ≥ 3)

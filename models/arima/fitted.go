@@ -60,7 +60,10 @@ func FitOrder(y []float64, spec Spec, opt Options) (*Fitted, error) {
 		return nil, inputerr.New("model %s has a negative order", spec)
 	}
 	if !spec.seasonal() {
-		spec.Period, spec.SP, spec.SD, spec.SQ, spec.Fourier = 0, 0, 0, 0, 0
+		if spec.SP > 0 || spec.SD > 0 || spec.SQ > 0 || spec.Fourier > 0 {
+			return nil, inputerr.New("model %s has seasonal terms but no seasonal period (give m=, or a period above 1)", spec)
+		}
+		spec.Period = 0
 	}
 	if spec.Log {
 		for _, v := range y {

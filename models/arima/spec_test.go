@@ -37,3 +37,10 @@ func TestParseSpecErrors(t *testing.T) {
 		}
 	}
 }
+
+func TestSeasonalTermsNeedPeriod(t *testing.T) {
+	y := loadSeries(t, "lh")
+	if _, err := FitOrder(y, Spec{Q: 1, SQ: 1, Period: 1}, Options{}); err == nil || !inputerr.Is(err) {
+		t.Errorf("seasonal MA without period: %v", err)
+	}
+}
