@@ -109,8 +109,7 @@ func writeCSV(w io.Writer, t *Table, n int) error {
 			case c.Type == String:
 				rec[j] = c.Strings[i]
 			case c.Type == Float64:
-				// Shortest text that parses back to the same float64.
-				rec[j] = string(strconv.AppendFloat(buf[:0], c.Floats[i], 'g', -1, 64))
+				rec[j] = string(appendCSVFloat(buf[:0], c.Floats[i]))
 			default:
 				rec[j] = strconv.FormatInt(c.Ints[i], 10)
 			}
@@ -197,4 +196,15 @@ func writeIPC(w io.Writer, t *Table, n int) error {
 		return err
 	}
 	return fw.Close()
+}
+
+// appendCSVFloat appends the shortest text that parses back to the same
+// float64, in plain decimal notation (3783451.25, not 3.78345125e+06) so
+// that spreadsheets and readers show amounts as amounts; only magnitudes
+// outside [1e-6, 1e21) use an exponent.
+func appendCSVFloat(dst []byte, x float64) []byte {
+	if a := math.Abs(x); x == 0 || (a >= 1e-6 && a < 1e21) {
+		return strconv.AppendFloat(dst, x, 'f', -1, 64)
+	}
+	return strconv.AppendFloat(dst, x, 'g', -1, 64)
 }

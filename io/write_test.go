@@ -238,3 +238,14 @@ func TestParseFormats(t *testing.T) {
 		}
 	}
 }
+
+func TestCSVFloatsInPlainNotation(t *testing.T) {
+	for _, c := range []struct {
+		x    float64
+		want string
+	}{{3783451.2383758635, "3783451.2383758635"}, {0.3, "0.3"}, {-12, "-12"}, {0, "0"}, {1e21, "1e+21"}, {1e-7, "1e-07"}} {
+		if got := string(appendCSVFloat(nil, c.x)); got != c.want {
+			t.Errorf("%v written as %q, want %q", c.x, got, c.want)
+		}
+	}
+}
