@@ -251,3 +251,20 @@ func TestResidualsOnDataScale(t *testing.T) {
 		}
 	}
 }
+
+// TestAdmissible: inside the usual bounds the seasonal forms are
+// forecastable; far outside (α = 1.9, γ = 0.9, m = 4, where the discount
+// matrix has eigenvalues −1.15 ± 0.59i, modulus 1.29, computed with gonum)
+// they are not, and the structural unit eigenvalue is not held against them.
+func TestAdmissible(t *testing.T) {
+	sp := Spec{Add, Add, Add}
+	if !admissible(sp, 4, &Params{Alpha: 0.3, Beta: 0.05, Gamma: 0.2}) {
+		t.Error("usual-region parameters judged inadmissible")
+	}
+	if admissible(sp, 4, &Params{Alpha: 1.9, Beta: 0.05, Gamma: 0.9}) {
+		t.Error("α = 1.9, γ = 0.9 judged admissible")
+	}
+	if !admissible(Spec{Add, None, None}, 1, &Params{Alpha: 1.5}) {
+		t.Error("non-seasonal forms are not checked")
+	}
+}
