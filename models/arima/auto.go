@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"sort"
 
 	"trueup/internal/inputerr"
 	"trueup/internal/numeric"
@@ -126,23 +127,27 @@ func Auto(y []float64, opt AutoOptions) (*Fitted, error) {
 	// Hyndman & Khandakar rank candidates by an approximation on long
 	// series; the winner is refitted exactly.
 	approx := n > 150 || m > 12
-	var best *Fitted
+	var ranked []*Fitted
 	var err error
 	if fourier {
-		best, err = searchFourier(y, base, opt, approx)
+		ranked, err = searchFourier(y, base, opt, approx)
 	} else {
-		best, err = stepwise(y, base, opt, approx, !fourier && m > 1)
+		ranked, err = stepwise(y, base, opt, approx, m > 1)
 	}
-	if err != nil || best == nil {
+	var chosen *Fitted
+	if err == nil {
+		chosen, err = best(y, ranked, approx)
+	}
+	if err != nil {
 		fb, why := fallback(y, base)
 		if fb == nil {
 			return nil, fmt.Errorf("automatic ARIMA: %v; %s", err, why)
 		}
 		warn = append(warn, fmt.Sprintf("order search failed (%v): %s", err, why))
-		best = fb
+		chosen = fb
 	}
-	best.warn = append(warn, best.warn...)
-	return best, nil
+	chosen.warn = append(warn, chosen.warn...)
+	return chosen, nil
 }
 
 type candidate struct {
@@ -151,8 +156,8 @@ type candidate struct {
 }
 
 // stepwise runs the Hyndman–Khandakar stepwise search with differencing
-// fixed by base and returns the exactly refitted best model.
-func stepwise(y []float64, base Spec, opt AutoOptions, approx, seasonal bool) (*Fitted, error) {
+// fixed by base and returns every model it fitted, best AICc first.
+func stepwise(y []float64, base Spec, opt AutoOptions, approx, seasonal bool) ([]*Fitted, error) {
 	allowConst := base.nDiff() <= 1
 	type result struct {
 		f    *Fitted
@@ -217,21 +222,45 @@ func stepwise(y []float64, base Spec, opt AutoOptions, approx, seasonal bool) (*
 			break
 		}
 	}
-	if !approx {
-		return tried[cur].f, nil
-	}
-	// Refit exactly, in AICc order of the approximate search, until one
-	// succeeds.
-	order := make([]candidate, 0, len(tried))
-	for c, r := range tried {
-		if !math.IsInf(r.aicc, 1) {
-			order = append(order, c)
+	ranked := make([]*Fitted, 0, len(tried))
+	for _, r := range tried {
+		if r.f != nil {
+			ranked = append(ranked, r.f)
 		}
 	}
-	sortCandidates(order, func(c candidate) float64 { return tried[c].aicc })
-	for _, c := range order {
-		s := tried[c].f.spec
-		f, err := FitOrder(y, s, Options{})
+	rankFits(ranked)
+	return ranked, nil
+}
+
+// rankFits sorts fits by AICc (undefined AICc last), ties by spelling, so
+// the order is deterministic.
+func rankFits(fs []*Fitted) {
+	key := func(f *Fitted) float64 {
+		if math.IsInf(f.crit.AICc, 1) {
+			return math.MaxFloat64
+		}
+		return f.crit.AICc
+	}
+	sort.SliceStable(fs, func(i, j int) bool {
+		ki, kj := key(fs[i]), key(fs[j])
+		if ki != kj {
+			return ki < kj
+		}
+		return fs[i].spec.String() < fs[j].spec.String()
+	})
+}
+
+// best returns the first of the ranked fits; after an approximate search
+// it refits them exactly in rank order until one succeeds.
+func best(y []float64, ranked []*Fitted, approx bool) (*Fitted, error) {
+	if len(ranked) == 0 {
+		return nil, errors.New("no candidate model could be fitted")
+	}
+	if !approx {
+		return ranked[0], nil
+	}
+	for _, r := range ranked {
+		f, err := FitOrder(y, r.spec, Options{})
 		if err == nil && !nearBoundary(f) {
 			return f, nil
 		}
@@ -267,26 +296,6 @@ func neighbours(c candidate, seasonal, allowConst bool) []candidate {
 	return out
 }
 
-// sortCandidates sorts by key ascending, ties by the candidate itself, so
-// the order is deterministic.
-func sortCandidates(cs []candidate, key func(candidate) float64) {
-	less := func(a, b candidate) bool {
-		ka, kb := key(a), key(b)
-		if ka != kb {
-			return ka < kb
-		}
-		if a.p+a.q+a.sp+a.sq != b.p+b.q+b.sp+b.sq {
-			return a.p+a.q+a.sp+a.sq < b.p+b.q+b.sp+b.sq
-		}
-		return fmt.Sprint(a) < fmt.Sprint(b)
-	}
-	for i := 1; i < len(cs); i++ {
-		for j := i; j > 0 && less(cs[j], cs[j-1]); j-- {
-			cs[j], cs[j-1] = cs[j-1], cs[j]
-		}
-	}
-}
-
 // nearBoundary reports a fit whose AR or MA polynomial has a partial
 // autocorrelation beyond ±0.99, i.e. a root within about 1% of the unit
 // circle. Like Hyndman & Khandakar (2008), the search rejects such models:
@@ -314,31 +323,31 @@ func nearBoundary(f *Fitted) bool {
 	return check(f.ar, 1) || check(f.ma, -1) || check(f.sar, 1) || check(f.sma, -1)
 }
 
-// searchFourier chooses K Fourier pairs by AICc, each with a stepwise
-// non-seasonal ARMA error model.
-func searchFourier(y []float64, base Spec, opt AutoOptions, approx bool) (*Fitted, error) {
-	var best *Fitted
+// searchFourier runs a stepwise search of non-seasonal ARMA error models
+// for each number K of Fourier pairs and returns all fits ranked by AICc,
+// so that K is chosen by AICc too.
+func searchFourier(y []float64, base Spec, opt AutoOptions, approx bool) ([]*Fitted, error) {
+	var all []*Fitted
 	var lastErr error
 	maxK := min(opt.MaxFourier, base.Period/2)
 	for k := 1; k <= maxK; k++ {
 		s := base
 		s.Fourier = k
-		f, err := stepwise(y, s, opt, approx, false)
+		fs, err := stepwise(y, s, opt, approx, false)
 		if err != nil {
 			lastErr = err
 			continue
 		}
-		if best == nil || f.crit.AICc < best.crit.AICc {
-			best = f
-		}
+		all = append(all, fs...)
 	}
-	if best == nil {
+	if len(all) == 0 {
 		if lastErr == nil {
 			lastErr = errors.New("no Fourier model could be fitted")
 		}
 		return nil, lastErr
 	}
-	return best, nil
+	rankFits(all)
+	return all, nil
 }
 
 // fallback tries progressively simpler models after a failed search.

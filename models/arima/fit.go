@@ -13,7 +13,8 @@ import (
 // Options tunes a fixed-order fit. The zero value fits by exact maximum
 // likelihood with conditional-sum-of-squares starting values.
 type Options struct {
-	// Approximate stops after the conditional-sum-of-squares fit and
+	// Approximate stops after the conditional-sum-of-squares fit, with any
+	// regression coefficients held at their least-squares values, and
 	// reports its approximate likelihood. The automatic search uses it to
 	// rank candidates cheaply on long series; the chosen model is always
 	// refitted exactly.
@@ -47,6 +48,9 @@ type problem struct {
 	beta       []float64
 	kal        numeric.ARMAKalman
 	evals      int
+	// fixBeta holds the regression coefficients at their least-squares
+	// values (the approximate fit used to rank candidates).
+	fixBeta bool
 }
 
 // newProblem differences the series and sets up regressors.
@@ -261,10 +265,19 @@ func invertSPD(a []float64, k int) ([]float64, bool) {
 	return inv, true
 }
 
-// nParams is the length of the unconstrained parameter vector.
+// nParams is the number of estimated coefficients (ARMA and regression).
 func (pr *problem) nParams() int {
 	s := pr.spec
 	return s.P + s.Q + s.SP + s.SQ + len(pr.x)
+}
+
+// nFree is the length of the optimiser's vector: nParams, less the
+// regression coefficients when they are held at their least-squares values.
+func (pr *problem) nFree() int {
+	if pr.fixBeta {
+		return pr.nParams() - len(pr.x)
+	}
+	return pr.nParams()
 }
 
 // unpack maps the unconstrained vector x to coefficients: each ARMA block
@@ -292,7 +305,11 @@ func (pr *problem) unpack(x []float64) {
 	block(pr.sar, 1)
 	block(pr.sma, -1)
 	for i := range pr.beta {
-		pr.beta[i] = pr.beta0[i] + pr.betaScale[i]*x[off+i]
+		if pr.fixBeta {
+			pr.beta[i] = pr.beta0[i]
+		} else {
+			pr.beta[i] = pr.beta0[i] + pr.betaScale[i]*x[off+i]
+		}
 	}
 	_ = s
 	pr.expand()
@@ -321,8 +338,10 @@ func (pr *problem) pack(x []float64) bool {
 	if !block(pr.ar, 1) || !block(pr.ma, -1) || !block(pr.sar, 1) || !block(pr.sma, -1) {
 		return false
 	}
-	for i := range pr.beta {
-		x[off+i] = (pr.beta[i] - pr.beta0[i]) / pr.betaScale[i]
+	if !pr.fixBeta {
+		for i := range pr.beta {
+			x[off+i] = (pr.beta[i] - pr.beta0[i]) / pr.betaScale[i]
+		}
 	}
 	return true
 }

@@ -79,10 +79,11 @@ func FitOrder(y []float64, spec Spec, opt Options) (*Fitted, error) {
 	if err != nil {
 		return nil, inputerr.New("model %s: %v", spec, err)
 	}
-	k := pr.nParams()
-	if len(pr.w) <= k+1 {
+	if k := pr.nParams(); len(pr.w) <= k+1 {
 		return nil, inputerr.New("model %s needs more than %d observations after differencing, the series has %d", spec, k+1, len(pr.w))
 	}
+	pr.fixBeta = opt.Approximate
+	k := pr.nFree()
 	f := &Fitted{spec: pr.spec, nObs: len(y), m: pr.m, delta: pr.delta, approx: opt.Approximate}
 	x := make([]float64, k)
 	if xc, err := minimize(pr.cssObjective, x); err == nil {
