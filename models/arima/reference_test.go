@@ -32,6 +32,7 @@ type refCase struct {
 	Fourier       []float64 `json:"fourier"`
 	Sigma2        float64   `json:"sigma2"`
 	LogLik        float64   `json:"loglik"`
+	AIC           float64   `json:"aic"`
 	Forecast      []float64 `json:"forecast"`
 	SE            []float64 `json:"se"`
 }
@@ -117,6 +118,11 @@ func TestAgainstR(t *testing.T) {
 					if !ok || math.Abs(got-*c.Intercept) > 0.01*math.Max(1, math.Abs(*c.Intercept)) {
 						t.Errorf("intercept %.5g, R %.5g", got, *c.Intercept)
 					}
+				}
+				// Same parameter count as R: AIC differs only through the
+				// log-likelihood.
+				if got := f.Criteria().AIC; math.Abs(got-c.AIC) > 0.1+1e-9 {
+					t.Errorf("AIC %.4f, R %.4f", got, c.AIC)
 				}
 				if math.Abs(f.Sigma2()/c.Sigma2-1) > 0.01 {
 					t.Errorf("sigma2 %.6g, R %.6g", f.Sigma2(), c.Sigma2)
