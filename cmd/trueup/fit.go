@@ -57,8 +57,8 @@ func newFitCmd() *cobra.Command {
 	cmd := &cobra.Command{
 		Use:   "fit --input FILE --time COL --value COL [--key COL] [--model SPEC]",
 		Short: "Fit a forecasting model to one series, or to each key's series",
-		Long: `Fits a seasonal ARIMA model to the series in a table, by exact maximum
-likelihood, and prints the estimates, information criteria, forecasts with
+		Long: `Fits a model (seasonal ARIMA unless --family says otherwise) to the series
+in a table by maximum likelihood, and prints the estimates, information criteria, forecasts with
 prediction intervals, and in-sample one-step residuals. With --key COL every
 value of that column is a separate series; without it the table must hold
 one series. Each series must have one row per period, with no gaps.
@@ -411,6 +411,7 @@ func writeFitText(w io.Writer, s fitSeries, m models.Model, h int, levels []floa
 			fmt.Fprintf(w, "  %-4s %.6g\n", map[bool]string{true: "mean", false: "drift"}[f.Form().D+f.Form().SD == 0], v)
 		}
 	}
+	writeModelText(w, m)
 	fmt.Fprintf(w, "  sigma2 %.6g  loglik %.3f  aic %.3f  aicc %.3f  bic %.3f\n", m.Sigma2(), c.LogLik, c.AIC, c.AICc, c.BIC)
 	if warn := m.Warning(); warn != "" {
 		fmt.Fprintf(w, "  warning: %s\n", warn)

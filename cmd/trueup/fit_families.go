@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"io"
 	"strings"
 
 	"trueup/models"
@@ -167,4 +168,41 @@ func setField(fields []jsonField, key string, v any) []jsonField {
 		}
 	}
 	return append(fields, jsonField{key, v})
+}
+
+// writeModelText prints the smoothing parameters of an ETS model, the
+// transform's λ, and the automatic choice's candidates and reason, for the
+// text output of trueup fit (ARIMA coefficients are printed by
+// writeFitText).
+func writeModelText(w io.Writer, m models.Model) {
+	switch x := m.(type) {
+	case *choose.Fitted:
+		writeModelText(w, x.Winner())
+		fmt.Fprintf(w, "  chosen: %s\n", x.Reason())
+		for _, s := range x.Scores() {
+			score := "failed: " + s.Err
+			if s.Err == "" {
+				score = fmt.Sprintf("validation MASE %.3f", s.MASE)
+			}
+			fmt.Fprintf(w, "    %-10s %-40s %s\n", s.Family, s.Spec, score)
+		}
+	case *transform.Fitted:
+		writeModelText(w, x.Inner())
+		if !x.Transform().Identity {
+			fmt.Fprintf(w, "  transform %s\n", x.Transform())
+		}
+	case *ets.Fitted:
+		p := x.Parameters()
+		fmt.Fprintf(w, "  alpha %.4f", p.Alpha)
+		if x.Form().HasTrend() {
+			fmt.Fprintf(w, "  beta %.4f", p.Beta)
+		}
+		if x.Form().Seasonal() {
+			fmt.Fprintf(w, "  gamma %.4f", p.Gamma)
+		}
+		if x.Form().Damped() {
+			fmt.Fprintf(w, "  phi %.4f", p.Phi)
+		}
+		fmt.Fprintln(w)
+	}
 }
