@@ -51,13 +51,15 @@ type errCov struct {
 
 // varianceFloor is the smallest residual variance a node may have,
 // relative to the mean residual variance of all nodes. A node whose every
-// residual is zero would otherwise get infinite weight and a singular
-// covariance.
+// residual is zero, or that has no residual at all (a series that never
+// had a sale, forecast as zero), would otherwise make W singular; at the
+// floor it counts as known almost exactly, which is what a zero residual
+// history says. Callers that cannot vouch for a node without residuals
+// (trueup reconcile) refuse it before it gets here.
 const varianceFloor = 1e-10
 
 // standardize computes D and X from residuals (n rows × T periods, NaN
-// where missing) and returns the number of observed periods per node. A
-// node without a single residual is an input error naming it.
+// where missing) and returns the number of observed periods per node.
 func standardize(res [][]float64, label func(int) string) (D, X []float64, obs []int, err error) {
 	n := len(res)
 	T := len(res[0])
@@ -80,10 +82,9 @@ func standardize(res [][]float64, label func(int) string) (D, X []float64, obs [
 				obs[i]++
 			}
 		}
-		if obs[i] == 0 {
-			return nil, nil, nil, inputerr.New("residuals of %s: no period has a residual", label(i))
+		if obs[i] > 0 {
+			D[i] = ss / float64(obs[i])
 		}
-		D[i] = ss / float64(obs[i])
 		if D[i] > 0 {
 			sum += D[i]
 			pos++

@@ -131,21 +131,36 @@ func TestMissingResiduals(t *testing.T) {
 	}
 }
 
-func TestResidualErrors(t *testing.T) {
+// TestDegenerateResiduals: a node with no residual at all or with all
+// residuals zero gets the variance floor, not an error or a NaN, and the
+// projection pins it to its base forecast.
+func TestDegenerateResiduals(t *testing.T) {
 	st := grouped(t, 1, 2, 2)
+	for _, fill := range []float64{math.NaN(), 0} {
+		p := problemFor(st, 10, 1, 3)
+		j := st.BottomOffset()
+		for k := range p.Residuals[j] {
+			p.Residuals[j][k] = fill
+		}
+		p.Base[j][0] = 0
+		w, err := p.errorCov()
+		if err != nil || !(w.D[j] > 0) || math.IsNaN(w.lambda) {
+			t.Fatalf("residuals all %v: D=%g λ=%g err=%v", fill, w.D[j], w.lambda, err)
+		}
+		for _, solver := range []Solver{SolverDense, SolverLarge} {
+			p.Solver = solver
+			sol, err := Projection{Cov: CovShrink}.Reconcile(p)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if math.Abs(sol.Forecast[j][0]) > 1e-6 || math.IsNaN(sol.Variance[j][0]) {
+				t.Errorf("residuals all %v, solver %d: forecast %g variance %g, want the base 0", fill, solver, sol.Forecast[j][0], sol.Variance[j][0])
+			}
+		}
+	}
 	p := problemFor(st, 10, 1, 3)
-	for k := range p.Residuals[2] {
-		p.Residuals[2][k] = math.NaN()
-	}
+	p.Residuals[1][4] = math.Inf(1)
 	if _, err := p.errorCov(); err == nil {
-		t.Error("a node without any residual was accepted")
-	}
-	p = problemFor(st, 10, 1, 3)
-	for k := range p.Residuals[2] {
-		p.Residuals[2][k] = 0 // a perfectly fitted node: floored, no NaN
-	}
-	w, err := p.errorCov()
-	if err != nil || !(w.D[2] > 0) || math.IsNaN(w.lambda) {
-		t.Errorf("all-zero residuals: D=%g λ=%g err=%v", w.D[2], w.lambda, err)
+		t.Error("infinite residual accepted")
 	}
 }
