@@ -58,8 +58,9 @@ func newFitCmd() *cobra.Command {
 		Use:   "fit --input FILE --time COL --value COL [--key COL] [--model SPEC]",
 		Short: "Fit a forecasting model to one series, or to each key's series",
 		Long: `Fits a model (seasonal ARIMA unless --family says otherwise) to the series
-in a table by maximum likelihood, and prints the estimates, information criteria, forecasts with
-prediction intervals, and in-sample one-step residuals. With --key COL every
+in a table by maximum likelihood, and prints the estimates, information
+criteria, forecasts with prediction intervals, and in-sample one-step
+residuals. With --key COL every
 value of that column is a separate series; without it the table must hold
 one series. Each series must have one row per period, with no gaps.
 
