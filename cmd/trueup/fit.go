@@ -60,9 +60,9 @@ func newFitCmd() *cobra.Command {
 		Long: `Fits a model (seasonal ARIMA unless --family says otherwise) to the series
 in a table by maximum likelihood, and prints the estimates, information
 criteria, forecasts with prediction intervals, and in-sample one-step
-residuals. With --key COL every
-value of that column is a separate series; without it the table must hold
-one series. Each series must have one row per period, with no gaps.
+residuals. With --key COL every value of that column is a separate series;
+without it the table must hold one series. Each series must have one row
+per period, with no gaps.
 
 Without --model the order is chosen automatically: differencing by the
 seasonal strength and KPSS tests, then a stepwise search by AICc. A model
