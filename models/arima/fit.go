@@ -47,7 +47,6 @@ type problem struct {
 	u, e       []float64
 	beta       []float64
 	kal        numeric.ARMAKalman
-	evals      int
 	// fixBeta holds the regression coefficients at their least-squares
 	// values (the approximate fit used to rank candidates).
 	fixBeta bool
@@ -285,7 +284,6 @@ func (pr *problem) nFree() int {
 // every x gives a stationary AR and an invertible MA; regression
 // coefficients are β0 + scale·x.
 func (pr *problem) unpack(x []float64) {
-	s := pr.spec
 	off := 0
 	block := func(dst []float64, sign float64) {
 		k := len(dst)
@@ -311,7 +309,6 @@ func (pr *problem) unpack(x []float64) {
 			pr.beta[i] = pr.beta0[i] + pr.betaScale[i]*x[off+i]
 		}
 	}
-	_ = s
 	pr.expand()
 }
 
@@ -390,7 +387,6 @@ func (pr *problem) errorsSeries() {
 // log-likelihood per observation up to a constant (the criterion that R's
 // stats::arima minimises too).
 func (pr *problem) mlObjective(x []float64) float64 {
-	pr.evals++
 	pr.unpack(x)
 	pr.errorsSeries()
 	ssq, sumLog, err := pr.kal.LogLik(pr.u, pr.phi, pr.theta)
@@ -404,7 +400,6 @@ func (pr *problem) mlObjective(x []float64) float64 {
 // cssObjective is ½ ln of the mean conditional sum of squares, conditioning
 // on the first p + P·m values of the differenced errors.
 func (pr *problem) cssObjective(x []float64) float64 {
-	pr.evals++
 	pr.unpack(x)
 	pr.errorsSeries()
 	ssq, k := pr.css()
