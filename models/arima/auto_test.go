@@ -225,3 +225,45 @@ func TestResidualsAreOneStepErrors(t *testing.T) {
 		t.Fatalf("t=1: residual %v, want %v", r[0], y[0]-mu)
 	}
 }
+
+// TestAutoSeasonalDifferencing: strongly seasonal quarterly and monthly
+// series from R's datasets (UKgas on the log scale, co2 1990–1997) have an
+// STL seasonal strength above 0.64, so one seasonal difference is taken.
+func TestAutoSeasonalDifferencing(t *testing.T) {
+	for _, c := range []struct {
+		series string
+		m      int
+		log    bool
+	}{{"ukgas", 4, true}, {"co2w", 12, false}} {
+		f, err := Auto(loadSeries(t, c.series), AutoOptions{Period: c.m, Log: c.log})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if f.Form().SD != 1 {
+			t.Errorf("%s: chose %s, want D=1", c.series, f.Spec())
+		}
+	}
+}
+
+// TestAutoDeterministic: the same input gives bit-identical output.
+func TestAutoDeterministic(t *testing.T) {
+	y := loadSeries(t, "usaccdeaths")
+	a, err := Auto(y, AutoOptions{Period: 12})
+	if err != nil {
+		t.Fatal(err)
+	}
+	b, err := Auto(y, AutoOptions{Period: 12})
+	if err != nil {
+		t.Fatal(err)
+	}
+	ma, va := a.Forecast(24)
+	mb, vb := b.Forecast(24)
+	if a.Spec() != b.Spec() {
+		t.Fatalf("%s vs %s", a.Spec(), b.Spec())
+	}
+	for i := range ma {
+		if ma[i] != mb[i] || va[i] != vb[i] {
+			t.Fatalf("step %d differs", i+1)
+		}
+	}
+}
