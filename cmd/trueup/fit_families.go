@@ -9,7 +9,6 @@ import (
 	"trueup/models/arima"
 	"trueup/models/choose"
 	"trueup/models/ets"
-	"trueup/models/naive"
 	"trueup/models/transform"
 )
 
@@ -98,15 +97,7 @@ func fitNaive(fam models.Family) func([]float64, int, *fitFlags) (models.Model, 
 // ETS, seasonal naive, drift and the ARIMA+ETS combination, validated at
 // the run's horizon.
 func fitAuto(y []float64, period int, fl *fitFlags) (models.Model, error) {
-	return transformed(newAutoFamily(), fl).Fit(y, models.FitOptions{Period: period, Horizon: fl.horizon})
-}
-
-// newAutoFamily is the automatic choice with the candidates' recommended
-// configuration (bench/ets/accuracy.md): ARIMA on the Box–Cox scale with λ
-// by Guerrero's method, ETS on the raw scale.
-func newAutoFamily() models.Family {
-	arimaBC := transform.Family{Inner: arima.Family{}, Opt: transform.Options{Kind: transform.BoxCox}}
-	return choose.New(arimaBC, ets.Family{}, naive.SeasonalNaive{}, naive.Drift{}, choose.Options{})
+	return transformed(choose.Standard(choose.Options{}), fl).Fit(y, models.FitOptions{Period: period, Horizon: fl.horizon})
 }
 
 // modelFields are the family-specific JSON fields of any model the fit

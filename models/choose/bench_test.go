@@ -6,10 +6,6 @@ import (
 	"time"
 
 	"trueup/models"
-	"trueup/models/arima"
-	"trueup/models/ets"
-	"trueup/models/naive"
-	"trueup/models/transform"
 )
 
 // BenchmarkAuto96 times the full automatic choice for one node: a 96-month
@@ -18,8 +14,7 @@ import (
 // combination, then the refit. Target: 150 ms per node on one core.
 func BenchmarkAuto96(b *testing.B) {
 	y := series(b, "AirPassengers")[:96]
-	arimaBC := transform.Family{Inner: arima.Family{}, Opt: transform.Options{Kind: transform.BoxCox}}
-	fam := New(arimaBC, ets.Family{}, naive.SeasonalNaive{}, naive.Drift{}, Options{})
+	fam := Standard(Options{})
 	start := cpuTime()
 	for b.Loop() {
 		if _, err := fam.Fit(y, models.FitOptions{Period: 12, Horizon: 12}); err != nil {

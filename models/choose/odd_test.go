@@ -5,10 +5,6 @@ import (
 	"testing"
 
 	"trueup/models"
-	"trueup/models/arima"
-	"trueup/models/ets"
-	"trueup/models/naive"
-	"trueup/models/transform"
 )
 
 // TestOddSeries: constant, all-zero, intermittent and negative series
@@ -16,8 +12,7 @@ import (
 // error or finite forecasts, variances and intervals — never a panic or
 // NaN.
 func TestOddSeries(t *testing.T) {
-	arimaBC := transform.Family{Inner: arima.Family{}, Opt: transform.Options{Kind: transform.BoxCox}}
-	fam := New(arimaBC, ets.Family{}, naive.SeasonalNaive{}, naive.Drift{}, Options{})
+	fam := Standard(Options{})
 	n := 60
 	cases := map[string]func(i int) float64{
 		"constant":     func(int) float64 { return 7 },
