@@ -13,6 +13,16 @@ import (
 // Options tunes a fixed-order fit. The zero value fits by exact maximum
 // likelihood with conditional-sum-of-squares starting values.
 type Options struct {
+	// XReg holds external regressors, one slice of len(y) values per
+	// column, estimated jointly with the ARIMA errors (regression with
+	// ARIMA errors; the columns are differenced like y). Nil for none.
+	XReg [][]float64
+	// XRegFuture holds each regressor's values for the periods after the
+	// sample, used by Forecast; steps beyond them hold each regressor at
+	// its last supplied value (at its last sample value when none are
+	// supplied). ForecastWith takes them per call instead.
+	XRegFuture [][]float64
+
 	// Approximate stops after the conditional-sum-of-squares fit, with any
 	// regression coefficients held at their least-squares values, and
 	// reports its approximate likelihood. The automatic search uses it to
@@ -52,8 +62,9 @@ type problem struct {
 	fixBeta bool
 }
 
-// newProblem differences the series and sets up regressors.
-func newProblem(y []float64, spec Spec) (*problem, error) {
+// newProblem differences the series and sets up regressors: the constant,
+// then the Fourier pairs, then the external columns xreg.
+func newProblem(y []float64, spec Spec, xreg [][]float64) (*problem, error) {
 	pr := &problem{spec: spec, y: y, m: max(spec.Period, 1)}
 	if !spec.seasonal() {
 		spec.SP, spec.SD, spec.SQ, spec.Fourier = 0, 0, 0, 0
@@ -96,8 +107,13 @@ func newProblem(y []float64, spec Spec) (*problem, error) {
 			pr.x = append(pr.x, regColumn(n, 0, func(t float64) float64 { return math.Cos(2 * math.Pi * fk * t / m) }))
 		}
 	}
-	for _, col := range pr.x {
-		pr.xd = append(pr.xd, difference(col, pr.delta))
+	pr.x = append(pr.x, xreg...)
+	for i, col := range pr.x {
+		d := difference(col, pr.delta)
+		if i >= len(pr.x)-len(xreg) && isConstant(append(d, 0)) {
+			return nil, fmt.Errorf("regressor %d is constant after differencing (it duplicates the differencing or the constant)", i-(len(pr.x)-len(xreg))+1)
+		}
+		pr.xd = append(pr.xd, d)
 	}
 	pr.ar = make([]float64, spec.P)
 	pr.ma = make([]float64, spec.Q)

@@ -20,8 +20,12 @@ type Fitted struct {
 	// Coefficients in the textbook signs of Spec.
 	ar, ma, sar, sma []float64
 	// beta holds the regression coefficients: the constant first (mean
-	// or drift slope) when Spec.Constant, then sin/cos pairs.
+	// or drift slope) when Spec.Constant, then sin/cos pairs, then the
+	// external regressors.
 	beta   []float64
+	nFour  int         // number of Fourier columns
+	xreg   [][]float64 // external regressors over the sample
+	future [][]float64 // their values after the sample (Options.XRegFuture)
 	sigma2 float64
 	crit   models.Criteria
 	nObs   int
@@ -75,7 +79,27 @@ func FitOrder(y []float64, spec Spec, opt Options) (*Fitted, error) {
 	if spec.Constant && spec.nDiff() > 1 {
 		return nil, inputerr.New("model %s: a constant needs d+D ≤ 1", spec)
 	}
-	pr, err := newProblem(y, spec)
+	for j, col := range opt.XReg {
+		if len(col) != len(y) {
+			return nil, inputerr.New("regressor %d has %d values for %d observations", j+1, len(col), len(y))
+		}
+		for i, v := range col {
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return nil, inputerr.New("regressor %d: value %d is not a finite number", j+1, i+1)
+			}
+		}
+	}
+	if len(opt.XRegFuture) != 0 && len(opt.XRegFuture) != len(opt.XReg) {
+		return nil, inputerr.New("%d future regressor columns for %d regressors", len(opt.XRegFuture), len(opt.XReg))
+	}
+	for j, col := range opt.XRegFuture {
+		for i, v := range col {
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return nil, inputerr.New("future regressor %d: value %d is not a finite number", j+1, i+1)
+			}
+		}
+	}
+	pr, err := newProblem(y, spec, opt.XReg)
 	if err != nil {
 		return nil, inputerr.New("model %s: %v", spec, err)
 	}
@@ -84,7 +108,12 @@ func FitOrder(y []float64, spec Spec, opt Options) (*Fitted, error) {
 	}
 	pr.fixBeta = opt.Approximate
 	k := pr.nFree()
-	f := &Fitted{spec: pr.spec, nObs: len(y), m: pr.m, delta: pr.delta, approx: opt.Approximate}
+	f := &Fitted{spec: pr.spec, nObs: len(y), m: pr.m, delta: pr.delta, approx: opt.Approximate,
+		xreg: opt.XReg, future: opt.XRegFuture}
+	f.nFour = len(pr.x) - len(opt.XReg)
+	if pr.spec.Constant {
+		f.nFour--
+	}
 	x := make([]float64, k)
 	if xc, err := minimize(pr.cssObjective, x); err == nil {
 		x = xc
@@ -159,7 +188,7 @@ func (f *Fitted) finish(pr *problem, x []float64) error {
 	f.zLags = make([]float64, nd)
 	for j := 0; j < nd; j++ {
 		t := T - 1 - j
-		f.zLags[j] = pr.z[t] - f.regression(t+1)
+		f.zLags[j] = pr.z[t] - f.regression(t+1, nil)
 	}
 	f.resid = make([]float64, T)
 	for t := 0; t < nd; t++ {
@@ -176,8 +205,10 @@ func (f *Fitted) finish(pr *problem, x []float64) error {
 	return nil
 }
 
-// regression is x_tᵀβ at time t (1-based) on the transformed scale.
-func (f *Fitted) regression(t int) float64 {
+// regression is x_tᵀβ at time t (1-based) on the transformed scale, with
+// future external regressor values taken from future (see
+// Options.XRegFuture).
+func (f *Fitted) regression(t int, future [][]float64) float64 {
 	var s float64
 	i := 0
 	tf := float64(t)
@@ -199,6 +230,19 @@ func (f *Fitted) regression(t int) float64 {
 			i++
 		}
 	}
+	for j, col := range f.xreg {
+		var v float64
+		switch h := t - f.nObs; {
+		case h <= 0:
+			v = col[t-1]
+		case j < len(future) && len(future[j]) > 0:
+			v = future[j][min(h, len(future[j]))-1]
+		default:
+			v = col[len(col)-1]
+		}
+		s += f.beta[i] * v
+		i++
+	}
 	return s
 }
 
@@ -207,7 +251,7 @@ func (f *Fitted) regression(t int) float64 {
 // distribution of the state space form extended by the nd lags of the
 // undifferenced errors, so that estimation-sample state uncertainty is
 // carried into the variances.
-func (f *Fitted) forecastTransformed(h int) (mean, variance []float64) {
+func (f *Fitted) forecastTransformed(h int, future [][]float64) (mean, variance []float64) {
 	mean = make([]float64, h)
 	variance = make([]float64, h)
 	if h <= 0 {
@@ -257,7 +301,7 @@ func (f *Fitted) forecastTransformed(h int) (mean, variance []float64) {
 			}
 			vv += c[i] * row
 		}
-		mean[k] = mu + f.regression(T+k+1)
+		mean[k] = mu + f.regression(T+k+1, future)
 		variance[k] = math.Max(vv, 0)
 		// s ← F s; V ← F V Fᵀ + σ² R Rᵀ.
 		for i := 0; i < n; i++ {
@@ -306,7 +350,14 @@ const maxExp = 700
 // built as mean ± z·sd from them are only approximate, so use Interval,
 // which back-transforms the exact quantiles.
 func (f *Fitted) Forecast(h int) (mean, variance []float64) {
-	mean, variance = f.forecastTransformed(h)
+	return f.ForecastWith(h, f.future)
+}
+
+// ForecastWith is Forecast with the external regressors' future values
+// given as one slice per column (steps beyond them hold each regressor at
+// its last given value).
+func (f *Fitted) ForecastWith(h int, future [][]float64) (mean, variance []float64) {
+	mean, variance = f.forecastTransformed(h, future)
 	if !f.spec.Log {
 		return mean, variance
 	}
@@ -327,7 +378,7 @@ func (f *Fitted) Forecast(h int) (mean, variance []float64) {
 // back-transformed, so with the log transform it is asymmetric and exact
 // (quantiles are preserved by monotone maps).
 func (f *Fitted) Interval(h int, level float64) (lo, hi []float64) {
-	mean, variance := f.forecastTransformed(h)
+	mean, variance := f.forecastTransformed(h, f.future)
 	lo = make([]float64, h)
 	hi = make([]float64, h)
 	level = math.Max(1e-6, math.Min(level, 1-1e-12))
@@ -371,10 +422,17 @@ func (f *Fitted) Intercept() (float64, bool) {
 // Fourier returns the Fourier regression coefficients in the order
 // sin_1, cos_1, sin_2, … (the cosine of k = m/2 is omitted).
 func (f *Fitted) Fourier() []float64 {
+	i := 0
 	if f.spec.Constant {
-		return append([]float64(nil), f.beta[1:]...)
+		i = 1
 	}
-	return append([]float64(nil), f.beta...)
+	return append([]float64(nil), f.beta[i:i+f.nFour]...)
+}
+
+// XRegCoef returns the coefficients of the external regressors
+// (Options.XReg), in column order.
+func (f *Fitted) XRegCoef() []float64 {
+	return append([]float64(nil), f.beta[len(f.beta)-len(f.xreg):]...)
 }
 
 // Params returns the orders and estimates in JSON-marshalable form.
@@ -399,6 +457,9 @@ func (f *Fitted) Params() map[string]any {
 	}
 	if s.Fourier > 0 {
 		p["fourier"] = f.Fourier()
+	}
+	if len(f.xreg) > 0 {
+		p["xreg"] = f.XRegCoef()
 	}
 	return p
 }

@@ -30,6 +30,8 @@ type refCase struct {
 	Intercept     *float64  `json:"intercept"`
 	FourierK      int       `json:"fourier_k"`
 	Fourier       []float64 `json:"fourier"`
+	Trend         bool      `json:"trend"`
+	XReg          []float64 `json:"xreg"`
 	Sigma2        float64   `json:"sigma2"`
 	LogLik        float64   `json:"loglik"`
 	AIC           float64   `json:"aic"`
@@ -86,7 +88,19 @@ func TestAgainstR(t *testing.T) {
 	for _, c := range loadCases(t) {
 		t.Run(c.Name, func(t *testing.T) {
 			y := loadSeries(t, c.Series)
-			f, err := FitOrder(y, c.spec(), Options{})
+			var opt Options
+			if c.Trend { // external regressor t = 1..n, future n+1..n+h
+				n, h := len(y), len(c.Forecast)
+				tr, fut := make([]float64, n), make([]float64, h)
+				for i := range tr {
+					tr[i] = float64(i + 1)
+				}
+				for i := range fut {
+					fut[i] = float64(n + i + 1)
+				}
+				opt.XReg, opt.XRegFuture = [][]float64{tr}, [][]float64{fut}
+			}
+			f, err := FitOrder(y, c.spec(), opt)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -113,6 +127,9 @@ func TestAgainstR(t *testing.T) {
 				if c.FourierK > 0 {
 					cmp("fourier", f.Fourier(), c.Fourier)
 				}
+				if c.Trend {
+					cmp("xreg", f.XRegCoef(), c.XReg)
+				}
 				if c.Intercept != nil {
 					got, ok := f.Intercept()
 					if !ok || math.Abs(got-*c.Intercept) > 0.01*math.Max(1, math.Abs(*c.Intercept)) {
@@ -130,7 +147,7 @@ func TestAgainstR(t *testing.T) {
 			} else {
 				t.Logf("higher optimum than R: loglik %.4f vs %.4f", ll, c.LogLik)
 			}
-			mean, v := f.forecastTransformed(len(c.Forecast))
+			mean, v := f.forecastTransformed(len(c.Forecast), f.future)
 			for k := range mean {
 				if rel := math.Abs(mean[k]-c.Forecast[k]) / math.Abs(c.Forecast[k]); rel > 0.005 {
 					t.Errorf("forecast h=%d: %.6g, R %.6g", k+1, mean[k], c.Forecast[k])

@@ -44,3 +44,22 @@ func TestSeasonalTermsNeedPeriod(t *testing.T) {
 		t.Errorf("seasonal MA without period: %v", err)
 	}
 }
+
+func TestXRegErrors(t *testing.T) {
+	y := loadSeries(t, "nile")
+	n := len(y)
+	ones := make([]float64, n)
+	for i := range ones {
+		ones[i] = 1
+	}
+	for name, opt := range map[string]Options{
+		"short column":   {XReg: [][]float64{ones[:n-1]}},
+		"constant after": {XReg: [][]float64{ones}},
+		"future columns": {XReg: [][]float64{ones}, XRegFuture: [][]float64{{1}, {2}}},
+	} {
+		spec := Spec{Q: 1, D: 1}
+		if _, err := FitOrder(y, spec, opt); err == nil || !inputerr.Is(err) {
+			t.Errorf("%s: got %v, want an input error", name, err)
+		}
+	}
+}
