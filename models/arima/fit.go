@@ -110,7 +110,7 @@ func newProblem(y []float64, spec Spec, xreg [][]float64) (*problem, error) {
 	pr.x = append(pr.x, xreg...)
 	for i, col := range pr.x {
 		d := difference(col, pr.delta)
-		if i >= len(pr.x)-len(xreg) && isConstant(append(d, 0)) {
+		if i >= len(pr.x)-len(xreg) && negligible(d, col) {
 			return nil, fmt.Errorf("regressor %d is constant after differencing (it duplicates the differencing or the constant)", i-(len(pr.x)-len(xreg))+1)
 		}
 		pr.xd = append(pr.xd, d)
@@ -489,4 +489,17 @@ func minimize(f func([]float64) float64, x0 []float64) ([]float64, error) {
 		return x0, fmt.Errorf("optimiser failed: %v; %v", err, err2)
 	}
 	return x0, fmt.Errorf("optimiser failed: %v", err)
+}
+
+// negligible reports whether every value of d is zero relative to the
+// scale of x (a regressor that differencing removed).
+func negligible(d, x []float64) bool {
+	var scale, big float64
+	for _, v := range x {
+		scale = math.Max(scale, math.Abs(v))
+	}
+	for _, v := range d {
+		big = math.Max(big, math.Abs(v))
+	}
+	return big <= 1e-12*scale
 }
