@@ -5,7 +5,8 @@
 // θ(B)Θ(B^m)ε_t with the textbook signs φ(B) = 1 − φ_1B − … and θ(B) =
 // 1 + θ_1B + …; under them the airline model on log Series G has
 // θ_1 ≈ −0.40, Θ_1 ≈ −0.56 (Box, Jenkins & Reinsel). The regression part
-// carries a mean (d+D = 0), a drift (d+D = 1) and Fourier pairs.
+// carries a mean (d+D = 0), a drift (d+D = 1), Fourier pairs and external
+// regressors (Options.XReg).
 //
 // Estimation (FitOrder) differences the (optionally log-transformed)
 // series and maximises the exact likelihood of the differenced series,
@@ -18,11 +19,12 @@
 // partial-autocorrelation parameterisation of Jones (1980), so every
 // iterate is stationary and invertible.
 //
-// Because the likelihood is that of the differenced series, log-likelihoods
-// of seasonally differenced models differ slightly (by about 0.01) from R's
-// stats::arima, which approximates a diffuse prior on the differenced-away
-// states with a large finite variance; at equal parameters the two agree
-// otherwise, and the tests hold the difference within 0.05.
+// Because the likelihood is that of the differenced series, it differs
+// slightly from R's stats::arima for differenced models (by up to about
+// 0.01 with a seasonal difference on the reference series), since R
+// approximates a diffuse prior on the differenced-away states by a large
+// finite variance; without differencing the two agree to rounding. The
+// tests hold the difference within 0.05.
 //
 // Auto chooses the differencing and orders (STL seasonal strength, KPSS,
 // the stepwise AICc search of Hyndman & Khandakar 2008, Fourier terms for
