@@ -65,6 +65,14 @@ func TestDemoIsCoherent(t *testing.T) {
 	}
 	checked := 0
 	for i := 0; i < n; i++ {
+		// The demo history has no negative value, so reconciliation is
+		// non-negative by default; the closed store is exactly zero.
+		if fc.Floats[i] < 0 || lo95.Floats[i] < 0 {
+			t.Fatalf("row %d: negative forecast %v or bound %v", i, fc.Floats[i], lo95.Floats[i])
+		}
+		if store.Strings[i] == "Copperbridge" && (fc.Floats[i] != 0 || hi95.Floats[i] != 0) {
+			t.Fatalf("closed store Copperbridge forecast %v, upper bound %v; want 0", fc.Floats[i], hi95.Floats[i])
+		}
 		if !(lo95.Floats[i] <= lo80.Floats[i] && lo80.Floats[i] <= fc.Floats[i] && fc.Floats[i] <= hi80.Floats[i] && hi80.Floats[i] <= hi95.Floats[i]) {
 			t.Fatalf("row %d: bounds out of order: %v %v %v %v %v", i, lo95.Floats[i], lo80.Floats[i], fc.Floats[i], hi80.Floats[i], hi95.Floats[i])
 		}

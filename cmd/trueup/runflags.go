@@ -39,7 +39,7 @@ func (f *runFlags) register(cmd *cobra.Command, defaultOut string) {
 	fl.StringVar(&f.method, "method", pipeline.DefaultMethod, "reconciliation: bottom-up, top-down-hist, top-down-avg, top-down-fcst, middle-out, mint")
 	fl.StringVar(&f.cov, "cov", "", "covariance for mint: identity, structural, variance, sample, shrink (default shrink)")
 	fl.StringVar(&f.at, "at", "", "level to reconcile from with middle-out, e.g. region+category")
-	fl.BoolVar(&f.nonnegative, "nonnegative", false, "keep reconciled bottom-level forecasts at or above zero")
+	fl.BoolVar(&f.nonnegative, "nonnegative", false, "keep reconciled bottom-level forecasts at or above zero\n(default: on for mint when the history has no negative value; --nonnegative=false turns it off)")
 	fl.StringVar(&f.levels, "levels", "80,95", "prediction interval levels in percent, comma-separated")
 	fl.IntVar(&f.workers, "workers", runtime.NumCPU(), "nodes fitted in parallel")
 	fl.StringVar(&f.out, "out", defaultOut, "directory for forecasts, models and run.json")
@@ -69,7 +69,9 @@ func (f *runFlags) apply(cmd *cobra.Command, cfg *pipeline.Config) error {
 	cfg.Method = f.method
 	cfg.Cov = f.cov
 	cfg.At = f.at
-	cfg.Nonnegative = f.nonnegative
+	if cmd.Flags().Changed("nonnegative") {
+		cfg.Nonnegative = &f.nonnegative
+	}
 	cfg.Levels = levels
 	cfg.Workers = f.workers
 	cfg.OutDir = f.out

@@ -61,8 +61,12 @@ func keyColumns(res *Result, repeat int) []tableio.Column {
 }
 
 // forecastTable has one row per node and step: level, key columns,
-// period, step, base, forecast and the interval bounds lo_L, hi_L.
+// period, step, base, forecast and the interval bounds lo_L, hi_L. The
+// bounds are Gaussian, forecast ± z·sd with sd from the coherent variance;
+// under non-negative reconciliation lower bounds below zero are raised to
+// zero (values below zero cannot occur, so coverage is unchanged).
 func forecastTable(cfg Config, res *Result) *tableio.Table {
+	nonnegative := cfg.Nonnegative != nil && *cfg.Nonnegative
 	h := cfg.Horizon
 	st := res.Structure
 	n := len(st.Nodes)
@@ -91,7 +95,11 @@ func forecastTable(cfg Config, res *Result) *tableio.Table {
 			fc.Floats = append(fc.Floats, f)
 			sd := math.Sqrt(math.Max(res.Solution.Variance[i][k], 0))
 			for l := range z {
-				bounds[2*l].Floats = append(bounds[2*l].Floats, f-z[l]*sd)
+				lo := f - z[l]*sd
+				if nonnegative {
+					lo = math.Max(lo, 0)
+				}
+				bounds[2*l].Floats = append(bounds[2*l].Floats, lo)
 				bounds[2*l+1].Floats = append(bounds[2*l+1].Floats, f+z[l]*sd)
 			}
 		}

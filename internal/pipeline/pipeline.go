@@ -37,7 +37,10 @@ type Config struct {
 	Method      string    // "" = DefaultMethod
 	Cov         string    // covariance for projection methods
 	At          string    // level for middle-out
-	Nonnegative bool      // non-negative reconciliation
+	// Nonnegative asks for non-negative reconciled bottom forecasts. nil
+	// means automatic: on for mint when the history has no negative value
+	// (sales cannot be negative), off otherwise.
+	Nonnegative *bool
 	Levels      []float64 // interval levels in percent; nil = 80, 95
 
 	Workers int              // parallel fits; < 1 means 1
@@ -146,7 +149,12 @@ func Run(cfg Config) (*Result, error) {
 		j, _ := st.BottomIndex(key)
 		bottom[j] = panel.Values[s]
 	}
-	history := st.S.Aggregate(bottom)
+	closed := closedBottoms(bottom)
+	history := fittingHistory(st, bottom, closed)
+	trading, err := openStructure(st, closed)
+	if err != nil {
+		return nil, err
+	}
 	stage("structure", start)
 
 	period := cfg.Period
@@ -162,12 +170,18 @@ func Run(cfg Config) (*Result, error) {
 	stage("fit", start)
 
 	start = time.Now()
-	prob := problem(st, history, fits)
-	prob.Nonnegative = cfg.Nonnegative
+	prob := problem(trading.st, trading.rows(history), trading.fits(fits))
+	if cfg.Nonnegative == nil {
+		auto := method.Name() == "mint" && panel.Stats.Negative == 0
+		cfg.Nonnegative = &auto
+		rep.Options["nonnegative"] = auto
+	}
+	prob.Nonnegative = *cfg.Nonnegative
 	sol, err := method.Reconcile(prob)
 	if err != nil {
 		return nil, err
 	}
+	sol = trading.expand(st, sol, cfg.Horizon)
 	stage("reconcile", start)
 
 	res := &Result{Structure: st, Panel: panel, Fits: fits, Solution: sol}

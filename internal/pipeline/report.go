@@ -76,7 +76,7 @@ func (c Config) options() map[string]any {
 		"input": c.Input, "format": string(c.Format), "time": c.Time, "value": c.Value,
 		"nest": c.Nest, "sum_duplicates": c.SumDuplicates, "grain": c.Grain, "period": c.Period,
 		"horizon": c.Horizon, "family": c.Family, "method": c.Method, "cov": c.Cov, "at": c.At,
-		"nonnegative": c.Nonnegative, "levels": c.Levels, "workers": c.Workers,
+		"nonnegative": c.Nonnegative, // nil until resolved "levels": c.Levels, "workers": c.Workers,
 		"out": c.OutDir, "formats": formats,
 	}
 }
