@@ -32,11 +32,11 @@ type Config struct {
 	Grain         string // "" = the data's own grain
 	Period        int    // seasonal period; 0 = from the grain
 
-	Horizon     int       // 0 = one seasonal cycle
-	Family      string    // "" = families.Default
-	Method      string    // "" = DefaultMethod
-	Cov         string    // covariance for projection methods
-	At          string    // level for middle-out
+	Horizon int    // 0 = one seasonal cycle
+	Family  string // "" = families.Default
+	Method  string // "" = DefaultMethod
+	Cov     string // covariance for projection methods
+	At      string // level for middle-out
 	// Nonnegative asks for non-negative reconciled bottom forecasts. nil
 	// means automatic: on for mint when the history has no negative value
 	// (sales cannot be negative), off otherwise.

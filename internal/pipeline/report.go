@@ -77,7 +77,7 @@ func (c Config) options() map[string]any {
 		"nest": c.Nest, "sum_duplicates": c.SumDuplicates, "grain": c.Grain, "period": c.Period,
 		"horizon": c.Horizon, "family": c.Family, "method": c.Method, "cov": c.Cov, "at": c.At,
 		"nonnegative": c.Nonnegative, // nil until resolved "levels": c.Levels, "workers": c.Workers,
-		"out": c.OutDir, "formats": formats,
+		"out":         c.OutDir, "formats": formats,
 	}
 }
 
