@@ -50,6 +50,9 @@ func resolveFitFamily(fl *fitFlags) (string, error) {
 	if name == arima.Name && kind == transform.BoxCox {
 		return "", fmt.Errorf("--transform boxcox is not available with --family arima (use none or log)")
 	}
+	if name == choose.Name && kind != transform.None {
+		return "", fmt.Errorf("--transform: --family auto sets the transform of each candidate itself (Box-Cox for ARIMA); leave --transform at none")
+	}
 	if fl.constant && name != arima.Name {
 		return "", fmt.Errorf("--constant applies to ARIMA models only")
 	}
@@ -95,9 +98,9 @@ func fitNaive(fam models.Family) func([]float64, int, *fitFlags) (models.Model, 
 
 // fitAuto runs the automatic choice among ARIMA (on the Box–Cox scale),
 // ETS, seasonal naive, drift and the ARIMA+ETS combination, validated at
-// the run's horizon.
+// the run's horizon (choose.Standard).
 func fitAuto(y []float64, period int, fl *fitFlags) (models.Model, error) {
-	return transformed(choose.Standard(choose.Options{}), fl).Fit(y, models.FitOptions{Period: period, Horizon: fl.horizon})
+	return choose.Standard(choose.Options{}).Fit(y, models.FitOptions{Period: period, Horizon: fl.horizon})
 }
 
 // modelFields are the family-specific JSON fields of any model the fit

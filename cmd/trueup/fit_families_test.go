@@ -88,6 +88,7 @@ func TestFitFamilyErrors(t *testing.T) {
 		{"--model", "ETS(A,N,N)", "--family", "arima"}, // family and model disagree
 		{"--family", "crystalball"},                    // unknown family
 		{"--family", "arima", "--transform", "boxcox"},
+		{"--family", "auto", "--transform", "log"},
 		{"--family", "ets", "--model", "ETS(A,N,N)", "--constant"},
 	} {
 		args := append(append([]string{}, base...), extra...)
