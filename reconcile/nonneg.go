@@ -3,6 +3,7 @@ package reconcile
 import (
 	"fmt"
 	"math"
+	"sync"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -17,8 +18,9 @@ type qpProblem interface {
 	linear(y []float64) []float64
 	// mul sets dst = P·v.
 	mul(dst, v []float64)
-	// solveFree solves P_FF·x_F = rhs_F with x = 0 off the free set.
-	solveFree(free []bool, rhs []float64) ([]float64, error)
+	// solveFree solves P_FF·x_F = rhs_F with x = 0 off the free set;
+	// x0, when not nil, is a starting guess for iterative solvers.
+	solveFree(free []bool, rhs, x0 []float64) ([]float64, error)
 }
 
 // nonnegative returns, column by column, the minimizer of the
@@ -36,25 +38,45 @@ func nonnegative(g projector, base *mat.Dense) (*mat.Dense, error) {
 		return nil, err
 	}
 	m, h := unc.Dims()
-	var qp qpProblem
+	var todo []int
 	for k := 0; k < h; k++ {
-		neg := false
 		for j := 0; j < m; j++ {
-			neg = neg || unc.At(j, k) < 0
-		}
-		if !neg {
-			continue
-		}
-		if qp == nil {
-			if qp, err = g.qp(); err != nil {
-				return nil, err
+			if unc.At(j, k) < 0 {
+				todo = append(todo, k)
+				break
 			}
 		}
-		b, err := activeSet(qp, mat.Col(nil, k, base), mat.Col(nil, k, unc))
-		if err != nil {
-			return nil, fmt.Errorf("non-negative reconciliation, step %d: %w", k+1, err)
+	}
+	// Steps are independent: two workers, each with its own scratch, and
+	// each step's answer written to its own column (deterministic).
+	const workers = 2
+	errs := make([]error, len(todo))
+	cols := make([][]float64, len(todo))
+	var wg sync.WaitGroup
+	for w := 0; w < workers && w < len(todo); w++ {
+		wg.Add(1)
+		go func(w int) {
+			defer wg.Done()
+			qp, err := g.qp()
+			for t := w; t < len(todo); t += workers {
+				if err != nil {
+					errs[t] = err
+					continue
+				}
+				k := todo[t]
+				cols[t], errs[t] = activeSet(qp, mat.Col(nil, k, base), mat.Col(nil, k, unc))
+				if errs[t] != nil {
+					errs[t] = fmt.Errorf("non-negative reconciliation, step %d: %w", k+1, errs[t])
+				}
+			}
+		}(w)
+	}
+	wg.Wait()
+	for t, k := range todo {
+		if errs[t] != nil {
+			return nil, errs[t]
 		}
-		unc.SetCol(k, b)
+		unc.SetCol(k, cols[t])
 	}
 	return unc, nil
 }
@@ -76,8 +98,10 @@ func activeSet(qp qpProblem, y, start []float64) ([]float64, error) {
 	// Initial feasible point: drop non-positive entries until the
 	// restricted optimum is positive on the free set.
 	var x []float64
+	guess := start
 	for {
-		s, err := qp.solveFree(free, q)
+		s, err := qp.solveFree(free, q, guess)
+		guess = s
 		if err != nil {
 			return nil, err
 		}
@@ -113,7 +137,7 @@ func activeSet(qp qpProblem, y, start []float64) ([]float64, error) {
 		}
 		free[bj] = true
 		for {
-			s, err := qp.solveFree(free, q)
+			s, err := qp.solveFree(free, q, x)
 			if err != nil {
 				return nil, err
 			}
@@ -155,7 +179,7 @@ func (q denseQP) mul(dst, v []float64) {
 	mat.NewVecDense(len(dst), dst).MulVec(q.d.p, mat.NewVecDense(len(v), v))
 }
 
-func (q denseQP) solveFree(free []bool, rhs []float64) ([]float64, error) {
+func (q denseQP) solveFree(free []bool, rhs, _ []float64) ([]float64, error) {
 	var idx []int
 	for j, f := range free {
 		if f {

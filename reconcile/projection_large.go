@@ -374,7 +374,9 @@ func (lp *largeProjector) notes() map[string]float64 {
 
 // qp implements projector for the large path: P = SᵀW⁻¹S applied with
 // W⁻¹ = Δ⁻¹ − Δ⁻¹U·K⁻¹·UᵀΔ⁻¹, K = I + UᵀΔ⁻¹U (the Woodbury identity),
-// and restricted solves by Jacobi-preconditioned conjugate gradients.
+// and restricted solves by conjugate gradients preconditioned with the
+// exact diagonal of P, diag(P)_j = Σ_{i∋j} 1/Δ_i − ‖L⁻¹V_j‖² with
+// V = SᵀΔ⁻¹U and K = L·Lᵀ, computed in O(nnz(S)·T + mT²).
 func (lp *largeProjector) qp() (qpProblem, error) {
 	w := lp.w
 	for i, d := range w.Delta {
@@ -382,43 +384,67 @@ func (lp *largeProjector) qp() (qpProblem, error) {
 			return nil, inputerr.New("non-negative reconciliation needs W⁻¹, and W is singular at %s; use --cov shrink", lp.st.Label(i))
 		}
 	}
-	q := &largeQP{lp: lp, T: w.rank()}
-	T := q.T
-	if T > 0 {
-		ud := mat.NewDense(lp.n, T, nil)
-		for i := 0; i < lp.n; i++ {
-			f := 1 / math.Sqrt(w.Delta[i])
-			for t := 0; t < T; t++ {
-				ud.Set(i, t, f*w.U[i*T+t])
-			}
-		}
-		k := mat.NewSymDense(T, nil)
-		k.SymOuterK(1, ud.T())
-		for t := 0; t < T; t++ {
-			k.SetSym(t, t, k.At(t, t)+1)
-		}
-		q.k = &mat.Cholesky{}
-		if !q.k.Factorize(k) {
-			return nil, fmt.Errorf("reconcile: I + UᵀΔ⁻¹U not positive definite")
-		}
-	}
-	// Jacobi preconditioner: diag(P)_j = Σ_{i∋j} (W⁻¹)… computed exactly
-	// by P·e_j would cost m products; the diagonal-part bound Σ_{i∋j} 1/Δ_i
-	// is used instead (any positive diagonal keeps CG exact).
-	q.diag = make([]float64, lp.m)
+	q := &largeQP{lp: lp, T: w.rank(), diag: make([]float64, lp.m)}
 	for i := 0; i < lp.n; i++ {
 		for _, j := range lp.st.S.Row(i) {
 			q.diag[j] += 1 / w.Delta[i]
 		}
 	}
+	T := q.T
+	if T == 0 {
+		return q, nil
+	}
+	q.u = blas64.General{Rows: lp.n, Cols: T, Stride: T, Data: w.U}
+	ud := blas64.General{Rows: lp.n, Cols: T, Stride: T, Data: make([]float64, lp.n*T)}
+	v := make([]float64, lp.m*T) // V = SᵀΔ⁻¹U, m × T
+	for i := 0; i < lp.n; i++ {
+		f := 1 / w.Delta[i]
+		src := w.U[i*T : (i+1)*T]
+		floats.ScaleTo(ud.Data[i*T:(i+1)*T], 1/math.Sqrt(w.Delta[i]), src)
+		for _, j := range lp.st.S.Row(i) {
+			floats.AddScaled(v[j*T:(j+1)*T], f, src)
+		}
+	}
+	k := blas64.Symmetric{N: T, Stride: T, Uplo: blas.Upper, Data: make([]float64, T*T)}
+	for t := 0; t < T; t++ {
+		k.Data[t*T+t] = 1
+	}
+	blas64.Syrk(blas.Trans, 1, ud, 1, k)
+	var ks mat.SymDense
+	ks.SetRawSymmetric(k)
+	q.k = &mat.Cholesky{}
+	if !q.k.Factorize(&ks) {
+		return nil, fmt.Errorf("reconcile: I + UᵀΔ⁻¹U not positive definite")
+	}
+	var l mat.TriDense
+	q.k.LTo(&l)
+	vt := mat.NewDense(lp.m, T, v)
+	var lv mat.Dense // (L⁻¹·Vᵀ)ᵀ = V·L⁻ᵀ
+	if err := lv.Solve(&l, vt.T()); err != nil {
+		return nil, fmt.Errorf("reconcile: Woodbury core solve: %w", err)
+	}
+	for j := 0; j < lp.m; j++ {
+		c := lv.ColView(j)
+		q.diag[j] -= mat.Dot(c, c)
+	}
+	for j, d := range q.diag {
+		if !(d > 0) {
+			return nil, fmt.Errorf("reconcile: diagonal of SᵀW⁻¹S not positive at bottom %d", j)
+		}
+	}
+	q.s = make([]float64, T)
 	return q, nil
 }
 
 type largeQP struct {
 	lp   *largeProjector
 	T    int
-	k    *mat.Cholesky
-	diag []float64
+	u    blas64.General // U, n × T
+	k    *mat.Cholesky  // K = I + UᵀΔ⁻¹U
+	diag []float64      // diag(P)
+	s    []float64      // T scratch
+	t1   []float64      // n scratch
+	t2   []float64      // n scratch
 }
 
 // winv sets dst = W⁻¹·v (n-vectors).
@@ -430,22 +456,18 @@ func (q *largeQP) winv(dst, v []float64) {
 	if q.T == 0 {
 		return
 	}
-	T := q.T
-	s := mat.NewVecDense(T, nil)
-	for i := range dst {
-		for t := 0; t < T; t++ {
-			s.SetVec(t, s.AtVec(t)+w.U[i*T+t]*dst[i])
-		}
-	}
-	if err := q.k.SolveVecTo(s, s); err != nil {
+	s := blas64.Vector{N: q.T, Inc: 1, Data: q.s}
+	blas64.Gemv(blas.Trans, 1, q.u, blas64.Vector{N: len(dst), Inc: 1, Data: dst}, 0, s)
+	sv := mat.NewVecDense(q.T, q.s)
+	if err := q.k.SolveVecTo(sv, sv); err != nil {
 		panic("reconcile: Woodbury core solve: " + err.Error())
 	}
+	if q.t1 == nil {
+		q.t1 = make([]float64, len(dst))
+	}
+	blas64.Gemv(blas.NoTrans, 1, q.u, s, 0, blas64.Vector{N: len(dst), Inc: 1, Data: q.t1})
 	for i, d := range w.Delta {
-		var u float64
-		for t := 0; t < T; t++ {
-			u += w.U[i*T+t] * s.AtVec(t)
-		}
-		dst[i] -= u / d
+		dst[i] -= q.t1[i] / d
 	}
 }
 
@@ -456,13 +478,19 @@ func (q *largeQP) linear(y []float64) []float64 {
 }
 
 func (q *largeQP) mul(dst, v []float64) {
-	sv := q.lp.st.S.MulVec(nil, v)
+	if q.t2 == nil {
+		q.t2 = make([]float64, q.lp.n)
+	}
+	sv := q.lp.st.S.MulVec(q.t2, v)
 	t := make([]float64, len(sv))
 	q.winv(t, sv)
 	q.lp.st.S.MulTransVec(dst, t)
 }
 
-func (q *largeQP) solveFree(free []bool, rhs []float64) ([]float64, error) {
+// solveFree solves P_FF·x_F = rhs_F by conjugate gradients started from
+// x0 (restricted to the free set), which the active-set method supplies
+// as its current point, so that consecutive solves start close.
+func (q *largeQP) solveFree(free []bool, rhs, x0 []float64) ([]float64, error) {
 	m := len(free)
 	mask := func(v []float64) {
 		for j := range v {
@@ -472,11 +500,21 @@ func (q *largeQP) solveFree(free []bool, rhs []float64) ([]float64, error) {
 		}
 	}
 	x := make([]float64, m)
-	r := append([]float64(nil), rhs...)
+	if x0 != nil {
+		copy(x, x0)
+		mask(x)
+	}
+	r := make([]float64, m)
+	q.mul(r, x)
+	for j := range r {
+		r[j] = rhs[j] - r[j]
+	}
 	mask(r)
-	bn := math.Sqrt(dot(r, r))
+	b := append([]float64(nil), rhs...)
+	mask(b)
+	bn := math.Sqrt(dot(b, b))
 	if bn == 0 {
-		return x, nil
+		return make([]float64, m), nil
 	}
 	z := make([]float64, m)
 	for j := range z {
@@ -486,15 +524,15 @@ func (q *largeQP) solveFree(free []bool, rhs []float64) ([]float64, error) {
 	ap := make([]float64, m)
 	rz := dot(r, z)
 	for it := 0; it < maxCGIter; it++ {
+		if math.Sqrt(dot(r, r)) <= solveTol*bn {
+			return x, nil
+		}
 		q.mul(ap, p)
 		mask(ap)
 		alpha := rz / dot(p, ap)
 		for j := range x {
 			x[j] += alpha * p[j]
 			r[j] -= alpha * ap[j]
-		}
-		if math.Sqrt(dot(r, r)) <= solveTol*bn {
-			return x, nil
 		}
 		for j := range z {
 			z[j] = r[j] / q.diag[j]
@@ -508,10 +546,4 @@ func (q *largeQP) solveFree(free []bool, rhs []float64) ([]float64, error) {
 	return nil, fmt.Errorf("conjugate gradients did not converge in %d iterations", maxCGIter)
 }
 
-func dot(a, b []float64) float64 {
-	var s float64
-	for i, x := range a {
-		s += x * b[i]
-	}
-	return s
-}
+func dot(a, b []float64) float64 { return floats.Dot(a, b) }
