@@ -67,7 +67,10 @@ const (
 const DenseMaxNodes = 600
 
 // DefaultPaths is the number of sample paths used when Problem.Paths is 0.
-const DefaultPaths = 100
+// At n = 1,971 (BenchmarkMinT's structure) 200 paths give standard
+// deviations within 2.5% of the exact ones for half the nodes and within
+// 6% for nine in ten; the error shrinks as 1/√paths.
+const DefaultPaths = 200
 
 // Solution is a coherent forecast.
 type Solution struct {

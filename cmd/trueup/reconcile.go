@@ -28,6 +28,7 @@ type reconcileConfig struct {
 	nest                     []string
 	method, cov, at          string
 	nonnegative              bool
+	paths                    int
 	levels                   string
 	out, formats             string
 }
@@ -83,6 +84,7 @@ into a plan.`,
 	fl.StringVar(&c.at, "at", "", "level to reconcile from with middle-out, e.g. region+category")
 	fl.BoolVar(&c.nonnegative, "nonnegative", false, "keep reconciled bottom-level forecasts at or above zero (mint)")
 	fl.StringVar(&c.levels, "levels", "80,95", "prediction interval levels in percent, comma-separated")
+	fl.IntVar(&c.paths, "paths", reconcile.DefaultPaths, fmt.Sprintf("sample paths behind mint's interval widths above %d nodes (more: slower, closer)", reconcile.DenseMaxNodes))
 	fl.StringVar(&c.out, "out", "trueup-reconciled", "directory for forecasts and run.json")
 	fl.StringVar(&c.formats, "format", "parquet", "output formats, comma-separated: parquet, csv, arrow")
 	return cmd
@@ -101,6 +103,9 @@ func runReconcile(cmd *cobra.Command, c reconcileConfig) error {
 	method, err := reconcile.ByName(c.method, c.cov, c.at)
 	if err != nil {
 		return err
+	}
+	if c.paths < 1 {
+		return &usageError{fmt.Errorf("--paths must be at least 1, got %d", c.paths)}
 	}
 	if c.nonnegative && c.method != "mint" {
 		return inputerr.New("--nonnegative applies to --method mint only")
@@ -130,7 +135,7 @@ func runReconcile(cmd *cobra.Command, c reconcileConfig) error {
 		return err
 	}
 	nodes := newNodeIndex(st, base.dicts)
-	p := reconcile.Problem{Structure: st, Nonnegative: c.nonnegative}
+	p := reconcile.Problem{Structure: st, Nonnegative: c.nonnegative, Paths: c.paths}
 	var periods []string
 	if p.Base, periods, err = base.matrix(nodes, "base", false); err != nil {
 		return err
