@@ -137,12 +137,12 @@ func runReconcile(cmd *cobra.Command, c reconcileConfig) error {
 	nodes := newNodeIndex(st, base.dicts)
 	p := reconcile.Problem{Structure: st, Nonnegative: c.nonnegative, Paths: c.paths}
 	var periods []string
-	if p.Base, periods, err = base.matrix(nodes, "base", false); err != nil {
+	if p.Base, periods, err = base.matrix(nodes, "base", everyPeriod); err != nil {
 		return err
 	}
 	hasVar := base.has("variance")
 	if hasVar {
-		if p.BaseVar, _, err = base.matrix(nodes, "variance", false); err != nil {
+		if p.BaseVar, _, err = base.matrix(nodes, "variance", everyPeriod); err != nil {
 			return err
 		}
 	}
@@ -160,7 +160,7 @@ func runReconcile(cmd *cobra.Command, c reconcileConfig) error {
 		if err := res.remap(base.dicts); err != nil {
 			return err
 		}
-		if p.Residuals, resPeriods, err = res.matrix(nodes, "residual", true); err != nil {
+		if p.Residuals, resPeriods, err = res.matrix(nodes, "residual", sameEnd); err != nil {
 			return err
 		}
 		if !hasVar {
@@ -180,9 +180,13 @@ func runReconcile(cmd *cobra.Command, c reconcileConfig) error {
 		if err := hist.remap(base.dicts); err != nil {
 			return err
 		}
-		if p.History, err = hist.bottomHistory(nodes); err != nil {
+		var bottom [][]float64
+		if bottom, _, err = hist.matrix(nodes, "value", bottomOnly); err != nil {
 			return err
 		}
+		// Aggregate the bottom rows to every node; missing values count as
+		// no sales (hierarchy.SumMatrix.Aggregate).
+		p.History = st.S.Aggregate(bottom[st.BottomOffset():])
 	}
 	timings["read"] = time.Since(t0).Seconds()
 
@@ -405,21 +409,6 @@ func newNodeIndex(st *hierarchy.Structure, dicts []map[string]int32) nodeIndex {
 	return idx
 }
 
-// rowNodes returns the node of every row, or an error naming a row whose
-// key is not a node of the structure.
-func (nt *nodeTable) rowNodes(nodes nodeIndex) ([]int, error) {
-	out := make([]int, nt.rows)
-	buf := make([]byte, 4*len(nt.attrs))
-	for r := range out {
-		i, ok := nodes.m[string(nt.rowKey(buf, r))]
-		if !ok {
-			return nil, inputerr.New("%s row %d: %s is not a node of the structure built from the bottom series of --base (a key is set below an aggregated one, or the bottom series is unknown)", nt.path, r+2, nt.rowLabel(r))
-		}
-		out[r] = i
-	}
-	return out, nil
-}
-
 // sortPeriods orders period labels: by time when every label is a
 // period trueup reads (2024-03, 2024-Q1, 2024-W07, 2024-03-31), else by
 // number when every label is one, else it is an input error.
@@ -443,23 +432,36 @@ func sortPeriods(path string, labels []string) error {
 	return nil
 }
 
-// matrix arranges column col as nodes × periods. For base values every
-// node must have every period and values must be finite; for residuals
-// (missingOK) a node may lack periods at the start (it began late; null
-// values count as missing too) but every node's residuals must end at the
-// same period.
-func (nt *nodeTable) matrix(nodes nodeIndex, col string, missingOK bool) ([][]float64, []string, error) {
-	rowNode, err := nt.rowNodes(nodes)
-	if err != nil {
-		return nil, nil, err
-	}
+// fillMode says which rows a table must have.
+type fillMode int
+
+const (
+	// everyPeriod: every node has a finite value for every period (base
+	// forecasts, variances).
+	everyPeriod fillMode = iota
+	// sameEnd: every node has values, missing (absent or null) ones count
+	// as NaN, and every node's last period is the last period of the file
+	// (residuals: a node may start late, all end at the forecast origin).
+	sameEnd
+	// bottomOnly: only rows of bottom series are used; missing values are
+	// NaN (sales history).
+	bottomOnly
+)
+
+// matrix arranges column col as nodes × periods (sorted) under mode.
+func (nt *nodeTable) matrix(nodes nodeIndex, col string, mode fillMode) ([][]float64, []string, error) {
+	st := nodes.st
+	use := func(r int) bool { return mode != bottomOnly || nt.isBottom(r) }
 	pos := map[string]int{}
 	var labels []string
-	for _, l := range nt.period {
-		if _, ok := pos[l]; !ok {
+	for r, l := range nt.period {
+		if _, ok := pos[l]; !ok && use(r) {
 			pos[l] = 0
 			labels = append(labels, l)
 		}
+	}
+	if len(labels) == 0 {
+		return nil, nil, inputerr.New("%s has no rows for the bottom series", nt.path)
 	}
 	if err := sortPeriods(nt.path, labels); err != nil {
 		return nil, nil, err
@@ -467,7 +469,7 @@ func (nt *nodeTable) matrix(nodes nodeIndex, col string, missingOK bool) ([][]fl
 	for k, l := range labels {
 		pos[l] = k
 	}
-	n, h := len(nodes.st.Nodes), len(labels)
+	n, h := len(st.Nodes), len(labels)
 	out := make([][]float64, n)
 	buf := make([]float64, n*h)
 	for i := range buf {
@@ -478,8 +480,16 @@ func (nt *nodeTable) matrix(nodes nodeIndex, col string, missingOK bool) ([][]fl
 	}
 	seen := make([]bool, n*h)
 	vc := nt.t.Columns[nt.columns[col]]
+	key := make([]byte, 4*len(nt.attrs))
 	for r := 0; r < nt.rows; r++ {
-		i, k := rowNode[r], pos[nt.period[r]]
+		if !use(r) {
+			continue
+		}
+		i, ok := nodes.m[string(nt.rowKey(key, r))]
+		if !ok {
+			return nil, nil, inputerr.New("%s row %d: %s is not a node of the structure built from the bottom series of --base (a key is set below an aggregated one, or the bottom series is unknown)", nt.path, r+2, nt.rowLabel(r))
+		}
+		k := pos[nt.period[r]]
 		if seen[i*h+k] {
 			return nil, nil, inputerr.New("%s row %d: %s has a second row for period %s", nt.path, r+2, nt.rowLabel(r), nt.period[r])
 		}
@@ -488,138 +498,51 @@ func (nt *nodeTable) matrix(nodes nodeIndex, col string, missingOK bool) ([][]fl
 		if err != nil {
 			return nil, nil, inputerr.New("%s row %d column %s: %v", nt.path, r+2, col, err)
 		}
-		if null && missingOK {
+		if null && mode != everyPeriod {
 			continue
 		}
 		if null || math.IsNaN(v) || math.IsInf(v, 0) {
-			return nil, nil, inputerr.New("%s row %d: %s %s at %s is %v", nt.path, r+2, nt.rowLabel(r), col, nt.period[r], describe(v, null))
+			return nil, nil, inputerr.New("%s row %d: %s %s at %s is %s", nt.path, r+2, nt.rowLabel(r), col, nt.period[r], describe(v, null))
 		}
 		out[i][k] = v
 	}
-	missing := 0
-	var some []string
+	if mode == bottomOnly {
+		return out, labels, nil
+	}
+	var missing []string
 	for i := 0; i < n; i++ {
-		last := -1
-		any := false
-		for k := 0; k < h; k++ {
-			if seen[i*h+k] {
-				any = true
+		last, count := -1, 0
+		for k, ok := range seen[i*h : (i+1)*h] {
+			if ok {
 				last = k
+				count++
 			}
 		}
 		switch {
-		case !any || (!missingOK && last >= 0 && countTrue(seen[i*h:(i+1)*h]) < h):
-			missing++
-			if len(some) < 5 {
-				some = append(some, nodes.st.Label(i))
-			}
-		case missingOK && last != h-1:
-			return nil, nil, inputerr.New("%s: residual periods differ between nodes: %s ends at %s, others at %s (residuals must all end at the forecast origin)", nt.path, nodes.st.Label(i), labels[last], labels[h-1])
+		case count == 0 || mode == everyPeriod && count < h:
+			missing = append(missing, st.Label(i))
+		case mode == sameEnd && last != h-1:
+			return nil, nil, inputerr.New("%s: residual periods differ between nodes: %s ends at %s, others at %s (residuals must all end at the forecast origin)", nt.path, st.Label(i), labels[last], labels[h-1])
 		}
 	}
-	if missing > 0 {
-		what := "rows for some periods"
-		if missingOK {
+	if len(missing) > 0 {
+		what := "a row for every period"
+		if mode == sameEnd {
 			what = "residuals"
 		}
-		return nil, nil, inputerr.New("%s: %d nodes of the structure have no %s, e.g. %s", nt.path, missing, what, strings.Join(some, "; "))
+		return nil, nil, inputerr.New("%s: %d nodes of the structure lack %s, e.g. %s", nt.path, len(missing), what, strings.Join(missing[:min(5, len(missing))], "; "))
 	}
 	return out, labels, nil
 }
 
-// bottomHistory arranges the bottom rows of a history table and adds them
-// up to every node (missing values count as no sales; see
-// hierarchy.SumMatrix.Aggregate). Aggregate rows in the file are ignored.
-func (nt *nodeTable) bottomHistory(nodes nodeIndex) ([][]float64, error) {
-	var keep []int
-	for r := 0; r < nt.rows; r++ {
-		full := true
-		for a := range nt.attrs {
-			full = full && nt.codes[a][r] != 0
-		}
-		if full {
-			keep = append(keep, r)
-		}
-	}
-	sub := *nt
-	sub.rows = len(keep)
-	sub.codes = make([][]int32, len(nt.attrs))
+// isBottom reports whether row r sets every key attribute.
+func (nt *nodeTable) isBottom(r int) bool {
 	for a := range nt.attrs {
-		sub.codes[a] = make([]int32, len(keep))
-		for q, r := range keep {
-			sub.codes[a][q] = nt.codes[a][r]
+		if nt.codes[a][r] == 0 {
+			return false
 		}
 	}
-	sub.period = make([]string, len(keep))
-	vc := nt.t.Columns[nt.columns["value"]]
-	col := tableio.Column{Name: "value", Type: tableio.Float64, Floats: make([]float64, len(keep)), Null: make([]bool, len(keep))}
-	for q, r := range keep {
-		sub.period[q] = nt.period[r]
-		v, null, err := cellFloat(vc, r)
-		if err != nil {
-			return nil, inputerr.New("%s row %d column value: %v", nt.path, r+2, err)
-		}
-		col.Floats[q], col.Null[q] = v, null
-	}
-	sub.t = &tableio.Table{Columns: []tableio.Column{col}}
-	sub.columns = map[string]int{"value": 0}
-	if sub.rows == 0 {
-		return nil, inputerr.New("%s has no bottom-series rows", nt.path)
-	}
-	full, _, err := sub.matrixAllowMissing(nodes)
-	return full, err
-}
-
-// matrixAllowMissing arranges history rows; missing periods stay NaN.
-func (nt *nodeTable) matrixAllowMissing(nodes nodeIndex) ([][]float64, []string, error) {
-	rowNode, err := nt.rowNodes(nodes)
-	if err != nil {
-		return nil, nil, err
-	}
-	var labels []string
-	pos := map[string]int{}
-	for _, l := range nt.period {
-		if _, ok := pos[l]; !ok {
-			pos[l] = 0
-			labels = append(labels, l)
-		}
-	}
-	if err := sortPeriods(nt.path, labels); err != nil {
-		return nil, nil, err
-	}
-	for k, l := range labels {
-		pos[l] = k
-	}
-	n, T := len(nodes.st.Nodes), len(labels)
-	out := make([][]float64, n)
-	for i := range out {
-		out[i] = make([]float64, T)
-		for t := range out[i] {
-			out[i][t] = math.NaN()
-		}
-	}
-	vc := nt.t.Columns[0]
-	for r := 0; r < nt.rows; r++ {
-		v, null, _ := cellFloat(vc, r)
-		if null {
-			continue
-		}
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return nil, nil, inputerr.New("%s: %s value at %s is %v", nt.path, nt.rowLabel(r), nt.period[r], v)
-		}
-		out[rowNode[r]][pos[nt.period[r]]] = v
-	}
-	return out, labels, nil
-}
-
-func countTrue(b []bool) int {
-	c := 0
-	for _, v := range b {
-		if v {
-			c++
-		}
-	}
-	return c
+	return true
 }
 
 func describe(v float64, null bool) string {

@@ -122,8 +122,28 @@ func TestReconcileCommand(t *testing.T) {
 			t.Error(err)
 		}
 	}
+	// top-down-avg with a history where the stores sell 1, 3 and 4 a
+	// month (plus an aggregate row, which is ignored): shares 1/8, 3/8, 4/8
+	// of the total's base forecast (Gross & Sohl 1990, proportions of the
+	// historical averages).
+	var hb strings.Builder
+	hb.WriteString("region,store,period,value\n,,2025-01,999\n")
+	for m := 1; m <= 6; m++ {
+		fmt.Fprintf(&hb, "R1,S1,2025-%02d,1\nR1,S2,2025-%02d,3\nR2,S3,2025-%02d,4\n", m, m, m)
+	}
+	hist := writeFile(t, dir, "hist.csv", hb.String())
+	out := filepath.Join(dir, "td")
+	if code := run([]string{"reconcile", "--base", base, "--history", hist, "--nest", "region,store", "--method", "top-down-avg", "--out", out, "--format", "csv"}); code != 0 {
+		t.Fatalf("top-down-avg exited %d", code)
+	}
+	fc := readForecasts(t, filepath.Join(out, "forecasts.csv"))
+	for store, share := range map[string]float64{"R1/S1": 1.0 / 8, "R1/S2": 3.0 / 8, "R2/S3": 4.0 / 8} {
+		if got := fc[store+"/2026-01"][1]; math.Abs(got-100*share) > 1e-9 {
+			t.Errorf("top-down-avg %s: %g, want %g", store, got, 100*share)
+		}
+	}
 	// Without residuals: forecasts, no bounds.
-	out := filepath.Join(dir, "plain")
+	out = filepath.Join(dir, "plain")
 	if code := run([]string{"reconcile", "--base", base, "--nest", "region,store", "--method", "mint", "--cov", "structural", "--out", out, "--format", "csv"}); code != 0 {
 		t.Fatalf("structural exited %d", code)
 	}
