@@ -201,18 +201,3 @@ func (c *errCov) rank() int {
 	}
 	return c.T
 }
-
-// at returns W_ij; for tests and the dense path.
-func (c *errCov) at(i, j int) float64 {
-	var s float64
-	if i == j {
-		s = c.Delta[i]
-	}
-	if c.U != nil {
-		T := c.T
-		for t := 0; t < T; t++ {
-			s += c.U[i*T+t] * c.U[j*T+t]
-		}
-	}
-	return s
-}

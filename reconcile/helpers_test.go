@@ -115,3 +115,18 @@ func checkCoherent(t *testing.T, st *hierarchy.Structure, sol Solution) {
 		}
 	}
 }
+
+// at returns W_ij of the diagonal-plus-low-rank covariance.
+func (c *errCov) at(i, j int) float64 {
+	var s float64
+	if i == j {
+		s = c.Delta[i]
+	}
+	if c.U != nil {
+		T := c.T
+		for t := 0; t < T; t++ {
+			s += c.U[i*T+t] * c.U[j*T+t]
+		}
+	}
+	return s
+}

@@ -152,6 +152,9 @@ func (p *Problem) dims() (n, m, h int, err error) {
 		return 0, 0, 0, fmt.Errorf("reconcile: %d base rows for %d nodes", len(p.Base), n)
 	}
 	h = len(p.Base[0])
+	if h == 0 {
+		return 0, 0, 0, inputerr.New("no forecast steps to reconcile")
+	}
 	for i, row := range p.Base {
 		if len(row) != h {
 			return 0, 0, 0, fmt.Errorf("reconcile: base row %d has %d steps, want %d", i, len(row), h)
