@@ -118,8 +118,9 @@ func TestReconcileCommand(t *testing.T) {
 				t.Errorf("bottom-up changed the store forecasts: %v %v", s1, tot)
 			}
 		}
-		if _, err := os.Stat(filepath.Join(out, "run.json")); err != nil {
-			t.Error(err)
+		run, err := os.ReadFile(filepath.Join(out, "run.json"))
+		if err != nil || !strings.Contains(string(run), `"lambda"`) {
+			t.Errorf("%s: run.json without the shrinkage λ: %v %s", method, err, run)
 		}
 	}
 	// top-down-avg with a history where the stores sell 1, 3 and 4 a
