@@ -25,7 +25,7 @@ can be repeated with "trueup forecast".`,
   trueup demo --out /tmp/demo --format parquet,csv --horizon 6`,
 		Args: noArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
-			cfg := pipeline.Config{Time: fixtures.DemoTimeColumn, Value: fixtures.DemoValueColumn, Nest: fixtures.DemoNest}
+			cfg := pipeline.Config{Source: pipeline.Source{Time: fixtures.DemoTimeColumn, Value: fixtures.DemoValueColumn, Nest: fixtures.DemoNest}}
 			if err := rf.apply(cmd, &cfg); err != nil {
 				return err
 			}

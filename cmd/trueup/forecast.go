@@ -4,20 +4,14 @@ import (
 	"github.com/spf13/cobra"
 
 	"trueup/internal/pipeline"
-	tableio "trueup/io"
 )
 
 func newForecastCmd() *cobra.Command {
 	var (
-		rf          runFlags
-		input       string
-		inputFormat string
-		timeCol     string
-		valueCol    string
-		nest        []string
-		sumDup      bool
-		grain       string
-		period      int
+		sf     sourceFlags
+		rf     runFlags
+		sumDup bool
+		period int
 	)
 	cmd := &cobra.Command{
 		Use:   "forecast --input FILE --nest CHAIN [--nest CHAIN ...]",
@@ -41,13 +35,12 @@ into a plan.`,
       --nest region,store --nest category --sum-duplicates --grain week`,
 		Args: noArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
-			cfg := pipeline.Config{
-				Input: input, Format: tableio.Format(inputFormat), Time: timeCol, Value: valueCol,
-				Nest: nest, SumDuplicates: sumDup, Grain: grain, Period: period,
+			src, err := sf.source()
+			if err != nil {
+				return err
 			}
-			if input == "" {
-				return &usageError{errMissing("--input")}
-			}
+			src.SumDuplicates = sumDup
+			cfg := pipeline.Config{Source: src, Period: period}
 			if err := rf.apply(cmd, &cfg); err != nil {
 				return err
 			}
@@ -58,16 +51,11 @@ into a plan.`,
 			return printSummary(cmd.OutOrStdout(), res, rf.json)
 		},
 	}
+	sf.register(cmd)
 	fl := cmd.Flags()
-	fl.StringVar(&input, "input", "", "sales table, .parquet or .csv")
-	fl.StringVar(&inputFormat, "input-format", "", "read the input as parquet or csv whatever its extension")
-	fl.StringVar(&timeCol, "time", "period", "period column: dates, timestamps, or labels such as 2024-03, 2024-Q1, 2024-W07")
-	fl.StringVar(&valueCol, "value", "sales", "numeric value column")
-	fl.StringArrayVar(&nest, "nest", nil, "key columns of one chain, coarse to fine, comma-separated (repeatable)")
 	fl.BoolVar(&sumDup, "sum-duplicates", false, "add up rows with the same key and period instead of refusing them")
-	fl.StringVar(&grain, "grain", "", "forecast at this grain, summing finer periods: day, week, month, quarter")
 	fl.IntVar(&period, "period", 0, "seasonal period (default from the grain: 7, 52, 12, 4)")
-	groupFlags(cmd, "Input", "input", "input-format", "time", "value", "nest", "sum-duplicates", "grain", "period")
+	groupFlags(cmd, "Input", "sum-duplicates", "period")
 	rf.register(cmd, "trueup-out")
 	return cmd
 }

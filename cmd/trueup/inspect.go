@@ -8,13 +8,11 @@ import (
 	"github.com/spf13/cobra"
 
 	"trueup/internal/pipeline"
-	tableio "trueup/io"
 )
 
 func newInspectCmd() *cobra.Command {
 	var (
-		cfg     pipeline.InspectConfig
-		format  string
+		sf      sourceFlags
 		asJSON  bool
 		listMax int
 	)
@@ -29,11 +27,11 @@ Nothing is written.`,
       --nest region,store --nest category`,
 		Args: noArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
-			if cfg.Input == "" {
-				return &usageError{errMissing("--input")}
+			src, err := sf.source()
+			if err != nil {
+				return err
 			}
-			cfg.Format = tableio.Format(format)
-			rep, err := pipeline.Inspect(cfg)
+			rep, err := pipeline.Inspect(src)
 			if err != nil {
 				return err
 			}
@@ -74,13 +72,8 @@ Nothing is written.`,
 			return nil
 		},
 	}
+	sf.register(cmd)
 	fl := cmd.Flags()
-	fl.StringVar(&cfg.Input, "input", "", "sales table, .parquet or .csv")
-	fl.StringVar(&format, "input-format", "", "read the input as parquet or csv whatever its extension")
-	fl.StringVar(&cfg.Time, "time", "period", "period column")
-	fl.StringVar(&cfg.Value, "value", "sales", "numeric value column")
-	fl.StringArrayVar(&cfg.Nest, "nest", nil, "key columns of one chain, coarse to fine (repeatable)")
-	fl.StringVar(&cfg.Grain, "grain", "", "inspect at this grain: day, week, month, quarter")
 	fl.BoolVar(&asJSON, "json", false, "print the report as JSON")
 	fl.IntVar(&listMax, "list", 10, "late-starting and early-ending series to list")
 	return cmd

@@ -6,7 +6,6 @@ import (
 	"testing"
 
 	"trueup/fixtures"
-	"trueup/hierarchy"
 	tableio "trueup/io"
 )
 
@@ -25,30 +24,15 @@ func BenchmarkReadAndAggregate(b *testing.B) {
 			b.Fatal(err)
 		}
 	}
-	chains, err := hierarchy.ParseNest(fixtures.DemoNest)
-	if err != nil {
-		b.Fatal(err)
-	}
+	src := Source{Input: path, Time: fixtures.DemoTimeColumn, Value: fixtures.DemoValueColumn,
+		Nest: fixtures.DemoNest, SumDuplicates: true}
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
-		rows, err := tableio.Read(path, tableio.ReadOptions{Time: fixtures.DemoTimeColumn, Value: fixtures.DemoValueColumn, Keys: fixtures.DemoKeys})
+		ld, err := src.load()
 		if err != nil {
 			b.Fatal(err)
 		}
-		pn, err := BuildPanel(rows, PanelOptions{SumDuplicates: true})
-		if err != nil {
-			b.Fatal(err)
-		}
-		st, err := hierarchy.Build(chains, pn.Keys)
-		if err != nil {
-			b.Fatal(err)
-		}
-		bottom := make([][]float64, len(pn.Keys))
-		for s, key := range pn.Keys {
-			j, _ := st.BottomIndex(key)
-			bottom[j] = pn.Values[s]
-		}
-		st.S.Aggregate(bottom)
-		b.ReportMetric(float64(rows.N), "rows")
+		ld.st.S.Aggregate(ld.bottom)
+		b.ReportMetric(float64(ld.rows.N), "rows")
 	}
 }

@@ -2,21 +2,7 @@ package pipeline
 
 import (
 	"math"
-
-	"trueup/hierarchy"
-	"trueup/internal/inputerr"
-	tableio "trueup/io"
 )
-
-// InspectConfig names the input and its columns, as for a forecast.
-type InspectConfig struct {
-	Input  string
-	Format tableio.Format
-	Time   string
-	Value  string
-	Nest   []string
-	Grain  string
-}
 
 // InspectReport describes an input table without fitting anything.
 type InspectReport struct {
@@ -49,59 +35,29 @@ type SeriesSpan struct {
 }
 
 // Inspect reads the table and reports its shape and oddities.
-func Inspect(cfg InspectConfig) (*InspectReport, error) {
-	if cfg.Time == "" || cfg.Value == "" {
-		return nil, inputerr.New("name the period and value columns with --time and --value")
-	}
-	chains, err := hierarchy.ParseNest(cfg.Nest)
-	if err != nil {
-		return nil, err
-	}
-	var keys []string
-	for _, c := range chains {
-		keys = append(keys, c...)
-	}
-	var grain *tableio.Grain
-	if cfg.Grain != "" {
-		g, err := tableio.ParseGrain(cfg.Grain)
-		if err != nil {
-			return nil, err
-		}
-		grain = &g
-	}
-	rows, err := tableio.Read(cfg.Input, tableio.ReadOptions{Format: cfg.Format, Time: cfg.Time, Value: cfg.Value, Keys: keys})
-	if err != nil {
-		return nil, err
-	}
+func Inspect(src Source) (*InspectReport, error) {
 	// Summing lets inspection count duplicates instead of stopping at the first.
-	pn, err := BuildPanel(rows, PanelOptions{Grain: grain, SumDuplicates: true})
+	src.SumDuplicates = true
+	ld, err := src.load()
 	if err != nil {
 		return nil, err
 	}
-	st, err := hierarchy.Build(chains, pn.Keys)
-	if err != nil {
-		return nil, err
-	}
+	pn, st := ld.panel, ld.st
 	rep := &InspectReport{
-		Input:     InputReport{Path: rows.Path, SHA256: rows.SHA256, Rows: rows.N, Columns: rows.Columns},
+		Input:     ld.inputReport(),
 		Grain:     pn.Grain.String(),
 		GrainFrom: pn.Stats.InferredFrom, FirstPeriod: pn.Period(0).String(), LastPeriod: pn.Period(pn.T - 1).String(),
 		Periods: pn.T, BottomSeries: st.NumBottom(), Nodes: len(st.Nodes),
 		ZeroValues: pn.Stats.Zero, NegativeRows: pn.Stats.Negative, GapPeriods: pn.Stats.Gaps,
 		LateStarts: []SeriesSpan{}, EarlyEnds: []SeriesSpan{},
 	}
-	if grain == nil || *grain == pn.Stats.NativeGrain {
+	if pn.Grain == pn.Stats.NativeGrain {
 		rep.DuplicateRows = pn.Stats.SummedRows
 	}
 	// Spans of every node: the openings and closures show at the
 	// coarsest level where they happen (a store, rather than each of its
 	// categories), so that is the level listed.
-	bottom := make([][]float64, len(pn.Keys))
-	for s, key := range pn.Keys {
-		j, _ := st.BottomIndex(key)
-		bottom[j] = pn.Values[s]
-	}
-	history := st.S.Aggregate(bottom)
+	history := st.S.Aggregate(ld.bottom)
 	for _, l := range st.Levels {
 		lc := LevelCount{Level: l.Name, Nodes: len(l.Nodes)}
 		var late, early []SeriesSpan

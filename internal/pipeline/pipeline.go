@@ -22,15 +22,9 @@ import (
 // Config is everything a forecast run needs. The zero value of each
 // optional field means the documented default.
 type Config struct {
-	Input  string         // path of the sales table
-	Format tableio.Format // "" = from the file extension
-	Time   string         // period column
-	Value  string         // value column
-	Nest   []string       // --nest values, each a chain coarse to fine
+	Source
 
-	SumDuplicates bool
-	Grain         string // "" = the data's own grain
-	Period        int    // seasonal period; 0 = from the grain
+	Period int // seasonal period; 0 = from the grain
 
 	Horizon int    // 0 = one seasonal cycle
 	Family  string // "" = families.Default
@@ -73,9 +67,6 @@ func (c *Config) Validate() error {
 			return inputerr.New("--levels must lie strictly between 0 and 100, got %v", l)
 		}
 	}
-	if c.Time == "" || c.Value == "" {
-		return inputerr.New("name the period and value columns with --time and --value")
-	}
 	if c.OutDir == "" {
 		return inputerr.New("give --out DIR for the result tables")
 	}
@@ -108,54 +99,23 @@ func Run(cfg Config) (*Result, error) {
 	if err != nil {
 		return nil, err
 	}
-	var grain *tableio.Grain
-	if cfg.Grain != "" {
-		g, err := tableio.ParseGrain(cfg.Grain)
-		if err != nil {
-			return nil, err
-		}
-		grain = &g
-	}
-	chains, err := hierarchy.ParseNest(cfg.Nest)
-	if err != nil {
-		return nil, err
-	}
-	var keyCols []string
-	for _, c := range chains {
-		keyCols = append(keyCols, c...)
-	}
-
 	rep := RunReport{Version: Version, Timings: map[string]float64{}}
 	stage := func(name string, start time.Time) { rep.Timings[name] = time.Since(start).Seconds() }
 
+	ld, err := cfg.Source.load()
+	if err != nil {
+		return nil, err
+	}
+	rep.Timings["read"], rep.Timings["structure"] = ld.readSeconds, ld.structureSeconds
+	panel, st, bottom := ld.panel, ld.st, ld.bottom
 	start := time.Now()
-	rows, err := tableio.Read(cfg.Input, tableio.ReadOptions{Format: cfg.Format, Time: cfg.Time, Value: cfg.Value, Keys: keyCols})
-	if err != nil {
-		return nil, err
-	}
-	stage("read", start)
-
-	start = time.Now()
-	panel, err := BuildPanel(rows, PanelOptions{Grain: grain, SumDuplicates: cfg.SumDuplicates})
-	if err != nil {
-		return nil, err
-	}
-	st, err := hierarchy.Build(chains, panel.Keys)
-	if err != nil {
-		return nil, err
-	}
-	bottom := make([][]float64, len(panel.Keys))
-	for s, key := range panel.Keys {
-		j, _ := st.BottomIndex(key)
-		bottom[j] = panel.Values[s]
-	}
 	closed := closedBottoms(bottom)
 	history := fittingHistory(st, bottom, closed)
 	trading, err := openStructure(st, closed)
 	if err != nil {
 		return nil, err
 	}
-	stage("structure", start)
+	rep.Timings["structure"] += time.Since(start).Seconds()
 
 	period := cfg.Period
 	if period == 0 {
@@ -185,7 +145,7 @@ func Run(cfg Config) (*Result, error) {
 	stage("reconcile", start)
 
 	res := &Result{Structure: st, Panel: panel, Fits: fits, Solution: sol}
-	rep.fill(cfg, rows, panel, st, fits, sol, method.Name(), period)
+	rep.fill(cfg, ld, panel, st, fits, sol, method.Name(), period)
 	start = time.Now()
 	files, err := writeOutputs(cfg, res, &rep)
 	if err != nil {

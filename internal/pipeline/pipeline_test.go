@@ -24,8 +24,8 @@ func TestSameBytesWhateverTheWorkers(t *testing.T) {
 	var outputs [][]byte
 	for _, workers := range []int{1, 3} {
 		out := filepath.Join(dir, "out", string(rune('0'+workers)))
-		_, err := Run(Config{Input: input, Time: fixtures.DemoTimeColumn, Value: fixtures.DemoValueColumn,
-			Nest: fixtures.DemoNest, Horizon: 6, Workers: workers, OutDir: out,
+		_, err := Run(Config{Source: Source{Input: input, Time: fixtures.DemoTimeColumn, Value: fixtures.DemoValueColumn,
+			Nest: fixtures.DemoNest}, Horizon: 6, Workers: workers, OutDir: out,
 			Formats: []tableio.Format{tableio.Parquet, tableio.CSV}})
 		if err != nil {
 			t.Fatal(err)

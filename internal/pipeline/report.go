@@ -81,8 +81,8 @@ func (c Config) options() map[string]any {
 	}
 }
 
-func (r *RunReport) fill(cfg Config, rows *tableio.Rows, pn *Panel, st *hierarchy.Structure, fits []NodeFit, sol reconcile.Solution, method string, period int) {
-	r.Input = InputReport{Path: rows.Path, SHA256: rows.SHA256, Rows: rows.N, Columns: rows.Columns}
+func (r *RunReport) fill(cfg Config, ld *loaded, pn *Panel, st *hierarchy.Structure, fits []NodeFit, sol reconcile.Solution, method string, period int) {
+	r.Input = ld.inputReport()
 	c := CountsReport{
 		BottomSeries: st.NumBottom(), Nodes: len(st.Nodes), Periods: pn.T,
 		FirstPeriod: pn.Period(0).String(), LastPeriod: pn.Period(pn.T - 1).String(),
