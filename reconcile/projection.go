@@ -2,9 +2,7 @@ package reconcile
 
 import (
 	"math"
-	"sync"
 
-	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 
 	"trueup/hierarchy"
@@ -283,135 +281,6 @@ func (d *denseProjector) errorFactor(w *errCov, _ int, _ uint64) (*factor, error
 }
 
 func (d *denseProjector) notes() map[string]float64 { return nil }
-
-// factor represents G·W·Gᵀ (m × m) for the variance computation:
-//
-//	G·W·Gᵀ ≈ E·Eᵀ + F·Fᵀ
-//
-// with E exact columns and F the reconciled sample paths G·ε_s/√N of the
-// diagonal part of W (nil when everything is exact). ctrl holds the same
-// paths before reconciliation, their bottom rows ε_s,bottom/√N, whose
-// second moments are known exactly (diag(Δ_bottom)); they serve as a
-// control variate (see factorVariance). deltaB is Δ_bottom.
-type factor struct {
-	exact       *mat.Dense
-	paths, ctrl *mat.Dense
-	deltaB      []float64
-}
-
-// factorVariance returns, for every node i and step h, the diagonal of
-// S·C_h·(G·W·Gᵀ)·C_h·Sᵀ: exactly Σ_r (Σ_{j∈i} c_hj E_jr)² for the exact
-// columns, O(nnz(S)·r) per step, plus the sampled part.
-//
-// The sampled part a_i = Σ_s (Σ_{j∈i} c_j F_js)² is improved by a control
-// variate (Glasserman 2004, Monte Carlo Methods in Financial Engineering,
-// §4.1): with α_is = Σ_{j∈i} c_j ctrl_js, whose mean square
-// μ_i = Σ_{j∈i} c_j² Δ_j is known, the estimate is
-// a_i − β_i (Σ_s α_is² − μ_i), β_i the sample regression coefficient of
-// the per-path squares. Reconciliation changes bottom series' errors
-// little, so for them and for small aggregates the sampled error nearly
-// cancels; where it does not, β_i ≈ 0 and the plain estimate is kept.
-// Steps are independent and shared between two goroutines.
-func factorVariance(st *hierarchy.Structure, c [][]float64, f *factor) [][]float64 {
-	n, m := st.S.Dims()
-	h := len(c[0])
-	out := newRows(n, h)
-	var mats []*mat.Dense
-	if f.exact != nil {
-		mats = append(mats, f.exact)
-	}
-	if f.paths != nil {
-		mats = append(mats, f.paths, f.ctrl)
-	}
-	// Per factor: fc holds c_j·F_j· for every bottom j, acc a node's sum.
-	type scratch struct{ fc, acc []float64 }
-	step := func(k int, sc []scratch, sums [][]float64) {
-		for q, fm := range mats {
-			_, r := fm.Dims()
-			raw := fm.RawMatrix()
-			for j := 0; j < m; j++ {
-				floats.ScaleTo(sc[q].fc[j*r:(j+1)*r], c[j][k], raw.Data[j*raw.Stride:j*raw.Stride+r])
-			}
-		}
-		for i := 0; i < n; i++ {
-			row := st.S.Row(i)
-			for q, fm := range mats {
-				_, r := fm.Dims()
-				fc := sc[q].fc
-				v := fc[row[0]*r : (row[0]+1)*r]
-				if len(row) > 1 {
-					acc := sc[q].acc
-					copy(acc, v)
-					for _, j := range row[1:] {
-						floats.Add(acc, fc[j*r:(j+1)*r])
-					}
-					v = acc
-				}
-				sums[q] = v
-			}
-			var v float64
-			q := 0
-			if f.exact != nil {
-				v = floats.Dot(sums[0], sums[0])
-				q = 1
-			}
-			if f.paths != nil {
-				var mu float64
-				for _, j := range row {
-					mu += c[j][k] * c[j][k] * f.deltaB[j]
-				}
-				v += controlled(sums[q], sums[q+1], mu)
-			}
-			out[i][k] = v
-		}
-	}
-	const workers = 2
-	var wg sync.WaitGroup
-	for w := 0; w < workers; w++ {
-		wg.Add(1)
-		go func(w int) {
-			defer wg.Done()
-			sc := make([]scratch, len(mats))
-			for q, fm := range mats {
-				_, r := fm.Dims()
-				sc[q] = scratch{make([]float64, m*r), make([]float64, r)}
-			}
-			sums := make([][]float64, len(mats))
-			for k := w; k < h; k += workers {
-				step(k, sc, sums)
-			}
-		}(w)
-	}
-	wg.Wait()
-	return out
-}
-
-// controlled returns Σ a_s² − β(Σ α_s² − mu) with β the least-squares
-// coefficient of a_s² on α_s²; the plain Σ a_s² if the result would not
-// be positive.
-func controlled(a, alpha []float64, mu float64) float64 {
-	N := float64(len(a))
-	var sa, sb float64
-	for s := range a {
-		sa += a[s] * a[s]
-		sb += alpha[s] * alpha[s]
-	}
-	ma, mb := sa/N, sb/N
-	var cov, vb float64
-	for s := range a {
-		x, y := a[s]*a[s]-ma, alpha[s]*alpha[s]-mb
-		cov += x * y
-		vb += y * y
-	}
-	if !(vb > 0) {
-		return sa
-	}
-	v := sa - cov/vb*(sb-mu)
-	if !(v > 0) {
-		return sa
-	}
-	return v
-}
 
 func denseRows(d *mat.Dense) [][]float64 {
 	r, c := d.Dims()
