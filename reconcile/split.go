@@ -218,7 +218,7 @@ func (t TopDown) Reconcile(p Problem) (Solution, error) {
 func historicalProportions(p *Problem, kind Proportions, m, h int) ([][]float64, error) {
 	st := p.Structure
 	if p.History == nil {
-		return nil, inputerr.New("top-down-%s needs the sales history of every bottom series", kind)
+		return nil, inputerr.New("top-down-%s needs the sales history of the bottom series (trueup reconcile: --history FILE)", kind)
 	}
 	off := st.BottomOffset()
 	T := len(p.History[off])
