@@ -73,7 +73,7 @@ var _ Method = Projection{}
 func (Projection) Name() string { return "mint" }
 
 // weights builds the W of the projection as a diagonal plus low rank
-// (errCov form). err is the residual covariance when residuals exist.
+// (errCov form). errc is the residual covariance, nil without residuals.
 func (pr Projection) weights(p *Problem, errc *errCov, n int) (*errCov, error) {
 	st := p.Structure
 	switch pr.Cov {

@@ -22,8 +22,9 @@ import (
 //	ỹ = y − W·Uc·(UcᵀWUc)⁻¹·Ucᵀy
 //
 // (the same projector as S(SᵀW⁻¹S)⁻¹SᵀW⁻¹: both are the projection onto
-// range(S) along W·range(Uc); see Wickramasuriya et al. 2019, eq. 9,
-// and Rao 1973, Linear Statistical Inference, §4a). Q = UcᵀWUc is k × k
+// range(S) = null(Ucᵀ) along W·range(Uc), common linear algebra;
+// Wickramasuriya et al. 2019 state MinT in this form too, §2.3 as cited
+// from memory). Q = UcᵀWUc is k × k
 // with W = diag(Δ) + U·Uᵀ, so Q·z costs two sparse products with the
 // summing matrix and two products with Y = UcᵀU (k × T). Q is solved by
 // block preconditioned conjugate gradients (Hestenes & Stiefel 1952),
