@@ -6,7 +6,32 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"sync"
 )
+
+// pending holds the temporary files being written, so that an interrupted
+// program can remove them (RemovePending) before it exits.
+var pending = tempSet{paths: map[string]bool{}}
+
+type tempSet struct {
+	mu    sync.Mutex
+	paths map[string]bool
+}
+
+func (s *tempSet) add(p string)    { s.mu.Lock(); s.paths[p] = true; s.mu.Unlock() }
+func (s *tempSet) remove(p string) { s.mu.Lock(); delete(s.paths, p); s.mu.Unlock() }
+
+// RemovePending deletes every temporary file a write in progress has
+// created. The command line calls it when interrupted, so that an
+// interrupted run leaves neither a half-written result nor a stray
+// temporary file; finished files are untouched.
+func RemovePending() {
+	pending.mu.Lock()
+	defer pending.mu.Unlock()
+	for p := range pending.paths {
+		os.Remove(p)
+	}
+}
 
 // WriteFileAtomic writes data to path so that readers see either the old
 // file or the complete new one, never a part: the bytes go to a temporary
@@ -32,6 +57,8 @@ func writeAtomic(path string, write func(w io.Writer) error) (err error) {
 		return fmt.Errorf("write %s: %w", path, err)
 	}
 	tmp := f.Name()
+	pending.add(tmp)
+	defer pending.remove(tmp)
 	defer func() {
 		if err != nil {
 			f.Close() // may already be closed; the first error is the one to report

@@ -249,3 +249,22 @@ func TestCSVFloatsInPlainNotation(t *testing.T) {
 		}
 	}
 }
+
+func TestRemovePendingDeletesTempFiles(t *testing.T) {
+	dir := t.TempDir()
+	path := filepath.Join(dir, "out.json")
+	err := writeAtomic(path, func(w io.Writer) error {
+		RemovePending() // as the interrupt handler would, mid-write
+		entries, _ := os.ReadDir(dir)
+		if len(entries) != 0 {
+			t.Errorf("temporary files left after RemovePending: %v", entries)
+		}
+		return errors.New("interrupted")
+	})
+	if err == nil {
+		t.Fatal("write succeeded after its temp file was removed")
+	}
+	if _, err := os.Stat(path); !os.IsNotExist(err) {
+		t.Errorf("%s exists after an interrupted write", path)
+	}
+}

@@ -7,9 +7,12 @@ import (
 	"errors"
 	"fmt"
 	"os"
+	"os/signal"
 	"strings"
+	"syscall"
 
 	"trueup/internal/inputerr"
+	tableio "trueup/io"
 )
 
 // Exit statuses.
@@ -20,7 +23,25 @@ const (
 )
 
 func main() {
+	go removeTempsOnInterrupt()
 	os.Exit(run(os.Args[1:]))
+}
+
+// removeTempsOnInterrupt waits for Ctrl-C or a termination signal, removes
+// the temporary files of writes in progress and exits with the shell's
+// status for the signal. Results are renamed into place only when complete,
+// so an interrupted run leaves the finished files and no partial one.
+func removeTempsOnInterrupt() {
+	sig := make(chan os.Signal, 1)
+	signal.Notify(sig, os.Interrupt, syscall.SIGTERM)
+	s := <-sig
+	tableio.RemovePending()
+	fmt.Fprintln(os.Stderr, "trueup: interrupted; no partial files left")
+	code := 130
+	if s == syscall.SIGTERM {
+		code = 143
+	}
+	os.Exit(code)
 }
 
 // run executes the command line and maps errors to exit statuses: input and

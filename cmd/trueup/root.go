@@ -24,6 +24,9 @@ regions, crossed with categories, and every total of them), chooses a
 seasonal model per node, and reconciles the forecasts so that every total
 equals the sum of its parts. Forecasts are estimates: review them before
 they go into a plan.`,
+		Example: `  trueup demo
+  trueup inspect --input sales.parquet --nest region,store --nest category
+  trueup forecast --input sales.parquet --nest region,store --nest category --out plan`,
 		Version:       pipeline.Version,
 		SilenceUsage:  true,
 		SilenceErrors: true,
