@@ -3,7 +3,6 @@ package main
 import (
 	"bufio"
 	"bytes"
-	"encoding/csv"
 	"encoding/json"
 	"fmt"
 	"math"
@@ -11,6 +10,7 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+	"trueup/fixtures/reference"
 )
 
 // writeAirCSV writes R's datasets::AirPassengers (Series G, committed under
@@ -18,25 +18,20 @@ import (
 // first 60 months halved and, when gap is set, one month removed.
 func writeAirCSV(t *testing.T, gap bool) string {
 	t.Helper()
-	f, err := os.Open("../../fixtures/reference/arima/airpass.csv")
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	recs, err := csv.NewReader(f).ReadAll()
+	air, err := reference.Series("arima/airpass.csv")
 	if err != nil {
 		t.Fatal(err)
 	}
 	var b strings.Builder
 	b.WriteString("month,store,sales\n")
-	for i, r := range recs[1:] {
-		fmt.Fprintf(&b, "%04d-%02d,north,%s\n", 1949+i/12, i%12+1, r[1])
+	for i, v := range air {
+		fmt.Fprintf(&b, "%04d-%02d,north,%g\n", 1949+i/12, i%12+1, v)
 	}
-	for i, r := range recs[1:61] {
+	for i, v := range air[:60] {
 		if gap && i == 30 {
 			continue
 		}
-		fmt.Fprintf(&b, "%04d-%02d,south,%s\n", 1949+i/12, i%12+1, r[1])
+		fmt.Fprintf(&b, "%04d-%02d,south,%g\n", 1949+i/12, i%12+1, v)
 	}
 	path := filepath.Join(t.TempDir(), "air.csv")
 	if err := os.WriteFile(path, []byte(b.String()), 0o644); err != nil {

@@ -1,35 +1,21 @@
 package numeric
 
 import (
-	"encoding/csv"
 	"encoding/json"
 	"math"
 	"os"
 	"path/filepath"
-	"strconv"
 	"testing"
+	"trueup/fixtures/reference"
 )
 
 const refDir = "../../fixtures/reference/arima"
 
 func loadSeries(t *testing.T, name string) []float64 {
 	t.Helper()
-	f, err := os.Open(filepath.Join(refDir, name+".csv"))
+	y, err := reference.Series("arima/" + name + ".csv")
 	if err != nil {
 		t.Fatal(err)
-	}
-	defer f.Close()
-	recs, err := csv.NewReader(f).ReadAll()
-	if err != nil {
-		t.Fatal(err)
-	}
-	var y []float64
-	for _, r := range recs[1:] {
-		v, err := strconv.ParseFloat(r[1], 64)
-		if err != nil {
-			t.Fatal(err)
-		}
-		y = append(y, v)
 	}
 	return y
 }

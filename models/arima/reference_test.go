@@ -1,13 +1,12 @@
 package arima
 
 import (
-	"encoding/csv"
 	"encoding/json"
 	"math"
 	"os"
 	"path/filepath"
-	"strconv"
 	"testing"
+	"trueup/fixtures/reference"
 )
 
 // refDir holds data and values from R 4.2.2 stats::arima and stats::stl
@@ -41,22 +40,9 @@ type refCase struct {
 
 func loadSeries(t testing.TB, name string) []float64 {
 	t.Helper()
-	f, err := os.Open(filepath.Join(refDir, name+".csv"))
+	y, err := reference.Series("arima/" + name + ".csv")
 	if err != nil {
 		t.Fatal(err)
-	}
-	defer f.Close()
-	recs, err := csv.NewReader(f).ReadAll()
-	if err != nil {
-		t.Fatal(err)
-	}
-	y := make([]float64, 0, len(recs)-1)
-	for _, r := range recs[1:] {
-		v, err := strconv.ParseFloat(r[1], 64)
-		if err != nil {
-			t.Fatal(err)
-		}
-		y = append(y, v)
 	}
 	return y
 }

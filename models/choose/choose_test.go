@@ -1,13 +1,11 @@
 package choose
 
 import (
-	"bufio"
 	"encoding/json"
 	"math"
-	"os"
-	"strconv"
 	"strings"
 	"testing"
+	"trueup/fixtures/reference"
 
 	"trueup/models"
 	"trueup/models/arima"
@@ -19,17 +17,9 @@ import (
 // provenance under fixtures/reference/ets/data.
 func series(t testing.TB, name string) []float64 {
 	t.Helper()
-	f, err := os.Open("../../fixtures/reference/ets/data/" + name + ".csv")
+	y, err := reference.Series("ets/data/" + name + ".csv")
 	if err != nil {
 		t.Fatal(err)
-	}
-	defer f.Close()
-	var y []float64
-	sc := bufio.NewScanner(f)
-	for sc.Scan() {
-		if v, err := strconv.ParseFloat(strings.TrimSpace(sc.Text()), 64); err == nil {
-			y = append(y, v)
-		}
 	}
 	return y
 }

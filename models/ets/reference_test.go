@@ -1,14 +1,12 @@
 package ets
 
 import (
-	"bufio"
 	"encoding/json"
 	"math"
 	"os"
 	"path/filepath"
-	"strconv"
-	"strings"
 	"testing"
+	"trueup/fixtures/reference"
 )
 
 // refDir holds outside reference values: R datasets (R 4.2.2, Debian
@@ -53,23 +51,9 @@ func loadRefs(t testing.TB) []refPair {
 // loadSeries reads one exported R dataset (comment line, header, values).
 func loadSeries(t testing.TB, name string) []float64 {
 	t.Helper()
-	f, err := os.Open(filepath.Join(refDir, "data", name+".csv"))
+	y, err := reference.Series("ets/data/" + name + ".csv")
 	if err != nil {
 		t.Fatal(err)
-	}
-	defer f.Close()
-	var y []float64
-	sc := bufio.NewScanner(f)
-	for sc.Scan() {
-		line := strings.TrimSpace(sc.Text())
-		if line == "" || strings.HasPrefix(line, "#") || strings.HasPrefix(line, `"`) {
-			continue
-		}
-		v, err := strconv.ParseFloat(line, 64)
-		if err != nil {
-			t.Fatalf("%s: %v", name, err)
-		}
-		y = append(y, v)
 	}
 	return y
 }

@@ -1,13 +1,11 @@
 package transform
 
 import (
-	"bufio"
 	"math"
 	"math/rand/v2"
-	"os"
-	"strconv"
 	"strings"
 	"testing"
+	"trueup/fixtures/reference"
 
 	"trueup/models"
 	"trueup/models/ets"
@@ -17,17 +15,9 @@ import (
 // with provenance under fixtures/reference/ets.
 func airPassengers(t *testing.T) []float64 {
 	t.Helper()
-	f, err := os.Open("../../fixtures/reference/ets/data/AirPassengers.csv")
+	y, err := reference.Series("ets/data/AirPassengers.csv")
 	if err != nil {
 		t.Fatal(err)
-	}
-	defer f.Close()
-	var y []float64
-	sc := bufio.NewScanner(f)
-	for sc.Scan() {
-		if v, err := strconv.ParseFloat(strings.TrimSpace(sc.Text()), 64); err == nil {
-			y = append(y, v)
-		}
 	}
 	return y
 }

@@ -18,15 +18,12 @@
 package main
 
 import (
-	"bufio"
-	"flag"
 	"fmt"
 	"math"
 	"os"
-	"path/filepath"
-	"strconv"
 	"strings"
 	"time"
+	"trueup/fixtures/reference"
 
 	"trueup/models"
 	"trueup/models/arima"
@@ -48,8 +45,6 @@ var seriesSet = []struct {
 }
 
 func main() {
-	dir := flag.String("data", "fixtures/reference/ets/data", "directory of exported R datasets")
-	flag.Parse()
 	arimaBC := transform.Family{Inner: arima.Family{}, Opt: transform.Options{Kind: transform.BoxCox}}
 	methods := []struct {
 		name string
@@ -71,7 +66,7 @@ func main() {
 	b.WriteString(" auto chose |\n|---|---|---|" + strings.Repeat("---|", len(methods)+1) + "\n")
 	start := time.Now()
 	for _, s := range seriesSet {
-		y, err := load(filepath.Join(*dir, s.name+".csv"))
+		y, err := reference.Series("ets/data/" + s.name + ".csv")
 		if err != nil {
 			fmt.Fprintln(os.Stderr, err)
 			os.Exit(1)
@@ -119,28 +114,4 @@ func seasonalNaiveMAE(y []float64, m int) float64 {
 		s += math.Abs(y[t] - y[t-m])
 	}
 	return s / float64(len(y)-m)
-}
-
-// load reads a one-column CSV written by export_datasets.R (a comment line,
-// a header, then values).
-func load(path string) ([]float64, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, err
-	}
-	defer f.Close()
-	var y []float64
-	sc := bufio.NewScanner(f)
-	for line := 1; sc.Scan(); line++ {
-		text := strings.TrimSpace(sc.Text())
-		if text == "" || strings.HasPrefix(text, "#") || strings.HasPrefix(text, `"`) {
-			continue
-		}
-		v, err := strconv.ParseFloat(text, 64)
-		if err != nil {
-			return nil, fmt.Errorf("%s:%d: %w", path, line, err)
-		}
-		y = append(y, v)
-	}
-	return y, sc.Err()
 }
