@@ -1,9 +1,7 @@
 package main
 
 import (
-	"bufio"
 	"bytes"
-	"encoding/json"
 	"fmt"
 	"math"
 	"os"
@@ -54,21 +52,8 @@ func runCapture(args ...string) (string, error) {
 // −0.4018, Θ1 = −0.5569, log-likelihood 244.70) and well-formed records.
 func TestFitJSONAirline(t *testing.T) {
 	path := writeAirCSV(t, false)
-	out, err := runCapture("fit", "--input", path, "--time", "month", "--value", "sales",
+	recs := fitRecords(t, "fit", "--input", path, "--time", "month", "--value", "sales",
 		"--key", "store", "--model", "ARIMA(0,1,1)(0,1,1)", "--transform", "log", "--horizon", "12", "--json")
-	if err != nil {
-		t.Fatal(err)
-	}
-	sc := bufio.NewScanner(strings.NewReader(out))
-	sc.Buffer(nil, 1<<20)
-	var recs []map[string]any
-	for sc.Scan() {
-		var r map[string]any
-		if err := json.Unmarshal(sc.Bytes(), &r); err != nil {
-			t.Fatalf("bad JSON line: %v", err)
-		}
-		recs = append(recs, r)
-	}
 	if len(recs) != 2 || recs[0]["key"] != "north" || recs[1]["key"] != "south" {
 		t.Fatalf("records: %d", len(recs))
 	}
