@@ -85,15 +85,8 @@ func newLargeProjector(st *hierarchy.Structure, w *errCov) (*largeProjector, err
 			return lp, lp.checkDiag()
 		}
 		// core = I + Yᵀ·D0⁻¹·Y.
-		c := blas64.Symmetric{N: T, Stride: T, Uplo: blas.Upper, Data: make([]float64, T*T)}
-		for t := 0; t < T; t++ {
-			c.Data[t*T+t] = 1
-		}
-		blas64.Syrk(blas.Trans, 1, ys, 1, c)
-		var cs mat.SymDense
-		cs.SetRawSymmetric(c)
-		lp.core = &mat.Cholesky{}
-		if !lp.core.Factorize(&cs) {
+		var ok bool
+		if lp.core, ok = identityPlusGram(ys); !ok {
 			return nil, fmt.Errorf("reconcile: preconditioner core not positive definite")
 		}
 	}
@@ -420,15 +413,8 @@ func (lp *largeProjector) qp() (qpProblem, error) {
 			floats.AddScaled(v[j*T:(j+1)*T], f, src)
 		}
 	}
-	k := blas64.Symmetric{N: T, Stride: T, Uplo: blas.Upper, Data: make([]float64, T*T)}
-	for t := 0; t < T; t++ {
-		k.Data[t*T+t] = 1
-	}
-	blas64.Syrk(blas.Trans, 1, ud, 1, k)
-	var ks mat.SymDense
-	ks.SetRawSymmetric(k)
-	q.k = &mat.Cholesky{}
-	if !q.k.Factorize(&ks) {
+	var ok bool
+	if q.k, ok = identityPlusGram(ud); !ok {
 		return nil, fmt.Errorf("reconcile: I + UᵀΔ⁻¹U not positive definite")
 	}
 	var l mat.TriDense
@@ -562,3 +548,19 @@ func (q *largeQP) solveFree(free []bool, rhs, x0 []float64) ([]float64, error) {
 }
 
 func dot(a, b []float64) float64 { return floats.Dot(a, b) }
+
+// identityPlusGram returns the Cholesky factor of I + XᵀX for an r × T
+// matrix X: the T × T core of a Woodbury inverse of a diagonal plus a rank-T
+// term. It reports false when the core is not positive definite.
+func identityPlusGram(x blas64.General) (*mat.Cholesky, bool) {
+	T := x.Cols
+	c := blas64.Symmetric{N: T, Stride: T, Uplo: blas.Upper, Data: make([]float64, T*T)}
+	for t := 0; t < T; t++ {
+		c.Data[t*T+t] = 1
+	}
+	blas64.Syrk(blas.Trans, 1, x, 1, c)
+	var cs mat.SymDense
+	cs.SetRawSymmetric(c)
+	var ch mat.Cholesky
+	return &ch, ch.Factorize(&cs)
+}
