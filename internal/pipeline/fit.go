@@ -92,8 +92,8 @@ func fitOne(y []float64, family models.Family, opt models.FitOptions) NodeFit {
 			return false
 		}
 		mean, variance := m.Forecast(h)
-		if !finite(mean) || !finite(variance) {
-			reasons = append(reasons, f.Name()+": non-finite forecast")
+		if err := usable(span, m.Residuals(), mean, variance); err != nil {
+			reasons = append(reasons, fmt.Sprintf("%s: %v", f.Name(), err))
 			return false
 		}
 		nf.Model, nf.Mean, nf.Variance = m, mean, variance
@@ -135,11 +135,37 @@ func safeFit(f models.Family, y []float64, opt models.FitOptions) (m models.Mode
 	return f.Fit(y, opt)
 }
 
-func finite(xs []float64) bool {
-	for _, x := range xs {
-		if math.IsNaN(x) || math.IsInf(x, 0) {
-			return false
+// explosionFactor bounds a usable fit: no forecast, forecast standard
+// deviation or residual may exceed this many times the largest absolute
+// value in the node's history. Sales that grow a thousandfold within a
+// plan's horizon are a numerical failure, not a forecast (a sanity bound of
+// common practice; the value is our choice).
+const explosionFactor = 1e3
+
+// usable rejects a fit whose forecasts, variances or residuals are not
+// finite or explode relative to the history, so that the node falls back
+// to a simpler family instead of poisoning the reconciliation.
+func usable(y, resid, mean, variance []float64) error {
+	scale := 0.0
+	for _, v := range y {
+		scale = math.Max(scale, math.Abs(v))
+	}
+	if scale == 0 {
+		scale = 1
+	}
+	bound := explosionFactor * scale
+	for k := range mean {
+		if math.IsNaN(mean[k]) || math.Abs(mean[k]) > bound {
+			return fmt.Errorf("forecast %g at step %d is not plausible", mean[k], k+1)
+		}
+		if math.IsNaN(variance[k]) || variance[k] < 0 || math.Sqrt(variance[k]) > bound {
+			return fmt.Errorf("forecast variance %g at step %d is not plausible", variance[k], k+1)
 		}
 	}
-	return true
+	for t, r := range resid {
+		if math.Abs(r) > bound { // NaN (no one-step forecast) is allowed
+			return fmt.Errorf("in-sample residual %g at observation %d is not plausible", r, t+1)
+		}
+	}
+	return nil
 }

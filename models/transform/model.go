@@ -200,7 +200,7 @@ func (f *Fitted) Interval(h int, level float64) (lo, hi []float64) {
 
 // Residuals implements models.Model: y_t − f⁻¹(ẑ_{t|t−1}) with ẑ the inner
 // one-step forecast (z_t minus the inner residual); NaN where the inner
-// model has none.
+// model has none or where ẑ has no inverse.
 func (f *Fitted) Residuals() []float64 {
 	rz := f.inner.Residuals()
 	out := make([]float64, len(f.y))
@@ -209,8 +209,15 @@ func (f *Fitted) Residuals() []float64 {
 			out[t] = math.NaN()
 			continue
 		}
-		zt := f.tr.forward(f.y[t])
-		out[t] = f.y[t] - f.tr.Inverse(zt-rz[t])
+		zhat := f.tr.forward(f.y[t]) - rz[t]
+		if !f.tr.invertible(zhat) {
+			// The one-step prediction lies outside the range the
+			// transform maps back from (λz + 1 ≤ 0, or beyond the float
+			// range): there is no data-scale prediction to compare with.
+			out[t] = math.NaN()
+			continue
+		}
+		out[t] = f.y[t] - f.tr.Inverse(zhat)
 	}
 	return out
 }

@@ -106,6 +106,26 @@ func (t Transform) Inverse(z float64) float64 {
 	return y
 }
 
+// invertible reports whether z lies in the range the inverse maps back to
+// a finite data value: λz + 1 > 0 for Box–Cox, e^z below the float range
+// for the log.
+func (t Transform) invertible(z float64) bool {
+	switch {
+	case math.IsNaN(z) || math.IsInf(z, 0):
+		return false
+	case t.Identity:
+		return true
+	case t.Lambda == 0:
+		return z < math.Log(math.MaxFloat64)
+	}
+	base := t.Lambda*z + 1
+	if base <= 0 {
+		return false
+	}
+	y := math.Pow(base, 1/t.Lambda)
+	return !math.IsInf(y, 0) && !math.IsNaN(y)
+}
+
 // derivInverse is dy/dz at z: (λz + 1)^{1/λ − 1}, or e^z.
 func (t Transform) derivInverse(z float64) float64 {
 	switch {

@@ -176,3 +176,25 @@ func TestWrappedETS(t *testing.T) {
 		}
 	}
 }
+
+// With λ = −1 the inverse y = 1/(1 − z) exists only for z < 1: a one-step
+// prediction at or beyond 1 has no data-scale value, so its residual is NaN
+// rather than a sentinel (Box & Cox 1964: the transform maps (0, ∞) onto
+// (−∞, 1/|λ|) for λ < 0).
+func TestInvertibleDomain(t *testing.T) {
+	tr := Transform{Lambda: -1}
+	for _, c := range []struct {
+		z    float64
+		want bool
+	}{{0.5, true}, {0.999, true}, {1, false}, {3, false}, {math.NaN(), false}} {
+		if got := tr.invertible(c.z); got != c.want {
+			t.Errorf("λ=−1, z=%v: invertible %v, want %v", c.z, got, c.want)
+		}
+	}
+	if (Transform{Lambda: 0}).invertible(800) {
+		t.Error("log: e^800 overflows but was called invertible")
+	}
+	if !(Transform{Identity: true}).invertible(1e300) {
+		t.Error("identity must invert every finite value")
+	}
+}
