@@ -2,7 +2,9 @@ package reconcile
 
 import (
 	"math"
+	"strings"
 	"testing"
+	"trueup/internal/inputerr"
 )
 
 // directLambda is the Schäfer & Strimmer (2005) shrinkage intensity for
@@ -162,5 +164,12 @@ func TestDegenerateResiduals(t *testing.T) {
 	p.Residuals[1][4] = math.Inf(1)
 	if _, err := p.errorCov(); err == nil {
 		t.Error("infinite residual accepted")
+	}
+	// A finite residual whose square overflows is refused up front, naming
+	// the node, instead of failing deep inside the solver.
+	p = problemFor(st, 10, 1, 3)
+	p.Residuals[1][4] = -math.MaxFloat64
+	if _, err := (Projection{Cov: CovShrink}).Reconcile(p); err == nil || !inputerr.Is(err) || !strings.Contains(err.Error(), st.Label(1)) {
+		t.Errorf("huge residual: got %v, want an input error naming %s", err, st.Label(1))
 	}
 }

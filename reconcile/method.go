@@ -143,6 +143,10 @@ func ByName(method, cov, at string) (Method, error) {
 	return nil, inputerr.New("unknown --method %q (use %s)", method, strings.Join(methodNames, ", "))
 }
 
+// maxResidual bounds residual magnitudes so that sums of squares and
+// cross products stay finite.
+const maxResidual = 1e150
+
 // dims checks the shapes and values of the problem and returns n, m, h.
 func (p *Problem) dims() (n, m, h int, err error) {
 	st := p.Structure
@@ -185,6 +189,15 @@ func (p *Problem) dims() (n, m, h int, err error) {
 	}
 	if p.Residuals != nil && len(p.Residuals[0]) == 0 {
 		return 0, 0, 0, inputerr.New("residuals have no periods")
+	}
+	for i, row := range p.Residuals {
+		for t, r := range row {
+			// NaN marks a missing residual; anything whose square
+			// overflows would turn every covariance into Inf or NaN.
+			if math.Abs(r) > maxResidual {
+				return 0, 0, 0, inputerr.New("residual of %s at period %d is %v, too large to use", st.Label(i), t+1, r)
+			}
+		}
 	}
 	return n, m, h, nil
 }
