@@ -4,7 +4,10 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
+	"math"
 	"path/filepath"
+	"sort"
+	"strconv"
 	"strings"
 	"text/tabwriter"
 
@@ -23,8 +26,19 @@ func printSummary(w io.Writer, res *pipeline.Result, asJSON bool) error {
 	c := rep.Counts
 	fmt.Fprintf(w, "Read %d rows: %d bottom series, %s to %s (%d %ss, seasonal period %d).\n",
 		rep.Input.Rows, c.BottomSeries, c.FirstPeriod, c.LastPeriod, c.Periods, c.Grain, c.SeasonalLag)
+	how := rep.Reconcile.Method
+	var extras []string
+	if cov, _ := rep.Options["cov"].(string); cov != "" {
+		extras = append(extras, "covariance "+cov)
+	}
+	if res.Nonnegative {
+		extras = append(extras, "non-negative")
+	}
+	if len(extras) > 0 {
+		how += " (" + strings.Join(extras, ", ") + ")"
+	}
 	fmt.Fprintf(w, "Forecast %d %ss ahead (%s to %s) for %d nodes, reconciled with %s.\n\n",
-		c.Horizon, c.Grain, c.ForecastRange[0], c.ForecastRange[1], c.Nodes, rep.Reconcile.Method)
+		c.Horizon, c.Grain, c.ForecastRange[0], c.ForecastRange[1], c.Nodes, how)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	fmt.Fprintln(tw, "level\tnodes")
 	for _, l := range rep.LevelCounts() {
@@ -39,12 +53,22 @@ func printSummary(w io.Writer, res *pipeline.Result, asJSON bool) error {
 	}
 	tw.Flush()
 	if len(rep.Reconcile.Notes) > 0 {
-		var notes []string
-		for k, v := range rep.Reconcile.Notes {
-			notes = append(notes, fmt.Sprintf("%s=%.4g", k, v))
+		keys := make([]string, 0, len(rep.Reconcile.Notes))
+		for k := range rep.Reconcile.Notes {
+			keys = append(keys, k)
 		}
-		fmt.Fprintf(w, "\nReconciliation: %s\n", strings.Join(notes, " "))
+		sort.Strings(keys)
+		var notes []string
+		for _, k := range keys {
+			label := noteLabels[k]
+			if label == "" {
+				label = k
+			}
+			notes = append(notes, fmt.Sprintf("%s = %.4g", label, rep.Reconcile.Notes[k]))
+		}
+		fmt.Fprintf(w, "\nReconciliation: %s.\n", strings.Join(notes, ", "))
 	}
+	printTotal(w, res)
 	if len(rep.Warnings) > 0 {
 		fmt.Fprintln(w, "\nWarnings:")
 		for _, warn := range rep.Warnings {
@@ -59,6 +83,58 @@ func printSummary(w io.Writer, res *pipeline.Result, asJSON bool) error {
 	fmt.Fprintln(w, "\nThese forecasts are estimates with stated uncertainty (lo_/hi_ columns);")
 	fmt.Fprintln(w, "they are for the people accountable for the plan to review, not to adopt unread.")
 	return nil
+}
+
+// noteLabels name the reconciliation facts for people.
+var noteLabels = map[string]string{
+	"lambda":         "shrinkage intensity λ",
+	"cg_iterations":  "conjugate-gradient iterations",
+	"variance_paths": "sample paths behind the interval widths",
+}
+
+// totalRows is how many forecast periods of the total the summary shows.
+const totalRows = 12
+
+// printTotal shows the total's coherent forecast with its narrowest
+// interval, period by period.
+func printTotal(w io.Writer, res *pipeline.Result) {
+	if len(res.Levels) == 0 {
+		return
+	}
+	level := res.Levels[0]
+	for _, l := range res.Levels {
+		level = math.Min(level, l)
+	}
+	lab := strconv.FormatFloat(level, 'f', -1, 64)
+	h := len(res.Solution.Forecast[0])
+	fmt.Fprintf(w, "\nTotal forecast with its %s%% interval:\n", lab)
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
+	fmt.Fprintf(tw, "period\tforecast\tlo_%s\thi_%s\t\n", lab, lab)
+	for k := 0; k < min(h, totalRows); k++ {
+		lo, hi := res.Bounds(0, k, level)
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t\n", res.ForecastPeriod(k), grouped(res.Solution.Forecast[0][k]), grouped(lo), grouped(hi))
+	}
+	tw.Flush()
+	if h > totalRows {
+		fmt.Fprintf(w, "(%d more periods in the forecasts table)\n", h-totalRows)
+	}
+}
+
+// grouped formats x rounded to a whole number with thousands separators,
+// as amounts read best: 3,813,724.
+func grouped(x float64) string {
+	s := strconv.FormatFloat(math.Abs(math.Round(x)), 'f', 0, 64)
+	var b strings.Builder
+	if x < 0 && s != "0" {
+		b.WriteByte('-')
+	}
+	for i, c := range s {
+		if i > 0 && (len(s)-i)%3 == 0 {
+			b.WriteByte(',')
+		}
+		b.WriteRune(c)
+	}
+	return b.String()
 }
 
 func errMissing(flag string) error { return fmt.Errorf("%s is required", flag) }

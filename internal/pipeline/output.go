@@ -61,12 +61,9 @@ func keyColumns(res *Result, repeat int) []tableio.Column {
 }
 
 // forecastTable has one row per node and step: level, key columns,
-// period, step, base, forecast and the interval bounds lo_L, hi_L. The
-// bounds are Gaussian, forecast ± z·sd with sd from the coherent variance;
-// under non-negative reconciliation lower bounds below zero are raised to
-// zero (values below zero cannot occur, so coverage is unchanged).
+// period, step, base, forecast and the interval bounds lo_L, hi_L (see
+// Result.Bounds).
 func forecastTable(cfg Config, res *Result) *tableio.Table {
-	nonnegative := cfg.Nonnegative != nil && *cfg.Nonnegative
 	h := cfg.Horizon
 	st := res.Structure
 	n := len(st.Nodes)
@@ -84,23 +81,18 @@ func forecastTable(cfg Config, res *Result) *tableio.Table {
 	}
 	labels := make([]string, h)
 	for k := range labels {
-		labels[k] = res.Panel.Period(res.Panel.T + k).String()
+		labels[k] = res.ForecastPeriod(k).String()
 	}
 	for i := 0; i < n; i++ {
 		for k := 0; k < h; k++ {
 			period.Strings = append(period.Strings, labels[k])
 			step.Ints = append(step.Ints, int64(k+1))
 			base.Floats = append(base.Floats, res.Fits[i].Mean[k])
-			f := res.Solution.Forecast[i][k]
-			fc.Floats = append(fc.Floats, f)
-			sd := math.Sqrt(math.Max(res.Solution.Variance[i][k], 0))
+			fc.Floats = append(fc.Floats, res.Solution.Forecast[i][k])
 			for l := range z {
-				lo := f - z[l]*sd
-				if nonnegative {
-					lo = math.Max(lo, 0)
-				}
+				lo, hi := res.bounds(i, k, z[l])
 				bounds[2*l].Floats = append(bounds[2*l].Floats, lo)
-				bounds[2*l+1].Floats = append(bounds[2*l+1].Floats, f+z[l]*sd)
+				bounds[2*l+1].Floats = append(bounds[2*l+1].Floats, hi)
 			}
 		}
 	}
@@ -145,6 +137,28 @@ func modelTable(res *Result) *tableio.Table {
 	cols = append(cols, family, spec, params, aicc, sigma2, nobs, warn)
 	return &tableio.Table{Columns: cols}
 }
+
+// Bounds returns the central prediction interval of node i at step k
+// (0-based) for a level in percent, as written to the forecasts table: the
+// Gaussian forecast ± z·sd with sd from the coherent variance. Under
+// non-negative reconciliation a lower bound below zero is raised to zero
+// (values below zero cannot occur, so coverage is unchanged).
+func (r *Result) Bounds(i, k int, level float64) (lo, hi float64) {
+	return r.bounds(i, k, quantile(level))
+}
+
+func (r *Result) bounds(i, k int, z float64) (lo, hi float64) {
+	f := r.Solution.Forecast[i][k]
+	sd := math.Sqrt(math.Max(r.Solution.Variance[i][k], 0))
+	lo, hi = f-z*sd, f+z*sd
+	if r.Nonnegative {
+		lo = math.Max(lo, 0)
+	}
+	return lo, hi
+}
+
+// ForecastPeriod is the calendar period of forecast step k (0-based).
+func (r *Result) ForecastPeriod(k int) tableio.Period { return r.Panel.Period(r.Panel.T + k) }
 
 // paramsJSON marshals parameters with sorted keys (encoding/json sorts map
 // keys), replacing non-finite numbers, which JSON cannot carry, by null.

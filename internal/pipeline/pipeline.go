@@ -52,6 +52,10 @@ type Result struct {
 	Fits      []NodeFit
 	Solution  reconcile.Solution
 	Report    RunReport
+	// Levels are the interval levels in percent; Nonnegative says whether
+	// the reconciliation was constrained to non-negative forecasts.
+	Levels      []float64
+	Nonnegative bool
 }
 
 // Validate checks the options that do not need the data.
@@ -94,6 +98,9 @@ func Run(cfg Config) (*Result, error) {
 	family, err := families.Registry().Lookup(cfg.Family)
 	if err != nil {
 		return nil, inputerr.New("--family: %v", err)
+	}
+	if cfg.Method == "mint" && cfg.Cov == "" {
+		cfg.Cov = "shrink"
 	}
 	method, err := reconcile.ByName(cfg.Method, cfg.Cov, cfg.At)
 	if err != nil {
@@ -144,7 +151,7 @@ func Run(cfg Config) (*Result, error) {
 	sol = trading.expand(st, sol, cfg.Horizon)
 	stage("reconcile", start)
 
-	res := &Result{Structure: st, Panel: panel, Fits: fits, Solution: sol}
+	res := &Result{Structure: st, Panel: panel, Fits: fits, Solution: sol, Levels: cfg.Levels, Nonnegative: *cfg.Nonnegative}
 	rep.fill(cfg, ld, panel, st, fits, sol, method.Name(), period)
 	start = time.Now()
 	files, err := writeOutputs(cfg, res, &rep)
