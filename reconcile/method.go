@@ -111,10 +111,13 @@ var methodNames = []string{"bottom-up", "top-down-hist", "top-down-avg", "top-do
 
 // ByName returns the method that --method, --cov and --at select. cov
 // applies to mint only (empty means shrink) and at to middle-out only
-// (where it is required); giving at with another method is an error.
+// (where it is required); giving either with another method is an error.
 func ByName(method, cov, at string) (Method, error) {
 	if at != "" && method != "middle-out" {
 		return nil, inputerr.New("--at %q applies to --method middle-out only", at)
+	}
+	if cov != "" && method != "mint" {
+		return nil, inputerr.New("--cov %q applies to --method mint only", cov)
 	}
 	switch method {
 	case "bottom-up":

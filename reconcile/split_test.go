@@ -157,7 +157,7 @@ func TestByName(t *testing.T) {
 			t.Errorf("cov %s: %v %v", c, m, err)
 		}
 	}
-	for _, bad := range [][3]string{{"mean", "", ""}, {"mint", "diagonal", ""}, {"middle-out", "", ""}, {"bottom-up", "", "region"}} {
+	for _, bad := range [][3]string{{"mean", "", ""}, {"mint", "diagonal", ""}, {"middle-out", "", ""}, {"bottom-up", "", "region"}, {"bottom-up", "shrink", ""}} {
 		_, err := ByName(bad[0], bad[1], bad[2])
 		if !inputerr.Is(err) {
 			t.Errorf("ByName%q: %v, want an input error", bad, err)
