@@ -53,6 +53,9 @@ Nothing is written.`,
 			fmt.Fprintf(w, "\nduplicate rows (same key and period): %d\n", rep.DuplicateRows)
 			fmt.Fprintf(w, "zero values: %d\nnegative values: %d\n", rep.ZeroValues, rep.NegativeRows)
 			fmt.Fprintf(w, "gap periods (no row inside a series' span, read as zero): %d\n", rep.GapPeriods)
+			for _, p := range rep.PartialPeriods {
+				fmt.Fprintf(w, "partial period: %s\n", p)
+			}
 			for _, group := range []struct {
 				title string
 				spans []pipeline.SeriesSpan

@@ -19,6 +19,9 @@ type InspectReport struct {
 	ZeroValues    int          `json:"zero_values"`
 	NegativeRows  int          `json:"negative_values"`
 	GapPeriods    int          `json:"gap_periods"` // periods inside a series' span with no row
+	// PartialPeriods names a first or last period only partly covered by
+	// the input's finer periods (with --grain).
+	PartialPeriods []string `json:"partial_periods"`
 	// LateStarts and EarlyEnds list the nodes starting after the first
 	// period (openings) or ending before the last (closures), at the
 	// coarsest level that has any.
@@ -48,7 +51,8 @@ func Inspect(src Source) (*InspectReport, error) {
 		Grain:     pn.Grain.String(),
 		GrainFrom: pn.Stats.InferredFrom, FirstPeriod: pn.Period(0).String(), LastPeriod: pn.Period(pn.T - 1).String(),
 		Periods: pn.T, BottomSeries: st.NumBottom(), Nodes: len(st.Nodes),
-		ZeroValues: pn.Stats.Zero, NegativeRows: pn.Stats.Negative, GapPeriods: pn.Stats.Gaps,
+		PartialPeriods: append([]string{}, pn.Stats.Partial...),
+		ZeroValues:     pn.Stats.Zero, NegativeRows: pn.Stats.Negative, GapPeriods: pn.Stats.Gaps,
 		LateStarts: []SeriesSpan{}, EarlyEnds: []SeriesSpan{},
 	}
 	if pn.Grain == pn.Stats.NativeGrain {

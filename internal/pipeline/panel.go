@@ -38,6 +38,10 @@ type PanelStats struct {
 	EarlyEnds    int // series whose last period is before the panel's last
 	NativeGrain  tableio.Grain
 	InferredFrom string // how the grain was found
+	// Partial lists the first or last period when it is only partly
+	// covered by finer input periods (a week with 3 of its 7 days, say):
+	// its total understates a full period.
+	Partial []string
 }
 
 // PanelOptions controls BuildPanel.
@@ -137,6 +141,10 @@ func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
 
 	tMin, tMax := minMax(tgt)
 	T := tMax - tMin + 1
+	var partial []string
+	if target != native {
+		partial = partialEdges(nat, tgt, native, target, tMin, tMax)
+	}
 	pn := &Panel{
 		Grain:   target,
 		First:   tableio.Period{Grain: target, Index: tMin},
@@ -146,6 +154,7 @@ func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
 	pn.Stats.Rows = rows.N
 	pn.Stats.NativeGrain = native
 	pn.Stats.InferredFrom = how
+	pn.Stats.Partial = partial
 	vals := make([][]float64, m)
 	has := make([][]bool, m)
 	backing := make([]float64, m*T)
@@ -204,6 +213,30 @@ func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
 	}
 	pn.Values = vals
 	return pn, nil
+}
+
+// partialEdges reports the first and last target periods that the input's
+// own periods cover only in part.
+func partialEdges(nat, tgt []int, native, target tableio.Grain, tMin, tMax int) []string {
+	var out []string
+	for _, edge := range []int{tMin, tMax} {
+		p := tableio.Period{Grain: target, Index: edge}
+		first := tableio.FromDate(p.Start(), native).Index
+		want := tableio.FromDate(p.Next(1).Start(), native).Index - first
+		seen := map[int]bool{}
+		for i, t := range tgt {
+			if t == edge {
+				seen[nat[i]] = true
+			}
+		}
+		if len(seen) < want {
+			out = append(out, fmt.Sprintf("%s has %d of its %d %ss", p, len(seen), want, native))
+		}
+		if tMin == tMax {
+			break
+		}
+	}
+	return out
 }
 
 // Period returns the calendar period of column t.

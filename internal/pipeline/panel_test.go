@@ -106,6 +106,20 @@ func TestPanelGrainFromDatesAndCoarsening(t *testing.T) {
 	if pn.Stats.SummedRows != 12 {
 		t.Errorf("summed rows %d", pn.Stats.SummedRows)
 	}
+	if len(pn.Stats.Partial) != 0 {
+		t.Errorf("two whole weeks reported partial: %v", pn.Stats.Partial)
+	}
+	// Ten days of January to months: January has 31 days, so the only
+	// month is partial.
+	month := tableio.Month
+	r10 := rowsOf(t, rows[:10], vals[:10])
+	pn, err = BuildPanel(r10, PanelOptions{Grain: &month})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(pn.Stats.Partial) != 1 || pn.Stats.Partial[0] != "2024-01 has 10 of its 31 days" {
+		t.Errorf("partial %v", pn.Stats.Partial)
+	}
 }
 
 func TestPanelRejectsMixedPeriodForms(t *testing.T) {

@@ -115,6 +115,9 @@ func (r *RunReport) fill(cfg Config, ld *loaded, pn *Panel, st *hierarchy.Struct
 	if pn.Stats.Negative > 0 {
 		r.Warnings = append(r.Warnings, fmt.Sprintf("%d rows have negative values (returns?); they were kept", pn.Stats.Negative))
 	}
+	for _, p := range pn.Stats.Partial {
+		r.Warnings = append(r.Warnings, "partial period: "+p+"; its total understates a full period (trim the input to whole periods)")
+	}
 	if pn.Stats.Gaps > 0 {
 		r.Warnings = append(r.Warnings, fmt.Sprintf("%d periods inside series' spans had no row and count as zero sales", pn.Stats.Gaps))
 	}
