@@ -89,10 +89,53 @@ func TestDemoIsCoherent(t *testing.T) {
 	if checked == 0 {
 		t.Fatal("no aggregate rows checked")
 	}
-	for _, f := range []string{"forecasts.csv", "models.parquet", "models.csv", "run.json"} {
+	for _, f := range []string{"forecasts.csv", "models.parquet", "models.csv", "residuals.parquet", "run.json"} {
 		if st, err := os.Stat(filepath.Join(out, f)); err != nil || st.Size() == 0 {
 			t.Errorf("%s missing or empty: %v", f, err)
 		}
+	}
+
+	// The tables feed trueup reconcile: bottom-up of the demo's base
+	// forecasts gives a total equal to the sum of the bottom bases.
+	again := filepath.Join(out, "again")
+	if code := run([]string{"reconcile", "--base", filepath.Join(out, "forecasts.parquet"),
+		"--residuals", filepath.Join(out, "residuals.parquet"), "--nest", "region,store", "--nest", "category",
+		"--method", "bottom-up", "--out", again}); code != 0 {
+		t.Fatalf("reconcile of the demo's tables exited %d", code)
+	}
+	rt, err := tableio.ReadTable(filepath.Join(again, "forecasts.parquet"), tableio.Parquet)
+	if err != nil {
+		t.Fatal(err)
+	}
+	base := col("base")
+	want := 0.0
+	for i := 0; i < n; i++ {
+		if level.Strings[i] == "region+store+category" && step.Ints[i] == 1 {
+			want += base.Floats[i]
+		}
+	}
+	var rlevel, rstep, rfc *tableio.Column
+	for i := range rt.Columns {
+		switch rt.Columns[i].Name {
+		case "level":
+			rlevel = &rt.Columns[i]
+		case "step":
+			rstep = &rt.Columns[i]
+		case "forecast":
+			rfc = &rt.Columns[i]
+		}
+	}
+	found := false
+	for i := range rfc.Floats {
+		if rlevel.Strings[i] == "total" && rstep.Ints[i] == 1 {
+			found = true
+			if math.Abs(rfc.Floats[i]-want) > 1e-9*want {
+				t.Errorf("bottom-up total %v, sum of bottom bases %v", rfc.Floats[i], want)
+			}
+		}
+	}
+	if !found {
+		t.Error("reconciled table has no total at step 1")
 	}
 }
 

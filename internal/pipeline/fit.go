@@ -22,6 +22,17 @@ type NodeFit struct {
 	Closed   bool // the node stopped trading before the panel's last period
 }
 
+// residualsOnCalendar fills dst (one entry per panel period) with the
+// node's in-sample one-step residuals, NaN where it has none.
+func (nf *NodeFit) residualsOnCalendar(dst []float64) {
+	for t := range dst {
+		dst[t] = math.NaN()
+	}
+	if nf.Model != nil {
+		copy(dst[nf.First:], nf.Model.Residuals())
+	}
+}
+
 // fitNodes fits family to every node series in parallel. Results are
 // placed by node index, so the output does not depend on the number of
 // workers or the order in which they finish.

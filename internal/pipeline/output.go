@@ -23,6 +23,7 @@ func writeOutputs(cfg Config, res *Result, rep *RunReport) ([]string, error) {
 	}{
 		{"forecasts", forecastTable(cfg, res)},
 		{"models", modelTable(res)},
+		{"residuals", residualTable(res)},
 	}
 	var files []string
 	for _, f := range cfg.Formats {
@@ -99,6 +100,31 @@ func forecastTable(cfg Config, res *Result) *tableio.Table {
 	cols = append(cols, period, step, base, fc)
 	cols = append(cols, bounds...)
 	return &tableio.Table{Columns: cols}
+}
+
+// residualTable has one row per node and history period: level, key
+// columns, period and the in-sample one-step residual y_t − ŷ_t|t−1 of the
+// node's model (null where there is none: before the node existed, or
+// where the model has no one-step forecast). It is what the reconciliation
+// estimated its covariance from, and what trueup reconcile --residuals
+// reads.
+func residualTable(res *Result) *tableio.Table {
+	T := res.Panel.T
+	n := len(res.Fits)
+	cols := keyColumns(res, T)
+	period := tableio.Column{Name: "period", Type: tableio.String, Strings: make([]string, 0, n*T)}
+	resid := tableio.Column{Name: "residual", Type: tableio.Float64, Floats: make([]float64, 0, n*T)}
+	labels := make([]string, T)
+	for t := range labels {
+		labels[t] = res.Panel.Period(t).String()
+	}
+	row := make([]float64, T)
+	for _, f := range res.Fits {
+		f.residualsOnCalendar(row)
+		period.Strings = append(period.Strings, labels...)
+		resid.Floats = append(resid.Floats, row...)
+	}
+	return &tableio.Table{Columns: append(cols, period, resid)}
 }
 
 // modelTable has one row per node: the chosen family, its spec, its

@@ -179,12 +179,7 @@ func problem(st *hierarchy.Structure, history [][]float64, fits []NodeFit) recon
 		p.Base[i] = f.Mean
 		p.BaseVar[i] = f.Variance
 		r := make([]float64, T)
-		for t := range r {
-			r[t] = math.NaN()
-		}
-		if f.Model != nil {
-			copy(r[f.First:], f.Model.Residuals())
-		}
+		f.residualsOnCalendar(r)
 		p.Residuals[i] = r
 	}
 	return p
