@@ -9,7 +9,7 @@ import (
 	"sort"
 	"strings"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 var nan = math.NaN()

@@ -4,7 +4,7 @@ import (
 	"strings"
 	"testing"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 // A small grouped structure written out by hand: two regions, three stores

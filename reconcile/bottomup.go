@@ -1,6 +1,6 @@
 package reconcile
 
-import "trueup/internal/inputerr"
+import "trueup/inputerr"
 
 // BottomUp keeps the bottom-level base forecasts and adds them up:
 // ỹ = S·b̂ (common practice; see e.g. Hyndman & Athanasopoulos, Forecasting:

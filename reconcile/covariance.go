@@ -6,7 +6,7 @@ import (
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 // errCov is the one-step forecast-error covariance of every node, held as a

@@ -5,7 +5,7 @@ import (
 	"strings"
 	"testing"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 // directLambda is the Schäfer & Strimmer (2005) shrinkage intensity for

@@ -15,7 +15,7 @@ import (
 	"strings"
 
 	"trueup/hierarchy"
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 // Problem is what a reconciliation method works on. Rows of every matrix

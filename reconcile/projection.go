@@ -6,7 +6,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"trueup/hierarchy"
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 // Covariance names the matrix W whose inverse weights a projection.

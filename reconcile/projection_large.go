@@ -11,7 +11,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"trueup/hierarchy"
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 // largeProjector applies the projection without any n × n matrix, in the

@@ -5,7 +5,7 @@ import (
 	"strings"
 
 	"trueup/hierarchy"
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 // splitPlan describes a method that keeps the base forecasts of one level

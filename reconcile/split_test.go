@@ -6,7 +6,7 @@ import (
 	"testing"
 
 	"trueup/hierarchy"
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 // smallTree is total → {A, B}, A → {A1, A2}, B → {B1}: a single chain.

@@ -10,4 +10,4 @@ echo "generating ~10M item-level rows into $dir ..."
 go run ./fixtures/cmd/gendemo -stores 200 -items 91 -format parquet -out "$dir" >/dev/null
 file=$(ls "$dir"/*.parquet | head -1)
 ls -l "$file"
-GOMAXPROCS=1 TRUEUP_INGEST_FILE="$file" go test -run '^$' -bench 'BenchmarkReadAndAggregate$' -benchtime 3x -benchmem ./internal/pipeline
+GOMAXPROCS=1 TRUEUP_INGEST_FILE="$file" go test -run '^$' -bench 'BenchmarkReadAndAggregate$' -benchtime 3x -benchmem ./engine

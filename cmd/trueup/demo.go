@@ -7,9 +7,9 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"trueup/engine"
 	"trueup/fixtures"
-	"trueup/internal/pipeline"
-	tableio "trueup/io"
+	"trueup/tableio"
 )
 
 func newDemoCmd() *cobra.Command {
@@ -25,7 +25,7 @@ can be repeated with "trueup forecast".`,
   trueup demo --out /tmp/demo --format parquet,csv --horizon 6`,
 		Args: noArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
-			cfg := pipeline.Config{Source: pipeline.Source{Time: fixtures.DemoTimeColumn, Value: fixtures.DemoValueColumn, Nest: fixtures.DemoNest}}
+			cfg := engine.Config{Source: engine.Source{Time: fixtures.DemoTimeColumn, Value: fixtures.DemoValueColumn, Nest: fixtures.DemoNest}}
 			if err := rf.apply(cmd, &cfg); err != nil {
 				return err
 			}
@@ -36,7 +36,7 @@ can be repeated with "trueup forecast".`,
 			if err := tableio.WriteFileAtomic(cfg.Input, fixtures.DemoMonthlyParquet); err != nil {
 				return fmt.Errorf("copy demo data: %w", err)
 			}
-			res, err := pipeline.Run(cfg)
+			res, err := engine.Run(cfg)
 			if err != nil {
 				return err
 			}

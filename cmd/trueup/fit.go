@@ -14,11 +14,11 @@ import (
 	"github.com/spf13/cobra"
 	"gonum.org/v1/gonum/stat/distuv"
 
-	"trueup/internal/inputerr"
-	tableio "trueup/io"
+	"trueup/inputerr"
 	"trueup/models"
 	"trueup/models/arima"
 	"trueup/models/naive"
+	"trueup/tableio"
 )
 
 // fitFlags are the options of trueup fit.

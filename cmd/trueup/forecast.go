@@ -3,7 +3,7 @@ package main
 import (
 	"github.com/spf13/cobra"
 
-	"trueup/internal/pipeline"
+	"trueup/engine"
 )
 
 func newForecastCmd() *cobra.Command {
@@ -40,11 +40,11 @@ into a plan.`,
 				return err
 			}
 			src.SumDuplicates = sumDup
-			cfg := pipeline.Config{Source: src, Period: period}
+			cfg := engine.Config{Source: src, Period: period}
 			if err := rf.apply(cmd, &cfg); err != nil {
 				return err
 			}
-			res, err := pipeline.Run(cfg)
+			res, err := engine.Run(cfg)
 			if err != nil {
 				return err
 			}

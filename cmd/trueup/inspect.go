@@ -7,7 +7,7 @@ import (
 
 	"github.com/spf13/cobra"
 
-	"trueup/internal/pipeline"
+	"trueup/engine"
 )
 
 func newInspectCmd() *cobra.Command {
@@ -31,7 +31,7 @@ Nothing is written.`,
 			if err != nil {
 				return err
 			}
-			rep, err := pipeline.Inspect(src)
+			rep, err := engine.Inspect(src)
 			if err != nil {
 				return err
 			}
@@ -58,7 +58,7 @@ Nothing is written.`,
 			}
 			for _, group := range []struct {
 				title string
-				spans []pipeline.SeriesSpan
+				spans []engine.SeriesSpan
 			}{{"starting late", rep.LateStarts}, {"ending early", rep.EarlyEnds}} {
 				if len(group.spans) == 0 {
 					continue

@@ -11,8 +11,8 @@ import (
 	"strings"
 	"syscall"
 
-	"trueup/internal/inputerr"
-	tableio "trueup/io"
+	"trueup/inputerr"
+	"trueup/tableio"
 )
 
 // Exit statuses.

@@ -9,7 +9,7 @@ import (
 	"testing"
 
 	"trueup/fixtures"
-	tableio "trueup/io"
+	"trueup/tableio"
 )
 
 // TestDemoIsCoherent runs the demo end to end, reads forecasts.parquet back

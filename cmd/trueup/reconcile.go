@@ -14,11 +14,11 @@ import (
 	"github.com/spf13/cobra"
 	"gonum.org/v1/gonum/stat/distuv"
 
+	"trueup/engine"
 	"trueup/hierarchy"
-	"trueup/internal/inputerr"
-	"trueup/internal/pipeline"
-	tableio "trueup/io"
+	"trueup/inputerr"
 	"trueup/reconcile"
+	"trueup/tableio"
 )
 
 // reconcileConfig holds the flags of trueup reconcile.
@@ -218,7 +218,7 @@ func runReconcile(cmd *cobra.Command, c reconcileConfig) error {
 		cov = string(reconcile.CovShrink)
 	}
 	run := map[string]any{
-		"command": "reconcile", "version": pipeline.Version,
+		"command": "reconcile", "version": engine.Version,
 		"inputs": map[string]string{"base": c.base, "residuals": c.residuals, "history": c.history},
 		"method": method.Name(), "cov": cov, "at": c.at, "nonnegative": c.nonnegative,
 		"levels": levels, "nodes": len(st.Nodes), "bottom": st.NumBottom(),

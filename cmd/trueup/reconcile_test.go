@@ -8,7 +8,7 @@ import (
 	"strings"
 	"testing"
 
-	tableio "trueup/io"
+	"trueup/tableio"
 )
 
 // The inputs here are invented: a total, regions R1, R2 and stores S1, S2

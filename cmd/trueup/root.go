@@ -6,7 +6,7 @@ import (
 
 	"github.com/spf13/cobra"
 
-	"trueup/internal/pipeline"
+	"trueup/engine"
 )
 
 // usageError is a bad flag or argument.
@@ -27,7 +27,7 @@ they go into a plan.`,
 		Example: `  trueup demo
   trueup inspect --input sales.parquet --nest region,store --nest category
   trueup forecast --input sales.parquet --nest region,store --nest category --out plan`,
-		Version:       pipeline.Version,
+		Version:       engine.Version,
 		SilenceUsage:  true,
 		SilenceErrors: true,
 	}

@@ -11,9 +11,9 @@ import (
 	"github.com/spf13/cobra"
 	"golang.org/x/term"
 
-	"trueup/internal/pipeline"
-	tableio "trueup/io"
+	"trueup/engine"
 	"trueup/models/families"
+	"trueup/tableio"
 )
 
 // runFlags are the flags shared by forecast and demo.
@@ -36,7 +36,7 @@ func (f *runFlags) register(cmd *cobra.Command, defaultOut string) {
 	fl := cmd.Flags()
 	fl.IntVar(&f.horizon, "horizon", 0, "periods to forecast (default: one seasonal cycle, e.g. 12 months)")
 	fl.StringVar(&f.family, "family", "", "model family for every node: "+familyNames())
-	fl.StringVar(&f.method, "method", pipeline.DefaultMethod, "reconciliation: bottom-up, top-down-hist, top-down-avg, top-down-fcst, middle-out, mint")
+	fl.StringVar(&f.method, "method", engine.DefaultMethod, "reconciliation: bottom-up, top-down-hist, top-down-avg, top-down-fcst, middle-out, mint")
 	fl.StringVar(&f.cov, "cov", "", "covariance for mint: identity, structural, variance, sample, shrink (default shrink)")
 	fl.StringVar(&f.at, "at", "", "level to reconcile from with middle-out, e.g. region+category")
 	fl.BoolVar(&f.nonnegative, "nonnegative", false, "keep reconciled bottom-level forecasts at or above zero\n(default: on for mint when the history has no negative value; --nonnegative=false turns it off)")
@@ -52,7 +52,7 @@ func (f *runFlags) register(cmd *cobra.Command, defaultOut string) {
 }
 
 // apply copies the flags into a pipeline configuration.
-func (f *runFlags) apply(cmd *cobra.Command, cfg *pipeline.Config) error {
+func (f *runFlags) apply(cmd *cobra.Command, cfg *engine.Config) error {
 	if cmd.Flags().Changed("horizon") && f.horizon < 1 {
 		return &usageError{fmt.Errorf("--horizon must be at least 1, got %d", f.horizon)}
 	}

@@ -3,14 +3,14 @@ package main
 import (
 	"github.com/spf13/cobra"
 
-	"trueup/internal/pipeline"
-	tableio "trueup/io"
+	"trueup/engine"
+	"trueup/tableio"
 )
 
 // sourceFlags are the flags that name the sales table and its columns,
 // shared by forecast and inspect.
 type sourceFlags struct {
-	src    pipeline.Source
+	src    engine.Source
 	format string
 }
 
@@ -26,9 +26,9 @@ func (f *sourceFlags) register(cmd *cobra.Command) {
 }
 
 // source returns the flags' source, or a usage error when --input is missing.
-func (f *sourceFlags) source() (pipeline.Source, error) {
+func (f *sourceFlags) source() (engine.Source, error) {
 	if f.src.Input == "" {
-		return pipeline.Source{}, &usageError{errMissing("--input")}
+		return engine.Source{}, &usageError{errMissing("--input")}
 	}
 	s := f.src
 	s.Format = tableio.Format(f.format)

@@ -11,12 +11,12 @@ import (
 	"strings"
 	"text/tabwriter"
 
-	"trueup/internal/pipeline"
+	"trueup/engine"
 )
 
 // printSummary prints what a run did: nodes per level, chosen models,
 // warnings and where the files are; or, with asJSON, the run report.
-func printSummary(w io.Writer, res *pipeline.Result, asJSON bool) error {
+func printSummary(w io.Writer, res *engine.Result, asJSON bool) error {
 	rep := res.Report
 	if asJSON {
 		enc := json.NewEncoder(w)
@@ -97,7 +97,7 @@ const totalRows = 12
 
 // printTotal shows the total's coherent forecast with its narrowest
 // interval, period by period.
-func printTotal(w io.Writer, res *pipeline.Result) {
+func printTotal(w io.Writer, res *engine.Result) {
 	if len(res.Levels) == 0 {
 		return
 	}

@@ -6,7 +6,7 @@ import (
 	"math"
 	"sort"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 	"trueup/internal/numeric"
 )
 

@@ -4,7 +4,7 @@ import (
 	"math"
 	"testing"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 	"trueup/models"
 )
 

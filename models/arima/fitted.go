@@ -8,7 +8,7 @@ import (
 
 	"gonum.org/v1/gonum/stat/distuv"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 	"trueup/models"
 )
 

@@ -5,7 +5,7 @@ import (
 	"strconv"
 	"strings"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 // Spec is the form of a seasonal ARIMA model

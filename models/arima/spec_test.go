@@ -3,7 +3,7 @@ package arima
 import (
 	"testing"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 func TestParseSpecRoundTrip(t *testing.T) {

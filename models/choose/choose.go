@@ -15,7 +15,7 @@ import (
 	"sort"
 	"strings"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 	"trueup/models"
 )
 

@@ -5,7 +5,7 @@ import (
 	"math/rand/v2"
 	"testing"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 	"trueup/models"
 )
 

@@ -5,7 +5,7 @@ import (
 	"math"
 	"strings"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 	"trueup/models"
 )
 

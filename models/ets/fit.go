@@ -4,7 +4,7 @@ import (
 	"fmt"
 	"math"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 	"trueup/models"
 )
 

@@ -22,7 +22,7 @@ import (
 	"fmt"
 	"strings"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 // Component kinds of a Spec.

@@ -3,7 +3,7 @@ package naive
 import (
 	"math"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 	"trueup/models"
 )
 

@@ -8,7 +8,7 @@ import (
 	"fmt"
 	"math"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 	"trueup/models"
 )
 

@@ -21,7 +21,7 @@ import (
 	"fmt"
 	"math"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 // Kind names a transform.

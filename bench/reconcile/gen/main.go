@@ -18,7 +18,7 @@ import (
 	"time"
 
 	"trueup/hierarchy"
-	tableio "trueup/io"
+	"trueup/tableio"
 )
 
 func main() {

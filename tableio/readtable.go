@@ -17,7 +17,7 @@ import (
 	"github.com/apache/arrow-go/v18/arrow/memory"
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 // ReadTable reads a whole table in format f (an empty f means: by file
@@ -35,7 +35,7 @@ func ReadTable(path string, f Format) (*Table, error) {
 	}
 	data, err := os.ReadFile(path)
 	if err != nil {
-		return nil, inputerr.New("cannot read %s: %v", path, unwrapPath(err))
+		return nil, &inputerr.Error{File: path, Msg: "cannot read", Err: unwrapPath(err)}
 	}
 	var t *Table
 	switch f {

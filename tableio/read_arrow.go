@@ -13,7 +13,7 @@ import (
 	"github.com/apache/arrow-go/v18/parquet/file"
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 // batchRows is the number of rows decoded per Arrow record batch.

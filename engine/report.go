@@ -1,4 +1,4 @@
-package pipeline
+package engine
 
 import (
 	"encoding/json"
@@ -7,8 +7,8 @@ import (
 	"sort"
 
 	"trueup/hierarchy"
-	tableio "trueup/io"
 	"trueup/reconcile"
+	"trueup/tableio"
 )
 
 // RunReport is the content of run.json: what was read, with which options,

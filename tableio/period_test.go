@@ -6,7 +6,7 @@ import (
 	"testing"
 	"time"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 func date(y int, m time.Month, d int) time.Time { return time.Date(y, m, d, 0, 0, 0, 0, time.UTC) }

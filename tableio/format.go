@@ -4,7 +4,7 @@ import (
 	"path/filepath"
 	"strings"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 // formats lists the valid formats in the order error messages name them.

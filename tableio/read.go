@@ -7,14 +7,14 @@ import (
 	"os"
 	"strings"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 // Read loads the long sales table at path: one row per period and key
 // combination, with a period column, a value column and key columns named
 // by opt. The format comes from opt.Format or the file name extension.
 //
-// Every problem with the file is an input error (see internal/inputerr)
+// Every problem with the file is an input error (see inputerr)
 // whose message names the file and, where it applies, the column and the
 // row: row N counts data rows from 1 in Parquet and Arrow files; line N
 // counts lines of a CSV file with the header as line 1. A null, NaN or
@@ -30,7 +30,7 @@ func Read(path string, opt ReadOptions) (*Rows, error) {
 	}
 	data, err := os.ReadFile(path)
 	if err != nil {
-		return nil, inputerr.New("cannot read input %s: %v", path, unwrapPath(err))
+		return nil, &inputerr.Error{File: path, Msg: "cannot read", Err: unwrapPath(err)}
 	}
 	if len(data) == 0 {
 		return nil, inputerr.New("read %s: no data rows (the file is empty)", path)
@@ -53,7 +53,9 @@ func Read(path string, opt ReadOptions) (*Rows, error) {
 	return r, nil
 }
 
-// unwrapPath drops the *os.PathError wrapper so the path is not printed twice.
+// unwrapPath drops the *os.PathError wrapper so the path is not printed
+// twice; the cause (a syscall.Errno) still matches fs.ErrNotExist and the
+// like under errors.Is.
 func unwrapPath(err error) error {
 	if pe, ok := err.(*os.PathError); ok {
 		return pe.Err

@@ -1,4 +1,4 @@
-package pipeline
+package engine
 
 import (
 	"os"
@@ -6,7 +6,7 @@ import (
 	"testing"
 
 	"trueup/fixtures"
-	tableio "trueup/io"
+	"trueup/tableio"
 )
 
 // BenchmarkReadAndAggregate reads an item-level sales table and sums it to

@@ -1,4 +1,4 @@
-package pipeline
+package engine
 
 import (
 	"encoding/json"
@@ -7,7 +7,7 @@ import (
 	"os"
 	"path/filepath"
 
-	tableio "trueup/io"
+	"trueup/tableio"
 )
 
 // writeOutputs writes the forecasts and models tables in every requested

@@ -2,7 +2,7 @@
 // grouped structure, fit a model to every node, reconcile, attach coherent
 // intervals and write the result tables. Each stage is one function call
 // with plain values in and out.
-package pipeline
+package engine
 
 import (
 	"fmt"
@@ -12,11 +12,11 @@ import (
 	"gonum.org/v1/gonum/stat/distuv"
 
 	"trueup/hierarchy"
-	"trueup/internal/inputerr"
-	tableio "trueup/io"
+	"trueup/inputerr"
 	"trueup/models"
 	"trueup/models/families"
 	"trueup/reconcile"
+	"trueup/tableio"
 )
 
 // Config is everything a forecast run needs. The zero value of each

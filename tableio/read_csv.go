@@ -9,7 +9,7 @@ import (
 	"strconv"
 	"strings"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 // readCSV reads a CSV file with a header row (RFC 4180 quoting, as

@@ -1,4 +1,4 @@
-package pipeline
+package engine
 
 import (
 	"fmt"
@@ -6,8 +6,8 @@ import (
 	"sort"
 	"strings"
 
-	"trueup/internal/inputerr"
-	tableio "trueup/io"
+	"trueup/inputerr"
+	"trueup/tableio"
 )
 
 // Panel holds the bottom series on one common calendar.

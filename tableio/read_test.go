@@ -18,7 +18,7 @@ import (
 	"github.com/apache/arrow-go/v18/parquet"
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 var mem = memory.DefaultAllocator
@@ -375,7 +375,7 @@ func TestReadBadInput(t *testing.T) {
 		want []string
 	}{
 		{"missing file", func(t *testing.T) string { return filepath.Join(t.TempDir(), "nope.csv") }, opt,
-			[]string{"cannot read input", "nope.csv", "no such file"}},
+			[]string{"cannot read", "nope.csv", "no such file"}},
 		{"garbage parquet", func(t *testing.T) string { return writeFile(t, "g.parquet", "\x00\x01 this is not parquet \xff\xfe") }, opt,
 			[]string{"g.parquet", "not a valid Parquet file"}},
 		{"csv bytes named parquet", func(t *testing.T) string { return writeFile(t, "c.parquet", "period,store,sales\n2024-01,A,1\n") }, opt,

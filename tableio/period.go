@@ -6,7 +6,7 @@ import (
 	"strings"
 	"time"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 // Grain is the length of one period.

@@ -1,12 +1,12 @@
-package pipeline
+package engine
 
 import (
 	"math"
 	"strings"
 	"testing"
 
-	"trueup/internal/inputerr"
-	tableio "trueup/io"
+	"trueup/inputerr"
+	"trueup/tableio"
 )
 
 // rowsOf builds input rows from (period label, store, value) triples.

@@ -1,11 +1,11 @@
-package pipeline
+package engine
 
 import (
 	"time"
 
 	"trueup/hierarchy"
-	"trueup/internal/inputerr"
-	tableio "trueup/io"
+	"trueup/inputerr"
+	"trueup/tableio"
 )
 
 // Source names the sales table and how to read it; forecast and inspect

@@ -1,4 +1,4 @@
-package pipeline
+package engine
 
 import (
 	"bytes"
@@ -7,7 +7,7 @@ import (
 	"testing"
 
 	"trueup/fixtures"
-	tableio "trueup/io"
+	"trueup/tableio"
 )
 
 // TestSameBytesWhateverTheWorkers checks the determinism promise: the same

@@ -11,7 +11,7 @@ import (
 	"strings"
 	"testing"
 
-	"trueup/internal/inputerr"
+	"trueup/inputerr"
 )
 
 // sampleTable has every column type, nulls marked in Null, a NaN float
