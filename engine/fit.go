@@ -4,88 +4,37 @@ import (
 	"fmt"
 	"math"
 	"strings"
-	"sync"
 
 	"trueup/models"
 	"trueup/models/families"
 )
 
-// NodeFit is the fitted model of one node and what the pipeline needs
-// from it, aligned to the panel's calendar.
-type NodeFit struct {
-	Model    models.Model // in-sample fit; nil only for a node with no observations
-	First    int          // panel column of the node's first observation
-	Last     int          // panel column of its last observation
-	Mean     []float64    // h base forecasts
-	Variance []float64    // h base forecast-error variances
-	Warning  string
-	Closed   bool // the node stopped trading before the panel's last period
-}
-
-// residualsOnCalendar fills dst (one entry per panel period) with the
-// node's in-sample one-step residuals, NaN where it has none.
-func (nf *NodeFit) residualsOnCalendar(dst []float64) {
-	for t := range dst {
-		dst[t] = math.NaN()
+// FitOne fits one job. Fitting rule for openings and closures: the node is
+// fitted on its own span, from its first to its last existing period (see
+// Panel). A node whose span ends before the last period has closed: it is
+// still fitted, for its in-sample residuals, but forecast as zero with zero
+// variance and a warning. When the family cannot fit the node (too short a
+// history, say), the fallbacks are tried in order and the reason is kept in
+// the warning. The error is non-nil only when the job's model spec is
+// invalid.
+func FitOne(job FitJob) (NodeFit, error) {
+	family, err := job.Model.Resolve()
+	if err != nil {
+		return NodeFit{}, err
 	}
-	if nf.Model != nil {
-		copy(dst[nf.First:], nf.Model.Residuals())
-	}
-}
-
-// fitNodes fits family to every node series in parallel. Results are
-// placed by node index, so the output does not depend on the number of
-// workers or the order in which they finish.
-//
-// Fitting rule for openings and closures: each node is fitted on its own
-// span, from its first to its last existing period (see Panel). A node
-// whose span ends before the last period has closed: it is still fitted, for
-// its in-sample residuals, but forecast as zero with zero variance and a
-// warning. When the family cannot fit a node
-// (too short a history), the fallbacks are tried in order and the reason is
-// kept in the node's warning.
-func fitNodes(series [][]float64, family models.Family, opt models.FitOptions, workers int, progress func(done, total int)) []NodeFit {
-	n := len(series)
-	fits := make([]NodeFit, n)
-	jobs := make(chan int)
-	var wg sync.WaitGroup
-	var mu sync.Mutex
-	done := 0
-	if workers < 1 {
-		workers = 1
-	}
-	for w := 0; w < workers; w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for i := range jobs {
-				fits[i] = fitOne(series[i], family, opt)
-				if progress != nil {
-					mu.Lock()
-					done++
-					progress(done, n)
-					mu.Unlock()
-				}
-			}
-		}()
-	}
-	for i := 0; i < n; i++ {
-		jobs <- i
-	}
-	close(jobs)
-	wg.Wait()
-	return fits
-}
-
-func fitOne(y []float64, family models.Family, opt models.FitOptions) NodeFit {
+	opt := models.FitOptions{Period: job.Period, Horizon: job.Horizon}
+	y := job.Series
 	first, last := span(y)
 	nf := NodeFit{First: first, Last: last}
 	h := opt.Horizon
 	if first < 0 {
 		nf.Closed = true
+		nf.Family, nf.Spec, nf.Params = "closed", "no observations", map[string]any{}
+		nf.Sigma2 = math.NaN()
+		nf.Criteria = models.Criteria{LogLik: math.NaN(), AIC: math.NaN(), AICc: math.NaN(), BIC: math.NaN()}
 		nf.Mean, nf.Variance = make([]float64, h), make([]float64, h)
 		nf.Warning = "no observations"
-		return nf
+		return nf, nil
 	}
 	span := make([]float64, last-first+1)
 	for t := range span {
@@ -96,6 +45,7 @@ func fitOne(y []float64, family models.Family, opt models.FitOptions) NodeFit {
 		span[t] = v
 	}
 	var reasons []string
+	var model models.Model
 	tryFit := func(f models.Family) bool {
 		m, err := safeFit(f, span, opt)
 		if err != nil {
@@ -107,7 +57,7 @@ func fitOne(y []float64, family models.Family, opt models.FitOptions) NodeFit {
 			reasons = append(reasons, fmt.Sprintf("%s: %v", f.Name(), err))
 			return false
 		}
-		nf.Model, nf.Mean, nf.Variance = m, mean, variance
+		model, nf.Mean, nf.Variance = m, mean, variance
 		return true
 	}
 	if !tryFit(family) {
@@ -121,9 +71,13 @@ func fitOne(y []float64, family models.Family, opt models.FitOptions) NodeFit {
 	if len(reasons) > 0 {
 		warn = append(warn, "fell back ("+strings.Join(reasons, "; ")+")")
 	}
-	if nf.Model != nil && nf.Model.Warning() != "" {
-		warn = append(warn, nf.Model.Warning())
+	if model.Warning() != "" {
+		warn = append(warn, model.Warning())
 	}
+	nf.Fitted = true
+	nf.Family, nf.Spec, nf.Params = model.Family(), model.Spec(), model.Params()
+	nf.Criteria, nf.Sigma2, nf.NObs = model.Criteria(), model.Sigma2(), model.NObs()
+	nf.Residuals = model.Residuals()
 	if last < len(y)-1 {
 		// Closed: the fit still supplies in-sample residuals for
 		// reconciliation, but the forecast is zero with no uncertainty.
@@ -132,7 +86,18 @@ func fitOne(y []float64, family models.Family, opt models.FitOptions) NodeFit {
 		warn = append([]string{"closed: no sales in the latest periods, forecast as zero"}, warn...)
 	}
 	nf.Warning = strings.Join(warn, "; ")
-	return nf
+	return nf, nil
+}
+
+// residualsOnCalendar fills dst (one entry per panel period) with the
+// node's in-sample one-step residuals, NaN where it has none.
+func (nf *NodeFit) residualsOnCalendar(dst []float64) {
+	for t := range dst {
+		dst[t] = math.NaN()
+	}
+	if nf.First >= 0 {
+		copy(dst[nf.First:], nf.Residuals)
+	}
 }
 
 // safeFit turns a panic inside a family into an error, so that one bad

@@ -2,6 +2,8 @@ package engine
 
 import (
 	"math"
+
+	"trueup/inputerr"
 )
 
 // InspectReport describes an input table without fitting anything.
@@ -37,17 +39,20 @@ type SeriesSpan struct {
 	Last  string `json:"last"`
 }
 
-// Inspect reads the table and reports its shape and oddities.
+// Inspect reads the table and reports its shape and oddities. Duplicate
+// rows are counted rather than refused, whatever src.SumDuplicates says.
 func Inspect(src Source) (*InspectReport, error) {
-	// Summing lets inspection count duplicates instead of stopping at the first.
 	src.SumDuplicates = true
-	ld, err := src.load()
+	d, err := Load(src)
 	if err != nil {
 		return nil, err
 	}
-	pn, st := ld.panel, ld.st
+	if d.Structure == nil {
+		return nil, inputerr.ForOption("Chains", "name the key columns to inspect the structure")
+	}
+	pn, st := d.Panel, d.Structure
 	rep := &InspectReport{
-		Input:     ld.inputReport(),
+		Input:     d.Input,
 		Grain:     pn.Grain.String(),
 		GrainFrom: pn.Stats.InferredFrom, FirstPeriod: pn.Period(0).String(), LastPeriod: pn.Period(pn.T - 1).String(),
 		Periods: pn.T, BottomSeries: st.NumBottom(), Nodes: len(st.Nodes),
@@ -61,7 +66,7 @@ func Inspect(src Source) (*InspectReport, error) {
 	// Spans of every node: the openings and closures show at the
 	// coarsest level where they happen (a store, rather than each of its
 	// categories), so that is the level listed.
-	history := st.S.Aggregate(ld.bottom)
+	history := st.S.Aggregate(d.Bottom)
 	for _, l := range st.Levels {
 		lc := LevelCount{Level: l.Name, Nodes: len(l.Nodes)}
 		var late, early []SeriesSpan

@@ -1,10 +1,21 @@
-// Package pipeline runs trueup's main job: read the sales table, build the
-// grouped structure, fit a model to every node, reconcile, attach coherent
-// intervals and write the result tables. Each stage is one function call
-// with plain values in and out.
+// Package engine is trueup's library API: it loads a sales table into a
+// panel, builds the grouped structure, fits a model to every node (behind
+// the Fitter seam), reconciles the forecasts so that every total equals the
+// sum of its parts, and attaches coherent prediction intervals. The result
+// is held in memory; writing files is a separate step (package
+// engine/output).
+//
+// Every command of the trueup program is a thin layer over this package:
+//
+//	data, err := engine.Load(engine.Source{Path: "sales.parquet", Time: "month",
+//		Value: "sales", Chains: chains})
+//	res, err := engine.Forecast(ctx, data, engine.Options{Horizon: 12})
+//
+// Errors caused by the data or the options are *inputerr.Error values.
 package engine
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"time"
@@ -13,166 +24,238 @@ import (
 
 	"trueup/hierarchy"
 	"trueup/inputerr"
-	"trueup/models"
 	"trueup/models/families"
 	"trueup/reconcile"
 	"trueup/tableio"
 )
 
-// Config is everything a forecast run needs. The zero value of each
-// optional field means the documented default.
-type Config struct {
-	Source
-
-	Period int // seasonal period; 0 = from the grain
-
-	Horizon int    // 0 = one seasonal cycle
-	Family  string // "" = families.Default
-	Method  string // "" = DefaultMethod
-	Cov     string // covariance for projection methods
-	At      string // level for middle-out
-	// Nonnegative asks for non-negative reconciled bottom forecasts. nil
-	// means automatic: on for mint when the history has no negative value
-	// (sales cannot be negative), off otherwise.
-	Nonnegative *bool
-	Levels      []float64 // interval levels in percent; nil = 80, 95
-
-	Workers int              // parallel fits; < 1 means 1
-	OutDir  string           // where the tables go
-	Formats []tableio.Format // nil = Parquet only
-
-	// Progress, when set, is called after every node fit.
+// Options are the settings of a forecast run. The zero value of every field
+// is a documented default, so Options{} is a complete, sensible run.
+type Options struct {
+	// Model is the family (and optionally fixed form) fitted to every
+	// node. The zero value is the automatic per-node choice.
+	Model families.Spec
+	// Period is the seasonal period. 0 takes the usual period of the
+	// data's grain (12 for months, 4 for quarters, 52 for weeks, 7 for
+	// days, 1 for years and time indexes).
+	Period int
+	// Horizon is the number of periods to forecast. 0 means one seasonal
+	// cycle, or 8 periods when the period is 1.
+	Horizon int
+	// Reconcile says how forecasts are made coherent. The zero value is
+	// MinT with the shrinkage covariance.
+	Reconcile Reconciliation
+	// Levels are the central prediction interval levels in percent, each
+	// strictly between 0 and 100. Nil means 80 and 95.
+	Levels []float64
+	// Fitter fits the nodes. Nil means Local{Workers: 1}.
+	Fitter Fitter
+	// Progress, when non-nil, is called after every node fit.
 	Progress func(done, total int)
 }
 
-// Result is what a run produced.
+// Reconciliation names a reconciliation method and its settings.
+type Reconciliation struct {
+	// Method is a reconcile method name (see reconcile.MethodNames); ""
+	// means DefaultMethod.
+	Method string
+	// Cov is the covariance estimator of the projection methods; "" means
+	// shrink for mint and nothing for the other methods.
+	Cov string
+	// At is the level middle-out reconciles from (e.g. "region+category");
+	// it is required by middle-out and refused by every other method.
+	At string
+	// Nonnegative asks for non-negative reconciled bottom forecasts. Nil
+	// means automatic: on for mint when the history has no negative value
+	// (sales cannot be negative), off otherwise.
+	Nonnegative *bool
+	// Paths is the number of seeded sample paths behind mint's interval
+	// widths on large structures; 0 means reconcile.DefaultPaths.
+	Paths int
+}
+
+// DefaultMethod is the reconciliation used when none is named: MinT with
+// the shrinkage covariance (Wickramasuriya, Athanasopoulos & Hyndman
+// 2019), the most accurate of the published projections.
+const DefaultMethod = "mint"
+
+// DefaultLevels are the interval levels used when none are given.
+var DefaultLevels = []float64{80, 95}
+
+// Version is the program version recorded in run.json.
+const Version = "0.2.0"
+
+// Result is a forecast run held in memory.
 type Result struct {
 	Structure *hierarchy.Structure
-	Panel     *Panel
-	Fits      []NodeFit
-	Solution  reconcile.Solution
-	Report    RunReport
+	// Calendar is the history's periods followed by the forecast periods.
+	Calendar Calendar
+	// History is each node's history as fitted, on the calendar, NaN
+	// outside the node's span.
+	History [][]float64
+	// Fits are the base models, one per node; for a run reconciled from
+	// tables they hold only the base forecasts.
+	Fits     []NodeFit
+	Solution reconcile.Solution
+	Report   RunReport
 	// Levels are the interval levels in percent; Nonnegative says whether
 	// the reconciliation was constrained to non-negative forecasts.
 	Levels      []float64
 	Nonnegative bool
+	// Horizon is the number of forecast periods.
+	Horizon int
 }
 
-// Validate checks the options that do not need the data.
-func (c *Config) Validate() error {
-	if c.Horizon < 0 {
-		return inputerr.New("--horizon must be at least 1, got %d", c.Horizon)
+// Calendar numbers a run's periods: T history periods starting at First,
+// then the forecast periods.
+type Calendar struct {
+	First tableio.Period
+	T     int
+}
+
+// Period returns the calendar period of column t (t ≥ T are forecasts).
+func (c Calendar) Period(t int) tableio.Period { return c.First.Next(t) }
+
+// resolve fills in the documented defaults and checks the options that do
+// not need the data.
+func (o Options) resolve(period int) (Options, error) {
+	if o.Period < 0 {
+		return o, inputerr.ForOption("Period", "the seasonal period must be at least 1, got %d", o.Period)
 	}
-	if c.Period < 0 {
-		return inputerr.New("--period must be positive, got %d", c.Period)
+	if o.Horizon < 0 {
+		return o, inputerr.ForOption("Horizon", "the horizon must be at least 1 period, got %d", o.Horizon)
 	}
-	for _, l := range c.Levels {
-		if !(l > 0 && l < 100) {
-			return inputerr.New("--levels must lie strictly between 0 and 100, got %v", l)
+	if err := checkLevels(o.Levels); err != nil {
+		return o, err
+	}
+	if o.Levels == nil {
+		o.Levels = DefaultLevels
+	}
+	if o.Period == 0 {
+		o.Period = period
+	}
+	if o.Horizon == 0 {
+		o.Horizon = o.Period
+		if o.Period == 1 {
+			o.Horizon = 8
 		}
 	}
-	if c.OutDir == "" {
-		return inputerr.New("give --out DIR for the result tables")
+	if o.Fitter == nil {
+		o.Fitter = Local{Workers: 1}
+	}
+	if _, err := o.Model.Resolve(); err != nil {
+		return o, err
+	}
+	return o, nil
+}
+
+func checkLevels(levels []float64) error {
+	seen := map[float64]bool{}
+	for _, l := range levels {
+		if !(l > 0 && l < 100) {
+			return inputerr.ForOption("Levels", "interval levels must lie strictly between 0 and 100 percent, got %v", l)
+		}
+		if seen[l] {
+			return inputerr.ForOption("Levels", "interval level %v is given twice", l)
+		}
+		seen[l] = true
 	}
 	return nil
 }
 
-// Run executes the whole job. Nothing is written unless every stage before
-// writing succeeded, and each file is written atomically.
-func Run(cfg Config) (*Result, error) {
-	if err := cfg.Validate(); err != nil {
-		return nil, err
+// method resolves the reconciliation settings.
+func (r Reconciliation) method() (reconcile.Method, Reconciliation, error) {
+	if r.Method == "" {
+		r.Method = DefaultMethod
 	}
-	if cfg.Levels == nil {
-		cfg.Levels = []float64{80, 95}
+	if r.Method == "mint" && r.Cov == "" {
+		r.Cov = string(reconcile.CovShrink)
 	}
-	if cfg.Formats == nil {
-		cfg.Formats = []tableio.Format{tableio.Parquet}
+	if r.Paths < 0 {
+		return nil, r, inputerr.ForOption("Paths", "the number of sample paths must be at least 1, got %d", r.Paths)
 	}
-	if cfg.Family == "" {
-		cfg.Family = families.Default
-	}
-	if cfg.Method == "" {
-		cfg.Method = DefaultMethod
-	}
-	family, err := families.Registry().Lookup(cfg.Family)
-	if err != nil {
-		return nil, inputerr.New("--family: %v", err)
-	}
-	if cfg.Method == "mint" && cfg.Cov == "" {
-		cfg.Cov = "shrink"
-	}
-	method, err := reconcile.ByName(cfg.Method, cfg.Cov, cfg.At)
-	if err != nil {
-		return nil, err
-	}
-	rep := RunReport{Version: Version, Timings: map[string]float64{}}
-	stage := func(name string, start time.Time) { rep.Timings[name] = time.Since(start).Seconds() }
+	m, err := reconcile.ByName(r.Method, r.Cov, r.At)
+	return m, r, err
+}
 
-	ld, err := cfg.Source.load()
+// Forecast fits every node of the loaded data, reconciles the base
+// forecasts and returns the coherent result. Nothing is written.
+func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
+	if d.Structure == nil {
+		return nil, inputerr.ForOption("Chains", "a forecast run needs key columns to build the structure from")
+	}
+	opt, err := opt.resolve(d.Panel.Grain.SeasonalPeriod())
 	if err != nil {
 		return nil, err
 	}
-	rep.Timings["read"], rep.Timings["structure"] = ld.readSeconds, ld.structureSeconds
-	panel, st, bottom := ld.panel, ld.st, ld.bottom
+	method, rc, err := opt.Reconcile.method()
+	if err != nil {
+		return nil, err
+	}
+	rep := RunReport{Version: Version, Command: "forecast", Timings: map[string]float64{
+		"read": d.ReadSeconds, "structure": d.StructureSeconds}}
+	stage := func(name string, start time.Time) { rep.Timings[name] += time.Since(start).Seconds() }
+
 	start := time.Now()
-	closed := closedBottoms(bottom)
-	history := fittingHistory(st, bottom, closed)
+	st := d.Structure
+	closed := closedBottoms(d.Bottom)
+	history := fittingHistory(st, d.Bottom, closed)
 	trading, err := openStructure(st, closed)
 	if err != nil {
 		return nil, err
 	}
-	rep.Timings["structure"] += time.Since(start).Seconds()
+	stage("structure", start)
 
-	period := cfg.Period
-	if period == 0 {
-		period = panel.Grain.SeasonalPeriod()
-	}
-	if cfg.Horizon == 0 {
-		cfg.Horizon = period
-	}
-	rep.Options = cfg.options() // as resolved, defaults filled in
 	start = time.Now()
-	fits := fitNodes(history, family, models.FitOptions{Period: period, Horizon: cfg.Horizon}, cfg.Workers, cfg.Progress)
+	jobs := make([]FitJob, len(history))
+	for i, y := range history {
+		jobs[i] = FitJob{Node: i, Series: y, Model: opt.Model, Period: opt.Period, Horizon: opt.Horizon}
+	}
+	fits, err := opt.Fitter.Fit(ctx, jobs, opt.Progress)
+	if err != nil {
+		return nil, err
+	}
 	stage("fit", start)
 
 	start = time.Now()
-	prob := problem(trading.st, trading.rows(history), trading.fits(fits))
-	if cfg.Nonnegative == nil {
-		auto := method.Name() == "mint" && panel.Stats.Negative == 0
-		cfg.Nonnegative = &auto
-		rep.Options["nonnegative"] = auto
-	}
-	prob.Nonnegative = *cfg.Nonnegative
-	sol, err := method.Reconcile(prob)
+	prob := problem(trading.st, trading.rows(history), trading.fits(fits), d.Panel.T)
+	sol, nonneg, err := reconcileOpen(method, rc, prob, d.Panel.Stats.Negative == 0, trading, st, opt.Horizon)
 	if err != nil {
 		return nil, err
 	}
-	sol = trading.expand(st, sol, cfg.Horizon)
 	stage("reconcile", start)
 
-	res := &Result{Structure: st, Panel: panel, Fits: fits, Solution: sol, Levels: cfg.Levels, Nonnegative: *cfg.Nonnegative}
-	rep.fill(cfg, ld, panel, st, fits, sol, method.Name(), period)
-	start = time.Now()
-	files, err := writeOutputs(cfg, res, &rep)
-	if err != nil {
-		return nil, err
-	}
-	stage("write", start)
-	rep.Files = files
+	res := &Result{Structure: st, Calendar: Calendar{First: d.Panel.First, T: d.Panel.T}, History: history,
+		Fits: fits, Solution: sol, Levels: opt.Levels, Nonnegative: nonneg, Horizon: opt.Horizon}
+	rep.fill(d, opt, rc, res, method.Name())
 	res.Report = rep
-	if err := writeRunReport(cfg.OutDir, &rep); err != nil {
-		return nil, err
-	}
 	return res, nil
 }
 
+// reconcileOpen reconciles the still-trading part of the structure and
+// maps the solution back to the full structure (closed nodes are zero).
+// noNegative says whether the history has no negative value, which turns
+// non-negativity on for mint when the option leaves it automatic.
+func reconcileOpen(method reconcile.Method, rc Reconciliation, prob reconcile.Problem, noNegative bool,
+	trading *openPart, st *hierarchy.Structure, h int) (reconcile.Solution, bool, error) {
+	nonneg := method.Name() == "mint" && noNegative
+	if rc.Nonnegative != nil {
+		nonneg = *rc.Nonnegative
+	}
+	prob.Nonnegative = nonneg
+	prob.Paths = rc.Paths
+	sol, err := method.Reconcile(prob)
+	if err != nil {
+		return sol, nonneg, err
+	}
+	return trading.expand(st, sol, h), nonneg, nil
+}
+
 // problem assembles the reconciliation input: base forecasts and variances
-// per node, and residuals aligned to the panel calendar (NaN where a node
-// has none).
-func problem(st *hierarchy.Structure, history [][]float64, fits []NodeFit) reconcile.Problem {
+// per node, and residuals aligned to the panel calendar of T periods (NaN
+// where a node has none).
+func problem(st *hierarchy.Structure, history [][]float64, fits []NodeFit, T int) reconcile.Problem {
 	n := len(fits)
-	T := len(history[0])
 	p := reconcile.Problem{Structure: st, History: history,
 		Base: make([][]float64, n), BaseVar: make([][]float64, n), Residuals: make([][]float64, n)}
 	for i, f := range fits {
@@ -185,23 +268,49 @@ func problem(st *hierarchy.Structure, history [][]float64, fits []NodeFit) recon
 	return p
 }
 
-// quantile is the standard normal quantile for a central interval of the
+// Quantile is the standard normal quantile for a central interval of the
 // given level in percent.
-func quantile(level float64) float64 {
+func Quantile(level float64) float64 {
 	return distuv.UnitNormal.Quantile(0.5 + level/200)
 }
 
-// DefaultMethod is the reconciliation used when --method is not given:
-// MinT with the shrinkage covariance (Wickramasuriya, Athanasopoulos &
-// Hyndman 2019), the most accurate of the published projections.
-const DefaultMethod = "mint"
+// Bounds returns the central prediction interval of node i at step k
+// (0-based) for a level in percent: the Gaussian forecast ± z·sd with sd
+// from the coherent variance. Under non-negative reconciliation a lower
+// bound below zero is raised to zero (values below zero cannot occur, so
+// coverage is unchanged). Without variances both bounds are NaN.
+func (r *Result) Bounds(i, k int, level float64) (lo, hi float64) {
+	return r.bounds(i, k, Quantile(level))
+}
 
-// Version is the program version recorded in run.json.
-const Version = "0.1.0"
+func (r *Result) bounds(i, k int, z float64) (lo, hi float64) {
+	if r.Solution.Variance == nil {
+		return math.NaN(), math.NaN()
+	}
+	f := r.Solution.Forecast[i][k]
+	sd := math.Sqrt(math.Max(r.Solution.Variance[i][k], 0))
+	lo, hi = f-z*sd, f+z*sd
+	if r.Nonnegative {
+		lo = math.Max(lo, 0)
+	}
+	return lo, hi
+}
 
-func levelLabel(l float64) string {
+// ForecastPeriod is the calendar period of forecast step k (0-based).
+func (r *Result) ForecastPeriod(k int) tableio.Period { return r.Calendar.Period(r.Calendar.T + k) }
+
+// LevelLabel writes an interval level as it appears in column names: 80,
+// or 97.5 as 97_5.
+func LevelLabel(l float64) string {
 	if l == math.Trunc(l) {
 		return fmt.Sprintf("%d", int(l))
 	}
-	return fmt.Sprintf("%g", l)
+	s := fmt.Sprintf("%g", l)
+	out := []byte(s)
+	for i, c := range out {
+		if c == '.' {
+			out[i] = '_'
+		}
+	}
+	return string(out)
 }

@@ -1,20 +1,17 @@
 package engine
 
 import (
-	"encoding/json"
 	"fmt"
-	"path/filepath"
 	"sort"
 
-	"trueup/hierarchy"
-	"trueup/reconcile"
-	"trueup/tableio"
+	"trueup/models/families"
 )
 
 // RunReport is the content of run.json: what was read, with which options,
 // what came out, how long each stage took and what deserves a look.
 type RunReport struct {
 	Version string         `json:"version"`
+	Command string         `json:"command"`
 	Input   InputReport    `json:"input"`
 	Options map[string]any `json:"options"`
 	Counts  CountsReport   `json:"counts"`
@@ -25,7 +22,8 @@ type RunReport struct {
 	// run.json is the one output that is not byte-identical across runs.
 	Timings  map[string]float64 `json:"timings_seconds"`
 	Warnings []string           `json:"warnings"`
-	Files    []string           `json:"files"`
+	// Files lists the files written, filled in by the writer.
+	Files []string `json:"files"`
 }
 
 // InputReport identifies the input file.
@@ -67,27 +65,31 @@ type ReconcileReport struct {
 	Notes  map[string]float64 `json:"notes,omitempty"`
 }
 
-func (c Config) options() map[string]any {
-	formats := make([]string, len(c.Formats))
-	for i, f := range c.Formats {
-		formats[i] = string(f)
-	}
+// optionsReport records the options as resolved, defaults filled in.
+func optionsReport(opt Options, rc Reconciliation, nonneg bool) map[string]any {
 	return map[string]any{
-		"input": c.Input, "format": string(c.Format), "time": c.Time, "value": c.Value,
-		"nest": c.Nest, "sum_duplicates": c.SumDuplicates, "grain": c.Grain, "period": c.Period,
-		"horizon": c.Horizon, "family": c.Family, "method": c.Method, "cov": c.Cov, "at": c.At,
-		"nonnegative": c.Nonnegative, // nil until resolved "levels": c.Levels, "workers": c.Workers,
-		"out":         c.OutDir, "formats": formats,
+		"family": familyOrDefault(opt.Model.Family), "form": opt.Model.Form, "transform": opt.Model.Transform,
+		"period": opt.Period, "horizon": opt.Horizon, "levels": opt.Levels,
+		"method": rc.Method, "cov": rc.Cov, "at": rc.At, "nonnegative": nonneg,
 	}
 }
 
-func (r *RunReport) fill(cfg Config, ld *loaded, pn *Panel, st *hierarchy.Structure, fits []NodeFit, sol reconcile.Solution, method string, period int) {
-	r.Input = ld.inputReport()
+func familyOrDefault(name string) string {
+	if name == "" {
+		return families.Default
+	}
+	return name
+}
+
+func (r *RunReport) fill(d *Data, opt Options, rc Reconciliation, res *Result, method string) {
+	pn, st, fits, sol := d.Panel, res.Structure, res.Fits, res.Solution
+	r.Input = d.Input
+	r.Options = optionsReport(opt, rc, res.Nonnegative)
 	c := CountsReport{
 		BottomSeries: st.NumBottom(), Nodes: len(st.Nodes), Periods: pn.T,
 		FirstPeriod: pn.Period(0).String(), LastPeriod: pn.Period(pn.T - 1).String(),
-		Grain: pn.Grain.String(), SeasonalLag: period, Horizon: cfg.Horizon,
-		ForecastRange: [2]string{pn.Period(pn.T).String(), pn.Period(pn.T + cfg.Horizon - 1).String()},
+		Grain: pn.Grain.String(), SeasonalLag: opt.Period, Horizon: opt.Horizon,
+		ForecastRange: [2]string{pn.Period(pn.T).String(), pn.Period(pn.T + opt.Horizon - 1).String()},
 		Input: map[string]int{
 			"summed_rows": pn.Stats.SummedRows, "negative_values": pn.Stats.Negative,
 			"zero_values": pn.Stats.Zero, "gap_periods": pn.Stats.Gaps,
@@ -103,7 +105,7 @@ func (r *RunReport) fill(cfg Config, ld *loaded, pn *Panel, st *hierarchy.Struct
 	for _, f := range fits {
 		name := "closed"
 		if !f.Closed {
-			name = f.Model.Family()
+			name = f.Family
 		}
 		r.Models[name]++
 		if f.Warning != "" {
@@ -146,12 +148,4 @@ func (r *RunReport) FamilyCounts() []FamilyCount {
 	}
 	sort.Slice(out, func(i, j int) bool { return out[i].Family < out[j].Family })
 	return out
-}
-
-func writeRunReport(dir string, r *RunReport) error {
-	data, err := json.MarshalIndent(r, "", "  ")
-	if err != nil {
-		return err
-	}
-	return tableio.WriteFileAtomic(filepath.Join(dir, "run.json"), append(data, '\n'))
 }

@@ -8,74 +8,79 @@ import (
 	"trueup/tableio"
 )
 
-// Source names the sales table and how to read it; forecast and inspect
-// share it.
+// Source names a sales table and how to read it. It is the one read path
+// of every command: forecast, fit, inspect and reconcile all load their
+// history through Load.
 type Source struct {
-	Input  string         // path of the sales table
-	Format tableio.Format // "" = from the file extension
-	Time   string         // period column
-	Value  string         // value column
-	Nest   []string       // --nest values, each a chain coarse to fine
-
+	// Path is the sales table: Parquet, CSV or Arrow IPC.
+	Path string
+	// Format overrides the format the file name extension implies; ""
+	// goes by the extension.
+	Format tableio.Format
+	// Time and Value name the period and value columns. Both are required.
+	Time, Value string
+	// Chains are the key columns, each chain coarse to fine (see
+	// hierarchy.ParseNest). Several chains cross. Nil reads the table as
+	// one series without keys.
+	Chains []hierarchy.Chain
+	// SumDuplicates adds rows with the same key and period together;
+	// false refuses them as an input error.
 	SumDuplicates bool
-	Grain         string // "" = the data's own grain
+	// Grain, when non-nil, sums finer periods into periods of this grain;
+	// nil works at the data's own grain.
+	Grain *tableio.Grain
 }
 
-// loaded is a source read, validated and arranged into its structure.
-type loaded struct {
-	rows   *tableio.Rows
-	panel  *Panel
-	st     *hierarchy.Structure
-	bottom [][]float64 // bottom series in the structure's bottom order
-
-	readSeconds, structureSeconds float64
+// Data is a source read, checked and arranged: the bottom series on one
+// calendar (Panel) and, when the source names key columns, the grouped
+// structure built from them.
+type Data struct {
+	Input InputReport
+	Panel *Panel
+	// Structure is nil when the source has no key columns.
+	Structure *hierarchy.Structure
+	// Bottom holds the bottom series in the structure's bottom order (the
+	// panel's order when Structure is nil).
+	Bottom [][]float64
+	// Timings in seconds: reading the file, and building panel and
+	// structure.
+	ReadSeconds, StructureSeconds float64
 }
 
-// load reads the table, builds the panel and the grouped structure.
-func (s Source) load() (*loaded, error) {
-	if s.Time == "" || s.Value == "" {
-		return nil, inputerr.New("name the period and value columns with --time and --value")
-	}
-	var grain *tableio.Grain
-	if s.Grain != "" {
-		g, err := tableio.ParseGrain(s.Grain)
-		if err != nil {
-			return nil, err
-		}
-		grain = &g
-	}
-	chains, err := hierarchy.ParseNest(s.Nest)
-	if err != nil {
-		return nil, err
+// Load reads the table, builds the panel and the grouped structure.
+// Every problem with the file or the options is an *inputerr.Error.
+func Load(src Source) (*Data, error) {
+	if src.Time == "" || src.Value == "" {
+		return nil, inputerr.ForOption("Source", "name the period and the value columns")
 	}
 	var keys []string
-	for _, c := range chains {
+	for _, c := range src.Chains {
 		keys = append(keys, c...)
 	}
-
 	start := time.Now()
-	rows, err := tableio.Read(s.Input, tableio.ReadOptions{Format: s.Format, Time: s.Time, Value: s.Value, Keys: keys})
+	rows, err := tableio.Read(src.Path, tableio.ReadOptions{Format: src.Format, Time: src.Time, Value: src.Value, Keys: keys})
 	if err != nil {
 		return nil, err
 	}
-	ld := &loaded{rows: rows, readSeconds: time.Since(start).Seconds()}
+	d := &Data{ReadSeconds: time.Since(start).Seconds(),
+		Input: InputReport{Path: rows.Path, SHA256: rows.SHA256, Rows: rows.N, Columns: rows.Columns}}
 
 	start = time.Now()
-	if ld.panel, err = BuildPanel(rows, PanelOptions{Grain: grain, SumDuplicates: s.SumDuplicates}); err != nil {
+	if d.Panel, err = BuildPanel(rows, PanelOptions{Grain: src.Grain, SumDuplicates: src.SumDuplicates}); err != nil {
 		return nil, err
 	}
-	if ld.st, err = hierarchy.Build(chains, ld.panel.Keys); err != nil {
-		return nil, err
+	if len(src.Chains) == 0 {
+		d.Bottom = d.Panel.Values
+	} else {
+		if d.Structure, err = hierarchy.Build(src.Chains, d.Panel.Keys); err != nil {
+			return nil, err
+		}
+		d.Bottom = make([][]float64, len(d.Panel.Keys))
+		for i, key := range d.Panel.Keys {
+			j, _ := d.Structure.BottomIndex(key)
+			d.Bottom[j] = d.Panel.Values[i]
+		}
 	}
-	ld.bottom = make([][]float64, len(ld.panel.Keys))
-	for i, key := range ld.panel.Keys {
-		j, _ := ld.st.BottomIndex(key)
-		ld.bottom[j] = ld.panel.Values[i]
-	}
-	ld.structureSeconds = time.Since(start).Seconds()
-	return ld, nil
-}
-
-func (ld *loaded) inputReport() InputReport {
-	return InputReport{Path: ld.rows.Path, SHA256: ld.rows.SHA256, Rows: ld.rows.N, Columns: ld.rows.Columns}
+	d.StructureSeconds = time.Since(start).Seconds()
+	return d, nil
 }
