@@ -366,4 +366,3 @@ func oneStepVariance(res [][]float64, h int) [][]float64 {
 	}
 	return out
 }
-
