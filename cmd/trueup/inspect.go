@@ -3,7 +3,7 @@ package main
 import (
 	"encoding/json"
 	"fmt"
-	"text/tabwriter"
+	"strings"
 
 	"github.com/spf13/cobra"
 
@@ -41,18 +41,22 @@ Nothing is written.`,
 				enc.SetIndent("", "  ")
 				return enc.Encode(rep)
 			}
-			fmt.Fprintf(w, "%s: %d rows, columns %v\n", rep.Input.Path, rep.Input.Rows, rep.Input.Columns)
-			fmt.Fprintf(w, "periods: %s to %s, %d %ss (grain from %s)\n", rep.FirstPeriod, rep.LastPeriod, rep.Periods, rep.Grain, rep.GrainFrom)
-			fmt.Fprintf(w, "bottom series: %d, nodes: %d\n\n", rep.BottomSeries, rep.Nodes)
-			tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-			fmt.Fprintln(tw, "level\tseries\tstarting late\tending early")
+			n := func(x int) string { return grouped(float64(x)) }
+			fmt.Fprintf(w, "%s: %s rows, columns %s\n", rep.Input.Path, n(rep.Input.Rows), strings.Join(rep.Input.Columns, ", "))
+			fmt.Fprintf(w, "periods: %s to %s, %s %ss (grain from %s)\n", rep.FirstPeriod, rep.LastPeriod, n(rep.Periods), rep.Grain, rep.GrainFrom)
+			fmt.Fprintf(w, "bottom series: %s, nodes: %s\n\n", n(rep.BottomSeries), n(rep.Nodes))
+			var levels [][]string
 			for _, l := range rep.SeriesByLevel {
-				fmt.Fprintf(tw, "%s\t%d\t%d\t%d\n", l.Level, l.Nodes, l.LateStarts, l.EarlyEnds)
+				levels = append(levels, []string{l.Level, n(l.Nodes), n(l.LateStarts), n(l.EarlyEnds)})
 			}
-			tw.Flush()
-			fmt.Fprintf(w, "\nduplicate rows (same key and period): %d\n", rep.DuplicateRows)
-			fmt.Fprintf(w, "zero values: %d\nnegative values: %d\n", rep.ZeroValues, rep.NegativeRows)
-			fmt.Fprintf(w, "gap periods (no row inside a series' span, read as zero): %d\n", rep.GapPeriods)
+			textTable(w, []string{"level", "series", "starting late", "ending early"}, levels)
+			fmt.Fprintln(w)
+			textTable(w, []string{"input check", "count"}, [][]string{
+				{"duplicate rows (same key and period)", n(rep.DuplicateRows)},
+				{"zero values", n(rep.ZeroValues)},
+				{"negative values", n(rep.NegativeRows)},
+				{"gap periods (no row inside a series' span, read as zero)", n(rep.GapPeriods)},
+			})
 			for _, p := range rep.PartialPeriods {
 				fmt.Fprintf(w, "partial period: %s\n", p)
 			}

@@ -8,7 +8,6 @@ import (
 	"sort"
 	"strconv"
 	"strings"
-	"text/tabwriter"
 
 	"trueup/engine"
 )
@@ -23,8 +22,8 @@ func printSummary(w io.Writer, res *engine.Result, files []string, asJSON bool) 
 		return enc.Encode(rep)
 	}
 	c := rep.Counts
-	fmt.Fprintf(w, "Read %d rows: %d bottom series, %s to %s (%d %ss, seasonal period %d).\n",
-		rep.Input.Rows, c.BottomSeries, c.FirstPeriod, c.LastPeriod, c.Periods, c.Grain, c.SeasonalLag)
+	fmt.Fprintf(w, "Read %s rows: %s bottom series, %s to %s (%d %ss, seasonal period %d).\n",
+		grouped(float64(rep.Input.Rows)), grouped(float64(c.BottomSeries)), c.FirstPeriod, c.LastPeriod, c.Periods, c.Grain, c.SeasonalLag)
 	how := rep.Reconcile.Method
 	var extras []string
 	if cov, _ := rep.Options["cov"].(string); cov != "" {
@@ -38,19 +37,16 @@ func printSummary(w io.Writer, res *engine.Result, files []string, asJSON bool) 
 	}
 	fmt.Fprintf(w, "Forecast %d %ss ahead (%s to %s) for %d nodes, reconciled with %s.\n\n",
 		c.Horizon, c.Grain, c.ForecastRange[0], c.ForecastRange[1], c.Nodes, how)
-	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "level\tnodes")
+	var levels, fams [][]string
 	for _, l := range rep.LevelCounts() {
-		fmt.Fprintf(tw, "%s\t%d\n", l.Level, l.Nodes)
+		levels = append(levels, []string{l.Level, grouped(float64(l.Nodes))})
 	}
-	tw.Flush()
+	textTable(w, []string{"level", "nodes"}, levels)
 	fmt.Fprintln(w)
-	tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "model family\tnodes")
 	for _, f := range rep.FamilyCounts() {
-		fmt.Fprintf(tw, "%s\t%d\n", f.Family, f.Nodes)
+		fams = append(fams, []string{f.Family, grouped(float64(f.Nodes))})
 	}
-	tw.Flush()
+	textTable(w, []string{"model family", "nodes"}, fams)
 	printTail(w, res, files)
 	return nil
 }
@@ -129,13 +125,12 @@ func printTotal(w io.Writer, res *engine.Result) {
 	lab := strconv.FormatFloat(level, 'f', -1, 64)
 	h := len(res.Solution.Forecast[0])
 	fmt.Fprintf(w, "\nTotal forecast with its %s%% interval:\n", lab)
-	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
-	fmt.Fprintf(tw, "period\tforecast\tlower %s%%\tupper %s%%\t\n", lab, lab)
+	var rows [][]string
 	for k := 0; k < min(h, totalRows); k++ {
 		lo, hi := res.Bounds(0, k, level)
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t\n", res.ForecastPeriod(k), grouped(res.Solution.Forecast[0][k]), grouped(lo), grouped(hi))
+		rows = append(rows, []string{res.ForecastPeriod(k).String(), grouped(res.Solution.Forecast[0][k]), grouped(lo), grouped(hi)})
 	}
-	tw.Flush()
+	textTable(w, []string{"period", "forecast", "lower " + lab + "%", "upper " + lab + "%"}, rows)
 	if h > totalRows {
 		fmt.Fprintf(w, "(%d more periods in the forecasts table)\n", h-totalRows)
 	}

@@ -121,7 +121,7 @@ func main() {
 				vc.Floats = append(vc.Floats, v)
 				if !math.IsNaN(w) {
 					if wc.Name == "" {
-						wc = tableio.Column{Name: "variance", Type: tableio.Float64, Floats: make([]float64, 0, rows)}
+						wc = tableio.Column{Name: "base_variance", Type: tableio.Float64, Floats: make([]float64, 0, rows)}
 					}
 					wc.Floats = append(wc.Floats, w)
 				}
