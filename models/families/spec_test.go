@@ -71,8 +71,9 @@ func TestResolveErrors(t *testing.T) {
 
 // TestResolveAirline: the fixed airline form with a log transform, resolved
 // from plain data, reproduces the published estimates for Series G (Box,
-// Jenkins & Reinsel, Time Series Analysis, 4th ed., §9.2: θ1 = −0.4018,
-// Θ1 = −0.5569, log-likelihood 244.70 on the log scale).
+// Jenkins & Reinsel, Time Series Analysis: Forecasting and Control, airline
+// model chapter: θ1 = −0.4018, Θ1 = −0.5569, log-likelihood 244.70 on the
+// log scale; R 4.2.2 stats::arima reproduces them).
 func TestResolveAirline(t *testing.T) {
 	y, err := reference.Series("arima/airpass.csv")
 	if err != nil {
