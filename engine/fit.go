@@ -89,9 +89,9 @@ func FitOne(job FitJob) (NodeFit, error) {
 	return nf, nil
 }
 
-// residualsOnCalendar fills dst (one entry per panel period) with the
+// ResidualsOnCalendar fills dst (one entry per panel period) with the
 // node's in-sample one-step residuals, NaN where it has none.
-func (nf *NodeFit) residualsOnCalendar(dst []float64) {
+func (nf *NodeFit) ResidualsOnCalendar(dst []float64) {
 	for t := range dst {
 		dst[t] = math.NaN()
 	}

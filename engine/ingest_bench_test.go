@@ -24,15 +24,15 @@ func BenchmarkReadAndAggregate(b *testing.B) {
 			b.Fatal(err)
 		}
 	}
-	src := Source{Input: path, Time: fixtures.DemoTimeColumn, Value: fixtures.DemoValueColumn,
-		Nest: fixtures.DemoNest, SumDuplicates: true}
+	src := Source{Path: path, Time: fixtures.DemoTimeColumn, Value: fixtures.DemoValueColumn,
+		Chains: fixtures.DemoChains(), SumDuplicates: true}
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
-		ld, err := src.load()
+		d, err := Load(src)
 		if err != nil {
 			b.Fatal(err)
 		}
-		ld.st.S.Aggregate(ld.bottom)
-		b.ReportMetric(float64(ld.rows.N), "rows")
+		d.Structure.S.Aggregate(d.Bottom)
+		b.ReportMetric(float64(d.Input.Rows), "rows")
 	}
 }

@@ -262,7 +262,7 @@ func problem(st *hierarchy.Structure, history [][]float64, fits []NodeFit, T int
 		p.Base[i] = f.Mean
 		p.BaseVar[i] = f.Variance
 		r := make([]float64, T)
-		f.residualsOnCalendar(r)
+		f.ResidualsOnCalendar(r)
 		p.Residuals[i] = r
 	}
 	return p

@@ -18,11 +18,11 @@ var nan = math.NaN()
 // region, store.
 type Chain []string
 
-// ParseNest turns --nest values ("region,store", "category") into chains.
+// ParseNest turns chain texts ("region,store", "category") into chains.
 // An attribute may appear in only one chain and only once.
 func ParseNest(values []string) ([]Chain, error) {
 	if len(values) == 0 {
-		return nil, inputerr.New("no --nest given: name the key columns, coarse to fine, e.g. --nest region,store --nest category")
+		return nil, inputerr.ForOption("Chains", "no key columns named: give one or more chains of key columns, coarse to fine, such as region,store and category")
 	}
 	seen := map[string]bool{}
 	var chains []Chain
@@ -31,10 +31,10 @@ func ParseNest(values []string) ([]Chain, error) {
 		for _, a := range strings.Split(v, ",") {
 			a = strings.TrimSpace(a)
 			if a == "" {
-				return nil, inputerr.New("--nest %q has an empty attribute name", v)
+				return nil, inputerr.ForOption("Chains", "chain %q has an empty column name", v)
 			}
 			if seen[a] {
-				return nil, inputerr.New("--nest names attribute %q twice", a)
+				return nil, inputerr.ForOption("Chains", "column %q is named twice in the chains", a)
 			}
 			seen[a] = true
 			c = append(c, a)

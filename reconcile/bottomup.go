@@ -26,7 +26,7 @@ func (BottomUp) Reconcile(p Problem) (Solution, error) {
 		return Solution{}, err
 	}
 	if p.Nonnegative {
-		return Solution{}, inputerr.New("--nonnegative applies to --method mint only (bottom-up keeps the bottom base forecasts)")
+		return Solution{}, inputerr.ForOption("Nonnegative", "non-negative reconciliation applies to the mint method only (bottom-up keeps the bottom base forecasts)")
 	}
 	st := p.Structure
 	prop := newRows(m, h)

@@ -101,23 +101,27 @@ type Solution struct {
 
 // Method is one reconciliation method.
 type Method interface {
-	// Name is the value of --method that selects it.
+	// Name is the name ByName selects it by.
 	Name() string
 	Reconcile(p Problem) (Solution, error)
 }
 
-// Method names accepted by ByName, in the order help text lists them.
-var methodNames = []string{"bottom-up", "top-down-hist", "top-down-avg", "top-down-fcst", "middle-out", "mint"}
+// MethodNames lists the method names ByName accepts, in the order help
+// text lists them.
+func MethodNames() []string {
+	return []string{"bottom-up", "top-down-hist", "top-down-avg", "top-down-fcst", "middle-out", "mint"}
+}
 
-// ByName returns the method that --method, --cov and --at select. cov
+// ByName returns the method named method, with covariance estimator cov
+// and middle-out level at. cov
 // applies to mint only (empty means shrink) and at to middle-out only
 // (where it is required); giving either with another method is an error.
 func ByName(method, cov, at string) (Method, error) {
 	if at != "" && method != "middle-out" {
-		return nil, inputerr.New("--at %q applies to --method middle-out only", at)
+		return nil, inputerr.ForOption("At", "a level to reconcile from (%q) applies to the middle-out method only", at)
 	}
 	if cov != "" && method != "mint" {
-		return nil, inputerr.New("--cov %q applies to --method mint only", cov)
+		return nil, inputerr.ForOption("Cov", "a covariance estimator (%q) applies to the mint method only", cov)
 	}
 	switch method {
 	case "bottom-up":
@@ -130,7 +134,7 @@ func ByName(method, cov, at string) (Method, error) {
 		return TopDown{Proportions: ForecastProportions}, nil
 	case "middle-out":
 		if at == "" {
-			return nil, inputerr.New("--method middle-out needs --at LEVEL (a level name such as region+category)")
+			return nil, inputerr.ForOption("At", "the middle-out method needs the level to reconcile from (a level name such as region+category)")
 		}
 		return MiddleOut{Level: at}, nil
 	case "mint":
@@ -139,11 +143,11 @@ func ByName(method, cov, at string) (Method, error) {
 		}
 		c := Covariance(cov)
 		if !c.valid() {
-			return nil, inputerr.New("unknown --cov %q (use %s)", cov, strings.Join(covNames(), ", "))
+			return nil, inputerr.ForOption("Cov", "unknown covariance estimator %q (use %s)", cov, strings.Join(CovNames(), ", "))
 		}
 		return Projection{Cov: c}, nil
 	}
-	return nil, inputerr.New("unknown --method %q (use %s)", method, strings.Join(methodNames, ", "))
+	return nil, inputerr.ForOption("Method", "unknown reconciliation method %q (use %s)", method, strings.Join(MethodNames(), ", "))
 }
 
 // maxResidual bounds residual magnitudes so that sums of squares and

@@ -34,12 +34,13 @@ const (
 	CovShrink Covariance = "shrink"
 )
 
-func covNames() []string {
+// CovNames lists the covariance estimators of the projection methods.
+func CovNames() []string {
 	return []string{string(CovIdentity), string(CovStructural), string(CovVariance), string(CovSample), string(CovShrink)}
 }
 
 func (c Covariance) valid() bool {
-	for _, n := range covNames() {
+	for _, n := range CovNames() {
 		if string(c) == n {
 			return true
 		}
@@ -89,7 +90,7 @@ func (pr Projection) weights(p *Problem, errc *errCov, n int) (*errCov, error) {
 		return w, nil
 	}
 	if errc == nil {
-		return nil, inputerr.New("--cov %s needs the in-sample residuals of every node", pr.Cov)
+		return nil, inputerr.ForOption("Cov", "covariance %s needs the in-sample residuals of every node", pr.Cov)
 	}
 	switch pr.Cov {
 	case CovVariance:
@@ -99,7 +100,7 @@ func (pr Projection) weights(p *Problem, errc *errCov, n int) (*errCov, error) {
 	}
 	// CovSample.
 	if T := len(p.Residuals[0]); T < n {
-		return nil, inputerr.New("--cov sample: the sample covariance of %d residual periods is singular for %d nodes (it needs at least as many periods as nodes); use --cov shrink", T, n)
+		return nil, inputerr.ForOption("Cov", "covariance sample: the sample covariance of %d residual periods is singular for %d nodes (it needs at least as many periods as nodes); use the shrink covariance", T, n)
 	}
 	return newErrCov(p.Residuals, 0, st.Label)
 }
@@ -231,12 +232,12 @@ func newDenseProjector(st *hierarchy.Structure, wg *errCov) (*denseProjector, er
 	n, m := st.S.Dims()
 	var ch mat.Cholesky
 	if !ch.Factorize(denseW(wg)) {
-		return nil, inputerr.New("the covariance W is singular, so the projection is not defined; use --cov shrink")
+		return nil, inputerr.ForOption("Cov", "the covariance W is singular, so the projection is not defined; use the shrink covariance")
 	}
 	s := denseS(st)
 	sw := mat.NewDense(n, m, nil)
 	if err := ch.SolveTo(sw, s); err != nil {
-		return nil, inputerr.New("the covariance W is numerically singular; use --cov shrink")
+		return nil, inputerr.ForOption("Cov", "the covariance W is numerically singular; use the shrink covariance")
 	}
 	var pm mat.Dense
 	pm.Mul(s.T(), sw)
@@ -248,11 +249,11 @@ func newDenseProjector(st *hierarchy.Structure, wg *errCov) (*denseProjector, er
 	}
 	var pc mat.Cholesky
 	if !pc.Factorize(p) {
-		return nil, inputerr.New("SᵀW⁻¹S is singular; use --cov shrink")
+		return nil, inputerr.New("SᵀW⁻¹S is singular; use the shrink covariance")
 	}
 	g := mat.NewDense(m, n, nil)
 	if err := pc.SolveTo(g, sw.T()); err != nil {
-		return nil, inputerr.New("SᵀW⁻¹S is numerically singular; use --cov shrink")
+		return nil, inputerr.New("SᵀW⁻¹S is numerically singular; use the shrink covariance")
 	}
 	return &denseProjector{st: st, g: g, p: p, sw: sw}, nil
 }

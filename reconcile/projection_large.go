@@ -107,7 +107,7 @@ func (lp *largeProjector) hasZero() bool {
 func (lp *largeProjector) checkDiag() error {
 	for a, v := range lp.dq {
 		if !(v > 0) {
-			return inputerr.New("the covariance W is singular at %s; use --cov shrink", lp.st.Label(a))
+			return inputerr.ForOption("Cov", "the covariance W is singular at %s; use the shrink covariance", lp.st.Label(a))
 		}
 	}
 	return nil
@@ -389,7 +389,7 @@ func (lp *largeProjector) qp() (qpProblem, error) {
 	w := lp.w
 	for i, d := range w.Delta {
 		if !(d > 0) {
-			return nil, inputerr.New("non-negative reconciliation needs W⁻¹, and W is singular at %s; use --cov shrink", lp.st.Label(i))
+			return nil, inputerr.New("non-negative reconciliation needs W⁻¹, and W is singular at %s; use the shrink covariance", lp.st.Label(i))
 		}
 	}
 	q := &largeQP{lp: lp, T: w.rank(), diag: make([]float64, lp.m)}

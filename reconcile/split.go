@@ -194,7 +194,7 @@ func (t TopDown) Reconcile(p Problem) (Solution, error) {
 		return Solution{}, err
 	}
 	if p.Nonnegative {
-		return Solution{}, inputerr.New("--nonnegative applies to --method mint only (%s keeps the sign of the total)", t.Name())
+		return Solution{}, inputerr.ForOption("Nonnegative", "non-negative reconciliation applies to the mint method only (%s keeps the sign of the total)", t.Name())
 	}
 	var prop [][]float64
 	switch t.Proportions {
@@ -218,7 +218,7 @@ func (t TopDown) Reconcile(p Problem) (Solution, error) {
 func historicalProportions(p *Problem, kind Proportions, m, h int) ([][]float64, error) {
 	st := p.Structure
 	if p.History == nil {
-		return nil, inputerr.New("top-down-%s needs the sales history of the bottom series (trueup reconcile: --history FILE)", kind)
+		return nil, inputerr.ForOption("History", "top-down-%s needs the sales history of the bottom series", kind)
 	}
 	off := st.BottomOffset()
 	T := len(p.History[off])
@@ -291,7 +291,7 @@ func forecastProportions(p *Problem, l, h int) ([][]float64, error) {
 		if d < len(st.Chains[c]) {
 			if chain >= 0 {
 				return nil, inputerr.New(
-					"splitting %s by forecast proportions is not uniquely defined: it leaves chains %s and %s to split, and the result depends on which goes first; use --method middle-out --at LEVEL with a level that keeps all but one chain at full depth (for example %s), or --method mint",
+					"splitting %s by forecast proportions is not uniquely defined: it leaves chains %s and %s to split, and the result depends on which goes first; use middle-out from a level that keeps all but one chain at full depth (for example %s), or mint",
 					st.Levels[l].Name, strings.Join(st.Chains[chain], ","), strings.Join(st.Chains[c], ","), exampleSplitLevel(st))
 			}
 			chain = c
@@ -393,11 +393,11 @@ func (mo MiddleOut) Reconcile(p Problem) (Solution, error) {
 		return Solution{}, err
 	}
 	if p.Nonnegative {
-		return Solution{}, inputerr.New("--nonnegative applies to --method mint only")
+		return Solution{}, inputerr.ForOption("Nonnegative", "non-negative reconciliation applies to the mint method only")
 	}
 	l, ok := p.Structure.LevelByName(mo.Level)
 	if !ok {
-		return Solution{}, inputerr.New("--at %q is not a level of the structure (levels: %s)", mo.Level, strings.Join(p.Structure.LevelNames(), ", "))
+		return Solution{}, inputerr.ForOption("At", "%q is not a level of the structure (levels: %s)", mo.Level, strings.Join(p.Structure.LevelNames(), ", "))
 	}
 	prop, err := forecastProportions(&p, l, h)
 	if err != nil {

@@ -142,7 +142,7 @@ func TestSplitVariance(t *testing.T) {
 }
 
 func TestByName(t *testing.T) {
-	for _, name := range methodNames {
+	for _, name := range MethodNames() {
 		at := ""
 		if name == "middle-out" {
 			at = "region"
@@ -152,7 +152,7 @@ func TestByName(t *testing.T) {
 			t.Errorf("ByName(%q) = %v, %v", name, m, err)
 		}
 	}
-	for _, c := range covNames() {
+	for _, c := range CovNames() {
 		if m, err := ByName("mint", c, ""); err != nil || m.(Projection).Cov != Covariance(c) {
 			t.Errorf("cov %s: %v %v", c, m, err)
 		}

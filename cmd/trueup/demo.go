@@ -25,22 +25,15 @@ can be repeated with "trueup forecast".`,
   trueup demo --out /tmp/demo --format parquet,csv --horizon 6`,
 		Args: noArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
-			cfg := engine.Config{Source: engine.Source{Time: fixtures.DemoTimeColumn, Value: fixtures.DemoValueColumn, Nest: fixtures.DemoNest}}
-			if err := rf.apply(cmd, &cfg); err != nil {
-				return err
-			}
 			if err := os.MkdirAll(rf.out, 0o755); err != nil {
 				return err
 			}
-			cfg.Input = filepath.Join(rf.out, "demo_sales.parquet")
-			if err := tableio.WriteFileAtomic(cfg.Input, fixtures.DemoMonthlyParquet); err != nil {
+			src := engine.Source{Path: filepath.Join(rf.out, "demo_sales.parquet"),
+				Time: fixtures.DemoTimeColumn, Value: fixtures.DemoValueColumn, Chains: fixtures.DemoChains()}
+			if err := tableio.WriteFileAtomic(src.Path, fixtures.DemoMonthlyParquet); err != nil {
 				return fmt.Errorf("copy demo data: %w", err)
 			}
-			res, err := engine.Run(cfg)
-			if err != nil {
-				return err
-			}
-			return printSummary(cmd.OutOrStdout(), res, rf.json)
+			return runForecast(cmd, src, &rf)
 		},
 	}
 	rf.register(cmd, "trueup-demo")

@@ -1,17 +1,18 @@
 package main
 
 import (
+	"context"
+
 	"github.com/spf13/cobra"
 
 	"trueup/engine"
+	"trueup/engine/output"
 )
 
 func newForecastCmd() *cobra.Command {
 	var (
-		sf     sourceFlags
-		rf     runFlags
-		sumDup bool
-		period int
+		sf sourceFlags
+		rf runFlags
 	)
 	cmd := &cobra.Command{
 		Use:   "forecast --input FILE --nest CHAIN [--nest CHAIN ...]",
@@ -19,7 +20,7 @@ func newForecastCmd() *cobra.Command {
 		Long: `Reads a long sales table (one row per bottom series per period), builds
 every aggregate named by --nest, fits a model to every node, reconciles the
 forecasts so that every total equals the sum of its parts, and writes
-forecasts, models and run.json to --out.
+forecasts, models, residuals and run.json to --out.
 
 Each --nest value is a chain of key columns from coarse to fine. Several
 chains cross: --nest region,store --nest category gives the levels total,
@@ -35,27 +36,40 @@ into a plan.`,
       --nest region,store --nest category --sum-duplicates --grain week`,
 		Args: noArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
-			src, err := sf.source()
+			src, err := sf.source(true)
 			if err != nil {
 				return err
 			}
-			src.SumDuplicates = sumDup
-			cfg := engine.Config{Source: src, Period: period}
-			if err := rf.apply(cmd, &cfg); err != nil {
-				return err
-			}
-			res, err := engine.Run(cfg)
-			if err != nil {
-				return err
-			}
-			return printSummary(cmd.OutOrStdout(), res, rf.json)
+			return runForecast(cmd, src, &rf)
 		},
 	}
 	sf.register(cmd)
-	fl := cmd.Flags()
-	fl.BoolVar(&sumDup, "sum-duplicates", false, "add up rows with the same key and period instead of refusing them")
-	fl.IntVar(&period, "period", 0, "seasonal period (default from the grain: 7, 52, 12, 4)")
-	groupFlags(cmd, "Input", "sum-duplicates", "period")
 	rf.register(cmd, "trueup-out")
 	return cmd
+}
+
+// runForecast checks the options, loads the source, forecasts, writes the
+// result and prints the summary.
+func runForecast(cmd *cobra.Command, src engine.Source, rf *runFlags) error {
+	opt, err := rf.options(cmd)
+	if err != nil {
+		return err
+	}
+	formats, err := output.ParseFormats(rf.formats)
+	if err != nil {
+		return err
+	}
+	data, err := engine.Load(src)
+	if err != nil {
+		return err
+	}
+	res, err := engine.Forecast(context.Background(), data, opt)
+	if err != nil {
+		return err
+	}
+	files, err := output.Write(rf.out, res, formats)
+	if err != nil {
+		return err
+	}
+	return printSummary(cmd.OutOrStdout(), res, files, rf.json)
 }

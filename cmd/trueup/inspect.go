@@ -27,7 +27,7 @@ Nothing is written.`,
       --nest region,store --nest category`,
 		Args: noArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
-			src, err := sf.source()
+			src, err := sf.source(true)
 			if err != nil {
 				return err
 			}

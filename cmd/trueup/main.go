@@ -44,6 +44,16 @@ func removeTempsOnInterrupt() {
 	os.Exit(code)
 }
 
+// optionFlags maps the library's option names, which input errors carry,
+// to the flags that set them, so a message can name the flag to change.
+var optionFlags = map[string]string{
+	"Source": "--time/--value", "Chains": "--nest", "Period": "--period", "Horizon": "--horizon",
+	"Levels": "--levels", "Family": "--family", "Model": "--model", "Transform": "--transform",
+	"Constant": "--constant", "Method": "--method", "Cov": "--cov", "At": "--at",
+	"Nonnegative": "--nonnegative", "Paths": "--paths", "History": "--history",
+	"Formats": "--format", "Out": "--out",
+}
+
 // run executes the command line and maps errors to exit statuses: input and
 // usage errors exit 2, anything else 1.
 func run(args []string) int {
@@ -53,7 +63,11 @@ func run(args []string) int {
 	if err == nil {
 		return exitOK
 	}
-	fmt.Fprintln(os.Stderr, "trueup:", err)
+	if flag := optionFlags[inputerr.OptionOf(err)]; flag != "" && !strings.Contains(err.Error(), flag) {
+		fmt.Fprintf(os.Stderr, "trueup: %s: %v\n", flag, err)
+	} else {
+		fmt.Fprintln(os.Stderr, "trueup:", err)
+	}
 	var ue *usageError
 	// Cobra reports an unknown command as a plain error.
 	if inputerr.Is(err) || errors.As(err, &ue) || strings.HasPrefix(err.Error(), "unknown command") {

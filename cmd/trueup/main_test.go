@@ -37,7 +37,7 @@ func TestDemoIsCoherent(t *testing.T) {
 	}
 	level, region, store, category := col("level"), col("region"), col("store"), col("category")
 	step, fc := col("step"), col("forecast")
-	lo80, hi80, lo95, hi95 := col("lo_80"), col("hi_80"), col("lo_95"), col("hi_95")
+	lo80, hi80, lo95, hi95 := col("pi80_lower"), col("pi80_upper"), col("pi95_lower"), col("pi95_upper")
 
 	type cell struct {
 		key  string

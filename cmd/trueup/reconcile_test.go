@@ -79,8 +79,8 @@ func readForecasts(t *testing.T, path string) map[string][]float64 {
 	for r := range cols["forecast"].Floats {
 		key := cellString(cols["region"], r) + "/" + cellString(cols["store"], r) + "/" + cellString(cols["period"], r)
 		row := []float64{cols["base"].Floats[r], cols["forecast"].Floats[r]}
-		if c, ok := cols["lo_80"]; ok {
-			row = append(row, c.Floats[r], cols["hi_80"].Floats[r])
+		if c, ok := cols["pi80_lower"]; ok {
+			row = append(row, c.Floats[r], cols["pi80_upper"].Floats[r])
 		}
 		out[key] = row
 	}
@@ -123,18 +123,18 @@ func TestReconcileCommand(t *testing.T) {
 			t.Errorf("%s: run.json without the shrinkage λ: %v %s", method, err, run)
 		}
 	}
-	// top-down-avg with a history where the stores sell 1, 3 and 4 a
-	// month (plus an aggregate row, which is ignored): shares 1/8, 3/8, 4/8
+	// top-down-avg with a history (read as forecast reads its input) where
+	// the stores sell 1, 3 and 4 a month: shares 1/8, 3/8, 4/8
 	// of the total's base forecast (Gross & Sohl 1990, proportions of the
 	// historical averages).
 	var hb strings.Builder
-	hb.WriteString("region,store,period,value\n,,2025-01,999\n")
-	for m := 1; m <= 6; m++ {
+	hb.WriteString("region,store,period,value\n")
+	for m := 1; m <= 12; m++ {
 		fmt.Fprintf(&hb, "R1,S1,2025-%02d,1\nR1,S2,2025-%02d,3\nR2,S3,2025-%02d,4\n", m, m, m)
 	}
 	hist := writeFile(t, dir, "hist.csv", hb.String())
 	out := filepath.Join(dir, "td")
-	if code := run([]string{"reconcile", "--base", base, "--history", hist, "--nest", "region,store", "--method", "top-down-avg", "--out", out, "--format", "csv"}); code != 0 {
+	if code := run([]string{"reconcile", "--base", base, "--history", hist, "--value", "value", "--nest", "region,store", "--method", "top-down-avg", "--out", out, "--format", "csv"}); code != 0 {
 		t.Fatalf("top-down-avg exited %d", code)
 	}
 	fc := readForecasts(t, filepath.Join(out, "forecasts.csv"))
@@ -184,7 +184,7 @@ func TestReconcileInputErrors(t *testing.T) {
 		}, "residual periods differ"},
 		{"sample singular", func() []string {
 			return []string{"--base", baseCSV(t, dir, -1, nil), "--residuals", res, "--cov", "sample", "--method", "mint"}
-		}, "--cov shrink"},
+		}, "shrink covariance"},
 		{"unknown method", func() []string { return []string{"--base", baseCSV(t, dir, -1, nil), "--method", "best"} }, "bottom-up"},
 	}
 	for _, tc := range cases {
@@ -198,4 +198,12 @@ func TestReconcileInputErrors(t *testing.T) {
 			t.Errorf("%s: message %q does not mention %q", tc.name, stderr, tc.want)
 		}
 	}
+}
+
+// cellString reads a text cell of a table read back; null is "".
+func cellString(c tableio.Column, r int) string {
+	if c.Null != nil && c.Null[r] {
+		return ""
+	}
+	return c.Strings[r]
 }

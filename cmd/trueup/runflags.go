@@ -12,98 +12,140 @@ import (
 	"golang.org/x/term"
 
 	"trueup/engine"
+	"trueup/engine/output"
 	"trueup/models/families"
-	"trueup/tableio"
+	"trueup/reconcile"
 )
 
 // runFlags are the flags shared by forecast and demo.
 type runFlags struct {
-	horizon     int
-	family      string
-	method      string
-	cov         string
-	at          string
-	nonnegative bool
-	levels      string
-	workers     int
-	out         string
-	formats     string
-	quiet       bool
-	json        bool
+	period  int
+	horizon int
+	family  string
+	reconcileFlags
+	levels  string
+	workers int
+	outputFlags
+}
+
+// reconcileFlags choose the reconciliation (forecast, demo, reconcile).
+type reconcileFlags struct {
+	method, cov, at string
+	nonnegative     bool
+	paths           int
+}
+
+func (f *reconcileFlags) register(cmd *cobra.Command) {
+	fl := cmd.Flags()
+	fl.StringVar(&f.method, "method", engine.DefaultMethod, "reconciliation: "+strings.Join(reconcile.MethodNames(), ", "))
+	fl.StringVar(&f.cov, "cov", "", "covariance for mint: "+strings.Join(reconcile.CovNames(), ", ")+" (default shrink)")
+	fl.StringVar(&f.at, "at", "", "level to reconcile from with middle-out, e.g. region+category")
+	fl.BoolVar(&f.nonnegative, "nonnegative", false, "keep reconciled bottom-level forecasts at or above zero\n(default: on for mint when the history has no negative value; --nonnegative=false turns it off)")
+	fl.IntVar(&f.paths, "paths", reconcile.DefaultPaths, fmt.Sprintf("sample paths behind mint's interval widths above %d nodes (more: slower, closer)", reconcile.DenseMaxNodes))
+	groupFlags(cmd, "Reconciliation", "method", "cov", "at", "nonnegative", "paths")
+}
+
+func (f *reconcileFlags) options(cmd *cobra.Command) engine.Reconciliation {
+	r := engine.Reconciliation{Method: f.method, Cov: f.cov, At: f.at, Paths: f.paths}
+	if cmd.Flags().Changed("nonnegative") {
+		r.Nonnegative = &f.nonnegative
+	}
+	return r
+}
+
+// outputFlags say where and how results are written.
+type outputFlags struct {
+	out     string
+	formats string
+	quiet   bool
+	json    bool
+}
+
+func (f *outputFlags) register(cmd *cobra.Command, defaultOut string) {
+	fl := cmd.Flags()
+	fl.StringVar(&f.out, "out", defaultOut, "directory for the result tables and run.json")
+	fl.StringVar(&f.formats, "format", "parquet", "output formats, comma-separated: "+strings.Join(output.Formats(), ", "))
+	fl.BoolVarP(&f.quiet, "quiet", "q", false, "no progress bar")
+	fl.BoolVar(&f.json, "json", false, "print a machine-readable summary on stdout")
+	groupFlags(cmd, "Output", "out", "format", "quiet", "json")
 }
 
 func (f *runFlags) register(cmd *cobra.Command, defaultOut string) {
 	fl := cmd.Flags()
+	fl.IntVar(&f.period, "period", 0, "seasonal period (default from the grain: 7, 52, 12, 4; 1 for years and time indexes)")
 	fl.IntVar(&f.horizon, "horizon", 0, "periods to forecast (default: one seasonal cycle, e.g. 12 months)")
 	fl.StringVar(&f.family, "family", "", "model family for every node: "+familyNames())
-	fl.StringVar(&f.method, "method", engine.DefaultMethod, "reconciliation: bottom-up, top-down-hist, top-down-avg, top-down-fcst, middle-out, mint")
-	fl.StringVar(&f.cov, "cov", "", "covariance for mint: identity, structural, variance, sample, shrink (default shrink)")
-	fl.StringVar(&f.at, "at", "", "level to reconcile from with middle-out, e.g. region+category")
-	fl.BoolVar(&f.nonnegative, "nonnegative", false, "keep reconciled bottom-level forecasts at or above zero\n(default: on for mint when the history has no negative value; --nonnegative=false turns it off)")
 	fl.StringVar(&f.levels, "levels", "80,95", "prediction interval levels in percent, comma-separated")
 	fl.IntVar(&f.workers, "workers", runtime.NumCPU(), "nodes fitted in parallel")
-	fl.StringVar(&f.out, "out", defaultOut, "directory for forecasts, models and run.json")
-	fl.StringVar(&f.formats, "format", "parquet", "output formats, comma-separated: parquet, csv, arrow")
-	fl.BoolVarP(&f.quiet, "quiet", "q", false, "no progress bar")
-	fl.BoolVar(&f.json, "json", false, "print a machine-readable summary on stdout")
-	groupFlags(cmd, "Model", "horizon", "family", "levels", "workers")
-	groupFlags(cmd, "Reconciliation", "method", "cov", "at", "nonnegative")
-	groupFlags(cmd, "Output", "out", "format", "quiet", "json")
+	groupFlags(cmd, "Model", "period", "horizon", "family", "levels", "workers")
+	f.reconcileFlags.register(cmd)
+	f.outputFlags.register(cmd, defaultOut)
 }
 
-// apply copies the flags into a pipeline configuration.
-func (f *runFlags) apply(cmd *cobra.Command, cfg *engine.Config) error {
+// options turns the flags into engine options, checking them before any
+// data is read.
+func (f *runFlags) options(cmd *cobra.Command) (engine.Options, error) {
 	if cmd.Flags().Changed("horizon") && f.horizon < 1 {
-		return &usageError{fmt.Errorf("--horizon must be at least 1, got %d", f.horizon)}
+		return engine.Options{}, &usageError{fmt.Errorf("--horizon must be at least 1, got %d", f.horizon)}
+	}
+	if cmd.Flags().Changed("period") && f.period < 1 {
+		return engine.Options{}, &usageError{fmt.Errorf("--period must be at least 1, got %d", f.period)}
+	}
+	if f.workers < 1 {
+		return engine.Options{}, &usageError{fmt.Errorf("--workers must be at least 1, got %d", f.workers)}
 	}
 	levels, err := parseLevels(f.levels)
 	if err != nil {
-		return err
+		return engine.Options{}, err
 	}
-	formats, err := tableio.ParseFormats(f.formats)
-	if err != nil {
-		return err
+	opt := engine.Options{
+		Model:     families.Spec{Family: f.family},
+		Period:    f.period,
+		Horizon:   f.horizon,
+		Reconcile: f.reconcileFlags.options(cmd),
+		Levels:    levels,
+		Fitter:    engine.Local{Workers: f.workers},
 	}
-	cfg.Horizon = f.horizon
-	cfg.Family = f.family
-	cfg.Method = f.method
-	cfg.Cov = f.cov
-	cfg.At = f.at
-	if cmd.Flags().Changed("nonnegative") {
-		cfg.Nonnegative = &f.nonnegative
-	}
-	cfg.Levels = levels
-	cfg.Workers = f.workers
-	cfg.OutDir = f.out
-	cfg.Formats = formats
 	if !f.quiet && term.IsTerminal(int(os.Stderr.Fd())) {
-		var bar *progressbar.ProgressBar
-		cfg.Progress = func(done, total int) {
-			if bar == nil {
-				bar = progressbar.NewOptions(total,
-					progressbar.OptionSetWriter(os.Stderr),
-					progressbar.OptionSetDescription("fitting nodes"),
-					progressbar.OptionShowCount(),
-					progressbar.OptionClearOnFinish(),
-					progressbar.OptionThrottle(100_000_000))
-			}
-			_ = bar.Set(done)
-		}
+		opt.Progress = progressBar("fitting nodes")
 	}
-	return nil
+	return opt, nil
+}
+
+// progressBar returns a progress callback drawing a bar on stderr.
+func progressBar(what string) func(done, total int) {
+	var bar *progressbar.ProgressBar
+	return func(done, total int) {
+		if bar == nil {
+			bar = progressbar.NewOptions(total,
+				progressbar.OptionSetWriter(os.Stderr),
+				progressbar.OptionSetDescription(what),
+				progressbar.OptionShowCount(),
+				progressbar.OptionClearOnFinish(),
+				progressbar.OptionThrottle(100_000_000))
+		}
+		_ = bar.Set(done)
+	}
 }
 
 func familyNames() string {
 	return strings.Join(families.Registry().Names(), ", ") + " (default " + families.Default + ")"
 }
 
+// parseLevels reads --levels: percentages strictly between 0 and 100, none
+// repeated.
 func parseLevels(s string) ([]float64, error) {
 	var out []float64
+	seen := map[float64]bool{}
 	for _, part := range strings.Split(s, ",") {
 		v, err := strconv.ParseFloat(strings.TrimSpace(part), 64)
 		if err != nil || !(v > 0 && v < 100) {
 			return nil, &usageError{fmt.Errorf("--levels: %q is not a percentage between 0 and 100", part)}
 		}
+		if seen[v] {
+			return nil, &usageError{fmt.Errorf("--levels: %v is given twice", v)}
+		}
+		seen[v] = true
 		out = append(out, v)
 	}
 	return out, nil

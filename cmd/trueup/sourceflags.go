@@ -4,33 +4,53 @@ import (
 	"github.com/spf13/cobra"
 
 	"trueup/engine"
+	"trueup/hierarchy"
 	"trueup/tableio"
 )
 
 // sourceFlags are the flags that name the sales table and its columns,
-// shared by forecast and inspect.
+// shared by every command that reads sales history.
 type sourceFlags struct {
-	src    engine.Source
-	format string
+	input, format string
+	time, value   string
+	nest          []string
+	grain         string
+	sumDuplicates bool
 }
 
 func (f *sourceFlags) register(cmd *cobra.Command) {
 	fl := cmd.Flags()
-	fl.StringVar(&f.src.Input, "input", "", "sales table, .parquet or .csv")
-	fl.StringVar(&f.format, "input-format", "", "read the input as parquet or csv whatever its extension")
-	fl.StringVar(&f.src.Time, "time", "period", "period column: dates, timestamps, or labels such as 2024-03, 2024-Q1, 2024-W07")
-	fl.StringVar(&f.src.Value, "value", "sales", "numeric value column")
-	fl.StringArrayVar(&f.src.Nest, "nest", nil, "key columns of one chain, coarse to fine, comma-separated (repeatable)")
-	fl.StringVar(&f.src.Grain, "grain", "", "work at this grain, summing finer periods: day, week, month, quarter")
-	groupFlags(cmd, "Input", "input", "input-format", "time", "value", "nest", "grain")
+	fl.StringVar(&f.input, "input", "", "sales table: .parquet, .csv or .arrow")
+	fl.StringVar(&f.format, "input-format", "", "read the input as parquet, csv or arrow whatever its extension")
+	fl.StringVar(&f.time, "time", "period", "period column: dates, timestamps, labels such as 2024-03, 2024-Q1, 2024-W07, 2024, or a time index 1, 2, 3")
+	fl.StringVar(&f.value, "value", "sales", "numeric value column")
+	fl.StringArrayVar(&f.nest, "nest", nil, "key columns of one chain, coarse to fine, comma-separated (repeatable)")
+	fl.StringVar(&f.grain, "grain", "", "work at this grain, summing finer periods: day, week, month, quarter, year")
+	fl.BoolVar(&f.sumDuplicates, "sum-duplicates", false, "add up rows with the same key and period instead of refusing them")
+	groupFlags(cmd, "Input", "input", "input-format", "time", "value", "nest", "grain", "sum-duplicates")
 }
 
-// source returns the flags' source, or a usage error when --input is missing.
-func (f *sourceFlags) source() (engine.Source, error) {
-	if f.src.Input == "" {
+// source returns the engine source the flags describe. needKeys says
+// whether the command needs --nest.
+func (f *sourceFlags) source(needKeys bool) (engine.Source, error) {
+	if f.input == "" {
 		return engine.Source{}, &usageError{errMissing("--input")}
 	}
-	s := f.src
-	s.Format = tableio.Format(f.format)
-	return s, nil
+	src := engine.Source{Path: f.input, Format: tableio.Format(f.format), Time: f.time, Value: f.value,
+		SumDuplicates: f.sumDuplicates}
+	if needKeys || len(f.nest) > 0 {
+		chains, err := hierarchy.ParseNest(f.nest)
+		if err != nil {
+			return src, err
+		}
+		src.Chains = chains
+	}
+	if f.grain != "" {
+		g, err := tableio.ParseGrain(f.grain)
+		if err != nil {
+			return src, err
+		}
+		src.Grain = &g
+	}
+	return src, nil
 }

@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"path/filepath"
 	"sort"
 	"strconv"
 	"strings"
@@ -16,7 +15,7 @@ import (
 
 // printSummary prints what a run did: nodes per level, chosen models,
 // warnings and where the files are; or, with asJSON, the run report.
-func printSummary(w io.Writer, res *engine.Result, asJSON bool) error {
+func printSummary(w io.Writer, res *engine.Result, files []string, asJSON bool) error {
 	rep := res.Report
 	if asJSON {
 		enc := json.NewEncoder(w)
@@ -52,6 +51,28 @@ func printSummary(w io.Writer, res *engine.Result, asJSON bool) error {
 		fmt.Fprintf(tw, "%s\t%d\n", f.Family, f.Nodes)
 	}
 	tw.Flush()
+	printTail(w, res, files)
+	return nil
+}
+
+// printReconciled prints what trueup reconcile did.
+func printReconciled(w io.Writer, res *engine.Result, files []string) error {
+	rep := res.Report
+	c := rep.Counts
+	how := rep.Reconcile.Method
+	if cov, _ := rep.Options["cov"].(string); cov != "" {
+		how += " (covariance " + cov + ")"
+	}
+	fmt.Fprintf(w, "Reconciled %d nodes (%d bottom series) × %d periods, %s to %s, with %s.\n",
+		c.Nodes, c.BottomSeries, c.Horizon, c.ForecastRange[0], c.ForecastRange[1], how)
+	printTail(w, res, files)
+	return nil
+}
+
+// printTail prints the reconciliation facts, the total's forecast,
+// warnings, files and the caution.
+func printTail(w io.Writer, res *engine.Result, files []string) {
+	rep := res.Report
 	if len(rep.Reconcile.Notes) > 0 {
 		keys := make([]string, 0, len(rep.Reconcile.Notes))
 		for k := range rep.Reconcile.Notes {
@@ -76,13 +97,13 @@ func printSummary(w io.Writer, res *engine.Result, asJSON bool) error {
 		}
 	}
 	fmt.Fprintln(w, "\nFiles:")
-	for _, f := range rep.Files {
+	for _, f := range files {
 		fmt.Fprintln(w, "  "+f)
 	}
-	fmt.Fprintln(w, "  "+filepath.Join(rep.Options["out"].(string), "run.json"))
-	fmt.Fprintln(w, "\nThese forecasts are estimates with stated uncertainty (lo_/hi_ columns);")
-	fmt.Fprintln(w, "they are for the people accountable for the plan to review, not to adopt unread.")
-	return nil
+	fmt.Fprintln(w, "\nThese forecasts are estimates, each with its prediction intervals (the piNN_lower")
+	fmt.Fprintln(w, "and piNN_upper columns). They are for the people accountable for the plan to")
+	fmt.Fprintln(w, "review, not to adopt unread.")
+
 }
 
 // noteLabels name the reconciliation facts for people.
@@ -98,7 +119,7 @@ const totalRows = 12
 // printTotal shows the total's coherent forecast with its narrowest
 // interval, period by period.
 func printTotal(w io.Writer, res *engine.Result) {
-	if len(res.Levels) == 0 {
+	if len(res.Levels) == 0 || res.Solution.Variance == nil {
 		return
 	}
 	level := res.Levels[0]
@@ -109,7 +130,7 @@ func printTotal(w io.Writer, res *engine.Result) {
 	h := len(res.Solution.Forecast[0])
 	fmt.Fprintf(w, "\nTotal forecast with its %s%% interval:\n", lab)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
-	fmt.Fprintf(tw, "period\tforecast\tlo_%s\thi_%s\t\n", lab, lab)
+	fmt.Fprintf(tw, "period\tforecast\tlower %s%%\tupper %s%%\t\n", lab, lab)
 	for k := 0; k < min(h, totalRows); k++ {
 		lo, hi := res.Bounds(0, k, level)
 		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t\n", res.ForecastPeriod(k), grouped(res.Solution.Forecast[0][k]), grouped(lo), grouped(hi))

@@ -1,47 +1,38 @@
-package engine
+package output
 
 import (
 	"encoding/json"
 	"fmt"
 	"math"
-	"os"
-	"path/filepath"
 
+	"trueup/engine"
 	"trueup/tableio"
 )
 
-// writeOutputs writes the forecasts and models tables in every requested
-// format and returns the paths written. Each file is atomic; a failure
-// part-way leaves the files already renamed in place and no partial file.
-func writeOutputs(cfg Config, res *Result, rep *RunReport) ([]string, error) {
-	if err := os.MkdirAll(cfg.OutDir, 0o755); err != nil {
-		return nil, fmt.Errorf("create output directory: %w", err)
-	}
-	tables := []struct {
-		name string
-		t    *tableio.Table
-	}{
-		{"forecasts", forecastTable(cfg, res)},
-		{"models", modelTable(res)},
-		{"residuals", residualTable(res)},
-	}
-	var files []string
-	for _, f := range cfg.Formats {
-		for _, tb := range tables {
-			path := filepath.Join(cfg.OutDir, tb.name+f.Ext())
-			if err := tableio.WriteTable(path, tb.t, f); err != nil {
-				return files, fmt.Errorf("write %s: %w", path, err)
-			}
-			files = append(files, path)
+// Table is a named result table; the file name is Name plus the format's
+// extension.
+type Table struct {
+	Name  string
+	Table *tableio.Table
+}
+
+// Tables returns the tables of a result: forecasts always; models and
+// residuals when the result holds fitted models (a forecast run, not a
+// reconciliation of given base forecasts).
+func Tables(res *engine.Result) []Table {
+	out := []Table{{"forecasts", ForecastTable(res)}}
+	for _, f := range res.Fits {
+		if f.Fitted {
+			return append(out, Table{"models", ModelTable(res)}, Table{"residuals", ResidualTable(res)})
 		}
 	}
-	return files, nil
+	return out
 }
 
 // keyColumns returns one string column per key attribute with the node's
 // value, or null where the node aggregates over that attribute. repeat
 // says how many consecutive rows each node occupies.
-func keyColumns(res *Result, repeat int) []tableio.Column {
+func keyColumns(res *engine.Result, repeat int) []tableio.Column {
 	st := res.Structure
 	cols := make([]tableio.Column, len(st.Attrs)+1)
 	n := len(st.Nodes) * repeat
@@ -61,24 +52,29 @@ func keyColumns(res *Result, repeat int) []tableio.Column {
 	return cols
 }
 
-// forecastTable has one row per node and step: level, key columns,
-// period, step, base, forecast and the interval bounds lo_L, hi_L (see
-// Result.Bounds).
-func forecastTable(cfg Config, res *Result) *tableio.Table {
-	h := cfg.Horizon
+// ForecastTable has one row per node and step: level, key columns,
+// period, step, base forecast and its variance, the reconciled forecast
+// and, per interval level L, the bounds piL_lower and piL_upper (see
+// engine.Result.Bounds; left out when the result has no variances).
+func ForecastTable(res *engine.Result) *tableio.Table {
+	h := res.Horizon
 	st := res.Structure
 	n := len(st.Nodes)
 	cols := keyColumns(res, h)
 	period := tableio.Column{Name: "period", Type: tableio.String, Strings: make([]string, 0, n*h)}
 	step := tableio.Column{Name: "step", Type: tableio.Int64, Ints: make([]int64, 0, n*h)}
 	base := tableio.Column{Name: "base", Type: tableio.Float64, Floats: make([]float64, 0, n*h)}
+	baseVar := tableio.Column{Name: "base_variance", Type: tableio.Float64, Floats: make([]float64, 0, n*h)}
 	fc := tableio.Column{Name: "forecast", Type: tableio.Float64, Floats: make([]float64, 0, n*h)}
-	bounds := make([]tableio.Column, 2*len(cfg.Levels))
-	z := make([]float64, len(cfg.Levels))
-	for l, lv := range cfg.Levels {
-		z[l] = quantile(lv)
-		bounds[2*l] = tableio.Column{Name: "lo_" + levelLabel(lv), Type: tableio.Float64, Floats: make([]float64, 0, n*h)}
-		bounds[2*l+1] = tableio.Column{Name: "hi_" + levelLabel(lv), Type: tableio.Float64, Floats: make([]float64, 0, n*h)}
+	levels := res.Levels
+	if res.Solution.Variance == nil {
+		levels = nil // no variances, no intervals: the columns are left out
+	}
+	bounds := make([]tableio.Column, 2*len(levels))
+	for l, lv := range levels {
+		name := "pi" + engine.LevelLabel(lv)
+		bounds[2*l] = tableio.Column{Name: name + "_lower", Type: tableio.Float64, Floats: make([]float64, 0, n*h)}
+		bounds[2*l+1] = tableio.Column{Name: name + "_upper", Type: tableio.Float64, Floats: make([]float64, 0, n*h)}
 	}
 	labels := make([]string, h)
 	for k := range labels {
@@ -89,48 +85,53 @@ func forecastTable(cfg Config, res *Result) *tableio.Table {
 			period.Strings = append(period.Strings, labels[k])
 			step.Ints = append(step.Ints, int64(k+1))
 			base.Floats = append(base.Floats, res.Fits[i].Mean[k])
+			v := math.NaN()
+			if res.Fits[i].Variance != nil {
+				v = res.Fits[i].Variance[k]
+			}
+			baseVar.Floats = append(baseVar.Floats, v)
 			fc.Floats = append(fc.Floats, res.Solution.Forecast[i][k])
-			for l := range z {
-				lo, hi := res.bounds(i, k, z[l])
+			for l, lv := range levels {
+				lo, hi := res.Bounds(i, k, lv)
 				bounds[2*l].Floats = append(bounds[2*l].Floats, lo)
 				bounds[2*l+1].Floats = append(bounds[2*l+1].Floats, hi)
 			}
 		}
 	}
-	cols = append(cols, period, step, base, fc)
+	cols = append(cols, period, step, base, baseVar, fc)
 	cols = append(cols, bounds...)
 	return &tableio.Table{Columns: cols}
 }
 
-// residualTable has one row per node and history period: level, key
+// ResidualTable has one row per node and history period: level, key
 // columns, period and the in-sample one-step residual y_t − ŷ_t|t−1 of the
 // node's model (null where there is none: before the node existed, or
 // where the model has no one-step forecast). It is what the reconciliation
 // estimated its covariance from, and what trueup reconcile --residuals
 // reads.
-func residualTable(res *Result) *tableio.Table {
-	T := res.Panel.T
+func ResidualTable(res *engine.Result) *tableio.Table {
+	T := res.Calendar.T
 	n := len(res.Fits)
 	cols := keyColumns(res, T)
 	period := tableio.Column{Name: "period", Type: tableio.String, Strings: make([]string, 0, n*T)}
 	resid := tableio.Column{Name: "residual", Type: tableio.Float64, Floats: make([]float64, 0, n*T)}
 	labels := make([]string, T)
 	for t := range labels {
-		labels[t] = res.Panel.Period(t).String()
+		labels[t] = res.Calendar.Period(t).String()
 	}
 	row := make([]float64, T)
 	for _, f := range res.Fits {
-		f.residualsOnCalendar(row)
+		f.ResidualsOnCalendar(row)
 		period.Strings = append(period.Strings, labels...)
 		resid.Floats = append(resid.Floats, row...)
 	}
 	return &tableio.Table{Columns: append(cols, period, resid)}
 }
 
-// modelTable has one row per node: the chosen family, its spec, its
+// ModelTable has one row per node: the chosen family, its spec, its
 // parameters as JSON text, AICc, σ², the number of observations and any
 // warning.
-func modelTable(res *Result) *tableio.Table {
+func ModelTable(res *engine.Result) *tableio.Table {
 	n := len(res.Fits)
 	cols := keyColumns(res, 1)
 	family := tableio.Column{Name: "family", Type: tableio.String, Strings: make([]string, n)}
@@ -143,48 +144,19 @@ func modelTable(res *Result) *tableio.Table {
 	for i, f := range res.Fits {
 		warn.Strings[i] = f.Warning
 		warn.Null[i] = f.Warning == ""
-		if f.Model == nil {
-			family.Strings[i], spec.Strings[i], params.Strings[i] = "closed", "no observations", "{}"
-			aicc.Floats[i], sigma2.Floats[i] = math.NaN(), math.NaN()
-			continue
-		}
-		m := f.Model
-		family.Strings[i] = m.Family()
-		spec.Strings[i] = m.Spec()
-		if f.Closed {
+		family.Strings[i], spec.Strings[i] = f.Family, f.Spec
+		if f.Closed && f.Fitted {
 			family.Strings[i] = "closed"
-			spec.Strings[i] = "zero after closing; history fitted by " + m.Spec()
+			spec.Strings[i] = "zero after closing; history fitted by " + f.Spec
 		}
-		params.Strings[i] = paramsJSON(m.Params())
-		aicc.Floats[i] = finiteOrNaN(m.Criteria().AICc)
-		sigma2.Floats[i] = m.Sigma2()
-		nobs.Ints[i] = int64(m.NObs())
+		params.Strings[i] = paramsJSON(f.Params)
+		aicc.Floats[i] = finiteOrNaN(f.Criteria.AICc)
+		sigma2.Floats[i] = f.Sigma2
+		nobs.Ints[i] = int64(f.NObs)
 	}
 	cols = append(cols, family, spec, params, aicc, sigma2, nobs, warn)
 	return &tableio.Table{Columns: cols}
 }
-
-// Bounds returns the central prediction interval of node i at step k
-// (0-based) for a level in percent, as written to the forecasts table: the
-// Gaussian forecast ± z·sd with sd from the coherent variance. Under
-// non-negative reconciliation a lower bound below zero is raised to zero
-// (values below zero cannot occur, so coverage is unchanged).
-func (r *Result) Bounds(i, k int, level float64) (lo, hi float64) {
-	return r.bounds(i, k, quantile(level))
-}
-
-func (r *Result) bounds(i, k int, z float64) (lo, hi float64) {
-	f := r.Solution.Forecast[i][k]
-	sd := math.Sqrt(math.Max(r.Solution.Variance[i][k], 0))
-	lo, hi = f-z*sd, f+z*sd
-	if r.Nonnegative {
-		lo = math.Max(lo, 0)
-	}
-	return lo, hi
-}
-
-// ForecastPeriod is the calendar period of forecast step k (0-based).
-func (r *Result) ForecastPeriod(k int) tableio.Period { return r.Panel.Period(r.Panel.T + k) }
 
 // paramsJSON marshals parameters with sorted keys (encoding/json sorts map
 // keys), replacing non-finite numbers, which JSON cannot carry, by null.

@@ -1,0 +1,368 @@
+package engine
+
+import (
+	"fmt"
+	"math"
+	"sort"
+	"strconv"
+	"strings"
+
+	"trueup/hierarchy"
+	"trueup/inputerr"
+	"trueup/tableio"
+)
+
+// nodeTable is an input table reduced to one node key per row (codes into
+// per-column dictionaries), the period label and the named value columns.
+type nodeTable struct {
+	path    string
+	t       *tableio.Table
+	attrs   []string
+	dicts   []map[string]int32 // per attribute: value → code ("" is code 0)
+	values  [][]string         // per attribute: code → value
+	codes   [][]int32          // per attribute, per row
+	period  []string
+	rows    int
+	columns map[string]int
+}
+
+// newNodeTable finds the key columns, period and the value column want.
+func newNodeTable(path string, t *tableio.Table, attrs []string, want string) (*nodeTable, error) {
+	nt := &nodeTable{path: path, t: t, attrs: attrs, columns: map[string]int{}}
+	for i, c := range t.Columns {
+		nt.columns[c.Name] = i
+	}
+	var names []string
+	for _, c := range t.Columns {
+		names = append(names, c.Name)
+	}
+	for _, need := range append(append([]string(nil), attrs...), "period", want) {
+		if _, ok := nt.columns[need]; !ok {
+			return nil, inputerr.New("%s has no column %q (columns: %s)", path, need, strings.Join(names, ", "))
+		}
+	}
+	if len(t.Columns) > 0 {
+		nt.rows = columnLen(t.Columns[0])
+	}
+	if nt.rows == 0 {
+		return nil, inputerr.New("%s has no rows", path)
+	}
+	for _, a := range attrs {
+		col := t.Columns[nt.columns[a]]
+		dict := map[string]int32{"": 0}
+		vals := []string{""}
+		codes := make([]int32, nt.rows)
+		for r := 0; r < nt.rows; r++ {
+			s := cellString(col, r)
+			code, ok := dict[s]
+			if !ok {
+				code = int32(len(vals))
+				dict[s] = code
+				vals = append(vals, s)
+			}
+			codes[r] = code
+		}
+		nt.dicts = append(nt.dicts, dict)
+		nt.values = append(nt.values, vals)
+		nt.codes = append(nt.codes, codes)
+	}
+	pc := t.Columns[nt.columns["period"]]
+	nt.period = make([]string, nt.rows)
+	for r := range nt.period {
+		nt.period[r] = cellString(pc, r)
+		if nt.period[r] == "" {
+			return nil, inputerr.New("%s row %d: empty period", path, r+2)
+		}
+	}
+	return nt, nil
+}
+
+func (nt *nodeTable) has(col string) bool { _, ok := nt.columns[col]; return ok }
+
+// remap re-expresses the key codes in the dictionaries of another table,
+// so that both index the same node map. Values unknown there get codes
+// past its dictionary and match no node.
+func (nt *nodeTable) remap(dicts []map[string]int32) error {
+	for a := range nt.attrs {
+		to := make([]int32, len(nt.values[a]))
+		next := int32(len(dicts[a]))
+		for code, v := range nt.values[a] {
+			c, ok := dicts[a][v]
+			if !ok {
+				c = next
+				next++
+			}
+			to[code] = c
+		}
+		for r, c := range nt.codes[a] {
+			nt.codes[a][r] = to[c]
+		}
+		// Keep values indexable by the new codes for messages.
+		vals := make([]string, next)
+		for code, v := range nt.values[a] {
+			vals[to[code]] = v
+		}
+		nt.values[a] = vals
+	}
+	return nil
+}
+
+// bottomKeys lists the distinct keys with every attribute set, in first
+// appearance order.
+func (nt *nodeTable) bottomKeys() [][]string {
+	seen := map[string]bool{}
+	var out [][]string
+	buf := make([]byte, 4*len(nt.attrs))
+	for r := 0; r < nt.rows; r++ {
+		full := true
+		for a := range nt.attrs {
+			full = full && nt.codes[a][r] != 0
+		}
+		if !full || seen[string(nt.rowKey(buf, r))] {
+			continue
+		}
+		seen[string(nt.rowKey(buf, r))] = true
+		key := make([]string, len(nt.attrs))
+		for a := range nt.attrs {
+			key[a] = nt.values[a][nt.codes[a][r]]
+		}
+		out = append(out, key)
+	}
+	return out
+}
+
+// rowKey packs row r's key codes into buf.
+func (nt *nodeTable) rowKey(buf []byte, r int) []byte {
+	for a := range nt.attrs {
+		c := nt.codes[a][r]
+		buf[4*a], buf[4*a+1], buf[4*a+2], buf[4*a+3] = byte(c), byte(c>>8), byte(c>>16), byte(c>>24)
+	}
+	return buf
+}
+
+// rowLabel names row r's node for messages.
+func (nt *nodeTable) rowLabel(r int) string {
+	var parts []string
+	for a, name := range nt.attrs {
+		if v := nt.values[a][nt.codes[a][r]]; v != "" {
+			parts = append(parts, name+"="+v)
+		}
+	}
+	if len(parts) == 0 {
+		return "total"
+	}
+	return strings.Join(parts, " ")
+}
+
+// nodeIndex maps packed key codes (in the base table's dictionaries) to
+// node indices.
+type nodeIndex struct {
+	st *hierarchy.Structure
+	m  map[string]int
+}
+
+func newNodeIndex(st *hierarchy.Structure, dicts []map[string]int32) nodeIndex {
+	idx := nodeIndex{st: st, m: make(map[string]int, len(st.Nodes))}
+	buf := make([]byte, 4*len(st.Attrs))
+	for i, node := range st.Nodes {
+		for a, v := range node.Key {
+			c := dicts[a][v]
+			buf[4*a], buf[4*a+1], buf[4*a+2], buf[4*a+3] = byte(c), byte(c>>8), byte(c>>16), byte(c>>24)
+		}
+		idx.m[string(buf)] = i
+	}
+	return idx
+}
+
+// sortPeriods orders period labels by time and returns their periods. Every
+// label must be a period tableio.ParsePeriod reads, all of one grain.
+func sortPeriods(path string, labels []string) ([]tableio.Period, error) {
+	periods := make(map[string]tableio.Period, len(labels))
+	for _, l := range labels {
+		p, err := tableio.ParsePeriod(l)
+		if err != nil {
+			return nil, &inputerr.Error{File: path, Msg: fmt.Sprintf("period %q", l), Err: err}
+		}
+		periods[l] = p
+	}
+	for _, l := range labels[1:] {
+		if periods[l].Grain != periods[labels[0]].Grain {
+			return nil, &inputerr.Error{File: path, Msg: fmt.Sprintf("periods %q and %q are of different kinds", labels[0], l)}
+		}
+	}
+	sort.Slice(labels, func(a, b int) bool { return periods[labels[a]].Index < periods[labels[b]].Index })
+	out := make([]tableio.Period, len(labels))
+	for k, l := range labels {
+		out[k] = periods[l]
+	}
+	return out, nil
+}
+
+// fillMode says which rows a table must have.
+type fillMode int
+
+const (
+	// everyPeriod: every node has a finite value for every period (base
+	// forecasts, variances).
+	everyPeriod fillMode = iota
+	// sameEnd: every node has values, missing (absent or null) ones count
+	// as NaN, and every node's last period is the last period of the file
+	// (residuals: a node may start late, all end at the forecast origin).
+	sameEnd
+)
+
+// matrix arranges column col as nodes × periods (sorted) under mode.
+func (nt *nodeTable) matrix(nodes nodeIndex, col string, mode fillMode) ([][]float64, []tableio.Period, error) {
+	st := nodes.st
+	pos := map[string]int{}
+	var labels []string
+	for _, l := range nt.period {
+		if _, ok := pos[l]; !ok {
+			pos[l] = 0
+			labels = append(labels, l)
+		}
+	}
+	periods, err := sortPeriods(nt.path, labels)
+	if err != nil {
+		return nil, nil, err
+	}
+	for k, l := range labels {
+		pos[l] = k
+	}
+	n, h := len(st.Nodes), len(labels)
+	out := make([][]float64, n)
+	buf := make([]float64, n*h)
+	for i := range buf {
+		buf[i] = math.NaN()
+	}
+	for i := range out {
+		out[i] = buf[i*h : (i+1)*h]
+	}
+	seen := make([]bool, n*h)
+	vc := nt.t.Columns[nt.columns[col]]
+	key := make([]byte, 4*len(nt.attrs))
+	for r := 0; r < nt.rows; r++ {
+		i, ok := nodes.m[string(nt.rowKey(key, r))]
+		if !ok {
+			return nil, nil, inputerr.New("%s row %d: %s is not a node of the structure built from the bottom series of the base forecasts (a key is set below an aggregated one, or the bottom series is not in the base forecasts)", nt.path, r+2, nt.rowLabel(r))
+		}
+		k := pos[nt.period[r]]
+		if seen[i*h+k] {
+			return nil, nil, inputerr.New("%s row %d: %s has a second row for period %s", nt.path, r+2, nt.rowLabel(r), nt.period[r])
+		}
+		seen[i*h+k] = true
+		v, null, err := cellFloat(vc, r)
+		if err != nil {
+			return nil, nil, inputerr.New("%s row %d column %s: %v", nt.path, r+2, col, err)
+		}
+		if null && mode != everyPeriod {
+			continue
+		}
+		if null || math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, nil, inputerr.New("%s row %d: %s %s at %s is %s", nt.path, r+2, nt.rowLabel(r), col, nt.period[r], describe(v, null))
+		}
+		out[i][k] = v
+	}
+	for k := 1; k < len(periods); k++ {
+		if periods[k].Index != periods[k-1].Index+1 {
+			return nil, nil, &inputerr.Error{File: nt.path, Msg: fmt.Sprintf("periods %s to %s are missing", periods[k-1].Next(1), periods[k].Next(-1))}
+		}
+	}
+	var missing []string
+	for i := 0; i < n; i++ {
+		last, count := -1, 0
+		for k, ok := range seen[i*h : (i+1)*h] {
+			if ok {
+				last = k
+				count++
+			}
+		}
+		switch {
+		case count == 0 || mode == everyPeriod && count < h:
+			missing = append(missing, st.Label(i))
+		case mode == sameEnd && last != h-1:
+			return nil, nil, inputerr.New("%s: residual periods differ between nodes: %s ends at %s, others at %s (residuals must all end at the forecast origin)", nt.path, st.Label(i), labels[last], labels[h-1])
+		}
+	}
+	if len(missing) > 0 {
+		what := "a row for every period"
+		if mode == sameEnd {
+			what = "residuals"
+		}
+		return nil, nil, inputerr.New("%s: %d nodes of the structure lack %s, e.g. %s", nt.path, len(missing), what, strings.Join(missing[:min(5, len(missing))], "; "))
+	}
+	return out, periods, nil
+}
+
+func describe(v float64, null bool) string {
+	if null {
+		return "missing (empty, null or NaN)"
+	}
+	return strconv.FormatFloat(v, 'g', -1, 64)
+}
+
+func columnLen(c tableio.Column) int {
+	switch c.Type {
+	case tableio.String:
+		return len(c.Strings)
+	case tableio.Float64:
+		return len(c.Floats)
+	default:
+		return len(c.Ints)
+	}
+}
+
+// cellString reads a key or period cell as text; null is "".
+func cellString(c tableio.Column, r int) string {
+	if c.Null != nil && c.Null[r] {
+		return ""
+	}
+	switch c.Type {
+	case tableio.String:
+		return strings.TrimSpace(c.Strings[r])
+	case tableio.Int64:
+		return strconv.FormatInt(c.Ints[r], 10)
+	default:
+		return strconv.FormatFloat(c.Floats[r], 'g', -1, 64)
+	}
+}
+
+// cellFloat reads a numeric cell.
+func cellFloat(c tableio.Column, r int) (float64, bool, error) {
+	if c.Null != nil && c.Null[r] {
+		return math.NaN(), true, nil
+	}
+	switch c.Type {
+	case tableio.Float64:
+		return c.Floats[r], false, nil
+	case tableio.Int64:
+		return float64(c.Ints[r]), false, nil
+	default:
+		return 0, false, fmt.Errorf("%q is not a number", c.Strings[r])
+	}
+}
+
+// oneStepVariance is each node's mean squared residual, used at every step
+// when the base file has no variance column.
+func oneStepVariance(res [][]float64, h int) [][]float64 {
+	out := make([][]float64, len(res))
+	for i, r := range res {
+		var ss float64
+		var c int
+		for _, e := range r {
+			if e == e {
+				ss += e * e
+				c++
+			}
+		}
+		v := 0.0
+		if c > 0 {
+			v = ss / float64(c)
+		}
+		out[i] = make([]float64, h)
+		for k := range out[i] {
+			out[i][k] = v
+		}
+	}
+	return out
+}
