@@ -15,34 +15,21 @@ import (
 	"github.com/spf13/cobra"
 
 	"trueup/engine"
-	"trueup/hierarchy"
-	"trueup/inputerr"
 	"trueup/models/families"
-	"trueup/tableio"
 )
 
-// fitFlags are the options of trueup fit.
+// fitFlags are the options of trueup fit. The input flags are forecast's,
+// except that --key names the one column whose values are the series.
 type fitFlags struct {
-	input, format     string
-	timeCol, valueCol string
-	key               string
-	sumDuplicates     bool
-	model, family     string
-	transform         string
-	constant          bool
-	period, horizon   int
-	levels            string
-	workers           int
-	json              bool
-}
-
-// fitOptionFlags maps the library options a model spec can be refused for
-// to the flags of trueup fit that set them.
-var fitOptionFlags = map[string]string{
-	"Family":    "--family",
-	"Model":     "--model",
-	"Transform": "--transform",
-	"Constant":  "--constant",
+	src             sourceFlags
+	key             string
+	model, family   string
+	transform       string
+	constant        bool
+	period, horizon int
+	levels          string
+	workers         int
+	json            bool
 }
 
 func newFitCmd() *cobra.Command {
@@ -91,12 +78,13 @@ series, model, estimates, fit_quality, forecast, residuals and warning.`,
 		},
 	}
 	f := cmd.Flags()
-	f.StringVar(&fl.input, "input", "", "input table (Parquet, CSV or Arrow IPC)")
-	f.StringVar(&fl.format, "input-format", "", "input format when the extension does not tell: parquet, csv or arrow")
-	f.StringVar(&fl.timeCol, "time", "", "period column: dates, timestamps, or labels such as 2024-03, 2024-Q1, 2024-W07")
-	f.StringVar(&fl.valueCol, "value", "", "value column")
-	f.StringVar(&fl.key, "key", "", "column whose values name separate series")
-	f.BoolVar(&fl.sumDuplicates, "sum-duplicates", false, "add rows with the same key and period together instead of refusing them")
+	f.StringVar(&fl.src.input, "input", "", "sales table: .parquet, .csv or .arrow")
+	f.StringVar(&fl.src.format, "input-format", "", "read the input as parquet, csv or arrow whatever its extension")
+	f.StringVar(&fl.src.time, "time", "period", "period column: dates, timestamps, labels such as 2024-03, 2024-Q1, 2024-W07, 2024, or a time index 1, 2, 3")
+	f.StringVar(&fl.src.value, "value", "sales", "numeric value column")
+	f.StringVar(&fl.key, "key", "", "column whose values name separate series (default: the table is one series)")
+	f.StringVar(&fl.src.grain, "grain", "", "work at this grain, summing finer periods: day, week, month, quarter, year")
+	f.BoolVar(&fl.src.sumDuplicates, "sum-duplicates", false, "add up rows with the same key and period instead of refusing them")
 	f.StringVar(&fl.family, "family", "", "model family: "+familyNames())
 	f.StringVar(&fl.model, "model", "", `fixed form, e.g. "ARIMA(0,1,1)(0,1,1)" or "ETS(M,Ad,M)"; it implies the family`)
 	f.StringVar(&fl.transform, "transform", "none", "transform before fitting: none, log or boxcox (not with --family auto, which chooses its own)")
@@ -118,14 +106,10 @@ type fitRun struct {
 
 func runFit(ctx context.Context, w io.Writer, fl *fitFlags) error {
 	switch {
-	case fl.input == "":
-		return &usageError{errMissing("--input")}
-	case fl.timeCol == "":
-		return &usageError{errMissing("--time")}
-	case fl.valueCol == "":
-		return &usageError{errMissing("--value")}
-	case fl.period < 0 || fl.horizon < 0:
-		return &usageError{fmt.Errorf("--period and --horizon must not be negative")}
+	case fl.horizon < 0:
+		return &usageError{fmt.Errorf("--horizon must be at least 1, got %d", fl.horizon)}
+	case fl.period < 0:
+		return &usageError{fmt.Errorf("--period must be at least 1, got %d", fl.period)}
 	case fl.workers < 1:
 		return &usageError{fmt.Errorf("--workers must be at least 1, got %d", fl.workers)}
 	}
@@ -135,12 +119,14 @@ func runFit(ctx context.Context, w io.Writer, fl *fitFlags) error {
 	}
 	spec := families.Spec{Family: fl.family, Form: fl.model, Transform: fl.transform, Constant: fl.constant}
 	if _, err := spec.Resolve(); err != nil {
-		return withFlag(err)
+		return err
 	}
-	src := engine.Source{Path: fl.input, Format: tableio.Format(fl.format), Time: fl.timeCol, Value: fl.valueCol,
-		SumDuplicates: fl.sumDuplicates}
 	if fl.key != "" {
-		src.Chains = []hierarchy.Chain{{fl.key}}
+		fl.src.nest = []string{fl.key}
+	}
+	src, err := fl.src.source(false)
+	if err != nil {
+		return err
 	}
 	data, err := engine.Load(src)
 	if err != nil {
@@ -170,7 +156,7 @@ func runFit(ctx context.Context, w io.Writer, fl *fitFlags) error {
 	}
 	fits, err := engine.Local{Workers: fl.workers}.Fit(ctx, jobs, nil)
 	if err != nil {
-		return withFlag(err)
+		return err
 	}
 	var b bytes.Buffer
 	for i := range fits {
@@ -184,15 +170,6 @@ func runFit(ctx context.Context, w io.Writer, fl *fitFlags) error {
 		}
 	}
 	_, err = w.Write(b.Bytes())
-	return err
-}
-
-// withFlag names the flag of an input error about a model option, so that
-// the message says which flag to change.
-func withFlag(err error) error {
-	if flag, ok := fitOptionFlags[inputerr.OptionOf(err)]; ok {
-		return &usageError{fmt.Errorf("%s: %w", flag, err)}
-	}
 	return err
 }
 

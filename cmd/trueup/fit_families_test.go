@@ -3,6 +3,8 @@ package main
 import (
 	"strings"
 	"testing"
+
+	"trueup/inputerr"
 )
 
 // TestFitETSJSON: a fixed ETS form through the command reports its
@@ -73,8 +75,8 @@ func TestFitAutoJSON(t *testing.T) {
 	}
 }
 
-// TestFitFamilyErrors: model options the library refuses are usage errors
-// whose message names the flag.
+// TestFitFamilyErrors: model options the library refuses are input errors
+// about the option that the command line maps to the flag at fault.
 func TestFitFamilyErrors(t *testing.T) {
 	path := writeAirCSV(t, false)
 	base := []string{"fit", "--input", path, "--time", "month", "--value", "sales", "--key", "store"}
@@ -90,8 +92,8 @@ func TestFitFamilyErrors(t *testing.T) {
 	} {
 		args := append(append([]string{}, base...), c.extra...)
 		_, err := runCapture(args...)
-		if err == nil || !strings.HasPrefix(err.Error(), c.flag+": ") {
-			t.Errorf("%v: error %v, want one naming %s", c.extra, err, c.flag)
+		if flag := optionFlags[inputerr.OptionOf(err)]; flag != c.flag {
+			t.Errorf("%v: error %v is about %q, want %s", c.extra, err, flag, c.flag)
 		}
 		if code := run(args); code != exitInput {
 			t.Errorf("%v: exit %d, want %d", c.extra, code, exitInput)

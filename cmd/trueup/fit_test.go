@@ -6,7 +6,6 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
-	"os"
 	"path/filepath"
 	"reflect"
 	"strings"
@@ -35,7 +34,7 @@ func writeAirCSV(t *testing.T, gap bool) string {
 		}
 		fmt.Fprintf(&b, "%04d-%02d,south,%g\n", 1949+i/12, i%12+1, v/2)
 	}
-	return writeFile(t, "air.csv", b.String())
+	return writeFile(t, t.TempDir(), "air.csv", b.String())
 }
 
 func airPassengers(t *testing.T) []float64 {
@@ -45,15 +44,6 @@ func airPassengers(t *testing.T) []float64 {
 		t.Fatal(err)
 	}
 	return air
-}
-
-func writeFile(t *testing.T, name, text string) string {
-	t.Helper()
-	path := filepath.Join(t.TempDir(), name)
-	if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
-		t.Fatal(err)
-	}
-	return path
 }
 
 func runCapture(args ...string) (string, error) {
@@ -162,7 +152,7 @@ func TestFitMatchesEngine(t *testing.T) {
 	for i, v := range air {
 		fmt.Fprintf(&b, "%04d-%02d,%g\n", 1949+i/12, i%12+1, v)
 	}
-	path := writeFile(t, "air.csv", b.String())
+	path := writeFile(t, t.TempDir(), "air.csv", b.String())
 	for _, spec := range []families.Spec{{}, {Family: "ets"}, {Form: "ARIMA(1,1,0)(0,1,1)", Transform: "boxcox"}} {
 		args := []string{"fit", "--input", path, "--time", "month", "--value", "sales", "--json", "--horizon", "12"}
 		if spec.Family != "" {
@@ -215,7 +205,7 @@ func TestFitWorkersSameBytes(t *testing.T) {
 			fmt.Fprintf(&b, "%04d-%02d,store%d,%g\n", 1949+i/12, i%12+1, s, v*scale+float64(i%(s+2)))
 		}
 	}
-	path := writeFile(t, "stores.csv", b.String())
+	path := writeFile(t, t.TempDir(), "stores.csv", b.String())
 	for _, extra := range [][]string{{"--json"}, {"--family", "ets"}} {
 		var outs []string
 		for _, w := range []string{"1", "3"} {
@@ -248,8 +238,8 @@ func TestFitMonthEndDates(t *testing.T) {
 		fmt.Fprintf(&labels, "%s,%g\n", first.Format("2006-01"), v)
 	}
 	var outs []string
-	datesPath := writeFile(t, "dates.csv", dates.String())
-	for _, path := range []string{datesPath, writeFile(t, "labels.csv", labels.String())} {
+	datesPath := writeFile(t, t.TempDir(), "dates.csv", dates.String())
+	for _, path := range []string{datesPath, writeFile(t, t.TempDir(), "labels.csv", labels.String())} {
 		out, err := runCapture("fit", "--input", path, "--time", "day", "--value", "sales", "--family", "seasonal-naive")
 		if err != nil {
 			t.Fatal(err)
