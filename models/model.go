@@ -24,7 +24,14 @@ type Model interface {
 	// Spec is a short human-readable description of the fitted form, such
 	// as "seasonal naive (m=12)".
 	Spec() string
-	// Params returns the estimated parameters in a JSON-marshalable form.
+	// Params returns the fitted form's settings and estimates as plain,
+	// JSON-marshalable data without NaN or infinite numbers (nil stands
+	// for a missing value). The key "estimates", when present, holds the
+	// estimated coefficients as []Estimate in a fixed order; the other keys
+	// are the family's own (orders, initial states, the automatic choice's
+	// validation record) and are documented with each family. Programs
+	// show Params without knowing the family, so a new family needs no
+	// change to them.
 	Params() map[string]any
 	// Forecast returns point forecasts and forecast-error variances for
 	// steps 1..h on the response (original) scale.
@@ -45,11 +52,21 @@ type Model interface {
 
 // Family fits models of one kind.
 type Family interface {
-	// Name is the registry key, such as "snaive".
+	// Name is the registry key, such as "seasonal-naive".
 	Name() string
 	// Fit estimates a model on y. It returns an error when y cannot carry
 	// this family (too short, say); it never panics on finite input.
 	Fit(y []float64, opt FitOptions) (Model, error)
+}
+
+// Estimate is one estimated coefficient of a fitted model, named in
+// textbook notation: φ1, θ1, Φ1, Θ1 for ARIMA (AR polynomial 1 − φ1B − …,
+// MA polynomial 1 + θ1B + …), α, β, γ, φ for exponential smoothing
+// (Hyndman, Koehler, Ord & Snyder 2008), or a word such as "mean" or
+// "drift".
+type Estimate struct {
+	Name  string  `json:"name"`
+	Value float64 `json:"value"`
 }
 
 // Criteria holds a Gaussian log-likelihood and the information criteria

@@ -2,371 +2,283 @@ package main
 
 import (
 	"bytes"
+	"context"
 	"encoding/json"
 	"fmt"
 	"io"
 	"math"
+	"runtime"
 	"sort"
-	"strconv"
 	"strings"
 	"text/tabwriter"
 
 	"github.com/spf13/cobra"
-	"gonum.org/v1/gonum/stat/distuv"
 
-	"trueup/inputerr"
-	"trueup/models"
-	"trueup/models/arima"
-	"trueup/models/naive"
-	"trueup/tableio"
+	"trueup/engine"
+	"trueup/models/families"
 )
 
-// fitFlags are the options of trueup fit.
+// fitFlags are the options of trueup fit. The input flags are forecast's,
+// except that --key names the one column whose values are the series.
 type fitFlags struct {
-	input, format     string
-	timeCol, valueCol string
-	key               string
-	model             string
-	family            string
-	period            int
-	transform         string
-	constant          bool
-	horizon           int
-	levels            string
-	json              bool
-}
-
-// fitFamily is the family-specific part of trueup fit: how to fit one
-// series from the flags, and which JSON fields describe the fitted form.
-// Adding a family means adding one entry to fitFamilies.
-type fitFamily struct {
-	fit    func(y []float64, period int, fl *fitFlags) (models.Model, error)
-	fields func(m models.Model) []jsonField
-}
-
-var fitFamilies = map[string]fitFamily{
-	arima.Name: {fit: fitARIMA, fields: arimaFields},
-	"ets":      {fit: fitETS, fields: modelFields},
-	"snaive":   {fit: fitNaive(naive.SeasonalNaive{}), fields: modelFields},
-	"drift":    {fit: fitNaive(naive.Drift{}), fields: modelFields},
-	"auto":     {fit: fitAuto, fields: modelFields},
+	src             sourceFlags
+	key             string
+	model, family   string
+	transform       string
+	constant        bool
+	period, horizon int
+	levels          string
+	workers         int
+	json            bool
 }
 
 func newFitCmd() *cobra.Command {
 	var fl fitFlags
 	cmd := &cobra.Command{
-		Use:   "fit --input FILE --time COL --value COL [--key COL] [--model SPEC]",
-		Short: "Fit a forecasting model to one series, or to each key's series",
-		Long: `Fits a model (seasonal ARIMA unless --family says otherwise) to the series
-in a table by maximum likelihood, and prints the estimates, information
-criteria, forecasts with prediction intervals, and in-sample one-step
-residuals. With --key COL every value of that column is a separate series;
-without it the table must hold one series. Each series must have one row
-per period, with no gaps.
+		Use:   "fit --input FILE --time COL --value COL [--key COL] [--family F | --model FORM]",
+		Short: "Fit a model to one series, or to each key's series, and show it in full",
+		Long: `Fits a model to the series in a table and prints, per series, the model,
+its estimates, how well it fits, forecasts with prediction intervals, and the
+in-sample one-step residuals. With --key COL every value of that column is a
+separate series; without it the table holds one series. The table is read
+as forecast reads it: dates, timestamps or period labels; a period missing
+inside a series' span counts as zero sales; a repeated key and period is an
+error unless --sum-duplicates adds such rows. A series that stopped before
+the table's last period is forecast as zero (closed).
 
-Without --model the order is chosen automatically: differencing by the
-seasonal strength and KPSS tests, then a stepwise search by AICc. A model
-is written as ARIMA(p,d,q)(P,D,Q), optionally followed by "m=12" (the
-seasonal period; otherwise --period or the period implied by the data's
-grain) and "+ mean" or "+ drift". Signs: AR polynomial 1 − φ1B − …, MA
-polynomial 1 + θ1B + ….
+Each series is fitted exactly as forecast fits a node: --family auto (the
+default) validates ARIMA, ETS, seasonal naive, drift and the ARIMA+ETS
+average at the last three forecast origins by MASE at --horizon and refits
+the winner; arima and ets choose their form by AICc; seasonal-naive, drift
+and last are the benchmarks. When a family cannot fit a series, the
+simpler benchmarks are tried in turn and the warning says so.
 
---family chooses the kind of model: arima (the default), ets (exponential
-smoothing; a fixed form is written as --model "ETS(M,Ad,M)", otherwise
-the form is chosen by AICc), snaive, drift, or auto, which validates
-ARIMA, ETS, seasonal naive, drift and the ARIMA+ETS average at the last
-three forecast origins by MASE at --horizon and refits the winner; its
-JSON lists every candidate's score and the reason. --transform boxcox
-(λ by Guerrero's method) works with every family but arima.
+--model fixes the form and implies its family:
+  ARIMA(p,d,q)(P,D,Q) m=12 + drift    seasonal ARIMA; "m=" (default: --period
+                                      or the data's grain), "+ mean" and
+                                      "+ drift" are optional
+  ETS(M,Ad,M)                         exponential smoothing, written
+                                      error, trend, seasonality
+Signs: AR polynomial 1 − φ1B − …, MA polynomial 1 + θ1B + ….
+--transform log or boxcox (λ by Guerrero's method) fits on that scale;
+forecasts and bounds are always on the scale of the data.
 
-With --json each series gives one JSON object per line. Forecasts and
-bounds are on the original scale; loglik, aic, aicc and bic refer to the
-modelled (transformed, differenced) series.`,
-		Example: `  trueup fit --input sales.csv --time month --value sales --json
+Intervals are the forecast ± z·standard error for each --levels value.
+Forecasts are estimates: review them before they go into a plan.
+
+With --json each series gives one JSON object per line with the groups
+series, model, estimates, fit_quality, forecast, residuals and warning.`,
+		Example: `  trueup fit --input sales.csv --time month --value sales
+  trueup fit --input sales.parquet --time month --value sales --key store --json
   trueup fit --input sales.parquet --time month --value sales --key store \
       --model "ARIMA(0,1,1)(0,1,1)" --transform log --horizon 12 --levels 80,95`,
 		Args: noArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
-			return runFit(cmd.OutOrStdout(), &fl)
+			return runFit(cmd.Context(), cmd.OutOrStdout(), &fl)
 		},
 	}
 	f := cmd.Flags()
-	f.StringVar(&fl.input, "input", "", "input table (Parquet, CSV or Arrow IPC)")
-	f.StringVar(&fl.format, "input-format", "", "input format when the extension does not tell: parquet, csv or arrow")
-	f.StringVar(&fl.timeCol, "time", "", "period column")
-	f.StringVar(&fl.valueCol, "value", "", "value column")
-	f.StringVar(&fl.key, "key", "", "column whose values name separate series")
-	f.StringVar(&fl.model, "model", "", `fixed model, e.g. "ARIMA(0,1,1)(0,1,1)" or "ETS(M,Ad,M)"; automatic choice when empty`)
-	f.StringVar(&fl.family, "family", "", "model family: auto, arima, ets, snaive or drift (default: that of --model, else arima)")
+	f.StringVar(&fl.src.input, "input", "", "sales table: .parquet, .csv or .arrow")
+	f.StringVar(&fl.src.format, "input-format", "", "read the input as parquet, csv or arrow whatever its extension")
+	f.StringVar(&fl.src.time, "time", "period", "period column: dates, timestamps, labels such as 2024-03, 2024-Q1, 2024-W07, 2024, or a time index 1, 2, 3")
+	f.StringVar(&fl.src.value, "value", "sales", "numeric value column")
+	f.StringVar(&fl.key, "key", "", "column whose values name separate series (default: the table is one series)")
+	f.StringVar(&fl.src.grain, "grain", "", "work at this grain, summing finer periods: day, week, month, quarter, year")
+	f.BoolVar(&fl.src.sumDuplicates, "sum-duplicates", false, "add up rows with the same key and period instead of refusing them")
+	f.StringVar(&fl.family, "family", "", "model family: "+familyNames())
+	f.StringVar(&fl.model, "model", "", `fixed form, e.g. "ARIMA(0,1,1)(0,1,1)" or "ETS(M,Ad,M)"; it implies the family`)
+	f.StringVar(&fl.transform, "transform", "none", "transform before fitting: none, log or boxcox (not with --family auto, which chooses its own)")
+	f.BoolVar(&fl.constant, "constant", false, "with an ARIMA --model: include a mean (d+D=0) or drift (d+D=1)")
 	f.IntVar(&fl.period, "period", 0, "seasonal period (default: 12 for months, 4 for quarters, 52 for weeks, 7 for days)")
-	f.StringVar(&fl.transform, "transform", "none", "transform before fitting: none, log or boxcox (log needs positive values)")
-	f.BoolVar(&fl.constant, "constant", false, "with --model: include a mean (d+D=0) or drift (d+D=1)")
 	f.IntVar(&fl.horizon, "horizon", 0, "periods to forecast (default: one seasonal cycle, or 8 without seasonality)")
 	f.StringVar(&fl.levels, "levels", "80,95", "prediction interval levels in percent, comma-separated")
+	f.IntVar(&fl.workers, "workers", runtime.NumCPU(), "series fitted in parallel (the output does not depend on it)")
 	f.BoolVar(&fl.json, "json", false, "print one JSON object per series and line")
 	return cmd
 }
 
-// fitSeries is one series of the input, in period order.
-type fitSeries struct {
-	key     string
-	periods []tableio.Period
-	values  []float64
+// fitRun is what the rendering needs besides the fits.
+type fitRun struct {
+	data   *engine.Data
+	keys   []string // per series, its key value ("" without --key)
+	levels []float64
 }
 
-func runFit(w io.Writer, fl *fitFlags) error {
+func runFit(ctx context.Context, w io.Writer, fl *fitFlags) error {
 	switch {
-	case fl.input == "":
-		return &usageError{errMissing("--input")}
-	case fl.timeCol == "":
-		return &usageError{errMissing("--time")}
-	case fl.valueCol == "":
-		return &usageError{errMissing("--value")}
-	}
-	if fl.constant && fl.model == "" {
-		return &usageError{fmt.Errorf("--constant needs --model (the automatic choice decides the constant itself)")}
-	}
-	if fl.period < 0 || fl.horizon < 0 {
-		return &usageError{fmt.Errorf("--period and --horizon must not be negative")}
+	case fl.horizon < 0:
+		return &usageError{fmt.Errorf("--horizon must be at least 1, got %d", fl.horizon)}
+	case fl.period < 0:
+		return &usageError{fmt.Errorf("--period must be at least 1, got %d", fl.period)}
+	case fl.workers < 1:
+		return &usageError{fmt.Errorf("--workers must be at least 1, got %d", fl.workers)}
 	}
 	levels, err := parseLevels(fl.levels)
 	if err != nil {
 		return err
 	}
-	famName, err := resolveFitFamily(fl)
-	if err != nil {
-		return &usageError{err}
+	spec := families.Spec{Family: fl.family, Form: fl.model, Transform: fl.transform, Constant: fl.constant}
+	if _, err := spec.Resolve(); err != nil {
+		return err
 	}
-	opt := tableio.ReadOptions{Format: tableio.Format(fl.format), Time: fl.timeCol, Value: fl.valueCol}
 	if fl.key != "" {
-		opt.Keys = []string{fl.key}
+		fl.src.nest = []string{fl.key}
 	}
-	rows, err := tableio.Read(fl.input, opt)
+	src, err := fl.src.source(false)
 	if err != nil {
 		return err
 	}
-	series, err := splitSeries(rows, fl.key)
+	data, err := engine.Load(src)
 	if err != nil {
 		return err
 	}
+	run := fitRun{data: data, levels: levels}
+	order := seriesOrder(data.Panel, fl.key != "")
 	period := fl.period
 	if period == 0 {
-		period = series[0].periods[0].Grain.SeasonalPeriod()
+		period = data.Panel.Grain.SeasonalPeriod()
 	}
 	horizon := fl.horizon
 	if horizon == 0 {
-		horizon = 8
-		if period > 1 {
-			horizon = period
+		horizon = period
+		if period == 1 {
+			horizon = 8
 		}
 	}
-	fl.horizon = horizon
-	fam := fitFamilies[famName]
-	for _, s := range series {
-		m, err := fam.fit(s.values, period, fl)
+	jobs := make([]engine.FitJob, len(order))
+	for i, s := range order {
+		jobs[i] = engine.FitJob{Node: i, Series: data.Panel.Values[s], Model: spec, Period: period, Horizon: horizon}
+		if fl.key != "" {
+			run.keys = append(run.keys, data.Panel.Keys[s][0])
+		} else {
+			run.keys = append(run.keys, "")
+		}
+	}
+	fits, err := engine.Local{Workers: fl.workers}.Fit(ctx, jobs, nil)
+	if err != nil {
+		return err
+	}
+	var b bytes.Buffer
+	for i := range fits {
+		if fl.json {
+			err = run.writeJSON(&b, i, &fits[i])
+		} else {
+			err = run.writeText(&b, i, &fits[i])
+		}
 		if err != nil {
-			if s.key != "" {
-				return fmt.Errorf("key %q: %w", s.key, err)
-			}
 			return err
 		}
-		if fl.json {
-			if err := writeFitJSON(w, s, m, fam, horizon, levels); err != nil {
-				return err
-			}
-		} else {
-			writeFitText(w, s, m, horizon, levels)
-		}
 	}
-	return nil
+	_, err = w.Write(b.Bytes())
+	return err
 }
 
-// splitSeries groups rows by key and orders each group by period. A
-// repeated period or a gap is an input error naming the key and period.
-func splitSeries(rows *tableio.Rows, key string) ([]fitSeries, error) {
-	groups := map[int32][]int{}
-	for i := 0; i < rows.N; i++ {
-		var code int32
-		if key != "" {
-			code = rows.KeyCodes[0][i]
-		}
-		groups[code] = append(groups[code], i)
+// seriesOrder lists the panel's series in key order (one series without
+// keys).
+func seriesOrder(p *engine.Panel, keyed bool) []int {
+	order := make([]int, len(p.Values))
+	for i := range order {
+		order[i] = i
 	}
-	codes := make([]int32, 0, len(groups))
-	for c := range groups {
-		codes = append(codes, c)
+	if keyed {
+		sort.Slice(order, func(a, b int) bool { return p.Keys[order[a]][0] < p.Keys[order[b]][0] })
 	}
-	name := func(c int32) string {
-		if key == "" {
-			return ""
-		}
-		return rows.KeyDict[0][c]
-	}
-	sort.Slice(codes, func(i, j int) bool { return name(codes[i]) < name(codes[j]) })
-	out := make([]fitSeries, 0, len(codes))
-	for _, c := range codes {
-		idx := groups[c]
-		sort.SliceStable(idx, func(i, j int) bool { return rows.Periods[idx[i]].Index < rows.Periods[idx[j]].Index })
-		s := fitSeries{key: name(c)}
-		where := ""
-		if key != "" {
-			where = fmt.Sprintf("%s %q: ", key, s.key)
-		}
-		for k, i := range idx {
-			p := rows.Periods[i]
-			if k > 0 {
-				prev := rows.Periods[idx[k-1]]
-				if p.Index == prev.Index {
-					hint := ""
-					if key == "" {
-						hint = " (several series in one table? name their column with --key)"
-					}
-					return nil, inputerr.New("%s: %speriod %s appears more than once%s", rows.Path, where, p, hint)
-				}
-				if p.Index != prev.Index+1 {
-					return nil, inputerr.New("%s: %speriods %s to %s are missing; fit needs one row per period without gaps", rows.Path, where, prev.Next(1), p.Next(-1))
-				}
-			}
-			s.periods = append(s.periods, p)
-			s.values = append(s.values, rows.Values[i])
-		}
-		out = append(out, s)
-	}
-	return out, nil
+	return order
 }
 
-// fitARIMA fits the fixed --model, or chooses one automatically.
-func fitARIMA(y []float64, period int, fl *fitFlags) (models.Model, error) {
-	logT := fl.transform == "log"
-	if fl.model == "" {
-		return arima.Auto(y, arima.AutoOptions{Period: period, Log: logT})
+// fitView is one fitted series prepared for output: the model's parameters
+// split into the estimates and the other details, the interval bounds and
+// the period labels.
+type fitView struct {
+	key       any // the key value, or nil without --key
+	estimates []estimate
+	details   map[string]json.RawMessage
+	periods   []string
+	stdErr    []float64
+	lower     [][]float64 // per level
+	upper     [][]float64
+	firstObs  string
+	lastObs   string
+}
+
+// estimate is one entry of a model's "estimates" parameter.
+type estimate struct {
+	Name  string   `json:"name"`
+	Value *float64 `json:"value"`
+}
+
+// view prepares fit i for output. Params go through JSON so that a fit
+// computed in another process renders the same as a local one.
+func (r *fitRun) view(i int, nf *engine.NodeFit) (*fitView, error) {
+	v := &fitView{}
+	if r.keys[i] != "" {
+		v.key = r.keys[i]
 	}
-	spec, err := arima.ParseSpec(fl.model)
+	raw, err := json.Marshal(nf.Params)
 	if err != nil {
+		return nil, fmt.Errorf("series %d: parameters of %s: %w", i+1, nf.Spec, err)
+	}
+	if err := json.Unmarshal(raw, &v.details); err != nil {
 		return nil, err
 	}
-	if spec.Period == 0 {
-		spec.Period = period
+	if e, ok := v.details["estimates"]; ok {
+		if err := json.Unmarshal(e, &v.estimates); err != nil {
+			return nil, fmt.Errorf("%s: estimates: %w", nf.Spec, err)
+		}
+		delete(v.details, "estimates")
 	}
-	spec.Log = spec.Log || logT
-	spec.Constant = spec.Constant || fl.constant
-	return arima.FitOrder(y, spec, arima.Options{})
+	p := r.data.Panel
+	if nf.First >= 0 {
+		v.firstObs, v.lastObs = p.First.Next(nf.First).String(), p.First.Next(nf.Last).String()
+	}
+	h := len(nf.Mean)
+	v.periods = make([]string, h)
+	v.stdErr = make([]float64, h)
+	for k := range v.periods {
+		v.periods[k] = p.First.Next(p.T + k).String()
+		v.stdErr[k] = math.Sqrt(math.Max(nf.Variance[k], 0))
+	}
+	for _, l := range r.levels {
+		z := engine.Quantile(l)
+		lo, hi := make([]float64, h), make([]float64, h)
+		for k, m := range nf.Mean {
+			lo[k], hi[k] = m-z*v.stdErr[k], m+z*v.stdErr[k]
+		}
+		v.lower, v.upper = append(v.lower, lo), append(v.upper, hi)
+	}
+	return v, nil
 }
 
-// jsonField is one key and value of an output object, kept in order.
-type jsonField struct {
+// object is a JSON object whose keys keep the order they were added in.
+type object []member
+
+type member struct {
 	key   string
 	value any
 }
 
-// arimaFields are the ARIMA-specific fields of a fit record.
-func arimaFields(m models.Model) []jsonField {
-	f := m.(*arima.Fitted)
-	s := f.Form()
-	var intercept any
-	if c, ok := f.Intercept(); ok {
-		intercept = c
-	}
-	fields := []jsonField{
-		{"order", []int{s.P, s.D, s.Q}},
-		{"seasonal_order", []int{s.SP, s.SD, s.SQ}},
-		{"period", max(s.Period, 1)},
-		{"constant", s.Constant},
-		{"transform", map[bool]string{false: "none", true: "log"}[s.Log]},
-		{"ar", f.AR()},
-		{"ma", f.MA()},
-		{"sar", f.SAR()},
-		{"sma", f.SMA()},
-		{"intercept", intercept},
-	}
-	if s.Fourier > 0 {
-		fields = append(fields, jsonField{"fourier", f.Fourier()})
-	}
-	return fields
-}
-
-// intervaler is a model that computes its own prediction intervals (for
-// example on a transformed scale, where they are asymmetric).
-type intervaler interface {
-	Interval(h int, level float64) (lo, hi []float64)
-}
-
-// intervals returns lower and upper bounds for each level in percent.
-func intervals(m models.Model, h int, levels []float64) (lo, hi [][]float64) {
-	mean, variance := m.Forecast(h)
-	for _, l := range levels {
-		if iv, ok := m.(intervaler); ok {
-			a, b := iv.Interval(h, l/100)
-			lo, hi = append(lo, a), append(hi, b)
-			continue
-		}
-		z := distuv.UnitNormal.Quantile(0.5 + l/200)
-		a, b := make([]float64, h), make([]float64, h)
-		for k := range mean {
-			sd := math.Sqrt(variance[k])
-			a[k], b[k] = mean[k]-z*sd, mean[k]+z*sd
-		}
-		lo, hi = append(lo, a), append(hi, b)
-	}
-	return lo, hi
-}
-
-func levelKey(l float64) string { return strconv.FormatFloat(l, 'f', -1, 64) }
-
-func writeFitJSON(w io.Writer, s fitSeries, m models.Model, fam fitFamily, h int, levels []float64) error {
-	mean, _ := m.Forecast(h)
-	lo, hi := intervals(m, h, levels)
-	lower, upper := map[string][]float64{}, map[string][]float64{}
-	for i, l := range levels {
-		lower[levelKey(l)], upper[levelKey(l)] = lo[i], hi[i]
-	}
-	last := s.periods[len(s.periods)-1]
-	labels := make([]string, h)
-	for k := range labels {
-		labels[k] = last.Next(k + 1).String()
-	}
-	var key any
-	if s.key != "" {
-		key = s.key
-	}
-	c := m.Criteria()
-	fields := []jsonField{{"key", key}, {"family", m.Family()}, {"spec", m.Spec()}}
-	fields = append(fields, fam.fields(m)...)
-	fields = append(fields,
-		jsonField{"sigma2", m.Sigma2()},
-		jsonField{"loglik", c.LogLik},
-		jsonField{"aic", c.AIC},
-		jsonField{"aicc", c.AICc},
-		jsonField{"bic", c.BIC},
-		jsonField{"n_obs", m.NObs()},
-		jsonField{"forecast_periods", labels},
-		jsonField{"forecast", mean},
-		jsonField{"lower", lower},
-		jsonField{"upper", upper},
-		jsonField{"residuals", m.Residuals()},
-		jsonField{"warning", m.Warning()},
-	)
+// MarshalJSON writes the members in order, non-finite numbers as null.
+func (o object) MarshalJSON() ([]byte, error) {
 	var b bytes.Buffer
 	b.WriteByte('{')
-	for i, f := range fields {
+	for i, m := range o {
 		if i > 0 {
 			b.WriteByte(',')
 		}
-		k, _ := json.Marshal(f.key)
-		v, err := json.Marshal(finite(f.value))
+		k, _ := json.Marshal(m.key)
+		v, err := json.Marshal(finite(m.value))
 		if err != nil {
-			return fmt.Errorf("encode %s: %w", f.key, err)
+			return nil, fmt.Errorf("%s: %w", m.key, err)
 		}
 		b.Write(k)
 		b.WriteByte(':')
 		b.Write(v)
 	}
-	b.WriteString("}\n")
-	_, err := w.Write(b.Bytes())
-	return err
+	b.WriteByte('}')
+	return b.Bytes(), nil
 }
 
-// finite replaces non-finite numbers (which JSON cannot carry) by null.
+// finite replaces non-finite numbers, which JSON cannot carry, by null.
 func finite(v any) any {
 	num := func(x float64) any {
 		if math.IsNaN(x) || math.IsInf(x, 0) {
@@ -383,64 +295,238 @@ func finite(v any) any {
 			out[i] = num(e)
 		}
 		return out
-	case map[string][]float64:
-		out := map[string]any{}
-		for k, e := range x {
-			out[k] = finite(e)
-		}
-		return out
 	}
 	return v
 }
 
-func writeFitText(w io.Writer, s fitSeries, m models.Model, h int, levels []float64) {
-	c := m.Criteria()
-	if s.key != "" {
-		fmt.Fprintf(w, "%s: ", s.key)
+// writeJSON writes fit i as one JSON object on one line.
+func (r *fitRun) writeJSON(w io.Writer, i int, nf *engine.NodeFit) error {
+	v, err := r.view(i, nf)
+	if err != nil {
+		return err
 	}
-	fmt.Fprintf(w, "%s on %d observations\n", m.Spec(), m.NObs())
-	if f, ok := m.(*arima.Fitted); ok {
-		for _, part := range []struct {
-			name string
-			v    []float64
-		}{{"ar", f.AR()}, {"ma", f.MA()}, {"sar", f.SAR()}, {"sma", f.SMA()}} {
-			if len(part.v) > 0 {
-				fmt.Fprintf(w, "  %-4s %s\n", part.name, formatFloats(part.v))
-			}
-		}
-		if v, ok := f.Intercept(); ok {
-			fmt.Fprintf(w, "  %-4s %.6g\n", map[bool]string{true: "mean", false: "drift"}[f.Form().D+f.Form().SD == 0], v)
-		}
+	c := nf.Criteria
+	forecast := object{{"periods", v.periods}, {"mean", nf.Mean}, {"std_error", v.stdErr}}
+	for j, l := range r.levels {
+		label := "pi" + engine.LevelLabel(l)
+		forecast = append(forecast, member{label + "_lower", v.lower[j]}, member{label + "_upper", v.upper[j]})
 	}
-	writeModelText(w, m)
-	fmt.Fprintf(w, "  sigma2 %.6g  loglik %.3f  aic %.3f  aicc %.3f  bic %.3f\n", m.Sigma2(), c.LogLik, c.AIC, c.AICc, c.BIC)
-	if warn := m.Warning(); warn != "" {
-		fmt.Fprintf(w, "  warning: %s\n", warn)
+	estimates := v.estimates
+	if estimates == nil {
+		estimates = []estimate{}
 	}
-	mean, _ := m.Forecast(h)
-	lo, hi := intervals(m, h, levels)
-	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
-	head := []string{"period", "forecast"}
-	for _, l := range levels {
-		head = append(head, "lo "+levelKey(l), "hi "+levelKey(l))
+	var first, last any
+	if v.firstObs != "" {
+		first, last = v.firstObs, v.lastObs
 	}
-	fmt.Fprintln(tw, strings.Join(head, "\t")+"\t")
-	last := s.periods[len(s.periods)-1]
-	for k := range mean {
-		row := []string{last.Next(k + 1).String(), fmt.Sprintf("%.6g", mean[k])}
-		for i := range levels {
-			row = append(row, fmt.Sprintf("%.6g", lo[i][k]), fmt.Sprintf("%.6g", hi[i][k]))
-		}
-		fmt.Fprintln(tw, strings.Join(row, "\t")+"\t")
+	rec := object{
+		{"series", v.key},
+		{"model", object{{"family", nf.Family}, {"form", nf.Spec}, {"details", v.details}}},
+		{"estimates", estimates},
+		{"fit_quality", object{
+			{"observations", nf.NObs},
+			{"innovation_variance", nf.Sigma2},
+			{"parameters", c.K},
+			{"likelihood_observations", c.N},
+			{"aicc", c.AICc},
+			{"aic", c.AIC},
+			{"bic", c.BIC},
+			{"log_likelihood", c.LogLik},
+		}},
+		{"forecast", forecast},
+		{"residuals", object{{"first_period", first}, {"last_period", last}, {"one_step", nf.Residuals}}},
+		{"warning", nf.Warning},
 	}
-	tw.Flush()
-	fmt.Fprintln(w)
+	line, err := json.Marshal(rec)
+	if err != nil {
+		return fmt.Errorf("encode the fit of %s: %w", nf.Spec, err)
+	}
+	_, err = w.Write(append(line, '\n'))
+	return err
 }
 
-func formatFloats(v []float64) string {
-	parts := make([]string, len(v))
-	for i, x := range v {
-		parts[i] = fmt.Sprintf("%.4f", x)
+// writeText writes fit i as a block: the model, its details and
+// estimates, the fit quality, then the forecasts with their intervals.
+func (r *fitRun) writeText(w io.Writer, i int, nf *engine.NodeFit) error {
+	v, err := r.view(i, nf)
+	if err != nil {
+		return err
 	}
-	return strings.Join(parts, " ")
+	name := "series"
+	if v.key != nil {
+		name += " " + r.keys[i]
+	}
+	fmt.Fprintf(w, "%s: %s\n", name, nf.Spec)
+	fmt.Fprintf(w, "  family   %s\n", nf.Family)
+	if v.firstObs != "" {
+		fmt.Fprintf(w, "  history  %d observations, %s to %s\n", nf.NObs, v.firstObs, v.lastObs)
+	}
+	keys := make([]string, 0, len(v.details))
+	for k := range v.details {
+		keys = append(keys, k)
+	}
+	sort.Strings(keys)
+	for _, k := range keys {
+		var x any
+		if err := json.Unmarshal(v.details[k], &x); err != nil {
+			return err
+		}
+		writeDetail(w, "  ", k, x)
+	}
+
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	if len(v.estimates) > 0 {
+		fmt.Fprintln(w)
+		fmt.Fprintln(tw, "  estimate\tvalue")
+		for _, e := range v.estimates {
+			fmt.Fprintf(tw, "  %s\t%s\n", e.Name, number(e.Value))
+		}
+		tw.Flush()
+	}
+
+	c := nf.Criteria
+	fmt.Fprintln(w)
+	fmt.Fprintln(w, "  fit quality")
+	fmt.Fprintf(tw, "    innovation variance\t%.6g\n", nf.Sigma2)
+	fmt.Fprintf(tw, "    AICc\t%.6g\t(%d parameters, %d observations in the likelihood)\n", c.AICc, c.K, c.N)
+	fmt.Fprintf(tw, "    AIC\t%.6g\n", c.AIC)
+	fmt.Fprintf(tw, "    BIC\t%.6g\n", c.BIC)
+	fmt.Fprintf(tw, "    log-likelihood\t%.6g\n", c.LogLik)
+	tw.Flush()
+	if nf.Warning != "" {
+		fmt.Fprintf(w, "  warning: %s\n", nf.Warning)
+	}
+
+	fmt.Fprintln(w)
+	rt := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
+	head := []string{"period", "forecast", "std_error"}
+	for _, l := range r.levels {
+		label := "pi" + engine.LevelLabel(l)
+		head = append(head, label+"_lower", label+"_upper")
+	}
+	fmt.Fprintln(rt, "  \t"+strings.Join(head, "\t")+"\t")
+	for k, p := range v.periods {
+		row := []string{p, fmt.Sprintf("%.6g", nf.Mean[k]), fmt.Sprintf("%.6g", v.stdErr[k])}
+		for j := range r.levels {
+			row = append(row, fmt.Sprintf("%.6g", v.lower[j][k]), fmt.Sprintf("%.6g", v.upper[j][k]))
+		}
+		fmt.Fprintln(rt, "  \t"+strings.Join(row, "\t")+"\t")
+	}
+	rt.Flush()
+	fmt.Fprintln(w)
+	return nil
+}
+
+// number formats an optional estimate.
+func number(x *float64) string {
+	if x == nil {
+		return "none"
+	}
+	return fmt.Sprintf("%.6g", *x)
+}
+
+// writeDetail prints one model detail decoded from JSON: a scalar or a
+// list of scalars on the key's line, an object of scalars as "name value"
+// pairs on it, a list of estimates (as models.Estimate writes them) as
+// "name value" lines, anything deeper as an indented block.
+func writeDetail(w io.Writer, indent, key string, x any) {
+	if est, ok := estimateList(x); ok {
+		fmt.Fprintf(w, "%s%s\n", indent, key)
+		for _, e := range est {
+			fmt.Fprintf(w, "%s  %-8s %s\n", indent, e.Name, number(e.Value))
+		}
+		return
+	}
+	if s, ok := flat(x); ok {
+		fmt.Fprintf(w, "%s%-8s %s\n", indent, key, s)
+		return
+	}
+	fmt.Fprintf(w, "%s%s\n", indent, key)
+	switch y := x.(type) {
+	case map[string]any:
+		keys := make([]string, 0, len(y))
+		for k := range y {
+			keys = append(keys, k)
+		}
+		sort.Strings(keys)
+		for _, k := range keys {
+			writeDetail(w, indent+"  ", k, y[k])
+		}
+	case []any:
+		for j, e := range y {
+			writeDetail(w, indent+"  ", fmt.Sprintf("%d.", j+1), e)
+		}
+	}
+}
+
+// estimateList reads x as a list of estimates: objects with exactly a
+// "name" and a "value".
+func estimateList(x any) ([]estimate, bool) {
+	list, ok := x.([]any)
+	if !ok || len(list) == 0 {
+		return nil, false
+	}
+	out := make([]estimate, len(list))
+	for i, e := range list {
+		m, ok := e.(map[string]any)
+		name, named := m["name"].(string)
+		if !ok || !named || len(m) != 2 {
+			return nil, false
+		}
+		if v, ok := m["value"].(float64); ok {
+			out[i].Value = &v
+		} else if _, has := m["value"]; !has {
+			return nil, false
+		}
+		out[i].Name = name
+	}
+	return out, true
+}
+
+// flat writes x on one line when it is a scalar, a list of scalars or an
+// object of scalars.
+func flat(x any) (string, bool) {
+	switch y := x.(type) {
+	case map[string]any:
+		keys := make([]string, 0, len(y))
+		for k := range y {
+			keys = append(keys, k)
+		}
+		sort.Strings(keys)
+		parts := make([]string, len(keys))
+		for j, k := range keys {
+			s, ok := scalar(y[k])
+			if !ok {
+				return "", false
+			}
+			parts[j] = k + " " + s
+		}
+		return strings.Join(parts, ", "), true
+	case []any:
+		parts := make([]string, len(y))
+		for j, e := range y {
+			s, ok := scalar(e)
+			if !ok {
+				return "", false
+			}
+			parts[j] = s
+		}
+		return strings.Join(parts, " "), true
+	}
+	return scalar(x)
+}
+
+// scalar formats a JSON scalar; ok is false for objects and lists.
+func scalar(x any) (string, bool) {
+	switch y := x.(type) {
+	case nil:
+		return "none", true
+	case float64:
+		return fmt.Sprintf("%.6g", y), true
+	case string:
+		return y, true
+	case bool:
+		return fmt.Sprintf("%t", y), true
+	}
+	return "", false
 }

@@ -1,35 +1,16 @@
 package main
 
 import (
-	"bufio"
-	"encoding/json"
 	"strings"
 	"testing"
+
+	"trueup/inputerr"
 )
 
-func fitRecords(t *testing.T, args ...string) []map[string]any {
-	t.Helper()
-	out, err := runCapture(args...)
-	if err != nil {
-		t.Fatal(err)
-	}
-	sc := bufio.NewScanner(strings.NewReader(out))
-	sc.Buffer(nil, 1<<22)
-	var recs []map[string]any
-	for sc.Scan() {
-		var r map[string]any
-		if err := json.Unmarshal(sc.Bytes(), &r); err != nil {
-			t.Fatalf("bad JSON line: %v", err)
-		}
-		recs = append(recs, r)
-	}
-	return recs
-}
-
 // TestFitETSJSON: a fixed ETS form through the command reports its
-// smoothing parameters, initial states and a null lambda; its
-// log-likelihood is the one statsmodels 0.13.5 reaches for ETS(M,A,M) on
-// AirPassengers (−522.49, fixtures/reference/ets/statsmodels_ets.json).
+// smoothing parameters and initial states; its log-likelihood reaches the
+// one statsmodels 0.13.5 reaches for ETS(M,A,M) on AirPassengers (−522.49,
+// fixtures/reference/ets/statsmodels_ets.json).
 func TestFitETSJSON(t *testing.T) {
 	path := writeAirCSV(t, false)
 	recs := fitRecords(t, "fit", "--input", path, "--time", "month", "--value", "sales",
@@ -38,62 +19,84 @@ func TestFitETSJSON(t *testing.T) {
 		t.Fatalf("%d records", len(recs))
 	}
 	r := recs[0]
-	for _, k := range []string{"alpha", "beta", "gamma", "phi", "initial", "lambda", "period"} {
-		if _, ok := r[k]; !ok {
-			t.Errorf("missing %q", k)
+	model := r["model"].(map[string]any)
+	if model["family"] != "ets" || model["form"] != "ETS(M,A,M)" {
+		t.Errorf("model %v", model)
+	}
+	est := estimates(t, r)
+	for _, k := range []string{"α", "β", "γ"} {
+		if _, ok := est[k]; !ok {
+			t.Errorf("missing estimate %s in %v", k, est)
 		}
 	}
-	if r["family"] != "ets" || r["spec"] != "ETS(M,A,M)" || r["lambda"] != nil || r["phi"] != nil {
-		t.Errorf("family %v spec %v lambda %v phi %v", r["family"], r["spec"], r["lambda"], r["phi"])
+	if _, damped := est["φ"]; damped || len(est) != 3 {
+		t.Errorf("estimates %v", est)
 	}
-	if ll := r["loglik"].(float64); ll < -522.49-0.05 {
-		t.Errorf("loglik %v", ll)
+	if ll := r["fit_quality"].(map[string]any)["log_likelihood"].(float64); ll < -522.49-0.05 {
+		t.Errorf("log-likelihood %v", ll)
 	}
-	init := r["initial"].(map[string]any)
+	init := model["details"].(map[string]any)["initial_states"].(map[string]any)
 	if len(init["season"].([]any)) != 12 {
-		t.Errorf("initial season %v", init["season"])
+		t.Errorf("initial seasonal states %v", init["season"])
 	}
 }
 
+// TestFitAutoJSON: the default family is the automatic choice, which
+// records every candidate's validation score and why the winner won; a
+// Box–Cox transform of ETS reports its λ.
 func TestFitAutoJSON(t *testing.T) {
 	path := writeAirCSV(t, false)
 	recs := fitRecords(t, "fit", "--input", path, "--time", "month", "--value", "sales",
-		"--key", "store", "--family", "auto", "--horizon", "12", "--json")
-	r := recs[0]
-	cands, ok := r["candidates"].([]any)
+		"--key", "store", "--horizon", "12", "--json")
+	choice := recs[0]["model"].(map[string]any)["details"].(map[string]any)["choice"].(map[string]any)
+	cands, ok := choice["candidates"].([]any)
 	if !ok || len(cands) != 5 {
-		t.Fatalf("candidates %v", r["candidates"])
+		t.Fatalf("candidates %v", choice["candidates"])
 	}
+	names := map[string]bool{}
 	for _, c := range cands {
 		m := c.(map[string]any)
-		if m["family"] == nil || m["spec"] == nil {
+		names[m["family"].(string)] = true
+		if m["form"] == nil {
 			t.Errorf("candidate %v", m)
 		}
 	}
-	if !strings.Contains(r["reason"].(string), "lowest validation MASE") {
-		t.Errorf("reason %v", r["reason"])
+	if !names["seasonal-naive"] || !names["arima+ets"] {
+		t.Errorf("candidate families %v", names)
+	}
+	if !strings.Contains(choice["reason"].(string), "lowest validation MASE") {
+		t.Errorf("reason %v", choice["reason"])
 	}
 	recs = fitRecords(t, "fit", "--input", path, "--time", "month", "--value", "sales",
 		"--key", "store", "--family", "ets", "--transform", "boxcox", "--horizon", "12", "--json")
-	if l, ok := recs[0]["lambda"].(float64); !ok || l >= 1 {
-		t.Errorf("Box-Cox lambda %v", recs[0]["lambda"])
+	tr := recs[0]["model"].(map[string]any)["details"].(map[string]any)["transform"].(map[string]any)
+	if l, ok := tr["lambda"].(float64); !ok || l >= 1 || tr["kind"] != "boxcox" {
+		t.Errorf("Box-Cox transform %v", tr)
 	}
 }
 
+// TestFitFamilyErrors: model options the library refuses are input errors
+// about the option that the command line maps to the flag at fault.
 func TestFitFamilyErrors(t *testing.T) {
 	path := writeAirCSV(t, false)
 	base := []string{"fit", "--input", path, "--time", "month", "--value", "sales", "--key", "store"}
-	for _, extra := range [][]string{
-		{"--model", "ETS(A,N,M)"},                      // excluded form
-		{"--model", "ETS(A,N,N)", "--family", "arima"}, // family and model disagree
-		{"--family", "crystalball"},                    // unknown family
-		{"--family", "arima", "--transform", "boxcox"},
-		{"--family", "auto", "--transform", "log"},
-		{"--family", "ets", "--model", "ETS(A,N,N)", "--constant"},
+	for _, c := range []struct {
+		extra []string
+		flag  string
+	}{
+		{[]string{"--model", "ETS(A,N,M)"}, "--model"}, // excluded form
+		{[]string{"--model", "ETS(A,N,N)", "--family", "arima"}, "--family"},
+		{[]string{"--family", "crystalball"}, "--family"},
+		{[]string{"--family", "auto", "--transform", "log"}, "--transform"},
+		{[]string{"--family", "ets", "--model", "ETS(A,N,N)", "--constant"}, "--constant"},
 	} {
-		args := append(append([]string{}, base...), extra...)
+		args := append(append([]string{}, base...), c.extra...)
+		_, err := runCapture(args...)
+		if flag := optionFlags[inputerr.OptionOf(err)]; flag != c.flag {
+			t.Errorf("%v: error %v is about %q, want %s", c.extra, err, flag, c.flag)
+		}
 		if code := run(args); code != exitInput {
-			t.Errorf("%v: exit %d, want %d", extra, code, exitInput)
+			t.Errorf("%v: exit %d, want %d", c.extra, code, exitInput)
 		}
 	}
 }

@@ -31,6 +31,30 @@ func (fam Family) Fit(y []float64, opt models.FitOptions) (models.Model, error) 
 	return f, nil
 }
 
+// Fixed is the ARIMA family with one fixed form, estimated by FitOrder.
+// When Spec.Period is 0 the period comes from FitOptions.Period.
+type Fixed struct {
+	Spec Spec
+}
+
+var _ models.Family = Fixed{}
+
+// Name returns "arima".
+func (Fixed) Name() string { return Name }
+
+// Fit estimates the fixed form on y.
+func (fam Fixed) Fit(y []float64, opt models.FitOptions) (models.Model, error) {
+	s := fam.Spec
+	if s.Period == 0 {
+		s.Period = opt.Period
+	}
+	f, err := FitOrder(y, s, Options{})
+	if err != nil {
+		return nil, err
+	}
+	return f, nil
+}
+
 // constantModel represents a series whose values are all equal: the mean
 // model with zero innovation variance. Its likelihood is degenerate
 // (unbounded); it is reported as 0 with K = 2, and the Warning says so.

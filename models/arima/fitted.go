@@ -435,31 +435,62 @@ func (f *Fitted) XRegCoef() []float64 {
 	return append([]float64(nil), f.beta[len(f.beta)-len(f.xreg):]...)
 }
 
-// Params returns the orders and estimates in JSON-marshalable form.
+// Params implements models.Model. Keys:
+//
+//   - "orders": {"nonseasonal": {"ar": p, "differences": d, "ma": q}} and,
+//     for a seasonal model, "seasonal": {"ar": P, "differences": D, "ma":
+//     Q, "period": m};
+//   - "constant": "none", "mean" (d+D = 0) or "drift" (d+D = 1);
+//   - "transform": {"kind": "log"} when the model is fitted to ln y;
+//   - "fourier_pairs": K when Fourier regressors stand in for seasonal
+//     terms;
+//   - "estimates": φ1…φp, θ1…θq, Φ1…ΦP, Θ1…ΘQ in the signs of Spec, then
+//     "mean" or "drift" (on the transformed scale), the Fourier
+//     coefficients "sin1", "cos1", … and the regressors "x1", "x2", ….
 func (f *Fitted) Params() map[string]any {
 	s := f.spec
-	p := map[string]any{
-		"order":          []int{s.P, s.D, s.Q},
-		"seasonal_order": []int{s.SP, s.SD, s.SQ},
-		"period":         max(s.Period, 1),
-		"constant":       s.Constant,
-		"log":            s.Log,
-		"ar":             f.AR(),
-		"ma":             f.MA(),
-		"sar":            f.SAR(),
-		"sma":            f.SMA(),
-		"sigma2":         f.sigma2,
+	orders := map[string]any{
+		"nonseasonal": map[string]int{"ar": s.P, "differences": s.D, "ma": s.Q},
 	}
+	if s.seasonal() {
+		orders["seasonal"] = map[string]int{"ar": s.SP, "differences": s.SD, "ma": s.SQ, "period": s.Period}
+	}
+	var est []models.Estimate
+	add := func(sym string, v []float64) {
+		for i, x := range v {
+			est = append(est, models.Estimate{Name: fmt.Sprintf("%s%d", sym, i+1), Value: x})
+		}
+	}
+	add("φ", f.ar)
+	add("θ", f.ma)
+	add("Φ", f.sar)
+	add("Θ", f.sma)
+	constant := "none"
 	if c, ok := f.Intercept(); ok {
-		p["intercept"] = c
-	} else {
-		p["intercept"] = nil
+		constant = "drift"
+		if s.nDiff() == 0 {
+			constant = "mean"
+		}
+		est = append(est, models.Estimate{Name: constant, Value: c})
 	}
-	if s.Fourier > 0 {
-		p["fourier"] = f.Fourier()
+	four := f.Fourier()
+	for k, i := 1, 0; i < len(four); k++ {
+		est = append(est, models.Estimate{Name: fmt.Sprintf("sin%d", k), Value: four[i]})
+		i++
+		if 2*k != f.m && i < len(four) {
+			est = append(est, models.Estimate{Name: fmt.Sprintf("cos%d", k), Value: four[i]})
+			i++
+		}
 	}
 	if len(f.xreg) > 0 {
-		p["xreg"] = f.XRegCoef()
+		add("x", f.XRegCoef())
+	}
+	p := map[string]any{"orders": orders, "constant": constant, "estimates": est}
+	if s.Log {
+		p["transform"] = map[string]any{"kind": "log"}
+	}
+	if s.Fourier > 0 {
+		p["fourier_pairs"] = s.Fourier
 	}
 	return p
 }

@@ -47,9 +47,9 @@ var _ models.Family = (*Family)(nil)
 // offered only when both of the first two are present. Candidates are
 // listed simplest first — seasonal naive, drift, ETS, ARIMA, combination —
 // and ties go to the earlier one.
-func New(arimaFam, etsFam, snaive, drift models.Family, opt Options) *Family {
+func New(arimaFam, etsFam, seasonalNaive, drift models.Family, opt Options) *Family {
 	f := &Family{opt: opt, combo: [2]int{-1, -1}}
-	for _, c := range []models.Family{snaive, drift, etsFam, arimaFam} {
+	for _, c := range []models.Family{seasonalNaive, drift, etsFam, arimaFam} {
 		if c != nil {
 			f.cands = append(f.cands, c)
 		}

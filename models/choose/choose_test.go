@@ -91,7 +91,7 @@ func TestAutoOnAirPassengers(t *testing.T) {
 			t.Errorf("%s failed: %s", s.Family, s.Err)
 		}
 	}
-	for _, n := range []string{"snaive", "drift", "ets", "arima", "arima+ets"} {
+	for _, n := range []string{"seasonal-naive", "drift", "ets", "arima", "arima+ets"} {
 		if !names[n] {
 			t.Errorf("candidate %s missing", n)
 		}
@@ -115,8 +115,9 @@ func TestAutoOnAirPassengers(t *testing.T) {
 	if _, err := json.Marshal(p); err != nil {
 		t.Errorf("params not JSON: %v", err)
 	}
-	if p["winner"] != f.Family() || !strings.Contains(p["reason"].(string), sc[f.winner].Family) {
-		t.Errorf("winner %v reason %v", p["winner"], p["reason"])
+	choice := p["choice"].(map[string]any)
+	if choice["winner"] != f.Family() || !strings.Contains(choice["reason"].(string), sc[f.winner].Family) {
+		t.Errorf("winner %v reason %v", choice["winner"], choice["reason"])
 	}
 	lo, hi := f.Interval(12, 0.9)
 	for i := range a {

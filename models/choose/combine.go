@@ -62,11 +62,12 @@ func (c *Combination) Spec() string { return "mean of " + c.a.Spec() + " and " +
 // Components returns the two models.
 func (c *Combination) Components() (a, b models.Model) { return c.a, c.b }
 
-// Params implements models.Model: the components' family, spec and
-// parameters, the weights and the residual correlation used for variances.
+// Params implements models.Model: "components" (each with its "family",
+// "form" and "params"), the "weights" and the "residual_correlation" used
+// for the variances.
 func (c *Combination) Params() map[string]any {
 	comp := func(m models.Model) map[string]any {
-		return map[string]any{"family": m.Family(), "spec": m.Spec(), "params": m.Params()}
+		return map[string]any{"family": m.Family(), "form": m.Spec(), "params": m.Params()}
 	}
 	return map[string]any{
 		"components":           []any{comp(c.a), comp(c.b)},

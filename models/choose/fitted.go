@@ -49,12 +49,13 @@ func (f *Fitted) Reason() string {
 		w.Family, w.MASE, f.origins, f.horizon, strings.Join(others, ", "))
 }
 
-// Params implements models.Model: the winner's parameters plus
-// "candidates" (family, spec, mase — null when the candidate failed — and
-// error), "winner", "reason", "origins" and "validation_horizon".
+// Params implements models.Model: the winner's parameters plus "choice":
+// {"winner": family, "reason": in words, "origins": validation origins,
+// "validation_horizon": steps scored, "candidates": one {"family", "form",
+// "mase" (null when the candidate failed), "error"} per candidate}.
 func (f *Fitted) Params() map[string]any {
 	inner := f.Model.Params()
-	out := make(map[string]any, len(inner)+5)
+	out := make(map[string]any, len(inner)+1)
 	for k, v := range inner {
 		out[k] = v
 	}
@@ -64,17 +65,19 @@ func (f *Fitted) Params() map[string]any {
 		if !math.IsInf(s.MASE, 1) {
 			m = s.MASE
 		}
-		c := map[string]any{"family": s.Family, "spec": s.Spec, "mase": m}
+		c := map[string]any{"family": s.Family, "form": s.Spec, "mase": m}
 		if s.Err != "" {
 			c["error"] = s.Err
 		}
 		cands[i] = c
 	}
-	out["candidates"] = cands
-	out["winner"] = f.Model.Family()
-	out["reason"] = f.Reason()
-	out["origins"] = f.origins
-	out["validation_horizon"] = f.horizon
+	out["choice"] = map[string]any{
+		"winner":             f.Model.Family(),
+		"reason":             f.Reason(),
+		"origins":            f.origins,
+		"validation_horizon": f.horizon,
+		"candidates":         cands,
+	}
 	return out
 }
 

@@ -21,12 +21,35 @@ type Family struct{}
 
 var _ models.Family = Family{}
 
+// Name is the registry name of the ETS family.
+const Name = "ets"
+
 // Name implements models.Family.
-func (Family) Name() string { return "ets" }
+func (Family) Name() string { return Name }
 
 // Fit implements models.Family by Auto.
 func (Family) Fit(y []float64, opt models.FitOptions) (models.Model, error) {
 	f, _, err := Auto(y, opt.Period)
+	if err != nil {
+		return nil, err
+	}
+	return f, nil
+}
+
+// Fixed is the ETS family with one fixed form, estimated by FitSpec with
+// FitOptions.Period as the seasonal period.
+type Fixed struct {
+	Spec Spec
+}
+
+var _ models.Family = Fixed{}
+
+// Name implements models.Family.
+func (Fixed) Name() string { return Name }
+
+// Fit implements models.Family by FitSpec.
+func (fam Fixed) Fit(y []float64, opt models.FitOptions) (models.Model, error) {
+	f, err := FitSpec(y, fam.Spec, opt.Period)
 	if err != nil {
 		return nil, err
 	}

@@ -127,7 +127,7 @@ func admissible(sp Spec, m int, p *Params) bool {
 func cmplxAbs(c complex128) float64 { return math.Hypot(real(c), imag(c)) }
 
 // Family implements models.Model.
-func (f *Fitted) Family() string { return "ets" }
+func (f *Fitted) Family() string { return Name }
 
 // Spec implements models.Model: the published notation, e.g. "ETS(M,Ad,M)".
 func (f *Fitted) Spec() string { return f.spec.String() }
@@ -149,36 +149,26 @@ func (f *Fitted) Parameters() Params {
 // forecastability condition (see admissible).
 func (f *Fitted) Admissible() bool { return f.admissible }
 
-// Params implements models.Model. Keys: spec, period, alpha, beta, gamma,
-// phi (null when the form has no such parameter), initial (level, trend,
-// season — the m initial seasonal states in order of first use,
-// s_{1−m}..s_0) and sigma2 (the innovation variance, relative for
-// multiplicative errors).
+// Params implements models.Model. Keys: "period" (the seasonal period
+// used, 1 for non-seasonal forms), "estimates" (α, then β, γ and the
+// damping φ when the form has them) and "initial_states": "level", and
+// "trend" and "season" when the form has them — the m initial seasonal
+// states in order of first use, s_{1−m}..s_0.
 func (f *Fitted) Params() map[string]any {
-	var beta, gamma, phi, trend, season any
+	est := []models.Estimate{{Name: "α", Value: f.par.Alpha}}
+	init := map[string]any{"level": f.par.Level}
 	if f.spec.HasTrend() {
-		beta, trend = f.par.Beta, f.par.Trend
+		est = append(est, models.Estimate{Name: "β", Value: f.par.Beta})
+		init["trend"] = f.par.Trend
 	}
 	if f.spec.Seasonal() {
-		gamma, season = f.par.Gamma, append([]float64(nil), f.par.Season...)
+		est = append(est, models.Estimate{Name: "γ", Value: f.par.Gamma})
+		init["season"] = append([]float64(nil), f.par.Season...)
 	}
 	if f.spec.Damped() {
-		phi = f.par.Phi
+		est = append(est, models.Estimate{Name: "φ", Value: f.par.Phi})
 	}
-	return map[string]any{
-		"spec":   f.spec.String(),
-		"period": f.m,
-		"alpha":  f.par.Alpha,
-		"beta":   beta,
-		"gamma":  gamma,
-		"phi":    phi,
-		"initial": map[string]any{
-			"level":  f.par.Level,
-			"trend":  trend,
-			"season": season,
-		},
-		"sigma2": f.sigma2,
-	}
+	return map[string]any{"period": f.m, "estimates": est, "initial_states": init}
 }
 
 // Residuals implements models.Model: y_t − ŷ_{t|t−1} on the data scale,

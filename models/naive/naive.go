@@ -29,8 +29,11 @@ var (
 	_ models.Model  = (*Fitted)(nil)
 )
 
+// SeasonalNaiveName is the registry name of the seasonal naive family.
+const SeasonalNaiveName = "seasonal-naive"
+
 // Name implements models.Family.
-func (SeasonalNaive) Name() string { return "snaive" }
+func (SeasonalNaive) Name() string { return SeasonalNaiveName }
 
 // Name implements models.Family.
 func (Drift) Name() string { return "drift" }
@@ -57,7 +60,7 @@ func (SeasonalNaive) Fit(y []float64, opt models.FitOptions) (models.Model, erro
 	if len(y) < m+2 {
 		return nil, inputerr.New("seasonal naive needs at least %d observations, have %d", m+2, len(y))
 	}
-	f := &Fitted{family: "snaive", m: m, y: append([]float64(nil), y...)}
+	f := &Fitted{family: SeasonalNaiveName, m: m, y: append([]float64(nil), y...)}
 	f.resid = make([]float64, len(y))
 	var sse float64
 	for t := range y {
@@ -118,10 +121,15 @@ func (f *Fitted) Spec() string {
 	return fmt.Sprintf("seasonal naive m=%d", f.m)
 }
 
-// Params implements models.Model.
+// Params implements models.Model: "estimates" holds the drift c of the
+// random walk with drift; the seasonal naive method gives its "lag" m; the
+// last-value fallback has no parameters.
 func (f *Fitted) Params() map[string]any {
-	if f.family == "drift" {
-		return map[string]any{"drift": f.drift}
+	switch f.family {
+	case "drift":
+		return map[string]any{"estimates": []models.Estimate{{Name: "drift", Value: f.drift}}}
+	case "last":
+		return map[string]any{}
 	}
 	return map[string]any{"lag": f.m}
 }

@@ -99,24 +99,24 @@ func (f *Fitted) Spec() string {
 	return f.inner.Spec() + " on " + f.tr.String()
 }
 
-// Params implements models.Model: the inner parameters plus "transform"
-// (none, log, boxcox), "lambda" (null without Box–Cox; 0 for log) and
-// "bias_adjusted".
+// Params implements models.Model: the inner parameters plus "transform":
+// {"kind": none, log or boxcox, "lambda": λ (Box–Cox only), "bias_adjusted":
+// whether forecasts are means rather than medians}.
 func (f *Fitted) Params() map[string]any {
 	p := f.inner.Params()
-	out := make(map[string]any, len(p)+3)
+	out := make(map[string]any, len(p)+1)
 	for k, v := range p {
 		out[k] = v
 	}
+	tr := map[string]any{"kind": string(None), "bias_adjusted": f.bias}
 	switch {
 	case f.tr.Identity:
-		out["transform"], out["lambda"] = string(None), nil
 	case f.tr.Lambda == 0:
-		out["transform"], out["lambda"] = string(Log), 0.0
+		tr["kind"] = string(Log)
 	default:
-		out["transform"], out["lambda"] = string(BoxCox), f.tr.Lambda
+		tr["kind"], tr["lambda"] = string(BoxCox), f.tr.Lambda
 	}
-	out["bias_adjusted"] = f.bias
+	out["transform"] = tr
 	return out
 }
 

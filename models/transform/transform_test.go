@@ -156,8 +156,8 @@ func TestWrappedETS(t *testing.T) {
 	if m.Family() != "ets" || !strings.Contains(m.Spec(), "Box-Cox") {
 		t.Errorf("family %s spec %s", m.Family(), m.Spec())
 	}
-	if l, ok := m.Params()["lambda"].(float64); !ok || l > 0 {
-		t.Errorf("lambda %v", m.Params()["lambda"])
+	if p := m.Params()["transform"].(map[string]any); p["kind"] != "boxcox" || !(p["lambda"].(float64) <= 0) {
+		t.Errorf("transform %v", p)
 	}
 	mean, v := m.Forecast(24)
 	lo, hi := m.(Interval).Interval(24, 0.95)

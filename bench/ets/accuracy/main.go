@@ -55,7 +55,7 @@ func main() {
 		{"arima (Box-Cox)", arimaBC},
 		{"arima (raw)", arima.Family{}},
 		{"ets", ets.Family{}},
-		{"snaive", naive.SeasonalNaive{}},
+		{naive.SeasonalNaiveName, naive.SeasonalNaive{}},
 	}
 	sums := make([]float64, len(methods))
 	var b strings.Builder
