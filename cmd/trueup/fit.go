@@ -9,8 +9,8 @@ import (
 	"math"
 	"runtime"
 	"sort"
+	"strconv"
 	"strings"
-	"text/tabwriter"
 
 	"github.com/spf13/cobra"
 
@@ -374,45 +374,44 @@ func (r *fitRun) writeText(w io.Writer, i int, nf *engine.NodeFit) error {
 		writeDetail(w, "  ", k, x)
 	}
 
-	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	if len(v.estimates) > 0 {
 		fmt.Fprintln(w)
-		fmt.Fprintln(tw, "  estimate\tvalue")
+		var rows [][]string
 		for _, e := range v.estimates {
-			fmt.Fprintf(tw, "  %s\t%s\n", e.Name, number(e.Value))
+			rows = append(rows, []string{e.Name, number(e.Value)})
 		}
-		tw.Flush()
+		indentedTable(w, "  ", []string{"estimate", "value"}, rows)
 	}
 
 	c := nf.Criteria
 	fmt.Fprintln(w)
-	fmt.Fprintln(w, "  fit quality")
-	fmt.Fprintf(tw, "    innovation variance\t%.6g\n", nf.Sigma2)
-	fmt.Fprintf(tw, "    AICc\t%.6g\t(%d parameters, %d observations in the likelihood)\n", c.AICc, c.K, c.N)
-	fmt.Fprintf(tw, "    AIC\t%.6g\n", c.AIC)
-	fmt.Fprintf(tw, "    BIC\t%.6g\n", c.BIC)
-	fmt.Fprintf(tw, "    log-likelihood\t%.6g\n", c.LogLik)
-	tw.Flush()
+	fmt.Fprintf(w, "  fit quality (%d parameters, %d observations in the likelihood)\n", c.K, c.N)
+	fmt.Fprintf(w, "    innovation variance  %.6g\n", nf.Sigma2)
+	crit := func(x float64) string { return groupedDecimals(x, 2) } // criteria are compared to 0.01
+	indentedTable(w, "    ", []string{"criterion", "value"}, [][]string{
+		{"AICc", crit(c.AICc)}, {"AIC", crit(c.AIC)}, {"BIC", crit(c.BIC)}, {"log-likelihood", crit(c.LogLik)}})
 	if nf.Warning != "" {
 		fmt.Fprintf(w, "  warning: %s\n", nf.Warning)
 	}
 
 	fmt.Fprintln(w)
-	rt := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
 	head := []string{"period", "forecast", "std_error"}
-	for _, l := range r.levels {
+	groups := [][]float64{nf.Mean}
+	for j, l := range r.levels {
 		label := "pi" + engine.LevelLabel(l)
 		head = append(head, label+"_lower", label+"_upper")
+		groups = append(groups, v.lower[j], v.upper[j])
 	}
-	fmt.Fprintln(rt, "  \t"+strings.Join(head, "\t")+"\t")
+	amount, spread := amountFormat(groups...), amountFormat(v.stdErr)
+	var rows [][]string
 	for k, p := range v.periods {
-		row := []string{p, fmt.Sprintf("%.6g", nf.Mean[k]), fmt.Sprintf("%.6g", v.stdErr[k])}
+		row := []string{p, amount(nf.Mean[k]), spread(v.stdErr[k])}
 		for j := range r.levels {
-			row = append(row, fmt.Sprintf("%.6g", v.lower[j][k]), fmt.Sprintf("%.6g", v.upper[j][k]))
+			row = append(row, amount(v.lower[j][k]), amount(v.upper[j][k]))
 		}
-		fmt.Fprintln(rt, "  \t"+strings.Join(row, "\t")+"\t")
+		rows = append(rows, row)
 	}
-	rt.Flush()
+	indentedTable(w, "  ", head, rows)
 	fmt.Fprintln(w)
 	return nil
 }
@@ -422,7 +421,7 @@ func number(x *float64) string {
 	if x == nil {
 		return "none"
 	}
-	return fmt.Sprintf("%.6g", *x)
+	return strconv.FormatFloat(*x, 'f', 6, 64)
 }
 
 // writeDetail prints one model detail decoded from JSON: a scalar or a

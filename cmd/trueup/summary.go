@@ -138,19 +138,6 @@ func printTotal(w io.Writer, res *engine.Result) {
 
 // grouped formats x rounded to a whole number with thousands separators,
 // as amounts read best: 3,813,724.
-func grouped(x float64) string {
-	s := strconv.FormatFloat(math.Abs(math.Round(x)), 'f', 0, 64)
-	var b strings.Builder
-	if x < 0 && s != "0" {
-		b.WriteByte('-')
-	}
-	for i, c := range s {
-		if i > 0 && (len(s)-i)%3 == 0 {
-			b.WriteByte(',')
-		}
-		b.WriteRune(c)
-	}
-	return b.String()
-}
+func grouped(x float64) string { return groupedDecimals(x, 0) }
 
 func errMissing(flag string) error { return fmt.Errorf("%s is required", flag) }
