@@ -116,6 +116,15 @@ type Calendar struct {
 // Period returns the calendar period of column t (t ≥ T are forecasts).
 func (c Calendar) Period(t int) tableio.Period { return c.First.Next(t) }
 
+// DefaultHorizon is the horizon used when none is given: one seasonal
+// cycle, or 8 periods for data without seasonality (period 1).
+func DefaultHorizon(period int) int {
+	if period == 1 {
+		return 8
+	}
+	return period
+}
+
 // resolve fills in the documented defaults and checks the options that do
 // not need the data.
 func (o Options) resolve(period int) (Options, error) {
@@ -135,10 +144,7 @@ func (o Options) resolve(period int) (Options, error) {
 		o.Period = period
 	}
 	if o.Horizon == 0 {
-		o.Horizon = o.Period
-		if o.Period == 1 {
-			o.Horizon = 8
-		}
+		o.Horizon = DefaultHorizon(o.Period)
 	}
 	if o.Fitter == nil {
 		o.Fitter = Local{Workers: 1}

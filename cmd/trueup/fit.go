@@ -140,10 +140,7 @@ func runFit(ctx context.Context, w io.Writer, fl *fitFlags) error {
 	}
 	horizon := fl.horizon
 	if horizon == 0 {
-		horizon = period
-		if period == 1 {
-			horizon = 8
-		}
+		horizon = engine.DefaultHorizon(period)
 	}
 	jobs := make([]engine.FitJob, len(order))
 	for i, s := range order {
