@@ -8,6 +8,7 @@ import (
 	"trueup/models/choose"
 	"trueup/models/ets"
 	"trueup/models/naive"
+	"trueup/models/theta"
 )
 
 // Default is the family used when --family is not given: the per-node
@@ -22,6 +23,7 @@ func Registry() *models.Registry {
 	r.Register(choose.Standard(choose.Options{}))
 	r.Register(arima.Family{})
 	r.Register(ets.Family{})
+	r.Register(theta.Family{})
 	r.Register(naive.SeasonalNaive{})
 	r.Register(naive.Drift{})
 	r.Register(naive.LastValue{})
