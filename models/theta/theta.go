@@ -223,14 +223,14 @@ func (f *Fitted) filter(x []float64) (level float64, resid []float64, sigma2 flo
 
 // Fitted is a fitted Theta method.
 type Fitted struct {
-	n, m         int
-	season       Seasonality
-	index        []float64 // classical seasonal indices, by t mod m
-	b0, alpha    float64
-	level        float64
-	resid        []float64 // one-step errors on the adjusted scale
-	sigma2       float64
-	crit         models.Criteria
+	n, m      int
+	season    Seasonality
+	index     []float64 // classical seasonal indices, by t mod m
+	b0, alpha float64
+	level     float64
+	resid     []float64 // one-step errors on the adjusted scale
+	sigma2    float64
+	crit      models.Criteria
 }
 
 // seasonal returns the seasonal index at time t (0-based); only for a
