@@ -39,10 +39,11 @@ func ACF(x []float64, maxLag int) []float64 {
 // Nikolopoulos 2000): the lag-m autocorrelation is significant at the 90%
 // level, |r_m| > 1.645·√((1 + 2Σ_{k<m} r_k²)/n), the denominator being
 // Bartlett's variance of r_m under an MA(m−1) null (Box & Jenkins 1976,
-// eq. 2.1.13). Series shorter than 3m, and m < 2, are not tested (false).
+// eq. 2.1.13). It needs two full seasons (what the classical
+// decomposition needs) and m ≥ 2; otherwise it reports false.
 func Seasonal90(x []float64, m int) bool {
 	n := len(x)
-	if m < 2 || n < 3*m {
+	if m < 2 || n < 2*m {
 		return false
 	}
 	r := ACF(x, m)

@@ -340,3 +340,28 @@ func (f *Fitted) NObs() int { return f.n }
 
 // Warning implements models.Model.
 func (f *Fitted) Warning() string { return "" }
+
+// Fixed is the Theta method with its seasonal adjustment fixed rather than
+// tested (the automatic choice refits the adjustment it validated).
+type Fixed struct {
+	Season Seasonality
+}
+
+var _ models.Family = Fixed{}
+
+// Name implements models.Family.
+func (Fixed) Name() string { return Name }
+
+// Fit implements models.Family by FitWith.
+func (fam Fixed) Fit(y []float64, opt models.FitOptions) (models.Model, error) {
+	for i, v := range y {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, inputerr.New("observation %d is not a finite number", i+1)
+		}
+	}
+	f, err := FitWith(y, opt.Period, fam.Season)
+	if err != nil {
+		return nil, err
+	}
+	return f, nil
+}
