@@ -13,13 +13,13 @@ import (
 // validation record.
 type Fitted struct {
 	models.Model
-	scores  []Score
+	scores   []Score
 	winner   int // index into scores; −1 when chosen without validation
 	combined int // index of the combination in scores, or −1
 	margin   float64
 	origins  int
-	horizon int
-	note    string
+	horizon  int
+	note     string
 }
 
 var _ models.Model = (*Fitted)(nil)
