@@ -21,6 +21,11 @@ type AutoOptions struct {
 	MaxP, MaxQ, MaxSP, MaxSQ, MaxOrder int
 	// MaxFourier bounds K for long periods (m > 24); 0 means 6.
 	MaxFourier int
+	// RankByCSS ranks the candidate orders by their conditional-sum-of-
+	// squares fits on every series, not only on long ones (n > 150 or
+	// m > 12); the chosen order is still refitted by exact likelihood.
+	// It is several times faster and may pick a different order.
+	RankByCSS bool
 }
 
 // Seasonal-strength threshold above which one seasonal difference is
@@ -126,7 +131,7 @@ func Auto(y []float64, opt AutoOptions) (*Fitted, error) {
 	}
 	// Hyndman & Khandakar rank candidates by an approximation on long
 	// series; the winner is refitted exactly.
-	approx := n > 150 || m > 12
+	approx := opt.RankByCSS || n > 150 || m > 12
 	var ranked []*Fitted
 	var err error
 	if fourier {

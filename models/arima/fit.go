@@ -29,6 +29,13 @@ type Options struct {
 	// rank candidates cheaply on long series; the chosen model is always
 	// refitted exactly.
 	Approximate bool
+
+	// Start, when not nil, is a fit of the same form on similar data (the
+	// same series a few periods shorter, say): its coefficients start the
+	// likelihood optimisation and the conditional-sum-of-squares start is
+	// skipped. The optimum sought is the same; only the path to it is
+	// shorter. A Start of another form is ignored.
+	Start *Fitted
 }
 
 // maxRaw bounds the unconstrained parameters so that tanh stays below one

@@ -17,7 +17,7 @@ import (
 // proportional seasonal swings that multiplicative ETS models directly),
 // and the median of ETS, ARIMA and Theta.
 func Standard(opt Options) *Family {
-	arimaBC := transform.Family{Inner: arima.Family{}, Opt: transform.Options{Kind: transform.BoxCox}}
+	arimaBC := transform.Family{Inner: arima.Family{Options: arima.AutoOptions{RankByCSS: true}}, Opt: transform.Options{Kind: transform.BoxCox}}
 	return New(opt,
 		Candidate{Family: naive.SeasonalNaive{}},
 		Candidate{Family: naive.Drift{}, NonSeasonal: true},
@@ -29,11 +29,12 @@ func Standard(opt Options) *Family {
 
 // freeze returns the family that re-estimates mod's form — its ARIMA
 // order, ETS form, Theta seasonal adjustment and transform — without
-// searching again; fam itself for families with nothing to search.
+// searching again (ARIMA's likelihood search starts from mod's
+// coefficients); fam itself for families with nothing to search.
 func freeze(mod models.Model, fam models.Family) models.Family {
 	switch m := mod.(type) {
 	case *arima.Fitted:
-		return arima.Fixed{Spec: m.Form()}
+		return arima.Fixed{Spec: m.Form(), Start: m}
 	case *ets.Fitted:
 		return ets.Fixed{Spec: m.Form()}
 	case *theta.Fitted:
