@@ -28,12 +28,6 @@ type AutoOptions struct {
 	RankByCSS bool
 }
 
-// Seasonal-strength threshold above which one seasonal difference is
-// taken. 0.64 is the value used in common practice with the STL strength
-// measure (recalled from memory of Hyndman & Athanasopoulos, Forecasting:
-// Principles and Practice, not from a table).
-const seasonalStrengthThreshold = 0.64
-
 // maxSeasonalARMAPeriod is the longest period for which seasonal ARMA
 // terms are searched; longer periods use Fourier regressors instead.
 const maxSeasonalARMAPeriod = 24
@@ -41,7 +35,8 @@ const maxSeasonalARMAPeriod = 24
 // Auto chooses and fits a seasonal ARIMA model for y:
 //
 //   - D: one seasonal difference when the STL seasonal strength (Wang,
-//     Smith & Hyndman 2006) of the (transformed) series exceeds 0.64. We use
+//     Smith & Hyndman 2006) of the (transformed) series exceeds 0.64
+//     (numeric.StronglySeasonal). We use
 //     the strength measure rather than a seasonal unit-root test because it
 //     needs no tables of critical values for each period and, being a
 //     variance ratio, behaves the same for any m.
@@ -110,9 +105,7 @@ func Auto(y []float64, opt AutoOptions) (*Fitted, error) {
 	sd := 0
 	fourier := m > maxSeasonalARMAPeriod
 	if m > 1 && !fourier {
-		s, tr, r := make([]float64, n), make([]float64, n), make([]float64, n)
-		numeric.STL(z, m, numeric.STLOptions{SeasonalWindow: 13}, s, tr, r)
-		if numeric.SeasonalStrength(s, r) > seasonalStrengthThreshold && n-m >= m+3 {
+		if numeric.StronglySeasonal(z, m) && n-m >= m+3 {
 			sd = 1
 		}
 	}

@@ -17,10 +17,12 @@
 //
 // The rule (see Options.Margin): the combination is the default, and a
 // single candidate replaces it only when its validation MASE is lower by
-// the margin; candidates without a seasonal component (drift) are not
-// offered for a series that the M3 seasonality test finds seasonal. One
-// lucky stretch therefore cannot hand a strongly seasonal series to a
-// random walk. Combining is the safer default because a median of
+// the margin. For a strongly seasonal series (STL seasonal strength above
+// 0.64 on the first training window, numeric.StronglySeasonal) a candidate
+// whose method or fitted form has no seasonal component — drift, a
+// non-seasonal ETS form or ARIMA order, Theta without seasonal adjustment —
+// is not offered, alone or in the combination. One lucky stretch therefore
+// cannot hand a strongly seasonal series to a random walk. Combining is the safer default because a median of
 // reasonable methods is rarely far from the best of them (Petropoulos &
 // Svetunkov 2020, "A simple combination of univariate models", IJF
 // 36:110–115); README's "Accuracy of the automatic choice" gives the
@@ -204,13 +206,16 @@ func (f *Family) refit(i int, frozen []models.Family, y []float64, opt models.Fi
 	if i < len(f.cands) {
 		return frozen[i].Fit(y, opt)
 	}
-	parts := make([]models.Model, len(f.members))
-	for j, k := range f.members {
+	var parts []models.Model
+	for _, k := range f.members {
+		if frozen[k] == nil {
+			continue // failed or not offered in validation
+		}
 		mod, err := frozen[k].Fit(y, opt)
 		if err != nil {
 			return nil, err
 		}
-		parts[j] = mod
+		parts = append(parts, mod)
 	}
 	return Median(parts...), nil
 }
@@ -266,13 +271,13 @@ func (f *Family) plan(T, m, h int) (design, bool) {
 func (f *Family) validate(y []float64, m int, v design, opt models.FitOptions) ([]Score, []models.Family) {
 	T := len(y)
 	first := T - v.horizon - (v.origins-1)*v.step
-	seasonal := numeric.Seasonal90(y[:first], m)
+	seasonal := numeric.StronglySeasonal(y[:first], m)
 	c := f.combined()
 	scores := make([]Score, len(f.cands), len(f.cands)+1)
 	for i, cand := range f.cands {
 		scores[i].Family = cand.Name()
 		if seasonal && !f.seasons[i] {
-			scores[i].Err = "not offered: the series is seasonal and this method is not"
+			scores[i].Err = "not offered: the series is strongly seasonal and this method is not"
 		}
 	}
 	if c >= 0 {
@@ -306,8 +311,12 @@ func (f *Family) validate(y []float64, m int, v design, opt models.FitOptions) (
 				continue
 			}
 			if o == 0 {
-				frozen[i] = freeze(mod, cand)
 				scores[i].Spec = mod.Spec()
+				if seasonal && !hasSeason(mod) {
+					scores[i].Err = "not offered: the series is strongly seasonal and the fitted form is not"
+					continue
+				}
+				frozen[i] = freeze(mod, cand)
 			}
 			fits[i] = mod
 			sums[i] += mase(pointForecast(mod, v.horizon), test, scale)
@@ -319,8 +328,8 @@ func (f *Family) validate(y []float64, m int, v design, opt models.FitOptions) (
 					parts = append(parts, fits[k])
 				}
 			}
-			if len(parts) < len(f.members) {
-				scores[c].Err = "a member failed"
+			if len(parts) == 0 {
+				scores[c].Err = "every member failed or was not offered"
 				continue
 			}
 			comb := Median(parts...)
@@ -386,12 +395,14 @@ func rank(scores []Score) []int {
 // fallback forecasts, without validation, a series too short to
 // validate: by the median of the combined candidates that accept it (one
 // alone if only one does), otherwise by the richest single candidate that
-// accepts it (the last listed first).
+// accepts it (the last listed first). For a strongly seasonal series only
+// fits with a seasonal component count (seasonal naive is the last resort).
 func (f *Family) fallback(y []float64, opt models.FitOptions, note string) (models.Model, error) {
+	seasonal := numeric.StronglySeasonal(y, max(opt.Period, 1))
 	var parts []models.Model
 	var names, errs []string
 	for _, k := range f.members {
-		if mod, err := f.cands[k].Fit(y, opt); err == nil {
+		if mod, err := f.cands[k].Fit(y, opt); err == nil && (!seasonal || hasSeason(mod)) {
 			parts = append(parts, mod)
 			names = append(names, f.cands[k].Name())
 		}
@@ -405,6 +416,9 @@ func (f *Family) fallback(y []float64, opt models.FitOptions, note string) (mode
 	}
 	for i := len(f.cands) - 1; i >= 0; i-- {
 		mod, err := f.cands[i].Fit(y, opt)
+		if err == nil && seasonal && !hasSeason(mod) {
+			err = fmt.Errorf("the series is strongly seasonal and the fitted form is not")
+		}
 		if err == nil {
 			return &Fitted{Model: mod, winner: -1, combined: -1, note: join(note, "chose "+f.cands[i].Name()+" without validation")}, nil
 		}

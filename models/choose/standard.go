@@ -76,3 +76,31 @@ func pointForecast(mod models.Model, h int) []float64 {
 	mean, _ := mod.Forecast(h)
 	return mean
 }
+
+// hasSeason reports whether a fitted model carries a seasonal component:
+// seasonal ARIMA terms, differences or Fourier pairs, a seasonal ETS form,
+// Theta with seasonal adjustment, seasonal naive, or a combination of
+// which a member does. Models of other families are taken to.
+func hasSeason(mod models.Model) bool {
+	switch m := mod.(type) {
+	case *arima.Fitted:
+		s := m.Form()
+		return s.SP > 0 || s.SD > 0 || s.SQ > 0 || s.Fourier > 0
+	case *ets.Fitted:
+		return m.Form().Seasonal()
+	case *theta.Fitted:
+		return m.Seasonality() != theta.NotSeasonal
+	case *transform.Fitted:
+		return hasSeason(m.Inner())
+	case *naive.Fitted:
+		return m.Family() == naive.SeasonalNaiveName
+	case *Combination:
+		for _, p := range m.parts {
+			if hasSeason(p) {
+				return true
+			}
+		}
+		return false
+	}
+	return true
+}
