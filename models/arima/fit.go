@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 
 	"gonum.org/v1/gonum/optimize"
 
@@ -465,8 +466,21 @@ func minimize(f func([]float64) float64, x0 []float64) ([]float64, error) {
 	if n == 0 {
 		return x0, nil
 	}
+	// The optimiser asks for the value and the gradient at the same point
+	// one after the other: remember the last value so that the forward
+	// differences do not evaluate the likelihood there a second time.
+	var lastX []float64
+	var lastF float64
+	value := func(x []float64) float64 {
+		lastF = f(x)
+		lastX = append(lastX[:0], x...)
+		return lastF
+	}
 	grad := func(g, x []float64) {
-		fx := f(x)
+		fx := lastF
+		if !slices.Equal(x, lastX) {
+			fx = value(x)
+		}
 		xx := make([]float64, n)
 		copy(xx, x)
 		for i := range xx {
@@ -476,7 +490,7 @@ func minimize(f func([]float64) float64, x0 []float64) ([]float64, error) {
 			xx[i] = x[i]
 		}
 	}
-	prob := optimize.Problem{Func: f, Grad: grad}
+	prob := optimize.Problem{Func: value, Grad: grad}
 	settings := &optimize.Settings{
 		GradientThreshold: 1e-5,
 		Converger:         &optimize.FunctionConverge{Absolute: 1e-9, Iterations: 8},

@@ -29,14 +29,14 @@ func Standard(opt Options) *Family {
 
 // freeze returns the family that re-estimates mod's form — its ARIMA
 // order, ETS form, Theta seasonal adjustment and transform — without
-// searching again (ARIMA's likelihood search starts from mod's
-// coefficients); fam itself for families with nothing to search.
+// searching again (the ARIMA and ETS likelihood searches start from
+// mod's estimates); fam itself for families with nothing to search.
 func freeze(mod models.Model, fam models.Family) models.Family {
 	switch m := mod.(type) {
 	case *arima.Fitted:
 		return arima.Fixed{Spec: m.Form(), Start: m}
 	case *ets.Fitted:
-		return ets.Fixed{Spec: m.Form()}
+		return ets.Fixed{Spec: m.Form(), Start: m}
 	case *theta.Fitted:
 		return theta.Fixed{Season: m.Seasonality()}
 	case *transform.Fitted:
