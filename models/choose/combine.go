@@ -19,7 +19,7 @@ import (
 // members' variances (the mean of two): the spread of the member in the
 // middle. This is our choice; README's accuracy section reports the
 // empirical coverage of the resulting Gaussian 80% and 95% intervals on
-// held-out data (bench/ets/accuracy).
+// held-out data (go run ./bench/accuracy).
 type Combination struct {
 	parts []models.Model
 }

@@ -10,7 +10,7 @@ import (
 )
 
 // Standard is the automatic choice trueup runs, measured in README's
-// accuracy table (bench/ets/accuracy): seasonal naive, drift (offered only
+// accuracy table (go run ./bench/accuracy): seasonal naive, drift (offered only
 // for series without detected seasonality), Theta, automatic ETS on the
 // raw scale, automatic ARIMA on the Box–Cox scale with λ by Guerrero's
 // method (ARIMA has no multiplicative form; the transform gives it the
