@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"os"
 	"strings"
+	"unsafe"
 
 	"trueup/inputerr"
 )
@@ -45,12 +46,22 @@ func Read(path string, opt ReadOptions) (*Rows, error) {
 		r, err = readIPC(data, opt)
 	}
 	if err != nil {
-		return nil, fmt.Errorf("read %s: %w", path, err)
+		return nil, inFile(path, err)
 	}
 	sum := sha256.Sum256(data)
 	r.Path = path
 	r.SHA256 = hex.EncodeToString(sum[:])
 	return r, nil
+}
+
+// inFile names the file in err: an input error without a file gets it in
+// its File field; any other error is wrapped with the path.
+func inFile(path string, err error) error {
+	if e, ok := err.(*inputerr.Error); ok && e.File == "" {
+		e.File = path
+		return e
+	}
+	return fmt.Errorf("read %s: %w", path, err)
 }
 
 // unwrapPath drops the *os.PathError wrapper so the path is not printed
@@ -95,6 +106,7 @@ func newRows(columns []string, opt ReadOptions, n int) *Rows {
 		KeyNames: append([]string(nil), opt.Keys...),
 		KeyCodes: make([][]int32, len(opt.Keys)),
 		KeyDict:  make([][]string, len(opt.Keys)),
+		KeyTypes: make([]ColumnType, len(opt.Keys)),
 	}
 	return r
 }
@@ -155,6 +167,7 @@ type keyEncoder struct {
 	last     string
 	lastCode int32 // -1 before the first key
 	lastInt  int64
+	addrs    []addrSlot // see codeBytes
 
 	// For dictionary-encoded Arrow columns: the dictionary of the previous
 	// batch and the code of each of its entries (-1 where not yet seen).
@@ -167,6 +180,7 @@ func newKeyEncoder(n int) *keyEncoder {
 		codes:    make([]int32, 0, n),
 		index:    map[string]int32{},
 		lastCode: -1,
+		addrs:    make([]addrSlot, 1<<addrBits),
 	}
 }
 
@@ -185,6 +199,42 @@ func (k *keyEncoder) code(s string) int32 {
 	}
 	k.last, k.lastCode = k.dict[c], c
 	return c
+}
+
+// codeBytes is code for a key held in a byte slice. Parquet's dictionary
+// decoder hands out slices of its dictionary page, so the same key comes
+// back at the same address; a small cache keyed by that address answers
+// most rows with one comparison instead of hashing the key. The cached
+// key is always compared with b, so a reused buffer cannot give a wrong
+// code.
+func (k *keyEncoder) codeBytes(b []byte) int32 {
+	if k.lastCode >= 0 && string(b) == k.last {
+		return k.lastCode
+	}
+	var slot *addrSlot
+	if len(b) > 0 {
+		p := unsafe.SliceData(b)
+		slot = &k.addrs[(uintptr(unsafe.Pointer(p))*0x9E3779B97F4A7C15)>>(64-addrBits)&(1<<addrBits-1)]
+		if slot.p == p && slot.code >= 0 && k.dict[slot.code] == string(b) {
+			k.last, k.lastCode = k.dict[slot.code], slot.code
+			return slot.code
+		}
+		defer func() { slot.p, slot.code = p, k.lastCode }()
+	}
+	if c, ok := k.index[string(b)]; ok {
+		k.last, k.lastCode = k.dict[c], c
+		return c
+	}
+	return k.code(string(b))
+}
+
+// addrBits sets the size of keyEncoder's address cache (1024 slots).
+const addrBits = 10
+
+// addrSlot remembers the code of the key last seen at address p.
+type addrSlot struct {
+	p    *byte
+	code int32
 }
 
 // intCode is code for integer keys, written as decimal text in the
@@ -208,7 +258,8 @@ func (k *keyEncoder) intCode(v int64, format func() string) int32 {
 
 // timeDecoder turns period cells into Periods, remembering the last label
 // so that runs of equal labels are parsed once, and checks that all
-// periods share one grain.
+// periods share one grain. Bare integers are kept as steps of Grain Index
+// until finish decides, for the whole column, whether they are years.
 type timeDecoder struct {
 	periods   []Period
 	grain     Grain
@@ -216,6 +267,7 @@ type timeDecoder struct {
 	last      string
 	lastP     Period
 	haveLast  bool
+	notYears  bool // some bare integer fails the automatic year rule
 
 	dictOf  any
 	dictMap []Period
@@ -227,14 +279,41 @@ func (t *timeDecoder) parse(s string) (Period, error) {
 	if t.haveLast && s == t.last {
 		return t.lastP, nil
 	}
-	p, err := ParsePeriod(s)
+	p, bare, err := parseLabel(s)
 	if err != nil {
 		return Period{}, err
+	}
+	if bare && !yearLike(strings.TrimSpace(s), p.Index) {
+		t.notYears = true
 	}
 	if err := t.checkGrain(p); err != nil {
 		return Period{}, err
 	}
 	t.last, t.lastP, t.haveLast = strings.Clone(s), p, true
+	return p, nil
+}
+
+// parseBytes is parse for a label in a byte slice; a run of equal labels
+// costs one comparison per row and no allocation.
+func (t *timeDecoder) parseBytes(b []byte) (Period, error) {
+	if t.haveLast && string(b) == t.last {
+		return t.lastP, nil
+	}
+	return t.parse(string(b))
+}
+
+// integer reads a period stored as an integer number: a year or a step.
+func (t *timeDecoder) integer(n int64) (Period, error) {
+	if n < 0 || n > maxStep {
+		return Period{}, inputerr.New("period %d is not a year or a step number (use whole numbers from 0)", n)
+	}
+	if n < minAutoYear || n > maxAutoYear {
+		t.notYears = true
+	}
+	p := Period{Index, int(n)}
+	if err := t.checkGrain(p); err != nil {
+		return Period{}, err
+	}
 	return p, nil
 }
 
@@ -247,4 +326,16 @@ func (t *timeDecoder) checkGrain(p Period) error {
 		return inputerr.New("period %s is a %s but earlier periods are %ss; use one grain throughout", p, p.Grain, t.grain)
 	}
 	return nil
+}
+
+// finish decides what a column of bare integers holds (see TimeKind) and
+// turns the steps into years when they are years.
+func (t *timeDecoder) finish(kind TimeKind) {
+	if t.grain != Index || kind == TimeSteps || (kind == TimeAuto && t.notYears) {
+		return
+	}
+	for i, p := range t.periods {
+		t.periods[i] = Period{Year, p.Index - 1970}
+	}
+	t.grain = Year
 }
