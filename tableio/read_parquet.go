@@ -52,7 +52,7 @@ type pqColumn struct {
 	leaf   int // index among the file's leaf columns
 	desc   *schema.Column
 	kind   pqKind
-	scale  int32 // decimal scale
+	scale  int32          // decimal scale
 	perDay int64          // timestamp units per day
 	zone   *time.Location // timestamp zone from the stored Arrow schema; nil: UTC
 }
