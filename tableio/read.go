@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"os"
 	"strings"
-	"unsafe"
 
 	"trueup/inputerr"
 )
@@ -167,7 +166,6 @@ type keyEncoder struct {
 	last     string
 	lastCode int32 // -1 before the first key
 	lastInt  int64
-	addrs    []addrSlot // see codeBytes
 
 	// For dictionary-encoded Arrow columns: the dictionary of the previous
 	// batch and the code of each of its entries (-1 where not yet seen).
@@ -180,7 +178,6 @@ func newKeyEncoder(n int) *keyEncoder {
 		codes:    make([]int32, 0, n),
 		index:    map[string]int32{},
 		lastCode: -1,
-		addrs:    make([]addrSlot, 1<<addrBits),
 	}
 }
 
@@ -201,40 +198,17 @@ func (k *keyEncoder) code(s string) int32 {
 	return c
 }
 
-// codeBytes is code for a key held in a byte slice. Parquet's dictionary
-// decoder hands out slices of its dictionary page, so the same key comes
-// back at the same address; a small cache keyed by that address answers
-// most rows with one comparison instead of hashing the key. The cached
-// key is always compared with b, so a reused buffer cannot give a wrong
-// code.
+// codeBytes is code for a key held in a byte slice; a repeated key costs
+// one comparison and a known one a map lookup, neither allocating.
 func (k *keyEncoder) codeBytes(b []byte) int32 {
 	if k.lastCode >= 0 && string(b) == k.last {
 		return k.lastCode
-	}
-	var slot *addrSlot
-	if len(b) > 0 {
-		p := unsafe.SliceData(b)
-		slot = &k.addrs[(uintptr(unsafe.Pointer(p))*0x9E3779B97F4A7C15)>>(64-addrBits)&(1<<addrBits-1)]
-		if slot.p == p && slot.code >= 0 && k.dict[slot.code] == string(b) {
-			k.last, k.lastCode = k.dict[slot.code], slot.code
-			return slot.code
-		}
-		defer func() { slot.p, slot.code = p, k.lastCode }()
 	}
 	if c, ok := k.index[string(b)]; ok {
 		k.last, k.lastCode = k.dict[c], c
 		return c
 	}
 	return k.code(string(b))
-}
-
-// addrBits sets the size of keyEncoder's address cache (1024 slots).
-const addrBits = 10
-
-// addrSlot remembers the code of the key last seen at address p.
-type addrSlot struct {
-	p    *byte
-	code int32
 }
 
 // intCode is code for integer keys, written as decimal text in the
