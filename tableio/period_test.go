@@ -237,3 +237,33 @@ func TestParseGrain(t *testing.T) {
 		}
 	}
 }
+
+func TestYearsAndSteps(t *testing.T) {
+	y := mustParse(t, "2024")
+	if y.Grain != Year || y.String() != "2024" || !y.Start().Equal(date(2024, 1, 1)) || !y.HasDate() || y.Next(1).String() != "2025" {
+		t.Errorf("2024 read as %v %s starting %v", y.Grain, y, y.Start())
+	}
+	for _, s := range []string{"17", "0", "1799", "2201", "02024"} {
+		p := mustParse(t, s)
+		if p.Grain != Index || p.HasDate() || !p.Start().IsZero() {
+			t.Errorf("%s read as %v (has date %v)", s, p.Grain, p.HasDate())
+		}
+	}
+	if got := mustParse(t, "0042").String(); got != "42" {
+		t.Errorf("step 0042 prints as %s", got)
+	}
+	for _, c := range []struct{ from, want string }{{"2024-02-29", "2024"}, {"2024-11", "2024"}, {"2023-Q4", "2023"}} {
+		p, err := mustParse(t, c.from).Coarsen(Year)
+		if err != nil || p.String() != c.want {
+			t.Errorf("%s to a year: %v %v", c.from, p, err)
+		}
+	}
+	for _, c := range []struct {
+		from string
+		to   Grain
+	}{{"17", Year}, {"2024", Index}, {"2024-W07", Year}, {"2024", Month}} {
+		if _, err := mustParse(t, c.from).Coarsen(c.to); !inputerr.Is(err) {
+			t.Errorf("%s to %s: got %v, want an input error", c.from, c.to, err)
+		}
+	}
+}
