@@ -2,6 +2,7 @@ package tableio
 
 import (
 	"errors"
+	"os"
 	"path/filepath"
 	"reflect"
 	"strings"
@@ -10,6 +11,9 @@ import (
 
 	"github.com/apache/arrow-go/v18/arrow"
 	"github.com/apache/arrow-go/v18/arrow/array"
+	"github.com/apache/arrow-go/v18/parquet"
+	"github.com/apache/arrow-go/v18/parquet/file"
+	"github.com/apache/arrow-go/v18/parquet/schema"
 
 	"trueup/inputerr"
 )
@@ -205,6 +209,81 @@ func TestDateColumnRoundTrip(t *testing.T) {
 		var e *inputerr.Error
 		if !errors.As(err, &e) || e.Row != 3 || !strings.Contains(e.Msg, "null") {
 			t.Errorf("%s: reading the null date as a period: %v", f, err)
+		}
+	}
+}
+
+// Parquet timestamps written without Arrow: INT96 (nanosecond of the day,
+// then the Julian day; 2460371 is 1 March 2024 in the Julian day count,
+// 2440588 being 1970-01-01) and INT64 TIMESTAMP in microseconds, not
+// adjusted to UTC, which is dated as written.
+func TestReadParquetLegacyAndLocalTimestamps(t *testing.T) {
+	i96, err := schema.NewPrimitiveNode("old", parquet.Repetitions.Required, parquet.Types.Int96, -1, -1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	local, err := schema.NewPrimitiveNodeLogical("local", parquet.Repetitions.Required,
+		schema.NewTimestampLogicalType(false, schema.TimeUnitMicros), parquet.Types.Int64, -1, -1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	v, err := schema.NewPrimitiveNode("v", parquet.Repetitions.Required, parquet.Types.Double, -1, -1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	root, err := schema.NewGroupNode("schema", parquet.Repetitions.Required, schema.FieldList{i96, local, v}, -1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	path := filepath.Join(t.TempDir(), "legacy.parquet")
+	f, err := os.Create(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	fw := file.NewParquetWriter(f, root)
+	rg := fw.AppendRowGroup()
+	stamp := parquet.NewInt96([3]uint32{0, 0, 2460371})
+	stamp.SetNanoSeconds(23 * 3600 * 1e9) // 23:00 on 1 March
+	// 2024-03-31T23:59:59 local, in microseconds since 1970-01-01T00:00.
+	us := time.Date(2024, 3, 31, 23, 59, 59, 0, time.UTC).UnixMicro()
+	for _, write := range []func(file.ColumnChunkWriter) error{
+		func(w file.ColumnChunkWriter) error {
+			_, err := w.(*file.Int96ColumnChunkWriter).WriteBatch([]parquet.Int96{stamp}, nil, nil)
+			return err
+		},
+		func(w file.ColumnChunkWriter) error {
+			_, err := w.(*file.Int64ColumnChunkWriter).WriteBatch([]int64{us}, nil, nil)
+			return err
+		},
+		func(w file.ColumnChunkWriter) error {
+			_, err := w.(*file.Float64ColumnChunkWriter).WriteBatch([]float64{1}, nil, nil)
+			return err
+		},
+	} {
+		cw, err := rg.NextColumn()
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := write(cw); err != nil {
+			t.Fatal(err)
+		}
+		if err := cw.Close(); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if err := rg.Close(); err != nil {
+		t.Fatal(err)
+	}
+	if err := fw.Close(); err != nil {
+		t.Fatal(err)
+	}
+	for col, want := range map[string]string{"old": "2024-03-01", "local": "2024-03-31"} {
+		r, err := Read(path, ReadOptions{Time: col, Value: "v"})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if got := r.Periods[0].String(); got != want {
+			t.Errorf("%s: period %s, want %s", col, got, want)
 		}
 	}
 }
