@@ -168,7 +168,7 @@ func readParquetColumn(pf *pqFile, pc *pqColumn, c *Column, n int) error {
 	row0 := 0
 	for g := 0; g < pf.r.NumRowGroups(); g++ {
 		// each spreads the batch's values over its rows, marking nulls.
-		each := func(read int, def []int16, rows int, put func(k int) error) error {
+		each := func(def []int16, rows int, put func(k int) error) error {
 			k := 0
 			for i := 0; i < rows; i++ {
 				if def != nil && def[i] < maxDef {
@@ -187,16 +187,16 @@ func readParquetColumn(pf *pqFile, pc *pqColumn, c *Column, n int) error {
 		switch pc.kind {
 		case pqText:
 			err = scan(pf, g, pc, row0, &b.bytes, func(v []parquet.ByteArray, def []int16, rows, _ int) error {
-				return each(len(v), def, rows, func(k int) error { c.Strings = append(c.Strings, string(v[k])); return nil })
+				return each(def, rows, func(k int) error { c.Strings = append(c.Strings, string(v[k])); return nil })
 			})
 		case pqBool:
 			err = scan(pf, g, pc, row0, &b.bools, func(v []bool, def []int16, rows, _ int) error {
-				return each(len(v), def, rows, func(k int) error { c.Strings = append(c.Strings, strconv.FormatBool(v[k])); return nil })
+				return each(def, rows, func(k int) error { c.Strings = append(c.Strings, strconv.FormatBool(v[k])); return nil })
 			})
 		case pqTimestamp:
 			perSec := pc.perDay / 86400
 			err = scan(pf, g, pc, row0, &b.int64s, func(v []int64, def []int16, rows, _ int) error {
-				return each(len(v), def, rows, func(k int) error {
+				return each(def, rows, func(k int) error {
 					sec := int64(floorDiv(int(v[k]), int(perSec)))
 					t := time.Unix(sec, (v[k]-sec*perSec)*(1e9/perSec)).In(orUTC(pc.zone))
 					c.Strings = append(c.Strings, t.Format(time.RFC3339Nano))
@@ -205,7 +205,7 @@ func readParquetColumn(pf *pqFile, pc *pqColumn, c *Column, n int) error {
 			})
 		case pqInt96:
 			err = scan(pf, g, pc, row0, &b.int96s, func(v []parquet.Int96, def []int16, rows, _ int) error {
-				return each(len(v), def, rows, func(k int) error {
+				return each(def, rows, func(k int) error {
 					c.Strings = append(c.Strings, v[k].ToTime().UTC().Format(time.RFC3339Nano))
 					return nil
 				})
@@ -213,7 +213,7 @@ func readParquetColumn(pf *pqFile, pc *pqColumn, c *Column, n int) error {
 		case pqInt32, pqUint32, pqDate:
 			unsigned := pc.kind == pqUint32
 			err = scan(pf, g, pc, row0, &b.int32s, func(v []int32, def []int16, rows, _ int) error {
-				return each(len(v), def, rows, func(k int) error {
+				return each(def, rows, func(k int) error {
 					if unsigned {
 						c.Ints = append(c.Ints, int64(uint32(v[k])))
 					} else {
@@ -225,7 +225,7 @@ func readParquetColumn(pf *pqFile, pc *pqColumn, c *Column, n int) error {
 		case pqInt64, pqUint64:
 			unsigned := pc.kind == pqUint64
 			err = scan(pf, g, pc, row0, &b.int64s, func(v []int64, def []int16, rows, row int) error {
-				return each(len(v), def, rows, func(k int) error {
+				return each(def, rows, func(k int) error {
 					if unsigned && v[k] < 0 {
 						return rowErr(row+len(c.Ints), pc.name, "value %d does not fit a signed 64-bit integer", uint64(v[k]))
 					}
@@ -235,11 +235,11 @@ func readParquetColumn(pf *pqFile, pc *pqColumn, c *Column, n int) error {
 			})
 		case pqFloat32:
 			err = scan(pf, g, pc, row0, &b.float32, func(v []float32, def []int16, rows, _ int) error {
-				return each(len(v), def, rows, func(k int) error { c.Floats = append(c.Floats, float64(v[k])); return nil })
+				return each(def, rows, func(k int) error { c.Floats = append(c.Floats, float64(v[k])); return nil })
 			})
 		case pqFloat64:
 			err = scan(pf, g, pc, row0, &b.float64, func(v []float64, def []int16, rows, _ int) error {
-				return each(len(v), def, rows, func(k int) error { c.Floats = append(c.Floats, v[k]); return nil })
+				return each(def, rows, func(k int) error { c.Floats = append(c.Floats, v[k]); return nil })
 			})
 		default: // pqDecimal
 			err = readTableDecimals(pf, g, pc, c, row0, each)
@@ -254,7 +254,7 @@ func readParquetColumn(pf *pqFile, pc *pqColumn, c *Column, n int) error {
 
 // readTableDecimals is readParquetColumn for DECIMAL columns.
 func readTableDecimals(pf *pqFile, g int, pc *pqColumn, c *Column, row0 int,
-	each func(read int, def []int16, rows int, put func(k int) error) error) error {
+	each func(def []int16, rows int, put func(k int) error) error) error {
 	b := &pf.bufs
 	put := func(f float64, ok bool, row int, size int) error {
 		if !ok {
@@ -266,26 +266,26 @@ func readTableDecimals(pf *pqFile, g int, pc *pqColumn, c *Column, row0 int,
 	switch pc.desc.PhysicalType() {
 	case parquet.Types.Int32:
 		return scan(pf, g, pc, row0, &b.int32s, func(v []int32, def []int16, rows, _ int) error {
-			return each(len(v), def, rows, func(k int) error {
+			return each(def, rows, func(k int) error {
 				return put(decimal128.FromI64(int64(v[k])).ToFloat64(pc.scale), true, 0, 4)
 			})
 		})
 	case parquet.Types.Int64:
 		return scan(pf, g, pc, row0, &b.int64s, func(v []int64, def []int16, rows, _ int) error {
-			return each(len(v), def, rows, func(k int) error {
+			return each(def, rows, func(k int) error {
 				return put(decimal128.FromI64(v[k]).ToFloat64(pc.scale), true, 0, 8)
 			})
 		})
 	case parquet.Types.FixedLenByteArray:
 		return scan(pf, g, pc, row0, &b.fixed, func(v []parquet.FixedLenByteArray, def []int16, rows, row int) error {
-			return each(len(v), def, rows, func(k int) error {
+			return each(def, rows, func(k int) error {
 				f, ok := decimalFromBytes(v[k], pc.scale)
 				return put(f, ok, row, len(v[k]))
 			})
 		})
 	default:
 		return scan(pf, g, pc, row0, &b.bytes, func(v []parquet.ByteArray, def []int16, rows, row int) error {
-			return each(len(v), def, rows, func(k int) error {
+			return each(def, rows, func(k int) error {
 				f, ok := decimalFromBytes(v[k], pc.scale)
 				return put(f, ok, row, len(v[k]))
 			})
