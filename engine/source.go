@@ -29,6 +29,13 @@ type Source struct {
 	// Grain, when non-nil, sums finer periods into periods of this grain;
 	// nil works at the data's own grain.
 	Grain *tableio.Grain
+	// TimeKind says how a period column of bare integers is read: the zero
+	// value decides by the values (four-digit numbers from 1800 to 2200
+	// are years, other integers a step index).
+	TimeKind tableio.TimeKind
+	// Comma is the field separator of a CSV file; 0 detects it from the
+	// header line (',', ';' or tab).
+	Comma rune
 }
 
 // Data is a source read, checked and arranged: the bottom series on one
@@ -58,7 +65,8 @@ func Load(src Source) (*Data, error) {
 		keys = append(keys, c...)
 	}
 	start := time.Now()
-	rows, err := tableio.Read(src.Path, tableio.ReadOptions{Format: src.Format, Time: src.Time, Value: src.Value, Keys: keys})
+	rows, err := tableio.Read(src.Path, tableio.ReadOptions{Format: src.Format, Time: src.Time, Value: src.Value, Keys: keys,
+		TimeKind: src.TimeKind, Comma: src.Comma})
 	if err != nil {
 		return nil, err
 	}
