@@ -132,8 +132,11 @@ func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
 			bit := int(sid[i])*span + nat[i] - natMin
 			if seen[bit/64]&(1<<(bit%64)) != 0 {
 				p := tableio.Period{Grain: native, Index: nat[i]}
-				return nil, inputerr.New("%s: row %d repeats key %s and period %s; use --sum-duplicates to add such rows together",
-					rows.Path, i+1, keyText(rows, seriesKey[sid[i]]), p)
+				msg := fmt.Sprintf("repeats key %s and period %s; ask for duplicates to be summed to add such rows together", keyText(rows, seriesKey[sid[i]]), p)
+				if len(rows.KeyNames) == 0 {
+					msg = fmt.Sprintf("repeats period %s; does the table hold several series? name their key columns", p)
+				}
+				return nil, &inputerr.Error{File: rows.Path, Row: i + 1, Option: "SumDuplicates", Msg: msg}
 			}
 			seen[bit/64] |= 1 << (bit % 64)
 		}

@@ -49,6 +49,9 @@ type Data struct {
 	// Bottom holds the bottom series in the structure's bottom order (the
 	// panel's order when Structure is nil).
 	Bottom [][]float64
+	// KeyTypes gives each key column's type in the input, in the order of
+	// the chains' columns (tableio.Int64 for an integer column).
+	KeyTypes []tableio.ColumnType
 	// Timings in seconds: reading the file, and building panel and
 	// structure.
 	ReadSeconds, StructureSeconds float64
@@ -70,7 +73,7 @@ func Load(src Source) (*Data, error) {
 	if err != nil {
 		return nil, err
 	}
-	d := &Data{ReadSeconds: time.Since(start).Seconds(),
+	d := &Data{ReadSeconds: time.Since(start).Seconds(), KeyTypes: rows.KeyTypes,
 		Input: InputReport{Path: rows.Path, SHA256: rows.SHA256, Rows: rows.N, Columns: rows.Columns}}
 
 	start = time.Now()
