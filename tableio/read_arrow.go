@@ -450,6 +450,9 @@ func (c *collector) addKeys(k int, a arrow.Array, row0 int) error {
 	bad := func(i int, what string) error {
 		return rowErr(row0+i+1, name, "key column %q is %s", name, what)
 	}
+	if arrow.IsInteger(a.DataType().ID()) {
+		c.rows.KeyTypes[k] = Int64
+	}
 	switch a := a.(type) {
 	case *array.Dictionary:
 		dict := a.Dictionary()
@@ -507,28 +510,20 @@ func (c *collector) addKeys(k int, a arrow.Array, row0 int) error {
 			enc.codes = append(enc.codes, enc.code(s))
 		}
 	case *array.Int64:
-		c.rows.KeyTypes[k] = Int64
 		return addIntKeys(enc, a, a.Values(), nulls, bad)
 	case *array.Int32:
-		c.rows.KeyTypes[k] = Int64
 		return addIntKeys(enc, a, a.Values(), nulls, bad)
 	case *array.Int16:
-		c.rows.KeyTypes[k] = Int64
 		return addIntKeys(enc, a, a.Values(), nulls, bad)
 	case *array.Int8:
-		c.rows.KeyTypes[k] = Int64
 		return addIntKeys(enc, a, a.Values(), nulls, bad)
 	case *array.Uint64:
-		c.rows.KeyTypes[k] = Int64
 		return addIntKeys(enc, a, a.Values(), nulls, bad)
 	case *array.Uint32:
-		c.rows.KeyTypes[k] = Int64
 		return addIntKeys(enc, a, a.Values(), nulls, bad)
 	case *array.Uint16:
-		c.rows.KeyTypes[k] = Int64
 		return addIntKeys(enc, a, a.Values(), nulls, bad)
 	case *array.Uint8:
-		c.rows.KeyTypes[k] = Int64
 		return addIntKeys(enc, a, a.Values(), nulls, bad)
 	default:
 		return inputerr.New("key column %q has type %s; keys must be text or integers", name, a.DataType())
