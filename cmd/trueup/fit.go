@@ -229,13 +229,12 @@ func (r *fitRun) view(i int, nf *engine.NodeFit) (*fitView, error) {
 	v.stdErr = make([]float64, h)
 	for k := range v.periods {
 		v.periods[k] = p.First.Next(p.T + k).String()
-		v.stdErr[k] = math.Sqrt(math.Max(nf.Variance[k], 0))
+		v.stdErr[k] = nf.StdError(k)
 	}
 	for _, l := range r.levels {
-		z := engine.Quantile(l)
 		lo, hi := make([]float64, h), make([]float64, h)
-		for k, m := range nf.Mean {
-			lo[k], hi[k] = m-z*v.stdErr[k], m+z*v.stdErr[k]
+		for k := range nf.Mean {
+			lo[k], hi[k] = nf.Bounds(k, l)
 		}
 		v.lower, v.upper = append(v.lower, lo), append(v.upper, hi)
 	}
