@@ -40,7 +40,7 @@ func (f *sourceFlags) registerInput(cmd *cobra.Command) {
 	fl.StringVar(&f.grain, "grain", "", "work at this grain, summing finer periods: day, week, month, quarter, year")
 	fl.BoolVar(&f.sumDuplicates, "sum-duplicates", false, "add up rows with the same key and period instead of refusing them")
 	fl.StringVar(&f.integerTime, "integer-time", "auto", "read whole-number periods as years or steps (auto: four-digit numbers 1800-2200 are years)")
-	fl.StringVar(&f.separator, "separator", "", `CSV field separator: ",", ";" or "tab" (default: detected from the header line)`)
+	fl.StringVar(&f.separator, "separator", "", `CSV field separator: ",", ";", "|" or "tab" (default: detected from the header line)`)
 	groupFlags(cmd, "Input", "input", "input-format", "time", "value", "grain", "sum-duplicates", "integer-time", "separator")
 }
 
