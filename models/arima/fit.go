@@ -64,6 +64,8 @@ type problem struct {
 	work       []float64
 	u, e       []float64
 	beta       []float64
+	uBeta      []float64 // the β that u was computed for
+	uValid     bool
 	kal        numeric.ARMAKalman
 	// fixBeta holds the regression coefficients at their least-squares
 	// values (the approximate fit used to rank candidates).
@@ -396,8 +398,15 @@ func (pr *problem) expand() {
 	}
 }
 
-// errorsSeries writes u = w − x_dβ.
+// errorsSeries writes u = w − x_dβ, unless u already holds it for the
+// current β (held fixed, or unchanged between evaluations): with Fourier
+// terms for weekly data it would otherwise cost as much as the likelihood.
 func (pr *problem) errorsSeries() {
+	if pr.uValid && slices.Equal(pr.uBeta, pr.beta) {
+		return
+	}
+	pr.uBeta = append(pr.uBeta[:0], pr.beta...)
+	pr.uValid = true
 	copy(pr.u, pr.w)
 	for i, col := range pr.xd {
 		b := pr.beta[i]
