@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"math"
 	"os"
+	"strings"
 	"testing"
 
 	"trueup/fixtures/reference"
@@ -101,4 +102,56 @@ func close(got, want []float64) bool {
 		}
 	}
 	return true
+}
+
+// TestFitContract: the family's obligations to the rest of trueup
+// (DEVELOPERS, "Adding a model family"): errors rather than panics on
+// unusable input, finite forecasts with growing variances, one residual per
+// observation, JSON-marshalable Params with the estimates. Values are
+// checked against the method's definition: with two points the slope is
+// their difference, and SES from the first value has a level between them.
+func TestFitContract(t *testing.T) {
+	if _, err := (Family{}).Fit([]float64{5}, models.FitOptions{}); err == nil {
+		t.Error("one observation accepted")
+	}
+	if _, err := (Family{}).Fit([]float64{1, math.NaN(), 3}, models.FitOptions{}); err == nil {
+		t.Error("NaN accepted")
+	}
+	m, err := Family{}.Fit([]float64{10, 14}, models.FitOptions{Period: 12})
+	if err != nil {
+		t.Fatal(err)
+	}
+	f := m.(*Fitted)
+	if f.b0 != 4 || f.level < 10 || f.level > 14 || f.season != NotSeasonal {
+		t.Errorf("slope %g level %g season %s", f.b0, f.level, f.season)
+	}
+	y, err := reference.Series("ets/data/UKgas.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	m, err = Family{}.Fit(y, models.FitOptions{Period: 4})
+	if err != nil {
+		t.Fatal(err)
+	}
+	mean, v := m.Forecast(8)
+	for i := range mean {
+		if math.IsNaN(mean[i]) || !(v[i] > 0) {
+			t.Errorf("step %d: mean %g variance %g", i+1, mean[i], v[i])
+		}
+	}
+	if r := m.Residuals(); len(r) != len(y) || !math.IsNaN(r[0]) || math.IsNaN(r[1]) {
+		t.Errorf("residuals: %d values, first %g %g", len(r), r[0], r[1])
+	}
+	raw, err := json.Marshal(m.Params())
+	if err != nil || !strings.Contains(string(raw), `"estimates"`) {
+		t.Errorf("params %s: %v", raw, err)
+	}
+	// The fixed adjustment refits the same model.
+	g, err := Fixed{Season: m.(*Fitted).Seasonality()}.Fit(y, models.FitOptions{Period: 4})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if a, b := m.(*Fitted).PointForecast(3), g.(*Fitted).PointForecast(3); a[2] != b[2] {
+		t.Errorf("fixed refit %g, tested fit %g", b[2], a[2])
+	}
 }
