@@ -239,9 +239,9 @@ type design struct {
 	note                   string
 }
 
-// plan lays out the validation for a series of T observations. The
-// horizon is shortened, and then the number of origins reduced, when the
-// series is too short for the full design; ok is false with no room at all.
+// plan lays out the validation for a series of T observations. The number
+// of origins is reduced, and then the horizon shortened, when the series is
+// too short for the full design; ok is false with no room at all.
 func (f *Family) plan(T, m, h int) (design, bool) {
 	k, step := f.opt.Origins, f.opt.Step
 	if step <= 0 {
@@ -259,7 +259,7 @@ func (f *Family) plan(T, m, h int) (design, bool) {
 		return design{}, false
 	}
 	d := design{origins: k, step: step, horizon: hv}
-	if hv < h || k < f.opt.Origins && T-h-(f.opt.Origins-1)*step < minTrain(m) {
+	if hv < h || k < f.opt.Origins {
 		d.note = fmt.Sprintf("validation shortened to %d origin(s) at horizon %d (series of %d observations)", k, hv, T)
 	}
 	return d, true
