@@ -106,8 +106,9 @@ func TestConstantSeriesHasNoNaN(t *testing.T) {
 
 // TestMean: the mean method's forecast and the prediction variance
 // s²(1 + 1/T) of a new observation from a constant mean (Hyndman &
-// Athanasopoulos, Forecasting: Principles and Practice, 3rd ed., §5.5); without variation the rough rule
-// σ² = max(ȳ², 1)/T growing with h (ours, see Mean).
+// Athanasopoulos, Forecasting: Principles and Practice, 3rd ed., §5.5);
+// without variation the rough rule σ² = max(ȳ², 1)/T growing with h (ours,
+// see Mean).
 func TestMean(t *testing.T) {
 	m, err := Mean{}.Fit([]float64{30, 50, 40}, models.FitOptions{Period: 12})
 	if err != nil {
