@@ -59,15 +59,11 @@ const (
 // adjustment needs three full seasons (for the test) and is skipped
 // otherwise.
 func (Family) Fit(y []float64, opt models.FitOptions) (models.Model, error) {
-	for i, v := range y {
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return nil, inputerr.New("observation %d is not a finite number", i+1)
-		}
+	f, err := FitWith(y, opt.Period, Detect(y, opt.Period))
+	if err != nil {
+		return nil, err
 	}
-	if len(y) < 2 {
-		return nil, inputerr.New("the Theta method needs at least 2 observations, the series has %d", len(y))
-	}
-	return FitWith(y, opt.Period, Detect(y, opt.Period))
+	return f, nil
 }
 
 // Detect returns the seasonal adjustment the method applies to y with
@@ -93,6 +89,11 @@ func Detect(y []float64, m int) Seasonality {
 // FitWith fits the method with a given seasonal adjustment (the automatic
 // choice uses it to keep the adjustment found at validation).
 func FitWith(y []float64, m int, s Seasonality) (*Fitted, error) {
+	for i, v := range y {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, inputerr.New("observation %d is not a finite number", i+1)
+		}
+	}
 	n := len(y)
 	if n < 2 {
 		return nil, inputerr.New("the Theta method needs at least 2 observations, the series has %d", n)
@@ -157,36 +158,10 @@ func sesSSE(x []float64, a float64) float64 {
 	return s
 }
 
-// fitAlpha minimises sesSSE over α ∈ [0, 1]: a grid of step 0.01, then
-// golden-section search in the bracket around the best grid point.
+// fitAlpha minimises sesSSE over α ∈ [0, 1] by a grid of step 0.01 and a
+// golden-section refinement (numeric.GridGolden).
 func fitAlpha(x []float64) float64 {
-	best, bestV := 0.0, math.Inf(1)
-	for i := 0; i <= 100; i++ {
-		a := float64(i) / 100
-		if v := sesSSE(x, a); v < bestV {
-			best, bestV = a, v
-		}
-	}
-	lo, hi := math.Max(0, best-0.01), math.Min(1, best+0.01)
-	g := (math.Sqrt(5) - 1) / 2
-	c, d := hi-g*(hi-lo), lo+g*(hi-lo)
-	fc, fd := sesSSE(x, c), sesSSE(x, d)
-	for i := 0; i < 40; i++ {
-		if fc < fd {
-			hi, d, fd = d, c, fc
-			c = hi - g*(hi-lo)
-			fc = sesSSE(x, c)
-		} else {
-			lo, c, fc = c, d, fd
-			d = lo + g*(hi-lo)
-			fd = sesSSE(x, d)
-		}
-	}
-	a := (lo + hi) / 2
-	if sesSSE(x, a) > bestV {
-		a = best
-	}
-	return a
+	return numeric.GridGolden(func(a float64) float64 { return sesSSE(x, a) }, 0, 1, 0.01)
 }
 
 // drift is the Theta forecast's trend term ½·b0·(h − 1 + 1/α − (1−α)^T/α)
@@ -354,11 +329,6 @@ func (Fixed) Name() string { return Name }
 
 // Fit implements models.Family by FitWith.
 func (fam Fixed) Fit(y []float64, opt models.FitOptions) (models.Model, error) {
-	for i, v := range y {
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return nil, inputerr.New("observation %d is not a finite number", i+1)
-		}
-	}
 	f, err := FitWith(y, opt.Period, fam.Season)
 	if err != nil {
 		return nil, err
