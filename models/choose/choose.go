@@ -159,14 +159,14 @@ func (f *Family) Fit(y []float64, opt models.FitOptions) (models.Model, error) {
 		return f.fallback(y, opt, join(v.note, "every candidate failed in validation"))
 	}
 	note := v.note
-	model, err := f.refit(win, frozen, y, opt)
+	model, err := f.refit(win, frozen, scores, y, opt)
 	if err != nil {
 		// The winner failed on the full data: take the next best.
 		for _, i := range rank(scores)[1:] {
 			if math.IsInf(scores[i].MASE, 1) {
 				break
 			}
-			if model, err = f.refit(i, frozen, y, opt); err == nil {
+			if model, err = f.refit(i, frozen, scores, y, opt); err == nil {
 				note = join(note, fmt.Sprintf("%s won validation but failed on the full series; next best used", scores[win].Family))
 				win = i
 				break
@@ -201,14 +201,14 @@ func (f *Family) pick(scores []Score) int {
 }
 
 // refit fits candidate i's validated form on y (the combination refits
-// each member's form).
-func (f *Family) refit(i int, frozen []models.Family, y []float64, opt models.FitOptions) (models.Model, error) {
+// the form of each member that went through validation).
+func (f *Family) refit(i int, frozen []models.Family, scores []Score, y []float64, opt models.FitOptions) (models.Model, error) {
 	if i < len(f.cands) {
 		return frozen[i].Fit(y, opt)
 	}
 	var parts []models.Model
 	for _, k := range f.members {
-		if frozen[k] == nil {
+		if scores[k].Err != "" {
 			continue // failed or not offered in validation
 		}
 		mod, err := frozen[k].Fit(y, opt)
