@@ -193,3 +193,31 @@ func TestDeterministic(t *testing.T) {
 		t.Fatal("reasons differ")
 	}
 }
+
+// TestSeasonalSeriesKeepSeason: on strongly seasonal public series (R's
+// datasets UKgas, quarterly, and USAccDeaths, monthly) drift is not
+// offered and the model used carries the season, whatever stretch the
+// validation origins fall on.
+func TestSeasonalSeriesKeepSeason(t *testing.T) {
+	for _, c := range []struct {
+		name string
+		m    int
+	}{{"UKgas", 4}, {"USAccDeaths", 12}} {
+		y := series(t, c.name)
+		for _, cut := range []int{0, 1, 2, 3} {
+			m, err := newAuto().Fit(y[:len(y)-cut], models.FitOptions{Period: c.m, Horizon: c.m})
+			if err != nil {
+				t.Fatal(err)
+			}
+			f := m.(*Fitted)
+			if !hasSeason(f.Model) {
+				t.Errorf("%s minus %d: %s has no seasonal component", c.name, cut, f.Spec())
+			}
+			for _, s := range f.Scores() {
+				if s.Family == "drift" && !strings.HasPrefix(s.Err, "not offered") {
+					t.Errorf("%s minus %d: drift offered (%+v)", c.name, cut, s)
+				}
+			}
+		}
+	}
+}
