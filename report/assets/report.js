@@ -1,0 +1,310 @@
+// The page script of trueup's report: decodes the embedded data (gzip,
+// base64, float32 byte planes; see report.go) and draws the charts with
+// uPlot. window.trueupReport exposes the state that tests and the
+// benchmark read.
+"use strict";
+(async function () {
+  const api = { ready: false, error: null, selected: -1, select: null, timings: {} };
+  window.trueupReport = api;
+  const t0 = performance.now();
+  const css = getComputedStyle(document.documentElement);
+  const color = name => css.getPropertyValue(name).trim();
+
+  function bytes(id) {
+    const s = atob(document.getElementById(id).textContent.trim());
+    const u = new Uint8Array(s.length);
+    for (let i = 0; i < s.length; i++) u[i] = s.charCodeAt(i);
+    return u;
+  }
+  async function gunzip(u) {
+    const stream = new Blob([u]).stream().pipeThrough(new DecompressionStream("gzip"));
+    return new Uint8Array(await new Response(stream).arrayBuffer());
+  }
+
+  let meta, all;
+  try {
+    meta = JSON.parse(new TextDecoder().decode(await gunzip(bytes("meta"))));
+    const raw = await gunzip(bytes("series"));
+    const n = raw.length / 4;
+    all = new Float32Array(n);
+    const b = new Uint8Array(all.buffer);
+    for (let i = 0; i < n; i++) {
+      b[4 * i] = raw[i]; b[4 * i + 1] = raw[n + i]; b[4 * i + 2] = raw[2 * n + i]; b[4 * i + 3] = raw[3 * n + i];
+    }
+  } catch (e) {
+    api.error = String(e);
+    document.getElementById("loading").textContent = "This report's data could not be decoded: " + e;
+    document.getElementById("loading").className = "error";
+    return;
+  }
+  api.timings.decode = performance.now() - t0;
+
+  const N = meta.nodes.length, T = meta.history.length, H = meta.forecast.length, K = meta.lags;
+  const labels = meta.history.concat(meta.forecast);
+  let off = 0;
+  const field = len => { const f = all.subarray(off, off + len); off += len; return f; };
+  const S = { history: field(N * T), base: field(N * H), forecast: field(N * H), lower: [], upper: [] };
+  for (let l = 0; l < meta.intervals.length; l++) { S.lower.push(field(N * H)); S.upper.push(field(N * H)); }
+  S.acf = field(N * K); S.pacf = field(N * K);
+
+  const run = meta.run || {}, counts = run.counts || {};
+  const unit = "sales per " + (counts.grain || "period");
+  const nf0 = new Intl.NumberFormat("en-GB", { maximumFractionDigits: 0 });
+  const nf2 = new Intl.NumberFormat("en-GB", { maximumFractionDigits: 2 });
+  const fmt = v => v == null || Number.isNaN(v) ? "–" : (Math.abs(v) >= 100 ? nf0 : nf2).format(v);
+  const short = v => {
+    const a = Math.abs(v);
+    if (a >= 1e9) return nf2.format(v / 1e9) + " bn";
+    if (a >= 1e6) return nf2.format(v / 1e6) + " m";
+    if (a >= 1e4) return nf0.format(v / 1e3) + " k";
+    return nf2.format(v);
+  };
+  const el = (tag, attrs, ...kids) => {
+    const e = document.createElement(tag);
+    for (const [k, v] of Object.entries(attrs || {})) {
+      if (k === "class") e.className = v; else if (k.startsWith("on")) e.addEventListener(k.slice(2), v); else e.setAttribute(k, v);
+    }
+    for (const k of kids) e.append(k instanceof Node ? k : String(k));
+    return e;
+  };
+  const nodeName = i => {
+    const nd = meta.nodes[i];
+    const parts = nd.key.filter(k => k !== "");
+    return parts.length ? parts.join(" · ") : "Total";
+  };
+  const levelName = i => meta.levels[meta.nodes[i].level].name;
+  const slice = (f, i, len) => Array.from(f.subarray(i * len, (i + 1) * len), v => Number.isNaN(v) ? null : v);
+
+  // seriesData returns the x positions and the series of node i on the
+  // history-then-forecast axis: history, base, forecast, then per interval
+  // (widest first) upper and lower.
+  function seriesData(i) {
+    const x = labels.map((_, t) => t);
+    const pad = new Array(T).fill(null), tail = new Array(H).fill(null);
+    const hist = slice(S.history, i, T).concat(tail);
+    const cols = [x, hist, pad.concat(slice(S.base, i, H)), pad.concat(slice(S.forecast, i, H))];
+    for (let l = meta.intervals.length - 1; l >= 0; l--) {
+      cols.push(pad.concat(slice(S.upper[l], i, H)), pad.concat(slice(S.lower[l], i, H)));
+    }
+    return cols;
+  }
+
+  const xAxis = { values: (u, splits) => splits.map(t => labels[t] ?? ""), space: 64, incrs: [1, 2, 3, 4, 6, 12, 24, 36, 52, 104, 365], grid: { stroke: "#e6e9ee" } };
+  function tsOptions(width, height, compact) {
+    const series = [{ label: "period", value: (u, t) => t == null ? "–" : labels[t] },
+      { label: "history", stroke: color("--history"), width: 1.5, value: (u, v) => fmt(v) },
+      { label: "base forecast", stroke: color("--base"), width: 1.25, dash: [5, 4], value: (u, v) => fmt(v), show: !compact },
+      { label: "reconciled forecast", stroke: color("--forecast"), width: 2, value: (u, v) => fmt(v) }];
+    const bands = [];
+    for (let l = meta.intervals.length - 1; l >= 0; l--) {
+      const fill = l === meta.intervals.length - 1 && meta.intervals.length > 1 ? color("--band95") : color("--band80");
+      const at = series.length;
+      series.push({ label: meta.intervals[l] + "% interval", stroke: fill, width: 1, value: (u, v) => fmt(v) },
+        { label: meta.intervals[l] + "% lower", stroke: fill, width: 1, value: (u, v) => fmt(v) });
+      bands.push({ series: [at, at + 1], fill });
+    }
+    return {
+      width, height, series, bands, scales: { x: { time: false } },
+      legend: { show: !compact }, cursor: { drag: { x: false, y: false } },
+      axes: [xAxis, { values: (u, s) => s.map(short), size: 64, label: compact ? undefined : unit, grid: { stroke: "#e6e9ee" } }],
+      hooks: { ready: [u => { // one legend entry per interval: the lower bound's row is hidden
+        const rows = u.root.querySelectorAll(".u-legend .u-series");
+        for (let s = 5; s < u.series.length; s += 2) if (rows[s]) rows[s].style.display = "none";
+      }] },
+    };
+  }
+  const charts = [];
+  function draw(target, opts, data) {
+    if (target.uplot) { charts.splice(charts.indexOf(target.uplot), 1); target.uplot.destroy(); }
+    target.textContent = "";
+    const u = new uPlot(opts, data, target);
+    target.uplot = u;
+    charts.push(u);
+    return u;
+  }
+  const width = e => Math.max(280, Math.floor(e.getBoundingClientRect().width || 900));
+
+  // What was run.
+  const facts = document.getElementById("run-facts");
+  const opts = run.options || {};
+  const fact = (k, v) => { if (v !== undefined && v !== null && v !== "") facts.append(el("dt", {}, k), el("dd", {}, v)); };
+  fact("Command", run.command ? "trueup " + run.command : undefined);
+  if (run.input) fact("Input", `${run.input.path} (${nf0.format(run.input.rows)} rows, SHA-256 ${String(run.input.sha256 || "").slice(0, 12)}…)`);
+  fact("History", counts.first_period ? `${counts.first_period} to ${counts.last_period} (${counts.periods} ${counts.grain || "period"}s)` : undefined);
+  fact("Forecast", `${meta.forecast[0]} to ${meta.forecast[H - 1]} (${H} periods ahead), intervals ${meta.intervals.map(l => l + "%").join(" and ")}`);
+  fact("Structure", `${nf0.format(N)} nodes in ${meta.levels.length} levels: ` + meta.levels.map(l => `${l.name} ${nf0.format(l.nodes.length)}`).join(", "));
+  if (run.models) fact("Models chosen", Object.entries(run.models).sort().map(([k, v]) => `${k} ${v}`).join(", ") + (opts.family ? ` (family option: ${opts.family})` : ""));
+  if (run.reconcile) {
+    const notes = Object.entries(run.reconcile.notes || {}).map(([k, v]) => `${k} ${nf2.format(v)}`).join(", ");
+    const why = run.reconcile.method === "mint" ? "MinT combines every level's forecast, weighting each by how reliable its errors have been, so that totals equal the sum of their parts" :
+      "the method named in the run's options";
+    fact("Reconciliation", `${run.reconcile.method}${opts.cov ? " (covariance " + opts.cov + ")" : ""}${opts.nonnegative ? ", non-negative" : ""}: ${why}${notes ? "; " + notes : ""}`);
+  }
+  if (run.warnings && run.warnings.length) fact("Warnings", el("ul", {}, ...run.warnings.map(w => el("li", { class: "warning" }, w))));
+
+  // The total.
+  const totalLevel = meta.levels.findIndex(l => l.name === "total");
+  const totalNode = meta.levels[totalLevel >= 0 ? totalLevel : 0].nodes[0];
+  document.getElementById("total-title").textContent = `${nodeName(totalNode)}: history and forecast with ${meta.intervals.map(l => l + "%").join(" and ")} intervals`;
+  const totalEl = document.getElementById("total-chart");
+  draw(totalEl, tsOptions(width(totalEl), 340, false), seriesData(totalNode));
+  totalEl.dataset.forecastPoints = String(slice(S.forecast, totalNode, H).filter(v => v != null).length);
+
+  // Small multiples: the largest nodes of each level below the total.
+  const TOP = 6;
+  const grids = document.getElementById("level-grids");
+  meta.levels.forEach((lv, l) => {
+    if (lv.nodes.length === 1 && l === (totalLevel >= 0 ? totalLevel : 0)) return;
+    grids.append(el("h3", {}, `${lv.name}: ${nf0.format(lv.nodes.length)} nodes` + (lv.nodes.length > TOP ? ` (largest ${TOP} shown)` : "")));
+    const grid = el("div", { class: "grid" });
+    grids.append(grid);
+    for (const i of lv.nodes.slice(0, TOP)) {
+      const box = el("div", { class: "chart" });
+      grid.append(el("div", { class: "cell" }, el("button", { onclick: () => select(i, true) }, nodeName(i)), box));
+      draw(box, tsOptions(330, 170, true), seriesData(i));
+    }
+    if (lv.nodes.length > TOP) {
+      const pick = el("select", { "aria-label": "all nodes of " + lv.name });
+      pick.append(el("option", { value: "" }, `All ${nf0.format(lv.nodes.length)} nodes of ${lv.name}, largest first…`));
+      const fillOptions = () => { // filled on first use: a level can have tens of thousands of nodes
+        if (pick.options.length > 1) return;
+        const frag = document.createDocumentFragment();
+        for (const i of lv.nodes) frag.append(el("option", { value: i }, nodeName(i)));
+        pick.append(frag);
+      };
+      pick.addEventListener("focus", fillOptions);
+      pick.addEventListener("mousedown", fillOptions);
+      pick.addEventListener("change", () => { if (pick.value !== "") select(+pick.value, true); });
+      grids.append(el("div", { class: "level-more" }, pick));
+    }
+  });
+
+  // Any node.
+  const lowerNames = meta.nodes.map((_, i) => (nodeName(i) + " " + levelName(i)).toLowerCase());
+  const byVolume = meta.nodes.map((_, i) => i).sort((a, b) => meta.nodes[b].volume - meta.nodes[a].volume || a - b);
+  const search = document.getElementById("search"), matches = document.getElementById("matches");
+  let found = [];
+  function find() {
+    const words = search.value.toLowerCase().split(/\s+/).filter(Boolean);
+    found = [];
+    if (words.length) for (const i of byVolume) {
+      if (words.every(w => lowerNames[i].includes(w))) found.push(i);
+      if (found.length === 30) break;
+    }
+    matches.replaceChildren(...found.map((i, k) => el("li", { role: "option", class: k === 0 ? "active" : "", onclick: () => { select(i, false); matches.replaceChildren(); } },
+      nodeName(i) + " ", el("small", {}, levelName(i)))));
+  }
+  search.addEventListener("input", find);
+  search.addEventListener("keydown", e => {
+    if (e.key === "Enter" && found.length) { select(found[0], false); matches.replaceChildren(); }
+  });
+
+  function corrChart(target, name, f, i) {
+    const nres = meta.nodes[i].n_resid;
+    const vals = slice(f, i, K);
+    const k = vals.findIndex(v => v == null);
+    const len = k < 0 ? K : k;
+    target.textContent = "";
+    if (len < 1) { target.append(el("p", { class: "note" }, `No ${name}: too few residuals.`)); return; }
+    const bound = 1.96 / Math.sqrt(nres);
+    const x = Array.from({ length: len }, (_, j) => j + 1);
+    draw(target, {
+      width: width(target), height: 200, title: `${name} of the residuals`, scales: { x: { time: false, range: [0.5, len + 0.5] }, y: { range: [-1, 1] } },
+      series: [{ label: "lag" }, { label: name, stroke: color("--forecast"), fill: color("--band80"), paths: uPlot.paths.bars({ size: [0.6, 14] }), value: (u, v) => v == null ? "–" : v.toFixed(3) },
+        { label: "±1.96/√n", stroke: color("--alert"), dash: [4, 4], width: 1, value: () => bound.toFixed(3) },
+        { label: "", stroke: color("--alert"), dash: [4, 4], width: 1 }],
+      axes: [{ label: "lag", incrs: [1, 2, 3, 4, 6, 12], grid: { show: false } }, { size: 44, grid: { stroke: "#e6e9ee" } }],
+      hooks: { ready: [u => { const r = u.root.querySelectorAll(".u-legend .u-series"); if (r[3]) r[3].style.display = "none"; }] },
+    }, [x, vals.slice(0, len), x.map(() => bound), x.map(() => -bound)]);
+  }
+
+  function select(i, scroll) {
+    const start = performance.now();
+    const nd = meta.nodes[i];
+    api.selected = i;
+    document.getElementById("node-title").textContent = `${nodeName(i)} (${levelName(i)})`;
+    const chart = document.getElementById("node-chart");
+    draw(chart, tsOptions(width(chart), 320, false), seriesData(i));
+    chart.dataset.node = String(i);
+    const model = document.getElementById("node-model");
+    const rows = [["Model", nd.family ? `${nd.family}: ${nd.spec}` : "none (base forecasts given)"],
+      ["AICc", nd.aicc == null ? "–" : nf2.format(nd.aicc)], ["σ²", nd.sigma2 == null ? "–" : fmt(nd.sigma2)]];
+    let params = null;
+    try { params = nd.params ? JSON.parse(nd.params) : null; } catch (e) { params = null; }
+    const table = el("table", {}, ...rows.map(([k, v]) => el("tr", {}, el("th", {}, k), el("td", {}, v))));
+    if (params && Array.isArray(params.estimates)) {
+      for (const e of params.estimates) table.append(el("tr", {}, el("th", {}, e.name ?? e.Name ?? "estimate"), el("td", { class: "num" }, typeof (e.value ?? e.Value) === "number" ? (e.value ?? e.Value).toPrecision(6) : JSON.stringify(e))));
+    }
+    const fcRows = meta.forecast.map((p, k) => {
+      const cells = [p, fmt(S.base[i * H + k]), fmt(S.forecast[i * H + k])];
+      meta.intervals.forEach((_, l) => cells.push(`${fmt(S.lower[l][i * H + k])} – ${fmt(S.upper[l][i * H + k])}`));
+      return el("tr", {}, ...cells.map((c, j) => el("td", { class: j ? "num" : "" }, c)));
+    });
+    const head = el("tr", {}, ...["period", "base", "forecast", ...meta.intervals.map(l => l + "% interval")].map((c, j) => el("th", { class: j ? "num" : "" }, c)));
+    model.replaceChildren(el("h3", {}, "Model"), table,
+      ...(nd.warning ? [el("p", { class: "warning" }, "Warning: " + nd.warning)] : []),
+      ...(params ? [el("details", {}, el("summary", {}, "All parameters (JSON)"), el("pre", { class: "scroll" }, JSON.stringify(params, null, 1)))] : []),
+      el("h3", {}, "Forecasts"), el("div", { class: "scroll" }, el("table", {}, head, ...fcRows)));
+    const check = document.getElementById("node-check");
+    check.replaceChildren(el("h3", {}, "Ljung–Box test of the residuals"));
+    if (nd.lb_p == null) check.append(el("p", { class: "note" }, "Not run: too few residuals."));
+    else {
+      const pass = nd.lb_p >= meta.fail_p;
+      check.append(el("p", {}, `Q = ${nd.lb_q.toFixed(2)} on ${nd.lb_lags} lags, p-value ${nd.lb_p < 1e-4 ? nd.lb_p.toExponential(2) : nd.lb_p.toFixed(4)}: `,
+        el("span", { class: pass ? "pass" : "fail" }, pass ? "no autocorrelation left at the 5% level" : "autocorrelation left in the residuals at the 5% level")),
+      el("p", { class: "note" }, `A failing test means the model missed a pattern; its intervals may be too narrow. Bars beyond the dashed lines (±1.96/√n, n = ${nd.n_resid} residuals) show where.`));
+    }
+    corrChart(document.getElementById("node-acf"), "ACF", S.acf, i);
+    corrChart(document.getElementById("node-pacf"), "PACF", S.pacf, i);
+    if (scroll) document.getElementById("explorer").scrollIntoView();
+    api.timings.select = performance.now() - start;
+  }
+  api.select = select;
+  api.nodeName = nodeName;
+
+  // Residual checks.
+  const failing = document.getElementById("failing");
+  if (!K) failing.append(el("p", { class: "note" }, "No residuals in this run's tables, so no checks."));
+  else {
+    failing.append(el("p", {}, `${nf0.format(meta.failing.length)} of ${nf0.format(N)} nodes have residuals that fail the Ljung–Box test at the 5% level` + (meta.failing.length > 200 ? " (the 200 with the smallest p-values are listed)." : ".")));
+    if (meta.failing.length) failing.append(el("div", { class: "scroll" }, el("table", {},
+      el("tr", {}, el("th", {}, "node"), el("th", {}, "level"), el("th", {}, "model"), el("th", { class: "num" }, "Q"), el("th", { class: "num" }, "lags"), el("th", { class: "num" }, "p-value")),
+      ...meta.failing.slice(0, 200).map(i => { const nd = meta.nodes[i]; return el("tr", {},
+        el("td", {}, el("button", { class: "node-link", onclick: () => select(i, true) }, nodeName(i))), el("td", {}, levelName(i)), el("td", {}, nd.spec || nd.family || ""),
+        el("td", { class: "num" }, nd.lb_q.toFixed(2)), el("td", { class: "num" }, nd.lb_lags), el("td", { class: "num" }, nd.lb_p.toExponential(2))); }))));
+  }
+
+  // Accuracy: the backtest's tables, each as a table and a bar chart of
+  // its last numeric column by its text columns.
+  if (meta.accuracy && meta.accuracy.length) {
+    document.getElementById("accuracy").hidden = false;
+    const box = document.getElementById("accuracy-tables");
+    for (const tb of meta.accuracy) {
+      box.append(el("h3", {}, tb.name));
+      const num = tb.columns.map((_, j) => tb.rows.length > 0 && tb.rows.every(r => r[j] == null || typeof r[j] === "number"));
+      box.append(el("div", { class: "scroll" }, el("table", {}, el("tr", {}, ...tb.columns.map((c, j) => el("th", { class: num[j] ? "num" : "" }, c))),
+        ...tb.rows.slice(0, 200).map(r => el("tr", {}, ...r.map((v, j) => el("td", { class: num[j] ? "num" : "" }, v == null ? "" : typeof v === "number" ? nf2.format(v) : v)))))));
+      const vj = num.lastIndexOf(true), textCols = tb.columns.map((_, j) => j).filter(j => !num[j]);
+      if (vj < 0 || !textCols.length) continue;
+      const rows = tb.rows.filter(r => r[vj] != null).slice(0, 40);
+      const names = rows.map(r => textCols.map(j => r[j]).filter(v => v != null && v !== "").join(" · "));
+      const target = el("div", { class: "chart" });
+      box.append(target);
+      draw(target, {
+        width: width(box), height: 240, title: `${tb.columns[vj]} by ${textCols.map(j => tb.columns[j]).join(", ")}`, scales: { x: { time: false, range: [-0.5, rows.length - 0.5] } },
+        series: [{ label: "row", value: (u, k) => names[k] ?? "" }, { label: tb.columns[vj], stroke: color("--forecast"), fill: color("--band80"), paths: uPlot.paths.bars({ size: [0.7, 40] }), value: (u, v) => v == null ? "–" : nf2.format(v) }],
+        axes: [{ values: (u, s) => s.map(k => names[k] ?? ""), incrs: [1, 2, 5, 10], grid: { show: false } }, { values: (u, s) => s.map(short), size: 60, label: tb.columns[vj] }],
+      }, [rows.map((_, k) => k), rows.map(r => r[vj])]);
+    }
+  }
+
+  const resize = w => { for (const u of charts) if (u.root.isConnected && u.root.closest("#total-chart, #node-chart")) u.setSize({ width: w || width(u.root.parentElement), height: u.height }); };
+  window.addEventListener("beforeprint", () => resize(680));
+  window.addEventListener("afterprint", () => resize());
+
+  select(totalNode, false);
+  document.getElementById("loading").remove();
+  await new Promise(r => requestAnimationFrame(() => r()));
+  api.timings.firstView = performance.now() - t0;
+  api.ready = true;
+})();
