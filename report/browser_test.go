@@ -199,6 +199,19 @@ func TestReportInBrowser(t *testing.T) {
 			t.Errorf("node %d step %d: chart %v, reconciled forecast %v", node, k+1, shown[k], want[k])
 		}
 	}
+	// The widest interval's band: series 4 (upper) and 5 (lower).
+	band, err := chromedp.Run(ctx, chromedp.Evaluate[[][]float64](`[4, 5].map(s => document.getElementById("node-chart").uplot.data[s].filter(v => v != null))`))
+	if err != nil {
+		t.Fatal(err)
+	}
+	widest := res.Levels[len(res.Levels)-1]
+	for k := range want {
+		lo, hi := res.Bounds(node, k, widest)
+		tol := 1e-6 * math.Max(1, math.Abs(hi)+math.Abs(want[k]))
+		if len(band[0]) != len(want) || len(band[1]) != len(want) || math.Abs(band[0][k]-hi) > tol || math.Abs(band[1][k]-lo) > tol {
+			t.Fatalf("node %d step %d: %v%% band drawn as %v, want [%v, %v]", node, k+1, widest, band, lo, hi)
+		}
+	}
 	if err := chromedp.Do(ctx, chromedp.ScrollIntoView(chromedp.CSS("#explorer"))); err != nil {
 		t.Fatal(err)
 	}

@@ -7,6 +7,8 @@ import (
 	"strconv"
 	"strings"
 
+	"gonum.org/v1/gonum/stat/distuv"
+
 	"trueup/internal/numeric"
 	"trueup/tableio"
 )
@@ -31,6 +33,11 @@ type Meta struct {
 	History   []string       `json:"history"`            // history period labels
 	Forecast  []string       `json:"forecast"`           // forecast period labels
 	Intervals []string       `json:"intervals"`          // interval labels, e.g. "80", "95"
+	// Z, when set, says that the bounds are not embedded but follow
+	// from Series.SD: forecast ∓ Z[l]·SD, the lower bound clamped at
+	// zero when ClampAtZero (see compactBounds).
+	Z           []float64 `json:"z,omitempty"`
+	ClampAtZero bool      `json:"clamp_at_zero,omitempty"`
 	Lags      int            `json:"lags"`               // ACF and PACF lags per node
 	Levels    []Level        `json:"levels"`             // in table order, the total first
 	Nodes     []Node         `json:"nodes"`              // in table order
@@ -68,8 +75,9 @@ type Series struct {
 	History  []float32   // nodes × len(Meta.History)
 	Base     []float32   // nodes × len(Meta.Forecast)
 	Forecast []float32   // nodes × len(Meta.Forecast)
-	Lower    [][]float32 // per interval: nodes × len(Meta.Forecast)
+	Lower    [][]float32 // per interval: nodes × len(Meta.Forecast); nil when SD is set
 	Upper    [][]float32 // per interval
+	SD       []float32   // nodes × len(Meta.Forecast): the bounds' standard deviations, or nil
 	ACF      []float32   // nodes × Meta.Lags
 	PACF     []float32   // nodes × Meta.Lags
 }
@@ -252,6 +260,7 @@ func build(in *Input) (*Data, error) {
 		m.Intervals = append(m.Intervals, label)
 		s.Lower, s.Upper = append(s.Lower, lo), append(s.Upper, hi)
 	}
+	compactBounds(d, fc, rowNode, stepOf)
 
 	if t := in.Tables["history"]; t != nil {
 		rows, err := nodeRows(t, "history", attrs, idx)
@@ -437,6 +446,66 @@ func addCorrelograms(d *Data, t *tableio.Table, attrs []string, idx nodeIndex) e
 		}
 	}
 	return nil
+}
+
+// compactBounds replaces the interval bounds by one standard deviation
+// per node and step when every bound in the table is Gaussian, as
+// engine.Result.Bounds makes them: forecast ∓ z·sd with z the normal
+// quantile of the level, the lower bound clamped at zero when no bound is
+// negative. The check runs on the table's float64 numbers to a relative
+// 1e-9; any bound of another form keeps the bounds as they are. This
+// embeds one number where there were two per interval.
+func compactBounds(d *Data, fc *tableio.Table, rowNode, stepOf []int) {
+	m, s := &d.Meta, &d.Series
+	if len(m.Intervals) == 0 {
+		return
+	}
+	z := make([]float64, len(m.Intervals))
+	widest := 0
+	for l, label := range m.Intervals {
+		level, err := strconv.ParseFloat(label, 64)
+		if err != nil || level <= 0 || level >= 100 {
+			return
+		}
+		z[l] = distuv.UnitNormal.Quantile(0.5 + level/200)
+		if z[l] > z[widest] {
+			widest = l
+		}
+	}
+	mean := column(fc, "forecast")
+	lower := make([]*tableio.Column, len(z))
+	upper := make([]*tableio.Column, len(z))
+	clamp := true
+	for l, label := range m.Intervals {
+		lower[l], upper[l] = column(fc, "pi"+label+"_lower"), column(fc, "pi"+label+"_upper")
+		for r := range rowNode {
+			if number(lower[l], r) < 0 {
+				clamp = false
+			}
+		}
+	}
+	h := len(m.Forecast)
+	sd := nanSlice(len(s.Forecast))
+	for r, i := range rowNode {
+		f := number(mean, r)
+		sig := (number(upper[widest], r) - f) / z[widest]
+		if math.IsNaN(f) || math.IsNaN(sig) {
+			continue
+		}
+		sd[i*h+stepOf[r]] = float32(sig)
+		for l := range z {
+			lo, hi := f-z[l]*sig, f+z[l]*sig
+			if clamp {
+				lo = math.Max(0, lo)
+			}
+			tol := 1e-9 * math.Max(1, math.Abs(f)+z[l]*math.Abs(sig))
+			if math.Abs(lo-number(lower[l], r)) > tol || math.Abs(hi-number(upper[l], r)) > tol {
+				return // not Gaussian: keep the bounds
+			}
+		}
+	}
+	m.Z, m.ClampAtZero = z, clamp
+	s.SD, s.Lower, s.Upper = sd, nil, nil
 }
 
 func nanSlice(n int) []float32 {

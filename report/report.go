@@ -183,11 +183,15 @@ func mustAsset(name string) []byte {
 }
 
 // fields returns the series in the order the page reads them: history,
-// base, forecast, each interval's lower and upper bounds, ACF, PACF.
+// base, forecast, each interval's lower and upper bounds (or the standard
+// deviations they follow from), ACF, PACF.
 func (s *Series) fields() [][]float32 {
 	out := [][]float32{s.History, s.Base, s.Forecast}
 	for l := range s.Lower {
 		out = append(out, s.Lower[l], s.Upper[l])
+	}
+	if s.SD != nil {
+		out = append(out, s.SD)
 	}
 	return append(out, s.ACF, s.PACF)
 }

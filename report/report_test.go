@@ -78,12 +78,28 @@ func TestEmbeddedDataEqualTables(t *testing.T) {
 		if m.Forecast[k] != cell(column(fc, "period"), r) {
 			t.Fatalf("row %d: period %s, embedded %s", r, cell(column(fc, "period"), r), m.Forecast[k])
 		}
-		for name, f := range map[string][]float32{"base": s.Base, "forecast": s.Forecast,
-			"pi80_lower": s.Lower[0], "pi80_upper": s.Upper[0], "pi95_lower": s.Lower[1], "pi95_upper": s.Upper[1]} {
+		for name, f := range map[string][]float32{"base": s.Base, "forecast": s.Forecast} {
 			if want := number(column(fc, name), r); !sameFloat32(f[i*h+k], want) {
 				t.Fatalf("forecasts row %d %s: embedded %v, table %v", r, name, f[i*h+k], want)
 			}
 		}
+		for l, label := range m.Intervals {
+			lo, hi := pageBounds(d, l, i*h+k)
+			for _, c := range []struct {
+				name      string
+				got, want float64
+			}{{"pi" + label + "_lower", lo, number(column(fc, "pi"+label+"_lower"), r)},
+				{"pi" + label + "_upper", hi, number(column(fc, "pi"+label+"_upper"), r)}} {
+				// float32 precision of forecast and sd, which the page subtracts
+				scale := math.Abs(number(column(fc, "forecast"), r)) + math.Abs(number(column(fc, "pi"+label+"_upper"), r))
+				if math.Abs(c.got-c.want) > 1e-6*math.Max(1, scale) {
+					t.Fatalf("forecasts row %d %s: the page draws %v, table %v", r, c.name, c.got, c.want)
+				}
+			}
+		}
+	}
+	if m.Z == nil {
+		t.Fatal("the demo's Gaussian bounds were not embedded as standard deviations")
 	}
 	if got := strings.Join(m.Intervals, ","); got != "80,95" {
 		t.Fatalf("intervals %s", got)
@@ -128,6 +144,44 @@ func TestEmbeddedDataEqualTables(t *testing.T) {
 				t.Fatalf("level %s is not sorted by volume", lv.Name)
 			}
 		}
+	}
+}
+
+// pageBounds computes interval l's bounds at position j (node × step) as
+// the page script does: from the embedded bounds, or forecast ∓ z·sd.
+func pageBounds(d *Data, l, j int) (lo, hi float64) {
+	s := &d.Series
+	if d.Meta.Z == nil {
+		return float64(s.Lower[l][j]), float64(s.Upper[l][j])
+	}
+	f, sd, z := float64(s.Forecast[j]), float64(s.SD[j]), d.Meta.Z[l]
+	lo, hi = f-z*sd, f+z*sd
+	if d.Meta.ClampAtZero {
+		lo = math.Max(0, lo)
+	}
+	return lo, hi
+}
+
+// TestOtherBoundsKeptAsTheyAre changes one bound so that the bounds are
+// no longer forecast ∓ z·sd and checks that the report then embeds the
+// bounds themselves.
+func TestOtherBoundsKeptAsTheyAre(t *testing.T) {
+	res := forecastDemo(t, families.Spec{Family: "drift"})
+	in, err := FromResult(res, "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	hi := column(in.Tables["forecasts"], "pi80_upper")
+	hi.Floats[5] *= 1.01
+	d, err := build(in)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if d.Meta.Z != nil || d.Series.SD != nil || len(d.Series.Upper) != 2 {
+		t.Fatal("bounds that are not Gaussian were replaced by standard deviations")
+	}
+	if got := d.Series.Upper[0][5]; !sameFloat32(got, hi.Floats[5]) {
+		t.Fatalf("embedded bound %v, table %v", got, hi.Floats[5])
 	}
 }
 

@@ -44,8 +44,22 @@
   let off = 0;
   const field = len => { const f = all.subarray(off, off + len); off += len; return f; };
   const S = { history: field(N * T), base: field(N * H), forecast: field(N * H), lower: [], upper: [] };
-  for (let l = 0; l < meta.intervals.length; l++) { S.lower.push(field(N * H)); S.upper.push(field(N * H)); }
+  if (meta.z) S.sd = field(N * H);
+  else for (let l = 0; l < meta.intervals.length; l++) { S.lower.push(field(N * H)); S.upper.push(field(N * H)); }
   S.acf = field(N * K); S.pacf = field(N * K);
+  // bounds returns interval l's lower and upper bounds of node i, from
+  // the embedded bounds or from forecast ∓ z·sd (see compactBounds).
+  function bounds(l, i) {
+    if (!meta.z) return [slice(S.lower[l], i, H), slice(S.upper[l], i, H)];
+    const lo = [], hi = [], z = meta.z[l];
+    for (let k = 0; k < H; k++) {
+      const f = S.forecast[i * H + k], sd = S.sd[i * H + k];
+      if (Number.isNaN(f) || Number.isNaN(sd)) { lo.push(null); hi.push(null); continue; }
+      lo.push(meta.clamp_at_zero ? Math.max(0, f - z * sd) : f - z * sd);
+      hi.push(f + z * sd);
+    }
+    return [lo, hi];
+  }
 
   const run = meta.run || {}, counts = run.counts || {};
   const unit = "sales per " + (counts.grain || "period");
@@ -84,7 +98,8 @@
     const hist = slice(S.history, i, T).concat(tail);
     const cols = [x, hist, pad.concat(slice(S.base, i, H)), pad.concat(slice(S.forecast, i, H))];
     for (let l = meta.intervals.length - 1; l >= 0; l--) {
-      cols.push(pad.concat(slice(S.upper[l], i, H)), pad.concat(slice(S.lower[l], i, H)));
+      const [lo, hi] = bounds(l, i);
+      cols.push(pad.concat(hi), pad.concat(lo));
     }
     return cols;
   }
@@ -235,9 +250,10 @@
     if (params && Array.isArray(params.estimates)) {
       for (const e of params.estimates) table.append(el("tr", {}, el("th", {}, e.name ?? e.Name ?? "estimate"), el("td", { class: "num" }, typeof (e.value ?? e.Value) === "number" ? (e.value ?? e.Value).toPrecision(6) : JSON.stringify(e))));
     }
+    const nodeBounds = meta.intervals.map((_, l) => bounds(l, i));
     const fcRows = meta.forecast.map((p, k) => {
       const cells = [p, fmt(S.base[i * H + k]), fmt(S.forecast[i * H + k])];
-      meta.intervals.forEach((_, l) => cells.push(`${fmt(S.lower[l][i * H + k])} – ${fmt(S.upper[l][i * H + k])}`));
+      nodeBounds.forEach(([lo, hi]) => cells.push(`${fmt(lo[k])} – ${fmt(hi[k])}`));
       return el("tr", {}, ...cells.map((c, j) => el("td", { class: j ? "num" : "" }, c)));
     });
     const head = el("tr", {}, ...["period", "base", "forecast", ...meta.intervals.map(l => l + "% interval")].map((c, j) => el("th", { class: j ? "num" : "" }, c)));
