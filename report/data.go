@@ -28,22 +28,22 @@ type Data struct {
 
 // Meta is the part of the report's data encoded as JSON.
 type Meta struct {
-	Run       map[string]any `json:"run"`                // run.json as written
-	Attrs     []string       `json:"attrs"`              // key columns, in table order
-	History   []string       `json:"history"`            // history period labels
-	Forecast  []string       `json:"forecast"`           // forecast period labels
-	Intervals []string       `json:"intervals"`          // interval labels, e.g. "80", "95"
+	Run       map[string]any `json:"run"`       // run.json as written
+	Attrs     []string       `json:"attrs"`     // key columns, in table order
+	History   []string       `json:"history"`   // history period labels
+	Forecast  []string       `json:"forecast"`  // forecast period labels
+	Intervals []string       `json:"intervals"` // interval labels, e.g. "80", "95"
 	// Z, when set, says that the bounds are not embedded but follow
 	// from Series.SD: forecast ∓ Z[l]·SD, the lower bound clamped at
 	// zero when ClampAtZero (see compactBounds).
 	Z           []float64 `json:"z,omitempty"`
 	ClampAtZero bool      `json:"clamp_at_zero,omitempty"`
-	Lags      int            `json:"lags"`               // ACF and PACF lags per node
-	Levels    []Level        `json:"levels"`             // in table order, the total first
-	Nodes     []Node         `json:"nodes"`              // in table order
-	Failing   []int          `json:"failing"`            // nodes whose residuals fail Ljung–Box, by p-value
-	FailP     float64        `json:"fail_p"`             // the significance level of Failing
-	Accuracy  []Table        `json:"accuracy,omitempty"` // backtest tables, when present
+	Lags        int       `json:"lags"`               // ACF and PACF lags per node
+	Levels      []Level   `json:"levels"`             // in table order, the total first
+	Nodes       []Node    `json:"nodes"`              // in table order
+	Failing     []int     `json:"failing"`            // nodes whose residuals fail Ljung–Box, by p-value
+	FailP       float64   `json:"fail_p"`             // the significance level of Failing
+	Accuracy    []Table   `json:"accuracy,omitempty"` // backtest tables, when present
 }
 
 // Level is one level of the structure with its nodes, largest first.
@@ -339,14 +339,21 @@ func nodeRows(t *tableio.Table, name string, attrs []string, idx nodeIndex) ([]i
 		}
 	}
 	rows := make([]int, numRows(t))
-	key := make([]string, len(attrs))
+	key, prev := make([]string, len(attrs)), make([]string, len(attrs))
+	prevLevel, i := "", -1
 	for r := range rows {
+		same := i >= 0 && cell(lc, r) == prevLevel
 		for a, c := range cols {
 			key[a] = cell(c, r)
+			same = same && key[a] == prev[a]
 		}
-		i, ok := idx[nodeKey(cell(lc, r), key)]
-		if !ok {
-			return nil, fmt.Errorf("%s table row %d: node %s %v is not in the forecasts table", name, r+1, cell(lc, r), key)
+		if !same { // rows of one node are usually consecutive: look up only when the node changes
+			var ok bool
+			if i, ok = idx[nodeKey(cell(lc, r), key)]; !ok {
+				return nil, fmt.Errorf("%s table row %d: node %s %v is not in the forecasts table", name, r+1, cell(lc, r), key)
+			}
+			prevLevel = cell(lc, r)
+			copy(prev, key)
 		}
 		rows[r] = i
 	}

@@ -220,7 +220,7 @@ func shuffle(fields [][]float32) []byte {
 
 func gzipBase64(b []byte) (string, error) {
 	var buf bytes.Buffer
-	zw, err := gzip.NewWriterLevel(&buf, gzip.BestCompression)
+	zw, err := gzip.NewWriterLevel(&buf, gzip.DefaultCompression)
 	if err != nil {
 		return "", err
 	}

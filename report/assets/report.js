@@ -277,6 +277,7 @@
   }
   api.select = select;
   api.nodeName = nodeName;
+  api.nodeCount = N;
 
   // Residual checks.
   const failing = document.getElementById("failing");
@@ -322,5 +323,6 @@
   document.getElementById("loading").remove();
   await new Promise(r => requestAnimationFrame(() => r()));
   api.timings.firstView = performance.now() - t0;
+  api.timings.sinceNavigation = performance.now();
   api.ready = true;
 })();
