@@ -144,7 +144,10 @@
   const opts = run.options || {};
   const fact = (k, v) => { if (v !== undefined && v !== null && v !== "") facts.append(el("dt", {}, k), el("dd", {}, v)); };
   fact("Command", run.command ? "trueup " + run.command : undefined);
-  if (run.input) fact("Input", `${run.input.path} (${nf0.format(run.input.rows)} rows, SHA-256 ${String(run.input.sha256 || "").slice(0, 12)}…)`);
+  if (run.input) {
+    const file = String(run.input.path || "").split(/[\\/]/).pop();
+    fact("Input", el("span", { title: run.input.path }, `${file} (${nf0.format(run.input.rows)} rows, SHA-256 ${String(run.input.sha256 || "").slice(0, 12)}…)`));
+  }
   fact("History", counts.first_period ? `${counts.first_period} to ${counts.last_period} (${counts.periods} ${counts.grain || "period"}s)` : undefined);
   fact("Forecast", `${meta.forecast[0]} to ${meta.forecast[H - 1]} (${H} periods ahead), intervals ${meta.intervals.map(l => l + "%").join(" and ")}`);
   fact("Structure", `${nf0.format(N)} nodes in ${meta.levels.length} levels: ` + meta.levels.map(l => `${l.name} ${nf0.format(l.nodes.length)}`).join(", "));
@@ -223,11 +226,12 @@
     if (len < 1) { target.append(el("p", { class: "note" }, `No ${name}: too few residuals.`)); return; }
     const bound = 1.96 / Math.sqrt(nres);
     const x = Array.from({ length: len }, (_, j) => j + 1);
+    const top = Math.min(1, 1.25 * Math.max(bound, ...vals.slice(0, len).map(Math.abs)));
     draw(target, {
-      width: width(target), height: 200, title: `${name} of the residuals`, scales: { x: { time: false, range: [0.5, len + 0.5] }, y: { range: [-1, 1] } },
-      series: [{ label: "lag" }, { label: name, stroke: color("--forecast"), fill: color("--band80"), paths: uPlot.paths.bars({ size: [0.6, 14] }), value: (u, v) => v == null ? "–" : v.toFixed(3) },
-        { label: "±1.96/√n", stroke: color("--alert"), dash: [4, 4], width: 1, value: () => bound.toFixed(3) },
-        { label: "", stroke: color("--alert"), dash: [4, 4], width: 1 }],
+      width: width(target), height: 200, title: `${name} of the residuals`, scales: { x: { time: false, range: [0.5, len + 0.5] }, y: { range: [-top, top] } },
+      series: [{ label: "lag" }, { label: name, stroke: color("--forecast"), fill: color("--band80"), paths: uPlot.paths.bars({ size: [0.6, 14] }), points: { show: false }, value: (u, v) => v == null ? "–" : v.toFixed(3) },
+        { label: "±1.96/√n", stroke: color("--alert"), dash: [4, 4], width: 1, points: { show: false }, value: () => bound.toFixed(3) },
+        { label: "", stroke: color("--alert"), dash: [4, 4], width: 1, points: { show: false } }],
       axes: [{ label: "lag", incrs: [1, 2, 3, 4, 6, 12], grid: { show: false } }, { size: 44, grid: { stroke: "#e6e9ee" } }],
       hooks: { ready: [u => { const r = u.root.querySelectorAll(".u-legend .u-series"); if (r[3]) r[3].style.display = "none"; }] },
     }, [x, vals.slice(0, len), x.map(() => bound), x.map(() => -bound)]);
@@ -259,10 +263,10 @@
     const head = el("tr", {}, ...["period", "base", "forecast", ...meta.intervals.map(l => l + "% interval")].map((c, j) => el("th", { class: j ? "num" : "" }, c)));
     model.replaceChildren(el("h3", {}, "Model"), table,
       ...(nd.warning ? [el("p", { class: "warning" }, "Warning: " + nd.warning)] : []),
-      ...(params ? [el("details", {}, el("summary", {}, "All parameters (JSON)"), el("pre", { class: "scroll" }, JSON.stringify(params, null, 1)))] : []),
-      el("h3", {}, "Forecasts"), el("div", { class: "scroll" }, el("table", {}, head, ...fcRows)));
-    const check = document.getElementById("node-check");
-    check.replaceChildren(el("h3", {}, "Ljung–Box test of the residuals"));
+      ...(params ? [el("details", {}, el("summary", {}, "All parameters (JSON)"), el("pre", { class: "scroll" }, JSON.stringify(params, null, 1)))] : []));
+    const check = model;
+    document.getElementById("node-check").replaceChildren(el("h3", {}, "Forecasts"), el("div", { class: "scroll" }, el("table", {}, head, ...fcRows)));
+    check.append(el("h3", {}, "Ljung–Box test of the residuals"));
     if (nd.lb_p == null) check.append(el("p", { class: "note" }, "Not run: too few residuals."));
     else {
       const pass = nd.lb_p >= meta.fail_p;
@@ -309,7 +313,7 @@
       box.append(target);
       draw(target, {
         width: width(box), height: 240, title: `${tb.columns[vj]} by ${textCols.map(j => tb.columns[j]).join(", ")}`, scales: { x: { time: false, range: [-0.5, rows.length - 0.5] } },
-        series: [{ label: "row", value: (u, k) => names[k] ?? "" }, { label: tb.columns[vj], stroke: color("--forecast"), fill: color("--band80"), paths: uPlot.paths.bars({ size: [0.7, 40] }), value: (u, v) => v == null ? "–" : nf2.format(v) }],
+        series: [{ label: "row", value: (u, k) => names[k] ?? "" }, { label: tb.columns[vj], stroke: color("--forecast"), fill: color("--band80"), paths: uPlot.paths.bars({ size: [0.7, 40] }), points: { show: false }, value: (u, v) => v == null ? "–" : nf2.format(v) }],
         axes: [{ values: (u, s) => s.map(k => names[k] ?? ""), incrs: [1, 2, 5, 10], grid: { show: false } }, { values: (u, s) => s.map(short), size: 60, label: tb.columns[vj] }],
       }, [rows.map((_, k) => k), rows.map(r => r[vj])]);
     }
@@ -321,6 +325,10 @@
 
   select(totalNode, false);
   document.getElementById("loading").remove();
+  // A link may name a node: report.html#node=Thornvale opens the largest
+  // node whose name and level contain those words.
+  const wanted = decodeURIComponent((location.hash.match(/^#node=(.+)$/) || [])[1] || "");
+  if (wanted) { search.value = wanted; find(); if (found.length) select(found[0], true); matches.replaceChildren(); }
   await new Promise(r => requestAnimationFrame(() => r()));
   api.timings.firstView = performance.now() - t0;
   api.timings.sinceNavigation = performance.now();
