@@ -28,7 +28,7 @@ type Data struct {
 
 // Meta is the part of the report's data encoded as JSON.
 type Meta struct {
-	Run       map[string]any `json:"run"`       // run.json as written
+	Run       map[string]any `json:"run"`       // run.json less its timings and file list
 	Attrs     []string       `json:"attrs"`     // key columns, in table order
 	History   []string       `json:"history"`   // history period labels
 	Forecast  []string       `json:"forecast"`  // forecast period labels
@@ -196,7 +196,16 @@ func build(in *Input) (*Data, error) {
 	if err != nil {
 		return nil, err
 	}
-	d := &Data{Meta: Meta{Run: in.Run, Attrs: attrs, FailP: failP, Accuracy: in.Accuracy}}
+	// The timings and the file list are left out: they are not shown, and
+	// without them the report of a run and one rendered later from its
+	// folder are the same bytes.
+	run := map[string]any{}
+	for k, v := range in.Run {
+		if k != "timings_seconds" && k != "files" {
+			run[k] = v
+		}
+	}
+	d := &Data{Meta: Meta{Run: run, Attrs: attrs, FailP: failP, Accuracy: in.Accuracy}}
 	m := &d.Meta
 
 	// Nodes, levels and forecast periods from the forecasts table.
