@@ -44,8 +44,8 @@ func asTable(name string, t *tableio.Table) Table {
 			c := &t.Columns[j]
 			switch {
 			case c.Null != nil && c.Null[r]:
-			case c.Type == tableio.String:
-				row[j] = c.Strings[r]
+			case c.Type == tableio.String || c.Type == tableio.Date:
+				row[j] = cell(c, r)
 			default:
 				if v := number(c, r); !math.IsNaN(v) && !math.IsInf(v, 0) {
 					row[j] = v

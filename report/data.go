@@ -6,6 +6,7 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+	"time"
 
 	"gonum.org/v1/gonum/stat/distuv"
 
@@ -119,6 +120,8 @@ func cell(c *tableio.Column, r int) string {
 		return c.Strings[r]
 	case tableio.Int64:
 		return strconv.FormatInt(c.Ints[r], 10)
+	case tableio.Date:
+		return time.Unix(c.Ints[r]*86400, 0).UTC().Format("2006-01-02")
 	default:
 		v := c.Floats[r]
 		if math.IsNaN(v) {
@@ -128,7 +131,8 @@ func cell(c *tableio.Column, r int) string {
 	}
 }
 
-// number returns entry r of c as a float, NaN for null or text.
+// number returns entry r of c as a float, NaN for null, a date or text
+// that is not a number.
 func number(c *tableio.Column, r int) float64 {
 	if c.Null != nil && c.Null[r] {
 		return math.NaN()
@@ -138,6 +142,8 @@ func number(c *tableio.Column, r int) float64 {
 		return c.Floats[r]
 	case tableio.Int64:
 		return float64(c.Ints[r])
+	case tableio.Date:
+		return math.NaN()
 	}
 	v, err := strconv.ParseFloat(c.Strings[r], 64)
 	if err != nil {
