@@ -20,6 +20,7 @@ import (
 	"github.com/chromedp/chromedp/kb"
 
 	"trueup/engine"
+	"trueup/engine/output"
 	"trueup/models/families"
 )
 
@@ -220,6 +221,41 @@ func TestReportInBrowser(t *testing.T) {
 		t.Fatal(err)
 	}
 	saveShot(t, filepath.Join(t.TempDir(), "node.png"), selected)
+
+	// The same run's folder with a backtest's tables beside it: the
+	// accuracy section is drawn (its numbers are invented; only the
+	// drawing is checked here).
+	withAcc := t.TempDir()
+	if _, err := output.Write(withAcc, res, []string{"parquet"}); err != nil {
+		t.Fatal(err)
+	}
+	accuracyFolder(t, withAcc)
+	accIn, err := FromDir(withAcc)
+	if err != nil {
+		t.Fatal(err)
+	}
+	accPath, err := Write(withAcc, accIn)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := chromedp.Do(ctx, chromedp.Navigate("file://"+accPath)); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := chromedp.Run(ctx, chromedp.Poll[bool](`!!(window.trueupReport && (window.trueupReport.ready || window.trueupReport.error))`,
+		chromedp.WithPollingTimeout(30*time.Second))); err != nil {
+		t.Fatalf("the page with accuracy tables did not finish drawing: %v", err)
+	}
+	if charts := eval(`document.getElementById("accuracy").hidden ? -1 : document.querySelectorAll("#accuracy .uplot").length`); charts != 3 {
+		t.Errorf("the accuracy section has %v charts, want 3 (MASE by level, coverage, drivers of the total)", charts)
+	}
+	if err := chromedp.Do(ctx, chromedp.ScrollIntoView(chromedp.CSS("#accuracy"))); err != nil {
+		t.Fatal(err)
+	}
+	accShot, err := chromedp.Run(ctx, chromedp.CaptureScreenshot())
+	if err != nil {
+		t.Fatal(err)
+	}
+	saveShot(t, filepath.Join(t.TempDir(), "accuracy.png"), accShot)
 	mu.Lock()
 	defer mu.Unlock()
 	for _, p := range problems {

@@ -194,14 +194,6 @@ func periodsIn(t *tableio.Table, name string) ([]string, []int, error) {
 // forecasts table is required; models, residuals and history add the
 // model, diagnostics and history of each node when present.
 func build(in *Input) (*Data, error) {
-	fc := in.Tables["forecasts"]
-	if fc == nil {
-		return nil, fmt.Errorf("no forecasts table")
-	}
-	attrs, err := keyAttrs(fc)
-	if err != nil {
-		return nil, err
-	}
 	// The timings and the file list are left out: they are not shown, and
 	// without them the report of a run and one rendered later from its
 	// folder are the same bytes.
@@ -211,8 +203,21 @@ func build(in *Input) (*Data, error) {
 			run[k] = v
 		}
 	}
-	d := &Data{Meta: Meta{Run: run, Attrs: attrs, FailP: failP, Accuracy: in.Accuracy}}
+	d := &Data{Meta: Meta{Run: run, FailP: failP, Accuracy: in.Accuracy, Attrs: []string{}, History: []string{},
+		Forecast: []string{}, Intervals: []string{}, Levels: []Level{}, Nodes: []Node{}, Failing: []int{}}}
 	m := &d.Meta
+	fc := in.Tables["forecasts"]
+	if fc == nil { // a backtest's folder: accuracy only
+		if len(in.Accuracy) == 0 {
+			return nil, fmt.Errorf("no forecasts table and no backtest tables")
+		}
+		return d, nil
+	}
+	attrs, err := keyAttrs(fc)
+	if err != nil {
+		return nil, err
+	}
+	m.Attrs = attrs
 
 	// Nodes, levels and forecast periods from the forecasts table.
 	idx := nodeIndex{}

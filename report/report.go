@@ -78,7 +78,10 @@ func FromResult(res *engine.Result, dir string) (*Input, error) {
 
 // FromDir reads the input of a report from the output folder of an
 // earlier run: run.json and the tables, in whichever of the formats
-// parquet, arrow or csv the folder has (in that order of preference).
+// parquet, arrow or csv the folder has (in that order of preference). A
+// backtest's folder, with accuracy tables and no forecasts, gives a report
+// of its accuracy alone: a backtest command writes its report with
+// Write(dir, FromDir(dir)) after its tables and run.json.
 func FromDir(dir string) (*Input, error) {
 	in := &Input{Tables: map[string]*tableio.Table{}}
 	b, err := os.ReadFile(filepath.Join(dir, "run.json"))
@@ -97,11 +100,11 @@ func FromDir(dir string) (*Input, error) {
 			in.Tables[name] = t
 		}
 	}
-	if in.Tables["forecasts"] == nil {
-		return nil, &inputerr.Error{File: dir, Option: "From", Msg: "has no forecasts table (forecasts.parquet, .arrow or .csv)"}
-	}
 	if in.Accuracy, err = readAccuracy(dir); err != nil {
 		return nil, err
+	}
+	if in.Tables["forecasts"] == nil && len(in.Accuracy) == 0 {
+		return nil, &inputerr.Error{File: dir, Option: "From", Msg: "has no forecasts table (forecasts.parquet, .arrow or .csv) and no backtest tables"}
 	}
 	return in, nil
 }

@@ -12,6 +12,7 @@ import (
 	"os"
 	"path/filepath"
 	"regexp"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -307,30 +308,92 @@ func TestFromDirNeedsForecasts(t *testing.T) {
 	}
 }
 
-// TestAccuracyTablesShownWhenPresent puts a table named like a backtest's
-// in the folder and checks that it is carried into the report as it is.
+// accuracyFolder writes tables with the backtest's names and columns
+// (accuracy.go) into dir: invented numbers, for checks of what is
+// carried and drawn, never of how accuracy is computed.
+func accuracyFolder(t testing.TB, dir string) {
+	t.Helper()
+	nan := math.NaN()
+	scores := &tableio.Table{Columns: []tableio.Column{
+		{Name: "level", Type: tableio.String, Strings: []string{"", "", "total", "total", "region", "region", "total"}, Null: []bool{true, true, false, false, false, false, false}},
+		{Name: "method", Type: tableio.String, Strings: []string{"mint", "bottom-up", "mint", "bottom-up", "mint", "bottom-up", "mint"}},
+		{Name: "step", Type: tableio.Int64, Ints: []int64{0, 0, 0, 0, 0, 0, 1}, Null: []bool{true, true, true, true, true, true, false}},
+		{Name: "count", Type: tableio.Int64, Ints: []int64{0, 0, 36, 36, 180, 180, 3}},
+		{Name: "mase", Type: tableio.Float64, Floats: []float64{0.8, 0.9, 0.7, 0.75, 0.9, 1.05, 0.6}},
+		{Name: "rmsse", Type: tableio.Float64, Floats: []float64{0.9, 1.0, 0.8, 0.85, 1.0, 1.1, 0.7}},
+		{Name: "bias", Type: tableio.Float64, Floats: []float64{-10, 20, -30, 40, -5, 6, nan}},
+		{Name: "coverage_80", Type: tableio.Float64, Floats: []float64{0.78, 0.7, 0.8, 0.72, 0.76, 0.68, 1}},
+		{Name: "coverage_95", Type: tableio.Float64, Floats: []float64{0.93, 0.88, 0.95, 0.9, 0.91, 0.86, 1}},
+	}}
+	var rank []int64
+	var anc, node []string
+	var share []float64
+	for r := 1; r <= 12; r++ {
+		rank, anc, node, share = append(rank, int64(r)), append(anc, ""), append(node, "store "+strconv.Itoa(r)), append(share, 1/float64(r+1))
+	}
+	n := len(rank)
+	same := func(v string) []string {
+		out := make([]string, n)
+		for i := range out {
+			out[i] = v
+		}
+		return out
+	}
+	drivers := &tableio.Table{Columns: []tableio.Column{
+		{Name: "method", Type: tableio.String, Strings: same("mint")},
+		{Name: "ancestor_level", Type: tableio.String, Strings: same("total")},
+		{Name: "ancestor", Type: tableio.String, Strings: anc},
+		{Name: "level", Type: tableio.String, Strings: same("region+store")},
+		{Name: "node", Type: tableio.String, Strings: node},
+		{Name: "rank", Type: tableio.Int64, Ints: rank},
+		{Name: "abs_error", Type: tableio.Float64, Floats: share},
+		{Name: "net_error", Type: tableio.Float64, Floats: share},
+		{Name: "share", Type: tableio.Float64, Floats: share},
+	}}
+	for name, tb := range map[string]*tableio.Table{"scores": scores, "drivers": drivers} {
+		if err := tableio.WriteTable(filepath.Join(dir, name+".parquet"), tb, tableio.Parquet); err != nil {
+			t.Fatal(err)
+		}
+	}
+}
+
+// TestAccuracyTablesShownWhenPresent checks that the backtest's tables in
+// a folder are carried into the report (scores over all steps, the ten
+// largest drivers), that none are carried from a folder without them,
+// and that a backtest's folder without forecasts gives a report.
 func TestAccuracyTablesShownWhenPresent(t *testing.T) {
 	res := forecastDemo(t, families.Spec{Family: "drift"})
 	dir := t.TempDir()
-	tb := &tableio.Table{Columns: []tableio.Column{
-		{Name: "level", Type: tableio.String, Strings: []string{"total", "region"}},
-		{Name: "score", Type: tableio.Float64, Floats: []float64{0.5, math.NaN()}},
-	}}
-	if err := tableio.WriteTable(filepath.Join(dir, accuracyTables[0]+".parquet"), tb, tableio.Parquet); err != nil {
-		t.Fatal(err)
-	}
+	accuracyFolder(t, dir)
 	in, err := FromResult(res, dir)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(in.Accuracy) != 1 {
-		t.Fatalf("%d accuracy tables, want 1", len(in.Accuracy))
+	if len(in.Accuracy) != 2 || in.Accuracy[0].Name != "scores" || in.Accuracy[1].Name != "drivers" {
+		t.Fatalf("accuracy tables %+v", in.Accuracy)
 	}
-	a := in.Accuracy[0]
-	if a.Name != accuracyTables[0] || len(a.Rows) != 2 || a.Rows[0][0] != "total" || a.Rows[0][1] != 0.5 || a.Rows[1][1] != nil {
-		t.Fatalf("accuracy table %+v", a)
+	sc, dr := in.Accuracy[0], in.Accuracy[1]
+	if len(sc.Rows) != 6 || sc.Rows[0][0] != nil || sc.Rows[2][0] != "total" || sc.Rows[2][4] != 0.7 || sc.Rows[0][6] != -10.0 {
+		t.Fatalf("scores carried as %v", sc.Rows)
+	}
+	if len(dr.Rows) != 10 || dr.Rows[9][4] != "store 10" {
+		t.Fatalf("drivers carried as %v", dr.Rows)
 	}
 	if none, _ := FromResult(res, t.TempDir()); len(none.Accuracy) != 0 {
 		t.Fatal("accuracy tables from an empty folder")
+	}
+	if err := os.WriteFile(filepath.Join(dir, "run.json"), []byte(`{"command":"backtest","recommendation":{"method":"mint"}}`), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	only, err := FromDir(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var buf bytes.Buffer
+	if err := Render(&buf, only); err != nil {
+		t.Fatalf("a backtest's folder: %v", err)
+	}
+	if !strings.Contains(buf.String(), "trueup backtest report") {
+		t.Fatal("the backtest's report is not titled as such")
 	}
 }

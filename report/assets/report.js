@@ -149,8 +149,9 @@
     fact("Input", el("span", { title: run.input.path }, `${file} (${nf0.format(run.input.rows)} rows, SHA-256 ${String(run.input.sha256 || "").slice(0, 12)}…)`));
   }
   fact("History", counts.first_period ? `${counts.first_period} to ${counts.last_period} (${counts.periods} ${counts.grain || "period"}s)` : undefined);
-  fact("Forecast", `${meta.forecast[0]} to ${meta.forecast[H - 1]} (${H} periods ahead), intervals ${meta.intervals.map(l => l + "%").join(" and ")}`);
-  fact("Structure", `${nf0.format(N)} nodes in ${meta.levels.length} levels: ` + meta.levels.map(l => `${l.name} ${nf0.format(l.nodes.length)}`).join(", "));
+  if (H) fact("Forecast", `${meta.forecast[0]} to ${meta.forecast[H - 1]} (${H} periods ahead), intervals ${meta.intervals.map(l => l + "%").join(" and ")}`);
+  if (N) fact("Structure", `${nf0.format(N)} nodes in ${meta.levels.length} levels: ` + meta.levels.map(l => `${l.name} ${nf0.format(l.nodes.length)}`).join(", "));
+  if (Array.isArray(run.origins) && run.origins.length) fact("Backtest", `${run.origins.length} origins (first forecast periods ${run.origins.map(o => o.first_forecast_period).join(", ")}); methods compared: ${(run.methods || []).join(", ")}`);
   if (run.models) fact("Models chosen", Object.entries(run.models).sort().map(([k, v]) => `${k} ${v}`).join(", ") + (opts.family ? ` (family option: ${opts.family})` : ""));
   if (run.reconcile) {
     const notes = Object.entries(run.reconcile.notes || {}).map(([k, v]) => `${k} ${nf2.format(v)}`).join(", ");
@@ -160,162 +161,254 @@
   }
   if (run.warnings && run.warnings.length) fact("Warnings", el("ul", {}, ...run.warnings.map(w => el("li", { class: "warning" }, w))));
 
-  // The total.
-  const totalLevel = meta.levels.findIndex(l => l.name === "total");
-  const totalNode = meta.levels[totalLevel >= 0 ? totalLevel : 0].nodes[0];
-  document.getElementById("total-title").textContent = `${nodeName(totalNode)}: history and forecast with ${meta.intervals.map(l => l + "%").join(" and ")} intervals`;
-  const totalEl = document.getElementById("total-chart");
-  draw(totalEl, tsOptions(width(totalEl), 340, false), seriesData(totalNode));
-  totalEl.dataset.forecastPoints = String(slice(S.forecast, totalNode, H).filter(v => v != null).length);
+  // Forecast sections: left out for a backtest's folder, which has no forecasts.
+  if (N > 0) {
+    // The total.
+    const totalLevel = meta.levels.findIndex(l => l.name === "total");
+    const totalNode = meta.levels[totalLevel >= 0 ? totalLevel : 0].nodes[0];
+    document.getElementById("total-title").textContent = `${nodeName(totalNode)}: history and forecast with ${meta.intervals.map(l => l + "%").join(" and ")} intervals`;
+    const totalEl = document.getElementById("total-chart");
+    draw(totalEl, tsOptions(width(totalEl), 340, false), seriesData(totalNode));
+    totalEl.dataset.forecastPoints = String(slice(S.forecast, totalNode, H).filter(v => v != null).length);
 
-  // Small multiples: the largest nodes of each level below the total.
-  const TOP = 6;
-  const grids = document.getElementById("level-grids");
-  meta.levels.forEach((lv, l) => {
-    if (lv.nodes.length === 1 && l === (totalLevel >= 0 ? totalLevel : 0)) return;
-    grids.append(el("h3", {}, `${lv.name}: ${nf0.format(lv.nodes.length)} nodes` + (lv.nodes.length > TOP ? ` (largest ${TOP} shown)` : "")));
-    const grid = el("div", { class: "grid" });
-    grids.append(grid);
-    for (const i of lv.nodes.slice(0, TOP)) {
-      const box = el("div", { class: "chart" });
-      grid.append(el("div", { class: "cell" }, el("button", { onclick: () => select(i, true) }, nodeName(i)), box));
-      draw(box, tsOptions(330, 170, true), seriesData(i));
-    }
-    if (lv.nodes.length > TOP) {
-      const pick = el("select", { "aria-label": "all nodes of " + lv.name });
-      pick.append(el("option", { value: "" }, `All ${nf0.format(lv.nodes.length)} nodes of ${lv.name}, largest first…`));
-      const fillOptions = () => { // filled on first use: a level can have tens of thousands of nodes
-        if (pick.options.length > 1) return;
-        const frag = document.createDocumentFragment();
-        for (const i of lv.nodes) frag.append(el("option", { value: i }, nodeName(i)));
-        pick.append(frag);
-      };
-      pick.addEventListener("focus", fillOptions);
-      pick.addEventListener("mousedown", fillOptions);
-      pick.addEventListener("change", () => { if (pick.value !== "") select(+pick.value, true); });
-      grids.append(el("div", { class: "level-more" }, pick));
-    }
-  });
-
-  // Any node.
-  const lowerNames = meta.nodes.map((_, i) => (nodeName(i) + " " + levelName(i)).toLowerCase());
-  const byVolume = meta.nodes.map((_, i) => i).sort((a, b) => meta.nodes[b].volume - meta.nodes[a].volume || a - b);
-  const search = document.getElementById("search"), matches = document.getElementById("matches");
-  let found = [];
-  function find() {
-    const words = search.value.toLowerCase().split(/\s+/).filter(Boolean);
-    found = [];
-    if (words.length) for (const i of byVolume) {
-      if (words.every(w => lowerNames[i].includes(w))) found.push(i);
-      if (found.length === 30) break;
-    }
-    matches.replaceChildren(...found.map((i, k) => el("li", { role: "option", class: k === 0 ? "active" : "", onclick: () => { select(i, false); matches.replaceChildren(); } },
-      nodeName(i) + " ", el("small", {}, levelName(i)))));
-  }
-  search.addEventListener("input", find);
-  search.addEventListener("keydown", e => {
-    if (e.key === "Enter" && found.length) { select(found[0], false); matches.replaceChildren(); }
-  });
-
-  function corrChart(target, name, f, i) {
-    const nres = meta.nodes[i].n_resid;
-    const vals = slice(f, i, K);
-    const k = vals.findIndex(v => v == null);
-    const len = k < 0 ? K : k;
-    target.textContent = "";
-    if (len < 1) { target.append(el("p", { class: "note" }, `No ${name}: too few residuals.`)); return; }
-    const bound = 1.96 / Math.sqrt(nres);
-    const x = Array.from({ length: len }, (_, j) => j + 1);
-    const top = Math.min(1, 1.25 * Math.max(bound, ...vals.slice(0, len).map(Math.abs)));
-    draw(target, {
-      width: width(target), height: 200, title: `${name} of the residuals`, scales: { x: { time: false, range: [0.5, len + 0.5] }, y: { range: [-top, top] } },
-      series: [{ label: "lag" }, { label: name, stroke: color("--forecast"), fill: color("--band80"), paths: uPlot.paths.bars({ size: [0.6, 14] }), points: { show: false }, value: (u, v) => v == null ? "–" : v.toFixed(3) },
-        { label: "±1.96/√n", stroke: color("--alert"), dash: [4, 4], width: 1, points: { show: false }, value: () => bound.toFixed(3) },
-        { label: "", stroke: color("--alert"), dash: [4, 4], width: 1, points: { show: false } }],
-      axes: [{ label: "lag", incrs: [1, 2, 3, 4, 6, 12], grid: { show: false } }, { size: 44, grid: { stroke: "#e6e9ee" } }],
-      hooks: { ready: [u => { const r = u.root.querySelectorAll(".u-legend .u-series"); if (r[3]) r[3].style.display = "none"; }] },
-    }, [x, vals.slice(0, len), x.map(() => bound), x.map(() => -bound)]);
-  }
-
-  function select(i, scroll) {
-    const start = performance.now();
-    const nd = meta.nodes[i];
-    api.selected = i;
-    document.getElementById("node-title").textContent = `${nodeName(i)} (${levelName(i)})`;
-    const chart = document.getElementById("node-chart");
-    draw(chart, tsOptions(width(chart), 320, false), seriesData(i));
-    chart.dataset.node = String(i);
-    const model = document.getElementById("node-model");
-    const rows = [["Model", nd.family ? `${nd.family}: ${nd.spec}` : "none (base forecasts given)"],
-      ["AICc", nd.aicc == null ? "–" : nf2.format(nd.aicc)], ["σ²", nd.sigma2 == null ? "–" : fmt(nd.sigma2)]];
-    let params = null;
-    try { params = nd.params ? JSON.parse(nd.params) : null; } catch (e) { params = null; }
-    const table = el("table", {}, ...rows.map(([k, v]) => el("tr", {}, el("th", {}, k), el("td", {}, v))));
-    if (params && Array.isArray(params.estimates)) {
-      for (const e of params.estimates) table.append(el("tr", {}, el("th", {}, e.name ?? e.Name ?? "estimate"), el("td", { class: "num" }, typeof (e.value ?? e.Value) === "number" ? (e.value ?? e.Value).toPrecision(6) : JSON.stringify(e))));
-    }
-    const nodeBounds = meta.intervals.map((_, l) => bounds(l, i));
-    const fcRows = meta.forecast.map((p, k) => {
-      const cells = [p, fmt(S.base[i * H + k]), fmt(S.forecast[i * H + k])];
-      nodeBounds.forEach(([lo, hi]) => cells.push(`${fmt(lo[k])} – ${fmt(hi[k])}`));
-      return el("tr", {}, ...cells.map((c, j) => el("td", { class: j ? "num" : "" }, c)));
+    // Small multiples: the largest nodes of each level below the total.
+    const TOP = 6;
+    const grids = document.getElementById("level-grids");
+    meta.levels.forEach((lv, l) => {
+      if (lv.nodes.length === 1 && l === (totalLevel >= 0 ? totalLevel : 0)) return;
+      grids.append(el("h3", {}, `${lv.name}: ${nf0.format(lv.nodes.length)} nodes` + (lv.nodes.length > TOP ? ` (largest ${TOP} shown)` : "")));
+      const grid = el("div", { class: "grid" });
+      grids.append(grid);
+      for (const i of lv.nodes.slice(0, TOP)) {
+        const box = el("div", { class: "chart" });
+        grid.append(el("div", { class: "cell" }, el("button", { onclick: () => select(i, true) }, nodeName(i)), box));
+        draw(box, tsOptions(330, 170, true), seriesData(i));
+      }
+      if (lv.nodes.length > TOP) {
+        const pick = el("select", { "aria-label": "all nodes of " + lv.name });
+        pick.append(el("option", { value: "" }, `All ${nf0.format(lv.nodes.length)} nodes of ${lv.name}, largest first…`));
+        const fillOptions = () => { // filled on first use: a level can have tens of thousands of nodes
+          if (pick.options.length > 1) return;
+          const frag = document.createDocumentFragment();
+          for (const i of lv.nodes) frag.append(el("option", { value: i }, nodeName(i)));
+          pick.append(frag);
+        };
+        pick.addEventListener("focus", fillOptions);
+        pick.addEventListener("mousedown", fillOptions);
+        pick.addEventListener("change", () => { if (pick.value !== "") select(+pick.value, true); });
+        grids.append(el("div", { class: "level-more" }, pick));
+      }
     });
-    const head = el("tr", {}, ...["period", "base", "forecast", ...meta.intervals.map(l => l + "% interval")].map((c, j) => el("th", { class: j ? "num" : "" }, c)));
-    model.replaceChildren(el("h3", {}, "Model"), table,
-      ...(nd.warning ? [el("p", { class: "warning" }, "Warning: " + nd.warning)] : []),
-      ...(params ? [el("details", {}, el("summary", {}, "All parameters (JSON)"), el("pre", { class: "scroll" }, JSON.stringify(params, null, 1)))] : []));
-    const check = model;
-    document.getElementById("node-check").replaceChildren(el("h3", {}, "Forecasts"), el("div", { class: "scroll" }, el("table", {}, head, ...fcRows)));
-    check.append(el("h3", {}, "Ljung–Box test of the residuals"));
-    if (nd.lb_p == null) check.append(el("p", { class: "note" }, "Not run: too few residuals."));
-    else {
-      const pass = nd.lb_p >= meta.fail_p;
-      check.append(el("p", {}, `Q = ${nd.lb_q.toFixed(2)} on ${nd.lb_lags} lags, p-value ${nd.lb_p < 1e-4 ? nd.lb_p.toExponential(2) : nd.lb_p.toFixed(4)}: `,
-        el("span", { class: pass ? "pass" : "fail" }, pass ? "no autocorrelation left at the 5% level" : "autocorrelation left in the residuals at the 5% level")),
-      el("p", { class: "note" }, `A failing test means the model missed a pattern; its intervals may be too narrow. Bars beyond the dashed lines (±1.96/√n, n = ${nd.n_resid} residuals) show where.`));
+
+    // Any node.
+    const lowerNames = meta.nodes.map((_, i) => (nodeName(i) + " " + levelName(i)).toLowerCase());
+    const byVolume = meta.nodes.map((_, i) => i).sort((a, b) => meta.nodes[b].volume - meta.nodes[a].volume || a - b);
+    const search = document.getElementById("search"), matches = document.getElementById("matches");
+    let found = [];
+    function find() {
+      const words = search.value.toLowerCase().split(/\s+/).filter(Boolean);
+      found = [];
+      if (words.length) for (const i of byVolume) {
+        if (words.every(w => lowerNames[i].includes(w))) found.push(i);
+        if (found.length === 30) break;
+      }
+      matches.replaceChildren(...found.map((i, k) => el("li", { role: "option", class: k === 0 ? "active" : "", onclick: () => { select(i, false); matches.replaceChildren(); } },
+        nodeName(i) + " ", el("small", {}, levelName(i)))));
     }
-    corrChart(document.getElementById("node-acf"), "ACF", S.acf, i);
-    corrChart(document.getElementById("node-pacf"), "PACF", S.pacf, i);
-    if (scroll) document.getElementById("explorer").scrollIntoView();
-    api.timings.select = performance.now() - start;
-  }
-  api.select = select;
-  api.nodeName = nodeName;
-  api.nodeCount = N;
+    search.addEventListener("input", find);
+    search.addEventListener("keydown", e => {
+      if (e.key === "Enter" && found.length) { select(found[0], false); matches.replaceChildren(); }
+    });
 
-  // Residual checks.
-  const failing = document.getElementById("failing");
-  if (!K) failing.append(el("p", { class: "note" }, "No residuals in this run's tables, so no checks."));
-  else {
-    failing.append(el("p", {}, `${nf0.format(meta.failing.length)} of ${nf0.format(N)} nodes have residuals that fail the Ljung–Box test at the 5% level` + (meta.failing.length > 200 ? " (the 200 with the smallest p-values are listed)." : ".")));
-    if (meta.failing.length) failing.append(el("div", { class: "scroll" }, el("table", {},
-      el("tr", {}, el("th", {}, "node"), el("th", {}, "level"), el("th", {}, "model"), el("th", { class: "num" }, "Q"), el("th", { class: "num" }, "lags"), el("th", { class: "num" }, "p-value")),
-      ...meta.failing.slice(0, 200).map(i => { const nd = meta.nodes[i]; return el("tr", {},
-        el("td", {}, el("button", { class: "node-link", onclick: () => select(i, true) }, nodeName(i))), el("td", {}, levelName(i)), el("td", {}, nd.spec || nd.family || ""),
-        el("td", { class: "num" }, nd.lb_q.toFixed(2)), el("td", { class: "num" }, nd.lb_lags), el("td", { class: "num" }, nd.lb_p.toExponential(2))); }))));
+    function corrChart(target, name, f, i) {
+      const nres = meta.nodes[i].n_resid;
+      const vals = slice(f, i, K);
+      const k = vals.findIndex(v => v == null);
+      const len = k < 0 ? K : k;
+      target.textContent = "";
+      if (len < 1) { target.append(el("p", { class: "note" }, `No ${name}: too few residuals.`)); return; }
+      const bound = 1.96 / Math.sqrt(nres);
+      const x = Array.from({ length: len }, (_, j) => j + 1);
+      const top = Math.min(1, 1.25 * Math.max(bound, ...vals.slice(0, len).map(Math.abs)));
+      draw(target, {
+        width: width(target), height: 200, title: `${name} of the residuals`, scales: { x: { time: false, range: [0.5, len + 0.5] }, y: { range: [-top, top] } },
+        series: [{ label: "lag" }, { label: name, stroke: color("--forecast"), fill: color("--band80"), paths: uPlot.paths.bars({ size: [0.6, 14] }), points: { show: false }, value: (u, v) => v == null ? "–" : v.toFixed(3) },
+          { label: "±1.96/√n", stroke: color("--alert"), dash: [4, 4], width: 1, points: { show: false }, value: () => bound.toFixed(3) },
+          { label: "", stroke: color("--alert"), dash: [4, 4], width: 1, points: { show: false } }],
+        axes: [{ label: "lag", incrs: [1, 2, 3, 4, 6, 12], grid: { show: false } }, { size: 44, grid: { stroke: "#e6e9ee" } }],
+        hooks: { ready: [u => { const r = u.root.querySelectorAll(".u-legend .u-series"); if (r[3]) r[3].style.display = "none"; }] },
+      }, [x, vals.slice(0, len), x.map(() => bound), x.map(() => -bound)]);
+    }
+
+    function select(i, scroll) {
+      const start = performance.now();
+      const nd = meta.nodes[i];
+      api.selected = i;
+      document.getElementById("node-title").textContent = `${nodeName(i)} (${levelName(i)})`;
+      const chart = document.getElementById("node-chart");
+      draw(chart, tsOptions(width(chart), 320, false), seriesData(i));
+      chart.dataset.node = String(i);
+      const model = document.getElementById("node-model");
+      const rows = [["Model", nd.family ? `${nd.family}: ${nd.spec}` : "none (base forecasts given)"],
+        ["AICc", nd.aicc == null ? "–" : nf2.format(nd.aicc)], ["σ²", nd.sigma2 == null ? "–" : fmt(nd.sigma2)]];
+      let params = null;
+      try { params = nd.params ? JSON.parse(nd.params) : null; } catch (e) { params = null; }
+      const table = el("table", {}, ...rows.map(([k, v]) => el("tr", {}, el("th", {}, k), el("td", {}, v))));
+      if (params && Array.isArray(params.estimates)) {
+        for (const e of params.estimates) table.append(el("tr", {}, el("th", {}, e.name ?? e.Name ?? "estimate"), el("td", { class: "num" }, typeof (e.value ?? e.Value) === "number" ? (e.value ?? e.Value).toPrecision(6) : JSON.stringify(e))));
+      }
+      const nodeBounds = meta.intervals.map((_, l) => bounds(l, i));
+      const fcRows = meta.forecast.map((p, k) => {
+        const cells = [p, fmt(S.base[i * H + k]), fmt(S.forecast[i * H + k])];
+        nodeBounds.forEach(([lo, hi]) => cells.push(`${fmt(lo[k])} – ${fmt(hi[k])}`));
+        return el("tr", {}, ...cells.map((c, j) => el("td", { class: j ? "num" : "" }, c)));
+      });
+      const head = el("tr", {}, ...["period", "base", "forecast", ...meta.intervals.map(l => l + "% interval")].map((c, j) => el("th", { class: j ? "num" : "" }, c)));
+      model.replaceChildren(el("h3", {}, "Model"), table,
+        ...(nd.warning ? [el("p", { class: "warning" }, "Warning: " + nd.warning)] : []),
+        ...(params ? [el("details", {}, el("summary", {}, "All parameters (JSON)"), el("pre", { class: "scroll" }, JSON.stringify(params, null, 1)))] : []));
+      const check = model;
+      document.getElementById("node-check").replaceChildren(el("h3", {}, "Forecasts"), el("div", { class: "scroll" }, el("table", {}, head, ...fcRows)));
+      check.append(el("h3", {}, "Ljung–Box test of the residuals"));
+      if (nd.lb_p == null) check.append(el("p", { class: "note" }, "Not run: too few residuals."));
+      else {
+        const pass = nd.lb_p >= meta.fail_p;
+        check.append(el("p", {}, `Q = ${nd.lb_q.toFixed(2)} on ${nd.lb_lags} lags, p-value ${nd.lb_p < 1e-4 ? nd.lb_p.toExponential(2) : nd.lb_p.toFixed(4)}: `,
+          el("span", { class: pass ? "pass" : "fail" }, pass ? "no autocorrelation left at the 5% level" : "autocorrelation left in the residuals at the 5% level")),
+        el("p", { class: "note" }, `A failing test means the model missed a pattern; its intervals may be too narrow. Bars beyond the dashed lines (±1.96/√n, n = ${nd.n_resid} residuals) show where.`));
+      }
+      corrChart(document.getElementById("node-acf"), "ACF", S.acf, i);
+      corrChart(document.getElementById("node-pacf"), "PACF", S.pacf, i);
+      if (scroll) document.getElementById("explorer").scrollIntoView();
+      api.timings.select = performance.now() - start;
+    }
+    api.select = select;
+    api.nodeName = nodeName;
+    api.nodeCount = N;
+
+    // Residual checks.
+    const failing = document.getElementById("failing");
+    if (!K) failing.append(el("p", { class: "note" }, "No residuals in this run's tables, so no checks."));
+    else {
+      failing.append(el("p", {}, `${nf0.format(meta.failing.length)} of ${nf0.format(N)} nodes have residuals that fail the Ljung–Box test at the 5% level` + (meta.failing.length > 200 ? " (the 200 with the smallest p-values are listed)." : ".")));
+      if (meta.failing.length) failing.append(el("div", { class: "scroll" }, el("table", {},
+        el("tr", {}, el("th", {}, "node"), el("th", {}, "level"), el("th", {}, "model"), el("th", { class: "num" }, "Q"), el("th", { class: "num" }, "lags"), el("th", { class: "num" }, "p-value")),
+        ...meta.failing.slice(0, 200).map(i => { const nd = meta.nodes[i]; return el("tr", {},
+          el("td", {}, el("button", { class: "node-link", onclick: () => select(i, true) }, nodeName(i))), el("td", {}, levelName(i)), el("td", {}, nd.spec || nd.family || ""),
+          el("td", { class: "num" }, nd.lb_q.toFixed(2)), el("td", { class: "num" }, nd.lb_lags), el("td", { class: "num" }, nd.lb_p.toExponential(2))); }))));
+    }
+
+    select(totalNode, false);
+    // A link may name a node: report.html#node=Thornvale opens the largest
+    // node whose name and level contain those words.
+    const wanted = decodeURIComponent((location.hash.match(/^#node=(.+)$/) || [])[1] || "");
+    if (wanted) { search.value = wanted; find(); if (found.length) select(found[0], true); matches.replaceChildren(); }
+  } else {
+    for (const id of ["total", "levels", "explorer", "diagnostics"]) document.getElementById(id).hidden = true;
   }
 
-  // Accuracy: the backtest's tables, each as a table and a bar chart of
-  // its last numeric column by its text columns.
+  // Accuracy: the backtest's scores and drivers (see accuracy.go) and its
+  // recommendation from run.json.
+  const acc = Object.fromEntries((meta.accuracy || []).map(tb => [tb.name, tb]));
   if (meta.accuracy && meta.accuracy.length) {
     document.getElementById("accuracy").hidden = false;
     const box = document.getElementById("accuracy-tables");
-    for (const tb of meta.accuracy) {
-      box.append(el("h3", {}, tb.name));
-      const num = tb.columns.map((_, j) => tb.rows.length > 0 && tb.rows.every(r => r[j] == null || typeof r[j] === "number"));
-      box.append(el("div", { class: "scroll" }, el("table", {}, el("tr", {}, ...tb.columns.map((c, j) => el("th", { class: num[j] ? "num" : "" }, c))),
-        ...tb.rows.slice(0, 200).map(r => el("tr", {}, ...r.map((v, j) => el("td", { class: num[j] ? "num" : "" }, v == null ? "" : typeof v === "number" ? nf2.format(v) : v)))))));
-      const vj = num.lastIndexOf(true), textCols = tb.columns.map((_, j) => j).filter(j => !num[j]);
-      if (vj < 0 || !textCols.length) continue;
-      const rows = tb.rows.filter(r => r[vj] != null).slice(0, 40);
-      const names = rows.map(r => textCols.map(j => r[j]).filter(v => v != null && v !== "").join(" · "));
-      const target = el("div", { class: "chart" });
-      box.append(target);
+    const records = tb => tb.rows.map(r => Object.fromEntries(tb.columns.map((c, j) => [c, r[j]])));
+    const num = v => v == null ? "–" : nf2.format(v);
+    const pct = v => v == null ? "–" : nf0.format(100 * v) + "%";
+    const htmlTable = (head, rows) => el("div", { class: "scroll" }, el("table", {},
+      el("tr", {}, ...head.map((h, j) => el("th", { class: j ? "num" : "" }, h))),
+      ...rows.map(r => el("tr", {}, ...r.map((v, j) => el("td", { class: j ? "num" : "" }, v))))));
+    const short14 = s => s.length > 16 ? s.slice(0, 15) + "…" : s;
+    // dotChart draws one dot per category and series (no lines), with
+    // optional dashed reference lines.
+    function dotChart(target, title, catLabel, cats, series, yLabel, refs, yfmt) {
+      const palette = [color("--forecast"), color("--base"), color("--history"), "#5b3f9e", "#2f6db3", "#8a1c1c", "#6b6b00"];
+      const x = cats.map((_, k) => k);
+      const opts = {
+        width: width(target), height: 260, title, scales: { x: { time: false, range: [-0.5, cats.length - 0.5] } },
+        series: [{ label: catLabel, value: (u, k) => k == null ? "–" : cats[k] }],
+        axes: [{ values: (u, sp) => sp.map(k => Number.isInteger(k) ? short14(String(cats[k] ?? "")) : ""), incrs: [1], grid: { show: false }, size: 50 },
+          { values: (u, sp) => sp.map(yfmt), size: 60, label: yLabel, grid: { stroke: "#e6e9ee" } }],
+      };
+      const data = [x];
+      series.forEach((sr, j) => {
+        opts.series.push({ label: sr.label, stroke: palette[j % palette.length], width: 0, paths: () => null,
+          points: { show: true, size: 9, fill: palette[j % palette.length] }, value: (u, v) => v == null ? "–" : yfmt(v) });
+        data.push(sr.values);
+      });
+      for (const r of refs || []) {
+        opts.series.push({ label: r.label, stroke: color("--alert"), dash: [4, 4], width: 1, points: { show: false }, value: () => yfmt(r.value) });
+        data.push(x.map(() => r.value));
+      }
+      draw(target, opts, data);
+    }
+    function barChart(target, title, names, values, yLabel, yfmt) {
       draw(target, {
-        width: width(box), height: 240, title: `${tb.columns[vj]} by ${textCols.map(j => tb.columns[j]).join(", ")}`, scales: { x: { time: false, range: [-0.5, rows.length - 0.5] } },
-        series: [{ label: "row", value: (u, k) => names[k] ?? "" }, { label: tb.columns[vj], stroke: color("--forecast"), fill: color("--band80"), paths: uPlot.paths.bars({ size: [0.7, 40] }), points: { show: false }, value: (u, v) => v == null ? "–" : nf2.format(v) }],
-        axes: [{ values: (u, s) => s.map(k => names[k] ?? ""), incrs: [1, 2, 5, 10], grid: { show: false } }, { values: (u, s) => s.map(short), size: 60, label: tb.columns[vj] }],
-      }, [rows.map((_, k) => k), rows.map(r => r[vj])]);
+        width: width(target), height: 260, title, scales: { x: { time: false, range: [-0.5, names.length - 0.5] }, y: { range: (u, lo, hi) => [Math.min(0, lo), Math.max(0, hi) * 1.1 || 1] } },
+        series: [{ label: "node", value: (u, k) => k == null ? "–" : names[k] },
+          { label: yLabel, stroke: color("--forecast"), fill: color("--band80"), paths: uPlot.paths.bars({ size: [0.7, 60] }), points: { show: false }, value: (u, v) => v == null ? "–" : yfmt(v) }],
+        axes: [{ values: (u, sp) => sp.map(k => Number.isInteger(k) ? short14(String(names[k] ?? "")) : ""), incrs: [1], grid: { show: false }, size: 50 },
+          { values: (u, sp) => sp.map(yfmt), size: 60, label: yLabel, grid: { stroke: "#e6e9ee" } }],
+      }, [names.map((_, k) => k), values]);
+    }
+    const rec = run.recommendation;
+    if (rec && rec.method) {
+      box.append(el("p", { class: "caution" }, el("strong", {}, `Recommended reconciliation: ${rec.method}. `),
+        `Headline MASE ${num(rec.mase)}` + (rec.runner_up ? `, ${num(rec.margin_percent)}% below ${rec.runner_up}` : "") +
+        (Number.isFinite(rec.versus_base_percent) ? `, ${num(rec.versus_base_percent)}% better than the base forecasts` : "") + ". " + (rec.reason || "")));
+    }
+    if (acc.scores) {
+      const sc = records(acc.scores);
+      const methods = [...new Set(sc.map(r => r.method))];
+      const head = sc.filter(r => r.level == null), byLevel = sc.filter(r => r.level != null);
+      const levels = [...new Set(byLevel.map(r => r.level))];
+      const covCols = acc.scores.columns.filter(c => /^coverage_/.test(c));
+      box.append(el("h3", {}, "Scores by method (mean over levels)"),
+        htmlTable(["method", "MASE", "RMSSE", "bias", ...covCols.map(c => `${c.slice(9)}% interval coverage`)],
+          head.map(r => [r.method, num(r.mase), num(r.rmsse), num(r.bias), ...covCols.map(c => pct(r[c]))])));
+      const at = (lv, m, col) => { const r = byLevel.find(r => r.level === lv && r.method === m); return r ? r[col] ?? null : null; };
+      if (levels.length) {
+        const t1 = el("div", { class: "chart" });
+        box.append(el("h3", {}, "MASE by level and method (lower is better)"), t1);
+        dotChart(t1, "MASE over all steps and origins", "level", levels, methods.map(m => ({ label: m, values: levels.map(lv => at(lv, m, "mase")) })), "MASE", [{ label: "seasonal naive (1)", value: 1 }], v => nf2.format(v));
+      }
+      if (covCols.length && head.length) {
+        const t2 = el("div", { class: "chart" });
+        box.append(el("h3", {}, "Interval coverage against its nominal level"),
+          el("p", { class: "note" }, "The share of actual values inside each interval; a dot below its dashed line means the intervals were too narrow."), t2);
+        dotChart(t2, "coverage (mean over levels)", "method", head.map(r => r.method),
+          covCols.map(c => ({ label: c.slice(9) + "% interval", values: head.map(r => r[c] ?? null) })), "coverage",
+          covCols.map(c => ({ label: `nominal ${c.slice(9)}%`, value: +c.slice(9) / 100 })), v => nf0.format(100 * v) + "%");
+      }
+    }
+    if (acc.drivers) {
+      const dr = records(acc.drivers);
+      const method = rec && rec.method && dr.some(r => r.method === rec.method) ? rec.method : (dr[0] || {}).method;
+      const groups = new Map();
+      for (const r of dr.filter(r => r.method === method)) {
+        const key = `${r.ancestor_level}\u0000${r.ancestor}\u0000${r.level}`;
+        if (!groups.has(key)) groups.set(key, []);
+        groups.get(key).push(r);
+      }
+      const label = g => (g[0].ancestor_level === "total" ? "the total" : `${g[0].ancestor} (${g[0].ancestor_level})`) + ` by ${g[0].level}`;
+      const chartOf = (target, g) => { g.sort((a, b) => a.rank - b.rank); barChart(target, `Drivers of the error of ${label(g)}`, g.map(r => r.node), g.map(r => r.share), "share of absolute error", v => nf0.format(100 * v) + "%"); };
+      box.append(el("h3", {}, `Drivers of the error (${method})`),
+        el("p", { class: "note" }, "The nodes whose errors make up most of an aggregate's absolute error over the backtest, largest first."));
+      const all = [...groups.values()];
+      const totals = all.filter(g => g[0].ancestor_level === "total");
+      for (const g of totals) { const t = el("div", { class: "chart" }); box.append(t); chartOf(t, g); }
+      const others = all.filter(g => g[0].ancestor_level !== "total");
+      if (others.length) {
+        const pick = el("select", { "aria-label": "drivers of another aggregate" }, el("option", { value: "" }, `Drivers of another aggregate (${others.length})…`),
+          ...others.map((g, k) => el("option", { value: k }, label(g))));
+        const t = el("div", { class: "chart" });
+        pick.addEventListener("change", () => { if (pick.value !== "") chartOf(t, others[+pick.value]); });
+        box.append(el("div", { class: "level-more" }, pick), t);
+      }
+    }
+    for (const tb of meta.accuracy.filter(tb => tb.name !== "scores" && tb.name !== "drivers")) {
+      box.append(el("h3", {}, tb.name), htmlTable(tb.columns, tb.rows.slice(0, 200).map(r => r.map(v => v == null ? "" : typeof v === "number" ? nf2.format(v) : v))));
     }
   }
 
@@ -323,12 +416,7 @@
   window.addEventListener("beforeprint", () => resize(680));
   window.addEventListener("afterprint", () => resize());
 
-  select(totalNode, false);
   document.getElementById("loading").remove();
-  // A link may name a node: report.html#node=Thornvale opens the largest
-  // node whose name and level contain those words.
-  const wanted = decodeURIComponent((location.hash.match(/^#node=(.+)$/) || [])[1] || "");
-  if (wanted) { search.value = wanted; find(); if (found.length) select(found[0], true); matches.replaceChildren(); }
   await new Promise(r => requestAnimationFrame(() => r()));
   api.timings.firstView = performance.now() - t0;
   api.timings.sinceNavigation = performance.now();
