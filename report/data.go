@@ -58,7 +58,7 @@ type Level struct {
 type Node struct {
 	Level   int      `json:"level"`
 	Key     []string `json:"key"`
-	Volume  float64  `json:"volume"` // sum of its history
+	Volume  float64  `json:"volume"` // sum of its history, or of its forecasts without a history table
 	Family  string   `json:"family,omitempty"`
 	Spec    string   `json:"spec,omitempty"`
 	Params  string   `json:"params,omitempty"` // JSON text, as in the models table
@@ -303,6 +303,15 @@ func build(in *Input) (*Data, error) {
 			s.History[i*T+at[r]] = float32(v)
 			if !math.IsNaN(v) {
 				m.Nodes[i].Volume += v
+			}
+		}
+	}
+	if in.Tables["history"] == nil {
+		for i := range m.Nodes {
+			for _, v := range s.Forecast[i*h : (i+1)*h] {
+				if !math.IsNaN(float64(v)) {
+					m.Nodes[i].Volume += float64(v)
+				}
 			}
 		}
 	}

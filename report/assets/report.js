@@ -146,7 +146,8 @@
   fact("Command", run.command ? "trueup " + run.command : undefined);
   if (run.input) {
     const file = String(run.input.path || "").split(/[\\/]/).pop();
-    fact("Input", el("span", { title: run.input.path }, `${file} (${nf0.format(run.input.rows)} rows, SHA-256 ${String(run.input.sha256 || "").slice(0, 12)}…)`));
+    const sha = run.input.sha256 ? `, SHA-256 ${String(run.input.sha256).slice(0, 12)}…` : "";
+    fact("Input", el("span", { title: run.input.path }, `${file} (${nf0.format(run.input.rows)} rows${sha})`));
   }
   fact("History", counts.first_period ? `${counts.first_period} to ${counts.last_period} (${counts.periods} ${counts.grain || "period"}s)` : undefined);
   if (H) fact("Forecast", `${meta.forecast[0]} to ${meta.forecast[H - 1]} (${H} periods ahead), intervals ${meta.intervals.map(l => l + "%").join(" and ")}`);
@@ -155,8 +156,15 @@
   if (run.models) fact("Models chosen", Object.entries(run.models).sort().map(([k, v]) => `${k} ${v}`).join(", ") + (opts.family ? ` (family option: ${opts.family})` : ""));
   if (run.reconcile) {
     const notes = Object.entries(run.reconcile.notes || {}).map(([k, v]) => `${k} ${nf2.format(v)}`).join(", ");
-    const why = run.reconcile.method === "mint" ? "MinT combines every level's forecast, weighting each by how reliable its errors have been, so that totals equal the sum of their parts" :
-      "the method named in the run's options";
+    const whys = {
+      "mint": "MinT combines every level's forecast, weighting each by how reliable its errors have been, so that totals equal the sum of their parts",
+      "bottom-up": "the forecasts of the finest level are added up, so every total is the sum of its parts",
+      "top-down-hist": "the total's forecast is split down by each node's share of the history",
+      "top-down-avg": "the total's forecast is split down by each node's average share of the history",
+      "top-down-fcst": "the total's forecast is split down by each node's share of the forecasts",
+      "middle-out": "one level's forecasts are added up above it and split down below it",
+    };
+    const why = whys[run.reconcile.method] || "the method named in the run's options";
     fact("Reconciliation", `${run.reconcile.method}${opts.cov ? " (covariance " + opts.cov + ")" : ""}${opts.nonnegative ? ", non-negative" : ""}: ${why}${notes ? "; " + notes : ""}`);
   }
   if (run.warnings && run.warnings.length) fact("Warnings", el("ul", {}, ...run.warnings.map(w => el("li", { class: "warning" }, w))));
