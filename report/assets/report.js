@@ -224,8 +224,18 @@
         nodeName(i) + " ", el("small", {}, levelName(i)))));
     }
     search.addEventListener("input", find);
+    let active = 0; // the highlighted match: arrow keys move it, Enter opens it
+    const highlight = k => {
+      active = Math.max(0, Math.min(found.length - 1, k));
+      matches.querySelectorAll("li").forEach((li, j) => li.classList.toggle("active", j === active));
+      const li = matches.children[active];
+      if (li) li.scrollIntoView({ block: "nearest" });
+    };
+    search.addEventListener("input", () => { active = 0; });
     search.addEventListener("keydown", e => {
-      if (e.key === "Enter" && found.length) { select(found[0], false); matches.replaceChildren(); }
+      if (e.key === "ArrowDown" || e.key === "ArrowUp") { e.preventDefault(); highlight(active + (e.key === "ArrowDown" ? 1 : -1)); }
+      if (e.key === "Enter" && found.length) { select(found[active] ?? found[0], false); matches.replaceChildren(); }
+      if (e.key === "Escape") matches.replaceChildren();
     });
 
     function corrChart(target, name, f, i) {
