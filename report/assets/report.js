@@ -112,10 +112,11 @@
       { label: "reconciled forecast", stroke: color("--forecast"), width: 2, value: (u, v) => fmt(v) }];
     const bands = [];
     for (let l = meta.intervals.length - 1; l >= 0; l--) {
-      const fill = l === meta.intervals.length - 1 && meta.intervals.length > 1 ? color("--band95") : color("--band80");
+      const wide = l === meta.intervals.length - 1 && meta.intervals.length > 1;
+      const fill = color(wide ? "--band95" : "--band80"), edge = color(wide ? "--band95-edge" : "--band80-edge");
       const at = series.length;
-      series.push({ label: meta.intervals[l] + "% interval", stroke: fill, width: 1, value: (u, v) => fmt(v) },
-        { label: meta.intervals[l] + "% lower", stroke: fill, width: 1, value: (u, v) => fmt(v) });
+      series.push({ label: meta.intervals[l] + "% interval", stroke: edge, width: 1, points: { show: false }, value: (u, v) => fmt(v) },
+        { label: meta.intervals[l] + "% lower", stroke: edge, width: 1, points: { show: false }, value: (u, v) => fmt(v) });
       bands.push({ series: [at, at + 1], fill });
     }
     return {
