@@ -177,6 +177,6 @@ func (nf *NodeFit) ResidualCheck(m int) ResidualCheck {
 		return ResidualCheck{Statistic: math.NaN(), PValue: math.NaN()}
 	}
 	h := numeric.LjungBoxLags(len(x), m)
-	q, p := numeric.LjungBox(numeric.ACF(make([]float64, h), x), len(x), 0)
+	q, p := numeric.LjungBox(numeric.ACF(x, h)[1:], len(x), 0)
 	return ResidualCheck{Lags: h, Statistic: q, PValue: p}
 }

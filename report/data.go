@@ -475,7 +475,7 @@ func addCorrelograms(d *Data, t *tableio.Table, attrs []string, idx nodeIndex) e
 		if k < 1 {
 			continue
 		}
-		numeric.ACF(acf[:k], x)
+		copy(acf, numeric.ACF(x, k)[1:])
 		numeric.PACF(pacf[:k], acf[:k], work[:2*k])
 		for j := 0; j < k; j++ {
 			d.Series.ACF[i*K+j], d.Series.PACF[i*K+j] = float32(acf[j]), float32(pacf[j])

@@ -6,40 +6,6 @@ import (
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
-// ACF writes the sample autocorrelations r_1..r_len(dst) of x into dst and
-// returns it: r_k = Σ_{t=k}^{n−1} (x_t − x̄)(x_{t−k} − x̄) / Σ_t (x_t − x̄)²,
-// the usual biased estimator (Box, Jenkins & Reinsel, Time Series
-// Analysis, 4th ed., §2.1.5). A constant series has no autocorrelation:
-// dst is filled with zeros. len(dst) must be less than len(x).
-func ACF(dst, x []float64) []float64 {
-	n := len(x)
-	if len(dst) >= n {
-		panic("numeric: ACF needs fewer lags than observations")
-	}
-	mean := 0.0
-	for _, v := range x {
-		mean += v
-	}
-	mean /= float64(n)
-	c0 := 0.0
-	for _, v := range x {
-		c0 += (v - mean) * (v - mean)
-	}
-	for k := range dst {
-		dst[k] = 0
-		if c0 == 0 {
-			continue
-		}
-		lag := k + 1
-		s := 0.0
-		for t := lag; t < n; t++ {
-			s += (x[t] - mean) * (x[t-lag] - mean)
-		}
-		dst[k] = s / c0
-	}
-	return dst
-}
-
 // PACF writes the partial autocorrelations φ_11..φ_pp of a series whose
 // autocorrelations r_1..r_p are in acf into dst, by the Durbin–Levinson
 // recursion (Durbin 1960, Rev. Int. Stat. Inst. 28(3)). work must have

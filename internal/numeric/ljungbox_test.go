@@ -46,7 +46,7 @@ func TestLjungBoxAgainstStatsmodels(t *testing.T) {
 			}
 			x = x[:len(x)-1]
 		}
-		acf := ACF(make([]float64, c.Lags), x)
+		acf := ACF(x, c.Lags)[1:]
 		pacf := PACF(make([]float64, c.Lags), acf, make([]float64, 2*c.Lags))
 		for k := range acf {
 			if math.Abs(acf[k]-c.ACF[k]) > 1e-6 || math.Abs(pacf[k]-c.PACF[k]) > 1e-6 {
