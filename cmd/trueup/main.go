@@ -52,6 +52,7 @@ var optionFlags = map[string]string{
 	"Constant": "--constant", "Method": "--method", "Cov": "--cov", "At": "--at",
 	"Nonnegative": "--nonnegative", "Paths": "--paths", "History": "--history",
 	"Formats": "--format", "Out": "--out", "SumDuplicates": "--sum-duplicates", "Grain": "--grain",
+	"From": "--from",
 }
 
 // run executes the command line and maps errors to exit statuses: input and
