@@ -22,8 +22,17 @@ type RunReport struct {
 	// run.json is the one output that is not byte-identical across runs.
 	Timings  map[string]float64 `json:"timings_seconds"`
 	Warnings []string           `json:"warnings"`
-	// Files lists the files written, filled in by the writer.
-	Files []string `json:"files"`
+	// Files lists the files of the output set (run.json aside), filled in
+	// by the writer, each with its SHA-256 so that a reader can check that
+	// what it read belongs to this run.
+	Files []FileRecord `json:"files"`
+}
+
+// FileRecord names one file of an output set, relative to the output
+// folder, with the hex SHA-256 of its bytes.
+type FileRecord struct {
+	Name   string `json:"name"`
+	SHA256 string `json:"sha256"`
 }
 
 // InputReport identifies the input file.

@@ -8,6 +8,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"trueup/engine"
+	"trueup/engine/output"
 	"trueup/fixtures"
 	"trueup/tableio"
 )
@@ -25,6 +26,9 @@ can be repeated with "trueup forecast".`,
   trueup demo --out /tmp/demo --format parquet,csv --horizon 6`,
 		Args: noArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
+			if err := output.Check(rf.out); err != nil {
+				return err
+			}
 			if err := os.MkdirAll(rf.out, 0o755); err != nil {
 				return err
 			}

@@ -40,6 +40,9 @@ into a plan.`,
 			if err != nil {
 				return err
 			}
+			if err := output.Check(rf.out); err != nil {
+				return err
+			}
 			return runForecast(cmd, src, &rf)
 		},
 	}

@@ -9,8 +9,10 @@ import (
 	"os"
 	"os/signal"
 	"strings"
+	"sync"
 	"syscall"
 
+	"trueup/engine/output"
 	"trueup/inputerr"
 	"trueup/tableio"
 )
@@ -23,25 +25,44 @@ const (
 )
 
 func main() {
-	go removeTempsOnInterrupt()
-	os.Exit(run(os.Args[1:]))
+	go exitOnSignal()
+	code := run(os.Args[1:])
+	exitMu.Lock() // a signal being handled keeps it: that exit wins
+	os.Exit(code)
 }
 
-// removeTempsOnInterrupt waits for Ctrl-C or a termination signal, removes
-// the temporary files of writes in progress and exits with the shell's
-// status for the signal. Results are renamed into place only when complete,
-// so an interrupted run leaves the finished files and no partial one.
-func removeTempsOnInterrupt() {
+// exitMu is taken by whichever of the run and the signal handler exits
+// first, so an interrupted run exits with the signal's status, never with
+// the error its interrupted write ran into.
+var exitMu sync.Mutex
+
+// signalStatus is the shell's exit status for each signal handled:
+// 128 + the signal number.
+var signalStatus = map[os.Signal]int{syscall.SIGHUP: 129, syscall.SIGINT: 130, syscall.SIGTERM: 143}
+
+// exitOnSignal waits for SIGINT, SIGTERM or SIGHUP, stops the output set in
+// progress (its staging folder is removed, the output folder is left as it
+// was) and temporary files, says what state the output is in and exits
+// with the signal's status.
+func exitOnSignal() {
 	sig := make(chan os.Signal, 1)
-	signal.Notify(sig, os.Interrupt, syscall.SIGTERM)
+	signal.Notify(sig, syscall.SIGHUP, syscall.SIGINT, syscall.SIGTERM)
 	s := <-sig
+	exitMu.Lock()
+	done := output.Interrupt()
 	tableio.RemovePending()
-	fmt.Fprintln(os.Stderr, "trueup: interrupted; no partial files left")
-	code := 130
-	if s == syscall.SIGTERM {
-		code = 143
+	fmt.Fprintln(os.Stderr, interruptMessage(s, done))
+	os.Exit(signalStatus[s])
+}
+
+// interruptMessage is the one line printed on a signal: which signal, and
+// the state of the output folders.
+func interruptMessage(s os.Signal, done []string) string {
+	name := map[os.Signal]string{syscall.SIGHUP: "SIGHUP", syscall.SIGINT: "SIGINT", syscall.SIGTERM: "SIGTERM"}[s]
+	if len(done) == 0 {
+		return "trueup: stopped by " + name + "; no output folder was changed"
 	}
-	os.Exit(code)
+	return "trueup: stopped by " + name + " after the new results were complete in " + strings.Join(done, ", ")
 }
 
 // optionFlags maps the library's option names, which input errors carry,

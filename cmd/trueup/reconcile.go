@@ -70,6 +70,9 @@ into a plan.`,
 			if err != nil {
 				return err
 			}
+			if err := output.Check(of.out); err != nil {
+				return err
+			}
 			chains, err := hierarchy.ParseNest(nest)
 			if err != nil {
 				return err

@@ -4,14 +4,15 @@
 // writer (an HTML report, say) registers itself from its own package, so
 // that a command needs no edit to gain a format.
 //
-// Every file is written atomically (a temporary file renamed into place),
-// and run.json, which lists the files, is written last.
+// A run's files form one output set, replaced together or not at all: they
+// are written into a staging folder beside the output folder, run.json
+// (which lists them with their SHA-256) last, and the staging folder is
+// then swapped with the output folder in one step (swap.go).
 package output
 
 import (
 	"encoding/json"
 	"fmt"
-	"os"
 	"path/filepath"
 	"sort"
 	"strings"
@@ -92,39 +93,83 @@ func lookup(name string) Writer {
 	return writers[name]
 }
 
-// Write writes res in every named format into dir (created if needed),
-// then run.json listing every file. It records the file list in
-// res.Report.Files and returns it.
+// Write writes res in every named format and run.json as one output set
+// in place of the set in dir (created if needed), and returns the paths of
+// the files, run.json last. The set is built in a staging folder beside dir
+// and swapped in whole (see swap.go), so after an error, an interrupt or a
+// kill dir holds the previous complete set or the new one. What killed
+// runs left is removed first. run.json lists every other file of the set
+// with its SHA-256 (also in res.Report.Files).
 func Write(dir string, res *engine.Result, formats []string) ([]string, error) {
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return nil, &inputerr.Error{File: dir, Option: "Out", Msg: "cannot create the output directory", Err: err}
-	}
-	start := time.Now()
-	var files []string
 	for _, name := range formats {
-		w := lookup(name)
-		if w == nil {
-			return files, inputerr.ForOption("Formats", "unknown output format %q", name)
-		}
-		written, err := w.Write(dir, res)
-		files = append(files, written...)
-		if err != nil {
-			return files, err
+		if lookup(name) == nil {
+			return nil, inputerr.ForOption("Formats", "unknown output format %q", name)
 		}
 	}
-	res.Report.Files = files
+	if err := checkParent(dir); err != nil {
+		return nil, err
+	}
+	removeStale(dir)
+	s, err := stage(dir)
+	if err != nil {
+		if s != "" {
+			discard(s)
+		}
+		return nil, err
+	}
+	files, err := writeSet(s, res, formats)
+	if err != nil {
+		discard(s)
+		return nil, err
+	}
+	if err := commit(s, dir); err != nil {
+		discard(s)
+		return nil, err
+	}
+	paths := make([]string, len(files))
+	for i, name := range files {
+		paths[i] = filepath.Join(dir, name)
+	}
+	return paths, nil
+}
+
+// writeSet runs the writers into the staging folder s, then writes run.json
+// with the checksums, and returns the file names, run.json last.
+func writeSet(s string, res *engine.Result, formats []string) ([]string, error) {
+	start := time.Now()
+	var names []string
+	seen := map[string]bool{}
+	for _, name := range formats {
+		written, err := lookup(name).Write(s, res)
+		if err != nil {
+			return nil, err
+		}
+		for _, p := range written {
+			if n := filepath.Base(p); !seen[n] {
+				seen[n] = true
+				names = append(names, n)
+			}
+		}
+	}
+	res.Report.Files = make([]engine.FileRecord, len(names))
+	for i, n := range names {
+		sum, err := checksum(filepath.Join(s, n))
+		if err != nil {
+			return nil, err
+		}
+		res.Report.Files[i] = engine.FileRecord{Name: n, SHA256: sum}
+	}
 	if res.Report.Timings != nil {
 		res.Report.Timings["write"] = time.Since(start).Seconds()
 	}
 	data, err := json.MarshalIndent(&res.Report, "", "  ")
 	if err != nil {
-		return files, err
+		return nil, err
 	}
-	path := filepath.Join(dir, "run.json")
-	if err := tableio.WriteFileAtomic(path, append(data, '\n')); err != nil {
-		return files, fmt.Errorf("write %s: %w", path, err)
+	if err := tableio.WriteFileAtomic(filepath.Join(s, RunFile), append(data, '\n')); err != nil {
+		return nil, err
 	}
-	return append(files, path), nil
+	return append(names, RunFile), nil
 }
 
 // tableWriter writes the result's tables in one table format.
