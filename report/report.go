@@ -122,15 +122,22 @@ func readTable(dir, name string) (*tableio.Table, error) {
 	return nil, nil
 }
 
-// Write renders the report of in into dir/report.html, atomically, and
-// returns its path.
+// Write renders the report of in into dir/report.html (dir is created if
+// needed), atomically, and returns its path.
 func Write(dir string, in *Input) (string, error) {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return "", &inputerr.Error{File: dir, Option: "Out", Msg: "cannot create the output directory", Err: err}
+	}
+	return writeInto(dir, in)
+}
+
+// writeInto renders the report of in into dir/report.html, atomically; dir
+// must exist. The output writer uses it on a staging folder, which must
+// not be created again once an interrupt has removed it.
+func writeInto(dir string, in *Input) (string, error) {
 	var buf bytes.Buffer
 	if err := Render(&buf, in); err != nil {
 		return "", err
-	}
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return "", &inputerr.Error{File: dir, Option: "Out", Msg: "cannot create the output directory", Err: err}
 	}
 	path := filepath.Join(dir, FileName)
 	if err := tableio.WriteFileAtomic(path, buf.Bytes()); err != nil {
@@ -245,7 +252,7 @@ func (writer) Write(dir string, res *engine.Result) ([]string, error) {
 	if err != nil {
 		return nil, err
 	}
-	path, err := Write(dir, in)
+	path, err := writeInto(dir, in)
 	if err != nil {
 		return nil, err
 	}

@@ -25,7 +25,9 @@ const (
 )
 
 func main() {
-	go exitOnSignal()
+	sig := make(chan os.Signal, 1)
+	signal.Notify(sig, syscall.SIGHUP, syscall.SIGINT, syscall.SIGTERM)
+	go exitOnSignal(sig)
 	code := run(os.Args[1:])
 	exitMu.Lock() // a signal being handled keeps it: that exit wins
 	os.Exit(code)
@@ -40,13 +42,13 @@ var exitMu sync.Mutex
 // 128 + the signal number.
 var signalStatus = map[os.Signal]int{syscall.SIGHUP: 129, syscall.SIGINT: 130, syscall.SIGTERM: 143}
 
-// exitOnSignal waits for SIGINT, SIGTERM or SIGHUP, stops the output set in
+// exitOnSignal waits for SIGINT, SIGTERM or SIGHUP (main subscribes to
+// them first thing; before that, in the runtime's start-up, a signal ends
+// the process with its default action, having written nothing), stops the output set in
 // progress (its staging folder is removed, the output folder is left as it
 // was) and temporary files, says what state the output is in and exits
 // with the signal's status.
-func exitOnSignal() {
-	sig := make(chan os.Signal, 1)
-	signal.Notify(sig, syscall.SIGHUP, syscall.SIGINT, syscall.SIGTERM)
+func exitOnSignal(sig <-chan os.Signal) {
 	s := <-sig
 	exitMu.Lock()
 	done := output.Interrupt()

@@ -55,7 +55,14 @@ func Interrupt() (done []string) {
 	swapMu.Lock() // never released: the process is about to exit
 	aborting = true
 	for s := range staging {
-		os.RemoveAll(s)
+		// Writers may still be creating files in s: renamed, its path
+		// takes no new file, and what is in it can then be removed.
+		gone := s + ".discard"
+		if os.Rename(s, gone) != nil {
+			gone = s
+		}
+		for i := 0; i < 3 && os.RemoveAll(gone) != nil; i++ {
+		}
 	}
 	return append([]string(nil), swapped...)
 }
@@ -112,8 +119,20 @@ func checkParent(dir string) error {
 		if err := syscall.Access(dir, 2|1); err != nil {
 			return &inputerr.Error{File: dir, Option: "Out", Msg: "the output folder is not writable", Err: err}
 		}
+		if pi, err := os.Stat(parent); err == nil && device(pi) != device(fi) {
+			return &inputerr.Error{File: dir, Option: "Out", Msg: "is a mount point, which cannot be swapped for a new folder; give a folder inside it"}
+		}
 	}
 	return nil
+}
+
+// device returns the device number of a file, which differs between a
+// mount point and its parent.
+func device(fi os.FileInfo) uint64 {
+	if st, ok := fi.Sys().(*syscall.Stat_t); ok {
+		return uint64(st.Dev)
+	}
+	return 0
 }
 
 // checkEntries refuses subfolders, which the swap could not carry over.
