@@ -26,6 +26,13 @@ can be repeated with "trueup forecast".`,
   trueup demo --out /tmp/demo --format parquet,csv --horizon 6`,
 		Args: noArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
+			// Everything is checked before the input is copied in.
+			if _, err := rf.options(cmd); err != nil {
+				return err
+			}
+			if _, err := rf.outputFormats(); err != nil {
+				return err
+			}
 			if err := output.Check(rf.out); err != nil {
 				return err
 			}

@@ -30,7 +30,9 @@ import (
 // interrupted write; they are replaced, never carried over.
 //
 // Subfolders cannot be hard-linked, so a folder holding one is refused
-// rather than emptied.
+// rather than emptied (which also keeps a home folder or a project folder
+// given as --out by mistake from being swapped). A mount point cannot be
+// renamed, so it is refused too: the set goes into a folder inside it.
 
 // RunFile is the name of the run summary written last into every set.
 const RunFile = "run.json"
@@ -68,9 +70,8 @@ func Interrupt() (done []string) {
 }
 
 // Check reports whether dir can take an output set, before any work is
-// done: it must be a folder or not exist yet, its parent must be writable
-// (the staging folder goes there), and an existing folder must be empty
-// or a trueup output folder (one holding run.json), with no subfolder.
+// done: it must be a folder or not exist yet, not a mount point, with a
+// writable parent (the staging folder goes there), and hold no subfolder.
 // Errors are input errors about option "Out".
 func Check(dir string) error {
 	if err := checkParent(dir); err != nil {
@@ -83,23 +84,7 @@ func Check(dir string) error {
 	if err != nil {
 		return &inputerr.Error{File: dir, Option: "Out", Msg: "cannot read the output folder", Err: err}
 	}
-	if err := checkEntries(dir, entries); err != nil {
-		return err
-	}
-	if len(entries) > 0 && !hasRunFile(entries) {
-		return &inputerr.Error{File: dir, Option: "Out", Msg: "the folder holds files but no " + RunFile +
-			", so it is not a trueup output folder; trueup replaces its output folder as a whole, so give a new or empty folder"}
-	}
-	return nil
-}
-
-func hasRunFile(entries []os.DirEntry) bool {
-	for _, e := range entries {
-		if e.Name() == RunFile {
-			return true
-		}
-	}
-	return false
+	return checkEntries(dir, entries)
 }
 
 // checkParent makes sure dir is not a file and that its parent exists (it

@@ -201,10 +201,7 @@ func TestCheckRefusesWhatCannotTakeASet(t *testing.T) {
 	withSub := filepath.Join(base, "withsub")
 	os.MkdirAll(filepath.Join(withSub, "inner"), 0o755)
 	os.WriteFile(filepath.Join(withSub, output.RunFile), []byte("{}"), 0o644)
-	foreign := filepath.Join(base, "foreign")
-	os.MkdirAll(foreign, 0o755)
-	os.WriteFile(filepath.Join(foreign, "thesis.tex"), []byte("x"), 0o644)
-	for _, dir := range []string{file, withSub, foreign, filepath.Join(file, "below")} {
+	for _, dir := range []string{file, withSub, filepath.Join(file, "below")} {
 		err := output.Check(dir)
 		if !inputerr.Is(err) || inputerr.OptionOf(err) != "Out" {
 			t.Errorf("Check(%s) = %v, want an input error about Out", dir, err)
@@ -212,7 +209,10 @@ func TestCheckRefusesWhatCannotTakeASet(t *testing.T) {
 	}
 	empty := filepath.Join(base, "empty")
 	os.MkdirAll(empty, 0o755)
-	for _, dir := range []string{empty, filepath.Join(base, "new", "deeper")} {
+	plain := filepath.Join(base, "plain")
+	os.MkdirAll(plain, 0o755)
+	os.WriteFile(filepath.Join(plain, "sales.csv"), []byte("x"), 0o644)
+	for _, dir := range []string{empty, plain, filepath.Join(base, "new", "deeper")} {
 		if err := output.Check(dir); err != nil {
 			t.Errorf("Check(%s) = %v, want nil", dir, err)
 		}
