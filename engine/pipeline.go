@@ -159,6 +159,29 @@ func (o Options) resolve(period int) (Options, error) {
 	return o, nil
 }
 
+// supported checks a period and a horizon given explicitly against the
+// length of the history, t periods, before any fitting. A seasonal
+// pattern is estimated from at least two full cycles, so the period is at
+// most t/2; a forecast reaches at most as far ahead as the history goes
+// back, t periods, or the default horizon if that is longer (both common
+// practice). The defaults taken from the grain are not refused: a history
+// too short for them gets non-seasonal models, as before.
+func (o Options) supported(t, grainPeriod int) error {
+	if o.Period > 1 && o.Period > t/2 {
+		return inputerr.ForOption("Period", "a seasonal period of %d needs at least %d periods of history (two cycles); the history has %d, which supports a period of at most %d",
+			o.Period, 2*o.Period, t, max(t/2, 1))
+	}
+	period := o.Period
+	if period == 0 {
+		period = grainPeriod
+	}
+	if limit := max(t, DefaultHorizon(period)); o.Horizon > limit {
+		return inputerr.ForOption("Horizon", "a horizon of %d periods reaches further ahead than the history goes back (%d periods); the history supports a horizon of at most %d",
+			o.Horizon, t, limit)
+	}
+	return nil
+}
+
 func checkLevels(levels []float64) error {
 	seen := map[float64]bool{}
 	for _, l := range levels {
@@ -193,6 +216,9 @@ func (r Reconciliation) method() (reconcile.Method, Reconciliation, error) {
 func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	if d.Structure == nil {
 		return nil, inputerr.ForOption("Chains", "a forecast run needs key columns to build the structure from")
+	}
+	if err := opt.supported(d.Panel.T, d.Panel.Grain.SeasonalPeriod()); err != nil {
+		return nil, err
 	}
 	opt, err := opt.resolve(d.Panel.Grain.SeasonalPeriod())
 	if err != nil {

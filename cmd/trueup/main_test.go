@@ -182,6 +182,12 @@ func TestBadInputs(t *testing.T) {
 		{"unknown format", []string{"--input", goodCSV, "--format", "xlsx"}, "", "xlsx"},
 		{"unknown method", []string{"--input", goodCSV, "--method", "guess"}, "", "guess"},
 		{"unknown family", []string{"--input", goodCSV, "--family", "oracle"}, "", "oracle"},
+		{"no workers", []string{"--input", goodCSV, "--workers", "0"}, "", "--workers"},
+		{"negative workers", []string{"--input", goodCSV, "--workers", "-1"}, "", "--workers"},
+		{"level twice", []string{"--input", goodCSV, "--levels", "80,80"}, "", "--levels"},
+		{"horizon beyond the history", []string{"--input", goodCSV, "--horizon", "10000"}, "", "--horizon: a horizon of 10000"},
+		{"period beyond the history", []string{"--input", goodCSV, "--period", "3"}, "", "supports a period of at most 2"},
+		{"out is a file", []string{"--input", goodCSV, "--out", goodCSV}, "", "--out: " + goodCSV + ": is a file"},
 	}
 	for i, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
