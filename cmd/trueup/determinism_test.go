@@ -54,4 +54,3 @@ func withoutFamily(args []string) []string {
 	}
 	return out
 }
-
