@@ -1,0 +1,92 @@
+package tableio
+
+import (
+	"os"
+	"testing"
+
+	"trueup/inputerr"
+)
+
+// The fuzz targets feed arbitrary bytes and labels to every reader of user
+// input. No input may panic, and every failure must be an input error
+// (which the command line reports with exit 2), never another kind.
+// .ci/run runs each for a bounded time; testdata/fuzz keeps every input
+// that once failed.
+
+// readOpts names the columns of the seed tables.
+var readOpts = ReadOptions{Time: "period", Value: "sales", Keys: []string{"store"}}
+
+// mustBeInputError fails unless err is nil or an input error.
+func mustBeInputError(t *testing.T, what string, err error) {
+	t.Helper()
+	if err != nil && !inputerr.Is(err) {
+		t.Fatalf("%s: a failure that is not an input error: %v", what, err)
+	}
+}
+
+func FuzzParsePeriod(f *testing.F) {
+	for _, s := range []string{"2024-01", "2024-W05", "2024-Q3", "2024", "2024-01-31", "31/01/2024",
+		"2024-01-31T10:00:00Z", "9999-12", "0", "-5", " 2024-1 ", "2024-13", "Q3 2024", ""} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, s string) {
+		p, err := ParsePeriod(s)
+		mustBeInputError(t, "ParsePeriod", err)
+		if err != nil {
+			return
+		}
+		// A period read back from its own label is the same period.
+		q, err := ParsePeriod(p.String())
+		if err != nil || q != p {
+			t.Fatalf("%q reads as %v, whose label %q reads as %v (%v)", s, p, p.String(), q, err)
+		}
+	})
+}
+
+func FuzzReadCSV(f *testing.F) {
+	for _, s := range []string{
+		"period,store,sales\n2024-01,Harbour Street,120.5\n2024-02,Harbour Street,98\n",
+		"period;store;sales\n2024-01;Mill Lane;\"1,5\"\n",
+		"period\tstore\tsales\n2024-01-31\tMill Lane\t3\n",
+		"\"period\",\"store\",\"sales\"\n\"2024\",\"a\"\"b\",1e3\n",
+		"period,store,sales\n",
+	} {
+		f.Add([]byte(s))
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		_, err := readCSV(data, readOpts)
+		mustBeInputError(t, "readCSV", err)
+		_, err = readTableCSV(data)
+		mustBeInputError(t, "readTableCSV", err)
+	})
+}
+
+// seedFile adds a committed table file to the corpus.
+func seedFile(f *testing.F, path string) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		f.Fatal(err)
+	}
+	f.Add(data)
+	f.Add(data[:len(data)/2])
+}
+
+func FuzzReadParquet(f *testing.F) {
+	seedFile(f, "testdata/small.parquet")
+	f.Fuzz(func(t *testing.T, data []byte) {
+		_, err := readParquet(data, readOpts)
+		mustBeInputError(t, "readParquet", err)
+		_, err = readTableParquet(data)
+		mustBeInputError(t, "readTableParquet", err)
+	})
+}
+
+func FuzzReadArrow(f *testing.F) {
+	seedFile(f, "testdata/small.arrow")
+	f.Fuzz(func(t *testing.T, data []byte) {
+		_, err := readIPC(data, readOpts)
+		mustBeInputError(t, "readIPC", err)
+		_, err = readTableIPC(data)
+		mustBeInputError(t, "readTableIPC", err)
+	})
+}
