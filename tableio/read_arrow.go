@@ -17,6 +17,9 @@ import (
 
 // readIPC reads an Arrow IPC file (the random-access file format).
 func readIPC(data []byte, opt ReadOptions) (*Rows, error) {
+	if err := checkIPCBounds(data); err != nil {
+		return nil, inputerr.New("not a valid Arrow IPC file: %v", err)
+	}
 	var r *ipc.FileReader
 	err := decode("Arrow IPC", func() (err error) {
 		r, err = ipc.NewFileReader(bytes.NewReader(data), ipc.WithAllocator(memory.DefaultAllocator))

@@ -299,6 +299,9 @@ func readTableIPC(data []byte) (*Table, error) {
 		chunks [][]arrow.Array
 		n      int
 	)
+	if err := checkIPCBounds(data); err != nil {
+		return nil, inputerr.New("not a valid Arrow IPC file: %v", err)
+	}
 	err := decode("Arrow IPC", func() error {
 		r, err := ipc.NewFileReader(bytes.NewReader(data), ipc.WithAllocator(memory.DefaultAllocator))
 		if err != nil {
