@@ -42,6 +42,9 @@ type PanelStats struct {
 	// covered by finer input periods (a week with 3 of its 7 days, say):
 	// its total understates a full period.
 	Partial []string
+	// Outliers names the rows whose value is a huge outlier in its series
+	// (likely a typing error), one message each.
+	Outliers []string
 }
 
 // PanelOptions controls BuildPanel.
@@ -57,6 +60,12 @@ type PanelOptions struct {
 func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
 	if rows.N == 0 {
 		return nil, inputerr.New("%s: no data rows", rows.Path)
+	}
+	if err := checkValues(rows); err != nil {
+		return nil, err
+	}
+	if err := checkKeySpellings(rows); err != nil {
+		return nil, err
 	}
 	native, how, err := nativeGrain(rows)
 	if err != nil {
@@ -86,6 +95,9 @@ func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
 		}
 		nat[i] = lastNat.Index
 		tgt[i] = lastTgt.Index
+	}
+	if err := checkLonePeriods(rows, nat, native); err != nil {
+		return nil, err
 	}
 
 	// Combine key codes into one series id per row.
@@ -122,6 +134,7 @@ func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
 		sid[i] = lastID
 	}
 	m := len(seriesKey)
+	outlierRows := outliers(rows, sid, m)
 
 	// Duplicates at the native grain.
 	natMin, natMax := minMax(nat)
@@ -158,6 +171,7 @@ func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
 	pn.Stats.NativeGrain = native
 	pn.Stats.InferredFrom = how
 	pn.Stats.Partial = partial
+	pn.Stats.Outliers = outlierRows
 	vals := make([][]float64, m)
 	has := make([][]bool, m)
 	backing := make([]float64, m*T)

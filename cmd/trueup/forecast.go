@@ -2,6 +2,7 @@ package main
 
 import (
 	"context"
+	"fmt"
 
 	"github.com/spf13/cobra"
 
@@ -65,6 +66,10 @@ func runForecast(cmd *cobra.Command, src engine.Source, rf *runFlags) error {
 	data, err := engine.Load(src)
 	if err != nil {
 		return err
+	}
+	// Implausible values are shown before the fitting, which may be long.
+	for _, w := range data.Panel.Stats.Outliers {
+		fmt.Fprintln(cmd.ErrOrStderr(), "trueup: warning:", w)
 	}
 	res, err := engine.Forecast(context.Background(), data, opt)
 	if err != nil {
