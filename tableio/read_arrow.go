@@ -37,7 +37,11 @@ func readIPC(data []byte, opt ReadOptions) (*Rows, error) {
 		return nil, err
 	}
 	c := newCollector(columns, opt, 0)
-	for i := 0; i < r.NumRecords(); i++ {
+	var batches int
+	if err := decode("Arrow IPC", func() error { batches = r.NumRecords(); return nil }); err != nil {
+		return nil, err
+	}
+	for i := 0; i < batches; i++ {
 		var rec arrow.RecordBatch
 		err := decode("Arrow IPC", func() (err error) {
 			if rec, err = r.RecordBatch(i); err != nil {
@@ -48,7 +52,10 @@ func readIPC(data []byte, opt ReadOptions) (*Rows, error) {
 		if err != nil {
 			return nil, err
 		}
-		if err := c.add(rec); err != nil {
+		// The arrays of a batch are views on the file's buffers, which a
+		// damaged file can make inconsistent with their lengths (offsets
+		// past the end, say), so reading them counts as decoding too.
+		if err := decode("Arrow IPC", func() error { return c.add(rec) }); err != nil {
 			return nil, err
 		}
 	}
@@ -217,7 +224,11 @@ func (c *collector) addTimes(a arrow.Array, row0 int) error {
 			td.dictMap = make([]Period, dict.Len())
 			td.dictOK = make([]bool, dict.Len())
 		}
-		for i, j := range c.indices(a) {
+		ix, err := c.indices(a, row0, name)
+		if err != nil {
+			return err
+		}
+		for i, j := range ix {
 			if nulls && a.IsNull(i) {
 				return nullErr(i)
 			}
@@ -345,8 +356,22 @@ func zone(tz string) (*time.Location, error) {
 	return loc, nil
 }
 
-// indices returns the dictionary indices of a batch as int32s.
-func (c *collector) indices(d *array.Dictionary) []int32 {
+// indices returns the dictionary indices of a batch as int32s, refusing
+// one that points outside the dictionary (the rows start at row0).
+func (c *collector) indices(d *array.Dictionary, row0 int, name string) ([]int32, error) {
+	ix := c.rawIndices(d)
+	// A damaged file may point past its dictionary; nulls may hold anything.
+	n := int32(d.Dictionary().Len())
+	for i, j := range ix {
+		if (j < 0 || j >= n) && !d.IsNull(i) {
+			return nil, rowErr(row0+i+1, name, "column %q refers to entry %d of a dictionary of %d: the file is damaged", name, j, n)
+		}
+	}
+	return ix, nil
+}
+
+// rawIndices returns the dictionary indices as int32.
+func (c *collector) rawIndices(d *array.Dictionary) []int32 {
 	switch ix := d.Indices().(type) {
 	case *array.Int32:
 		return ix.Values()
@@ -469,7 +494,11 @@ func (c *collector) addKeys(k int, a arrow.Array, row0 int) error {
 				enc.dictMap = append(enc.dictMap, -1)
 			}
 		}
-		for i, j := range c.indices(a) {
+		ix, err := c.indices(a, row0, name)
+		if err != nil {
+			return err
+		}
+		for i, j := range ix {
 			if nulls && a.IsNull(i) {
 				return bad(i, "null")
 			}

@@ -280,6 +280,11 @@ func scan[T any](pf *pqFile, g int, c *pqColumn, row0 int, buf *[]T,
 		}
 		if def == nil {
 			read = int(total)
+		} else if !levelsAgree(def, int(total), read, c.desc.MaxDefinitionLevel()) {
+			return &inputerr.Error{Row: row0 + int(done) + 1, Column: c.name, Msg: "corrupt Parquet data: the null markers and the values disagree"}
+		}
+		if read > len(vals) || read < 0 {
+			return &inputerr.Error{Row: row0 + int(done) + 1, Column: c.name, Msg: "corrupt Parquet data: more values than were asked for"}
 		}
 		if err := f(vals[:read], def[:min(len(def), int(total))], int(total), row0+int(done)+1); err != nil {
 			return err
@@ -287,6 +292,21 @@ func scan[T any](pf *pqFile, g int, c *pqColumn, row0 int, buf *[]T,
 		done += total
 	}
 	return nil
+}
+
+// levelsAgree reports whether a batch of total rows has as many non-null
+// definition levels as values read, as a sound file has.
+func levelsAgree(def []int16, total, read int, maxDef int16) bool {
+	if total > len(def) {
+		return false
+	}
+	full := 0
+	for _, d := range def[:total] {
+		if d >= maxDef {
+			full++
+		}
+	}
+	return full == read
 }
 
 // scanDense is scan for the sales table, where no column may hold nulls:
@@ -335,11 +355,17 @@ func readParquet(data []byte, opt ReadOptions) (*Rows, error) {
 	if err := checkParquetTypes(tc, vc, kc); err != nil {
 		return nil, err
 	}
-	n := int(pf.r.NumRows())
+	n := pf.r.NumRows()
 	if n == 0 {
 		return nil, inputerr.New("no data rows")
 	}
-	c := newCollector(pf.columns, opt, n)
+	if n < 0 {
+		return nil, inputerr.New("not a readable Parquet file (it claims %d rows)", n)
+	}
+	// The row count only sizes the buffers: a damaged footer may claim
+	// more rows than memory holds, and a real file rarely holds more rows
+	// than bytes, so the hint is capped by the file's size.
+	c := newCollector(pf.columns, opt, int(min(n, int64(len(data)))))
 	for k, kcol := range kc {
 		if kcol.isInt() {
 			c.rows.KeyTypes[k] = Int64

@@ -118,7 +118,11 @@ func orUTC(loc *time.Location) *time.Location {
 
 func setNull(c *Column, i, n int) {
 	if c.Null == nil {
-		c.Null = make([]bool, n)
+		c.Null = make([]bool, 0, n)
+	}
+	// n sizes the list; a damaged file may claim fewer rows than it holds.
+	for len(c.Null) <= i {
+		c.Null = append(c.Null, false)
 	}
 	c.Null[i] = true
 	if c.Type == Float64 {
@@ -132,7 +136,13 @@ func readTableParquet(data []byte) (*Table, error) {
 		return nil, err
 	}
 	defer pf.r.Close()
-	n := int(pf.r.NumRows())
+	rows := pf.r.NumRows()
+	if rows < 0 {
+		return nil, inputerr.New("not a readable Parquet file (it claims %d rows)", rows)
+	}
+	// The claimed row count only sizes the buffers, capped by the file's
+	// size so that a damaged footer cannot ask for more than memory holds.
+	n := int(min(rows, int64(len(data))))
 	t := &Table{}
 	for j := range pf.columns {
 		pc, err := pf.column(j)
@@ -142,6 +152,15 @@ func readTableParquet(data []byte) (*Table, error) {
 		c := Column{Name: pc.name}
 		if err := readParquetColumn(pf, pc, &c, n); err != nil {
 			return nil, err
+		}
+		length := len(c.Strings) + len(c.Ints) + len(c.Floats)
+		if c.Null != nil {
+			for len(c.Null) < length {
+				c.Null = append(c.Null, false)
+			}
+		}
+		if j > 0 && length != len(t.Columns[0].Strings)+len(t.Columns[0].Ints)+len(t.Columns[0].Floats) {
+			return nil, inputerr.New("not a readable Parquet file (column %q has a different number of rows from column %q)", c.Name, t.Columns[0].Name)
 		}
 		t.Columns = append(t.Columns, c)
 	}
@@ -330,7 +349,9 @@ func readTableIPC(data []byte) (*Table, error) {
 	t := &Table{}
 	for j, f := range sc.Fields() {
 		c := Column{Name: f.Name}
-		if err := fromChunks(&c, chunks[j], n); err != nil {
+		// Reading the arrays counts as decoding: a damaged file can make
+		// their buffers disagree with their lengths (see readIPC).
+		if err := decode("Arrow IPC", func() error { return fromChunks(&c, chunks[j], n) }); err != nil {
 			return nil, err
 		}
 		t.Columns = append(t.Columns, c)
