@@ -118,9 +118,9 @@ func orUTC(loc *time.Location) *time.Location {
 
 func setNull(c *Column, i, n int) {
 	if c.Null == nil {
-		c.Null = make([]bool, 0, n)
+		c.Null = make([]bool, n)
 	}
-	// n sizes the list; a damaged file may claim fewer rows than it holds.
+	// A damaged Parquet file may claim fewer rows than it holds.
 	for len(c.Null) <= i {
 		c.Null = append(c.Null, false)
 	}
@@ -154,10 +154,11 @@ func readTableParquet(data []byte) (*Table, error) {
 			return nil, err
 		}
 		length := len(c.Strings) + len(c.Ints) + len(c.Floats)
-		if c.Null != nil {
+		if c.Null != nil { // sized by the claimed row count: make it fit
 			for len(c.Null) < length {
 				c.Null = append(c.Null, false)
 			}
+			c.Null = c.Null[:length]
 		}
 		if j > 0 && length != len(t.Columns[0].Strings)+len(t.Columns[0].Ints)+len(t.Columns[0].Floats) {
 			return nil, inputerr.New("not a readable Parquet file (column %q has a different number of rows from column %q)", c.Name, t.Columns[0].Name)
