@@ -1,0 +1,109 @@
+package engine
+
+import (
+	"fmt"
+	"math"
+)
+
+// BacktestReport is the content of a backtest's run.json.
+type BacktestReport struct {
+	Version string         `json:"version"`
+	Command string         `json:"command"`
+	Input   InputReport    `json:"input"`
+	Options map[string]any `json:"options"`
+	// Origins lists each origin's first forecast period and the number of
+	// history periods before it.
+	Origins []OriginReport  `json:"origins"`
+	Methods []string        `json:"methods"`
+	Skipped []SkippedMethod `json:"skipped"`
+	// Headline is each method's mean over levels of its level mean
+	// scores; LevelScores the level means (all steps).
+	Headline       []Headline     `json:"headline"`
+	LevelScores    []Score        `json:"level_scores"`
+	Recommendation Recommendation `json:"recommendation"`
+	// Incoherence is, per level, the mean over aggregates, splits,
+	// origins and steps of |base − Σ children's base| over the
+	// aggregate's scale.
+	Incoherence []LevelIncoherence `json:"base_incoherence"`
+	// Helped and Hurt are the nodes where the recommended method changed
+	// the MASE of the base forecasts most, down and up.
+	Helped   []NodeScore        `json:"helped_most"`
+	Hurt     []NodeScore        `json:"hurt_most"`
+	Timings  map[string]float64 `json:"timings_seconds"`
+	Warnings []string           `json:"warnings"`
+	Files    []string           `json:"files"`
+}
+
+// OriginReport describes one origin.
+type OriginReport struct {
+	FirstForecast string `json:"first_forecast_period"`
+	HistoryEnd    string `json:"last_history_period"`
+	Periods       int    `json:"history_periods"`
+	Nodes         int    `json:"nodes"`
+}
+
+// LevelIncoherence is the mean scaled incoherence of a level's base
+// forecasts.
+type LevelIncoherence struct {
+	Level string  `json:"level"`
+	Mean  float64 `json:"mean_scaled_abs"`
+}
+
+func (r *BacktestReport) fill(res *BacktestResult, origins, every int) {
+	r.Options = map[string]any{"period": res.Period, "horizon": res.Horizon, "levels": res.Levels,
+		"origins": origins, "every": every, "compare": append(append([]string{}, res.Methods...), skippedNames(res.Skipped)...)}
+	for _, o := range res.Origins {
+		r.Origins = append(r.Origins, OriginReport{FirstForecast: o.Start.String(), HistoryEnd: o.Start.Next(-1).String(),
+			Periods: o.Periods, Nodes: len(o.Structure.Nodes)})
+	}
+	r.Methods = res.Methods
+	r.Skipped = res.Skipped
+	if r.Skipped == nil {
+		r.Skipped = []SkippedMethod{}
+	}
+	r.Headline = res.Headline
+	r.LevelScores = []Score{}
+	for _, s := range res.Scores {
+		if s.Step == 0 {
+			r.LevelScores = append(r.LevelScores, s)
+		}
+	}
+	r.Recommendation = res.Recommendation
+	sums, counts := map[int]float64{}, map[int]int{}
+	for _, in := range res.Attribution.Incoherence {
+		lv := res.Origins[in.Origin].Structure.Nodes[in.Parent].Level
+		if !math.IsNaN(in.ScaledAbs) && !math.IsInf(in.ScaledAbs, 0) {
+			sums[lv] += in.ScaledAbs
+			counts[lv]++
+		}
+	}
+	r.Incoherence = []LevelIncoherence{}
+	for l, lv := range res.Structure.Levels {
+		if counts[l] > 0 {
+			r.Incoherence = append(r.Incoherence, LevelIncoherence{Level: lv.Name, Mean: sums[l] / float64(counts[l])})
+		}
+	}
+	r.Helped, r.Hurt = res.Attribution.Effects(res.Recommendation.Method, 5)
+	if r.Helped == nil {
+		r.Helped = []NodeScore{}
+	}
+	if r.Hurt == nil {
+		r.Hurt = []NodeScore{}
+	}
+	r.Warnings = []string{}
+	for _, s := range res.Skipped {
+		r.Warnings = append(r.Warnings, fmt.Sprintf("method %s skipped: %s", s.Method, s.Reason))
+	}
+	last := res.Origins[len(res.Origins)-1]
+	if n, m := len(res.Structure.Nodes), len(last.Structure.Nodes); n != m {
+		r.Warnings = append(r.Warnings, fmt.Sprintf("%d of the %d nodes opened after the last origin and are not scored", n-m, n))
+	}
+}
+
+func skippedNames(s []SkippedMethod) []string {
+	out := make([]string, len(s))
+	for i, x := range s {
+		out[i] = x.Method
+	}
+	return out
+}
