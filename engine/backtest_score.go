@@ -221,7 +221,7 @@ func (res *BacktestResult) recommend() {
 	if len(rec.Losses) > 0 {
 		var parts []string
 		for _, l := range rec.Losses {
-			parts = append(parts, fmt.Sprintf("%s (%s %.3f vs %.3f)", l.Level, l.Best, l.BestIs, l.MASE))
+			parts = append(parts, fmt.Sprintf("%s (%s %.4f vs %.4f)", l.Level, l.Best, l.BestIs, l.MASE))
 		}
 		why = append(why, "beaten at "+strings.Join(parts, ", "))
 	} else {

@@ -39,6 +39,7 @@ they go into a plan.`,
 		newInspectCmd(),
 		newFitCmd(),
 		newReconcileCmd(),
+		newBacktestCmd(),
 	)
 	return root
 }

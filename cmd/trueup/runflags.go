@@ -71,6 +71,15 @@ func (f *outputFlags) register(cmd *cobra.Command, defaultOut string) {
 }
 
 func (f *runFlags) register(cmd *cobra.Command, defaultOut string) {
+	f.registerModel(cmd)
+	f.reconcileFlags.register(cmd)
+	f.outputFlags.register(cmd, defaultOut)
+}
+
+// registerModel registers the model flags only (period, horizon, family,
+// levels, workers): backtest compares reconciliations instead of choosing
+// one.
+func (f *runFlags) registerModel(cmd *cobra.Command) {
 	fl := cmd.Flags()
 	fl.IntVar(&f.period, "period", 0, "seasonal period (default from the grain: 7, 52, 12, 4; 1 for years and time indexes)")
 	fl.IntVar(&f.horizon, "horizon", 0, "periods to forecast (default: one seasonal cycle, e.g. 12 months)")
@@ -78,8 +87,6 @@ func (f *runFlags) register(cmd *cobra.Command, defaultOut string) {
 	fl.StringVar(&f.levels, "levels", "80,95", "prediction interval levels in percent, comma-separated")
 	fl.IntVar(&f.workers, "workers", runtime.NumCPU(), "nodes fitted in parallel")
 	groupFlags(cmd, "Model", "period", "horizon", "family", "levels", "workers")
-	f.reconcileFlags.register(cmd)
-	f.outputFlags.register(cmd, defaultOut)
 }
 
 // options turns the flags into engine options, checking them before any

@@ -126,8 +126,13 @@ func Write(dir string, res *engine.Result, formats []string) ([]string, error) {
 type tableWriter struct{ format tableio.Format }
 
 func (t tableWriter) Write(dir string, res *engine.Result) ([]string, error) {
+	return t.writeTables(dir, Tables(res))
+}
+
+// writeTables writes tables into dir, one file each.
+func (t tableWriter) writeTables(dir string, tables []Table) ([]string, error) {
 	var files []string
-	for _, tb := range Tables(res) {
+	for _, tb := range tables {
 		path := filepath.Join(dir, tb.Name+t.format.Ext())
 		if err := tableio.WriteTable(path, tb.Table, t.format); err != nil {
 			return files, fmt.Errorf("write %s: %w", path, err)
