@@ -190,16 +190,16 @@ func (res *BacktestResult) recommend() {
 		r := res.Headline[second]
 		rec.RunnerUp = r.Method
 		rec.Margin = 100 * (r.MASE - w.MASE) / r.MASE
-		why = append(why, fmt.Sprintf("headline MASE %.3f, %.1f%% below %s (%.3f)", w.MASE, rec.Margin, r.Method, r.MASE))
+		why = append(why, fmt.Sprintf("headline MASE %.3f, %.2f%% below %s (%.3f)", w.MASE, rec.Margin, r.Method, r.MASE))
 	} else {
 		why = append(why, fmt.Sprintf("headline MASE %.3f, the only coherent method that ran", w.MASE))
 	}
 	if b, ok := res.HeadlineOf(BaseMethod); ok {
 		rec.VersusBase = 100 * (b.MASE - w.MASE) / b.MASE
 		if rec.VersusBase >= 0 {
-			why = append(why, fmt.Sprintf("%.1f%% below the base forecasts (%.3f)", rec.VersusBase, b.MASE))
+			why = append(why, fmt.Sprintf("%.2f%% below the base forecasts (%.3f)", rec.VersusBase, b.MASE))
 		} else {
-			why = append(why, fmt.Sprintf("%.1f%% above the base forecasts (%.3f), which do not add up", -rec.VersusBase, b.MASE))
+			why = append(why, fmt.Sprintf("%.2f%% above the base forecasts (%.3f), which do not add up", -rec.VersusBase, b.MASE))
 		}
 	}
 	rec.Losses = []LevelLoss{}

@@ -25,6 +25,9 @@ type runFlags struct {
 	reconcileFlags
 	levels  string
 	workers int
+	origins int // backtest origins behind --method auto
+	// hasOrigins says whether --origins is this command's (forecast, demo).
+	hasOrigins bool
 	outputFlags
 }
 
@@ -73,6 +76,11 @@ func (f *outputFlags) register(cmd *cobra.Command, defaultOut string) {
 func (f *runFlags) register(cmd *cobra.Command, defaultOut string) {
 	f.registerModel(cmd)
 	f.reconcileFlags.register(cmd)
+	fl := cmd.Flags()
+	fl.Lookup("method").Usage += ", or auto: the best of a short backtest (see trueup backtest)"
+	fl.IntVar(&f.origins, "origins", engine.AutoOrigins, "with --method auto: backtest origins the method is chosen at")
+	groupFlags(cmd, "Reconciliation", "origins")
+	f.hasOrigins = true
 	f.outputFlags.register(cmd, defaultOut)
 }
 
@@ -112,6 +120,15 @@ func (f *runFlags) options(cmd *cobra.Command) (engine.Options, error) {
 		Reconcile: f.reconcileFlags.options(cmd),
 		Levels:    levels,
 		Fitter:    engine.Local{Workers: f.workers},
+	}
+	if f.hasOrigins && cmd.Flags().Changed("origins") {
+		if f.origins < 1 {
+			return engine.Options{}, &usageError{fmt.Errorf("--origins must be at least 1, got %d", f.origins)}
+		}
+		if f.method != engine.AutoMethod {
+			return engine.Options{}, &usageError{fmt.Errorf("--origins applies to --method auto only")}
+		}
+		opt.Reconcile.Origins = f.origins
 	}
 	if !f.quiet && term.IsTerminal(int(os.Stderr.Fd())) {
 		opt.Progress = progressBar("fitting nodes")
