@@ -7,6 +7,7 @@ import (
 	"strings"
 	"testing"
 
+	"trueup/accuracy"
 	"trueup/engine"
 	"trueup/fixtures"
 	"trueup/models/families"
@@ -134,5 +135,48 @@ func TestBacktestRefusesTooShortHistory(t *testing.T) {
 	_, err := engine.Backtest(context.Background(), d, engine.BacktestOptions{Origins: 20})
 	if err == nil || !strings.Contains(err.Error(), "need at least 55") {
 		t.Fatalf("got %v, want a message naming the 55 periods needed", err)
+	}
+}
+
+// TestBacktestScoresAreTheAccuracyMeasures recomputes the total's level
+// scores from the origins with package accuracy (checked against base R
+// in accuracy_test.go).
+func TestBacktestScoresAreTheAccuracyMeasures(t *testing.T) {
+	d := chain(t, 4)
+	res, err := engine.Backtest(context.Background(), d, engine.BacktestOptions{
+		Options: engine.Options{Model: families.Spec{Family: "seasonal-naive"}, Horizon: 5},
+		Origins: 3, Compare: []string{"base", "mint-shrink"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, m := range res.Methods {
+		var mase, rmsse float64
+		cov := make([]float64, len(res.Levels))
+		for _, org := range res.Origins {
+			r := org.Results[m]
+			mae, mse, _ := accuracy.Scale(r.History[0], res.Period)
+			if mae != org.ScaleMAE[0] || mse != org.ScaleMSE[0] {
+				t.Errorf("scale %v %v, accuracy.Scale %v %v", org.ScaleMAE[0], org.ScaleMSE[0], mae, mse)
+			}
+			mase += accuracy.MASE(org.Actual[0], r.Solution.Forecast[0], mae) / 3
+			rmsse += accuracy.RMSSE(org.Actual[0], r.Solution.Forecast[0], mse) / 3
+			for l, lv := range res.Levels {
+				for k, a := range org.Actual[0] {
+					lo, hi := r.Bounds(0, k, lv)
+					if accuracy.Covered(lo, hi, a) {
+						cov[l] += 1.0 / 15
+					}
+				}
+			}
+		}
+		s, ok := res.LevelScore("total", m)
+		if !ok || math.Abs(s.MASE-mase) > 1e-12 || math.Abs(s.RMSSE-rmsse) > 1e-12 {
+			t.Errorf("%s: total MASE %v RMSSE %v, recomputed %v %v", m, s.MASE, s.RMSSE, mase, rmsse)
+		}
+		for l := range cov {
+			if math.Abs(s.Coverage[l]-cov[l]) > 1e-12 {
+				t.Errorf("%s: coverage %v, recomputed %v", m, s.Coverage[l], cov[l])
+			}
+		}
 	}
 }
