@@ -364,7 +364,7 @@ func Backtest(ctx context.Context, d *Data, bo BacktestOptions) (*BacktestResult
 	res.recommend()
 	res.Attribution = attribute(res)
 	rep.Timings["score"] = time.Since(start).Seconds()
-	rep.fill(res, K, every)
+	rep.fill(res, opt, K, every)
 	res.Report = rep
 	return res, nil
 }

@@ -49,8 +49,9 @@ type LevelIncoherence struct {
 	Mean  float64 `json:"mean_scaled_abs"`
 }
 
-func (r *BacktestReport) fill(res *BacktestResult, origins, every int) {
-	r.Options = map[string]any{"period": res.Period, "horizon": res.Horizon, "levels": res.Levels,
+func (r *BacktestReport) fill(res *BacktestResult, opt Options, origins, every int) {
+	r.Options = map[string]any{"family": familyOrDefault(opt.Model.Family), "form": opt.Model.Form, "transform": opt.Model.Transform,
+		"period": res.Period, "horizon": res.Horizon, "levels": res.Levels,
 		"origins": origins, "every": every, "compare": append(append([]string{}, res.Methods...), skippedNames(res.Skipped)...)}
 	for _, o := range res.Origins {
 		r.Origins = append(r.Origins, OriginReport{FirstForecast: o.Start.String(), HistoryEnd: o.Start.Next(-1).String(),
