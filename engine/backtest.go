@@ -131,7 +131,9 @@ func (o *BacktestOrigin) Scored(i int) bool {
 type BacktestResult struct {
 	// Structure is the structure of the whole history.
 	Structure *hierarchy.Structure
-	Origins   []*BacktestOrigin
+	// KeyTypes are the input's key column types (see Data.KeyTypes).
+	KeyTypes []tableio.ColumnType
+	Origins  []*BacktestOrigin
 	// Methods are the compared methods that ran, in the order asked;
 	// Skipped those that could not.
 	Methods []string
@@ -271,7 +273,7 @@ func Backtest(ctx context.Context, d *Data, bo BacktestOptions) (*BacktestResult
 			T, K, every, h, need, minFit, (K-1)*every, h)
 	}
 
-	res := &BacktestResult{Structure: d.Structure, Levels: opt.Levels, Horizon: h, Period: opt.Period}
+	res := &BacktestResult{Structure: d.Structure, KeyTypes: d.KeyTypes, Levels: opt.Levels, Horizon: h, Period: opt.Period}
 	rep := BacktestReport{Version: Version, Command: "backtest", Input: d.Input, Timings: map[string]float64{
 		"read": d.ReadSeconds, "structure": d.StructureSeconds}}
 	skipped := map[string]string{}
@@ -446,7 +448,7 @@ func (d *Data) Cut(periods int) (*Data, error) {
 	}
 	sub := &tableio.Rows{Path: rows.Path, SHA256: rows.SHA256, Columns: rows.Columns, N: len(keep),
 		Periods: make([]tableio.Period, len(keep)), Values: make([]float64, len(keep)),
-		KeyNames: rows.KeyNames, KeyCodes: make([][]int32, len(rows.KeyCodes)), KeyDict: rows.KeyDict}
+		KeyNames: rows.KeyNames, KeyCodes: make([][]int32, len(rows.KeyCodes)), KeyDict: rows.KeyDict, KeyTypes: rows.KeyTypes}
 	for c := range sub.KeyCodes {
 		sub.KeyCodes[c] = make([]int32, len(keep))
 	}
@@ -458,7 +460,7 @@ func (d *Data) Cut(periods int) (*Data, error) {
 	}
 	in := d.Input
 	in.Rows = len(keep)
-	nd := &Data{Input: in, rows: sub, src: d.src}
+	nd := &Data{Input: in, KeyTypes: d.KeyTypes, rows: sub, src: d.src}
 	if err := nd.arrange(sub, d.src); err != nil {
 		return nil, err
 	}

@@ -2,6 +2,7 @@ package engine
 
 import (
 	"context"
+	"math"
 	"sync"
 
 	"trueup/models"
@@ -128,4 +129,14 @@ loop:
 		return nil, firstErr
 	}
 	return fits, nil
+}
+
+// StdError is the base forecast's standard error at step k (0-based).
+func (nf *NodeFit) StdError(k int) float64 { return math.Sqrt(math.Max(nf.Variance[k], 0)) }
+
+// Bounds is the central Gaussian prediction interval of the base forecast
+// at step k (0-based) for a level in percent: mean ± z·StdError(k).
+func (nf *NodeFit) Bounds(k int, level float64) (lo, hi float64) {
+	z := Quantile(level)
+	return nf.Mean[k] - z*nf.StdError(k), nf.Mean[k] + z*nf.StdError(k)
 }

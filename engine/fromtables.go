@@ -49,7 +49,9 @@ type BaseSet struct {
 	// none); nil without a residuals table.
 	Residuals [][]float64
 	// History is the loaded sales history, or nil.
-	History  *Data
+	History *Data
+	// KeyTypes gives the base table's key column types, in Chains order.
+	KeyTypes []tableio.ColumnType
 	Input    InputReport
 	Warnings []string
 	// ReadSeconds is the time spent reading and arranging the tables.
@@ -81,7 +83,8 @@ func LoadTables(ts Tables) (*BaseSet, error) {
 	if err != nil {
 		return nil, err
 	}
-	bs := &BaseSet{Structure: st, Input: InputReport{Path: ts.Base, Rows: base.rows, Columns: columnNames(baseT)}}
+	bs := &BaseSet{Structure: st, Input: InputReport{Path: ts.Base, Rows: base.rows, Columns: columnNames(baseT)},
+		KeyTypes: base.keyTypes()}
 	nodes := newNodeIndex(st, base.dicts)
 	if bs.Base, bs.Periods, err = base.matrix(nodes, "base", everyPeriod); err != nil {
 		return nil, err
@@ -258,7 +261,7 @@ func Reconcile(ctx context.Context, bs *BaseSet, opt ReconcileOptions) (*Result,
 	}
 	first := bs.Periods[0].Next(-T)
 	res := &Result{Structure: st, Calendar: Calendar{First: first, T: T}, History: history, Fits: fits,
-		Solution: sol, Levels: opt.Levels, Nonnegative: nonneg, Horizon: h}
+		Solution: sol, Levels: opt.Levels, Nonnegative: nonneg, Horizon: h, KeyTypes: bs.KeyTypes}
 	res.Report = RunReport{Version: Version, Command: "reconcile", Input: bs.Input,
 		Options:  map[string]any{"method": rc.Method, "cov": rc.Cov, "at": rc.At, "nonnegative": nonneg, "levels": opt.Levels},
 		Timings:  map[string]float64{"read": bs.ReadSeconds, "reconcile": time.Since(start).Seconds()},

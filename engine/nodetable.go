@@ -77,6 +77,18 @@ func newNodeTable(path string, t *tableio.Table, attrs []string, want string) (*
 	return nt, nil
 }
 
+// keyTypes returns the column type of each key attribute (Int64 for an
+// integer column, String otherwise).
+func (nt *nodeTable) keyTypes() []tableio.ColumnType {
+	out := make([]tableio.ColumnType, len(nt.attrs))
+	for a, name := range nt.attrs {
+		if nt.t.Columns[nt.columns[name]].Type == tableio.Int64 {
+			out[a] = tableio.Int64
+		}
+	}
+	return out
+}
+
 func (nt *nodeTable) has(col string) bool { _, ok := nt.columns[col]; return ok }
 
 // remap re-expresses the key codes in the dictionaries of another table,

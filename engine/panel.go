@@ -132,8 +132,11 @@ func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
 			bit := int(sid[i])*span + nat[i] - natMin
 			if seen[bit/64]&(1<<(bit%64)) != 0 {
 				p := tableio.Period{Grain: native, Index: nat[i]}
-				return nil, inputerr.New("%s: row %d repeats key %s and period %s; use --sum-duplicates to add such rows together",
-					rows.Path, i+1, keyText(rows, seriesKey[sid[i]]), p)
+				msg := fmt.Sprintf("repeats key %s and period %s; ask for duplicates to be summed to add such rows together", keyText(rows, seriesKey[sid[i]]), p)
+				if len(rows.KeyNames) == 0 {
+					msg = fmt.Sprintf("repeats period %s; does the table hold several series? name their key columns", p)
+				}
+				return nil, &inputerr.Error{File: rows.Path, Row: i + 1, Option: "SumDuplicates", Msg: msg}
 			}
 			seen[bit/64] |= 1 << (bit % 64)
 		}
@@ -243,14 +246,19 @@ func partialEdges(nat, tgt []int, native, target tableio.Grain, tMin, tMax int) 
 func (p *Panel) Period(t int) tableio.Period { return p.First.Next(t) }
 
 // nativeGrain is the grain the data carries: the grain of its period
-// labels, or, for calendar dates, the grain implied by the smallest gap
-// between distinct dates (1 day, 7 days, 28–31 days, 89–92 days).
+// labels (including years and step numbers), or, for calendar dates, the
+// grain implied by the smallest gap between distinct dates over all
+// series: 1 day, 7 days, 28–31 days (a month, whether dated on its first
+// or its last day), 89–92 days (a quarter) or 365–366 days (a year). The
+// dates must then fall in distinct periods of that grain; otherwise (say
+// 2024-01-01 and 2024-01-31 in one file) the grain is ambiguous and the
+// caller is asked to state it.
 func nativeGrain(rows *tableio.Rows) (tableio.Grain, string, error) {
 	g := rows.Periods[0].Grain
 	for i, p := range rows.Periods {
 		if p.Grain != g {
-			return 0, "", inputerr.New("%s: row %d: period %s is a %s but row 1's is a %s; use one form throughout",
-				rows.Path, i+1, p, p.Grain, g)
+			return 0, "", &inputerr.Error{File: rows.Path, Row: i + 1,
+				Msg: fmt.Sprintf("period %s is a %s but row 1's is a %s; use one form throughout", p, p.Grain, g)}
 		}
 	}
 	if g != tableio.Day {
@@ -272,17 +280,36 @@ func nativeGrain(rows *tableio.Rows) (tableio.Grain, string, error) {
 	for i := 1; i < len(days); i++ {
 		gap = min(gap, days[i]-days[i-1])
 	}
+	var grain tableio.Grain
+	var how string
 	switch {
 	case gap == 1:
 		return tableio.Day, "dates one day apart", nil
 	case gap == 7:
-		return tableio.Week, "dates seven days apart", nil
+		grain, how = tableio.Week, "dates seven days apart"
 	case gap >= 28 && gap <= 31:
-		return tableio.Month, "dates about a month apart", nil
+		grain, how = tableio.Month, "dates about a month apart"
 	case gap >= 89 && gap <= 92:
-		return tableio.Quarter, "dates about a quarter apart", nil
+		grain, how = tableio.Quarter, "dates about a quarter apart"
+	case gap >= 365 && gap <= 366:
+		grain, how = tableio.Year, "dates about a year apart"
+	default:
+		return 0, "", &inputerr.Error{File: rows.Path, Option: "Grain",
+			Msg: fmt.Sprintf("dates are %d days apart at the closest; cannot tell the grain, state it", gap)}
 	}
-	return 0, "", inputerr.New("%s: dates are %d days apart at the closest; cannot tell the grain, give --grain", rows.Path, gap)
+	// Distinct dates must be distinct periods: 2024-01-01 and 2024-01-31
+	// are a month apart by gap yet both in January.
+	prev := tableio.FromDate(tableio.Period{Grain: tableio.Day, Index: days[0]}.Start(), grain)
+	for i := 1; i < len(days); i++ {
+		p := tableio.FromDate(tableio.Period{Grain: tableio.Day, Index: days[i]}.Start(), grain)
+		if p == prev {
+			return 0, "", &inputerr.Error{File: rows.Path, Option: "Grain",
+				Msg: fmt.Sprintf("dates %s and %s are %s apart at the closest but fall in the same %s (%s); cannot tell the grain, state it",
+					tableio.Period{Grain: tableio.Day, Index: days[i-1]}, tableio.Period{Grain: tableio.Day, Index: days[i]}, grain, grain, p)}
+		}
+		prev = p
+	}
+	return grain, how, nil
 }
 
 func minMax(xs []int) (lo, hi int) {

@@ -135,3 +135,93 @@ func two(d int) string {
 	}
 	return string(rune('0'+d/10)) + string(rune('0'+d%10))
 }
+
+// Analysts export monthly, quarterly and yearly data dated on the first or
+// the last day of the period; the gap between dates (28–31, 89–92,
+// 365–366 days in the Gregorian calendar of ISO 8601) gives the grain and
+// each date maps to the period that contains it. Series start and stop at
+// different dates and one has a hole; the grain is found over all of them.
+func TestPanelGrainFromPeriodEndDates(t *testing.T) {
+	cases := []struct {
+		name  string
+		rows  [][3]string
+		grain tableio.Grain
+		first string
+		T     int
+	}{
+		{"month ends across a leap February", [][3]string{
+			{"2024-01-31", "A", ""}, {"2024-02-29", "A", ""}, {"2024-03-31", "A", ""}, {"2024-05-31", "A", ""},
+			{"2024-02-29", "B", ""}, {"2024-03-31", "B", ""}, {"2024-04-30", "B", ""},
+		}, tableio.Month, "2024-01", 5},
+		{"month starts", [][3]string{
+			{"2023-11-01", "A", ""}, {"2023-12-01", "A", ""}, {"2024-01-01", "B", ""}, {"2024-02-01", "B", ""},
+		}, tableio.Month, "2023-11", 4},
+		{"quarter ends", [][3]string{
+			{"2023-12-31", "A", ""}, {"2024-03-31", "A", ""}, {"2024-06-30", "A", ""}, {"2024-09-30", "B", ""}, {"2024-12-31", "B", ""},
+		}, tableio.Quarter, "2023-Q4", 5},
+		{"year starts", [][3]string{
+			{"2019-01-01", "A", ""}, {"2020-01-01", "A", ""}, {"2021-01-01", "B", ""},
+		}, tableio.Year, "2019", 3},
+		{"year ends", [][3]string{
+			{"2019-12-31", "A", ""}, {"2020-12-31", "A", ""}, {"2022-12-31", "A", ""},
+		}, tableio.Year, "2019", 4},
+	}
+	for _, c := range cases {
+		vals := make([]float64, len(c.rows))
+		for i := range vals {
+			vals[i] = float64(i + 1)
+		}
+		pn, err := BuildPanel(rowsOf(t, c.rows, vals), PanelOptions{})
+		if err != nil {
+			t.Errorf("%s: %v", c.name, err)
+			continue
+		}
+		if pn.Grain != c.grain || pn.Period(0).String() != c.first || pn.T != c.T {
+			t.Errorf("%s: grain %s first %s T %d, want %s %s %d", c.name, pn.Grain, pn.Period(0), pn.T, c.grain, c.first, c.T)
+		}
+	}
+	// The month-end case in detail: A has no April row inside its span
+	// (a zero), B opens in February and closes in April.
+	rows := cases[0].rows
+	pn, err := BuildPanel(rowsOf(t, rows, []float64{1, 2, 3, 4, 5, 6, 7}), PanelOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := map[string][]float64{"A": {1, 2, 3, 0, 4}, "B": {math.NaN(), 5, 6, 7, math.NaN()}}
+	for s, key := range pn.Keys {
+		for k, w := range want[key[0]] {
+			if got := pn.Values[s][k]; !(got == w || math.IsNaN(got) && math.IsNaN(w)) {
+				t.Errorf("store %s month %d = %v, want %v", key[0], k, got, w)
+			}
+		}
+	}
+}
+
+func TestPanelRefusesAmbiguousDates(t *testing.T) {
+	// 30 days apart, yet both in January: neither daily nor monthly.
+	r := rowsOf(t, [][3]string{{"2024-01-01", "A", ""}, {"2024-01-31", "A", ""}}, []float64{1, 2})
+	_, err := BuildPanel(r, PanelOptions{})
+	if !inputerr.Is(err) || !strings.Contains(err.Error(), "same month") {
+		t.Fatalf("got %v, want an input error about dates in the same month", err)
+	}
+}
+
+func TestPanelYearsAndSteps(t *testing.T) {
+	years := rowsOf(t, [][3]string{{"2022", "A", ""}, {"2023", "A", ""}, {"2024", "A", ""}}, []float64{1, 2, 3})
+	pn, err := BuildPanel(years, PanelOptions{})
+	if err != nil || pn.Grain != tableio.Year || pn.T != 3 || pn.Period(2).String() != "2024" {
+		t.Fatalf("years: %v %+v", err, pn)
+	}
+	steps := rowsOf(t, [][3]string{{"1", "A", ""}, {"2", "A", ""}, {"4", "A", ""}}, []float64{1, 2, 3})
+	pn, err = BuildPanel(steps, PanelOptions{})
+	if err != nil || pn.Grain != tableio.Index || pn.T != 4 || pn.Period(3).String() != "4" || pn.Values[0][2] != 0 {
+		t.Fatalf("steps: %v %+v", err, pn)
+	}
+	if pn.Period(0).HasDate() {
+		t.Errorf("step %s claims a calendar date", pn.Period(0))
+	}
+	month := tableio.Month
+	if _, err := BuildPanel(steps, PanelOptions{Grain: &month}); !inputerr.Is(err) {
+		t.Errorf("steps grouped into months: got %v, want an input error", err)
+	}
+}

@@ -109,6 +109,10 @@ type Result struct {
 	Nonnegative bool
 	// Horizon is the number of forecast periods.
 	Horizon int
+	// KeyTypes gives the type of each key attribute's column in the input
+	// (in Structure.Attrs order): tableio.Int64 for an integer column,
+	// whose values the writers give their integer type back.
+	KeyTypes []tableio.ColumnType
 }
 
 // Calendar numbers a run's periods: T history periods starting at First,
@@ -243,7 +247,7 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	stage("reconcile", start)
 
 	res := &Result{Structure: st, Calendar: Calendar{First: d.Panel.First, T: d.Panel.T}, History: history,
-		Fits: fits, Solution: sol, Levels: opt.Levels, Nonnegative: nonneg, Horizon: opt.Horizon}
+		Fits: fits, Solution: sol, Levels: opt.Levels, Nonnegative: nonneg, Horizon: opt.Horizon, KeyTypes: d.KeyTypes}
 	rep.fill(d, opt, rc, res, method.Name())
 	res.Report = rep
 	return res, nil

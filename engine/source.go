@@ -29,6 +29,13 @@ type Source struct {
 	// Grain, when non-nil, sums finer periods into periods of this grain;
 	// nil works at the data's own grain.
 	Grain *tableio.Grain
+	// TimeKind says how a period column of bare integers is read: the zero
+	// value decides by the values (four-digit numbers from 1800 to 2200
+	// are years, other integers a step index).
+	TimeKind tableio.TimeKind
+	// Comma is the field separator of a CSV file; 0 detects it from the
+	// header line (',', ';' or tab).
+	Comma rune
 }
 
 // Data is a source read, checked and arranged: the bottom series on one
@@ -42,6 +49,9 @@ type Data struct {
 	// Bottom holds the bottom series in the structure's bottom order (the
 	// panel's order when Structure is nil).
 	Bottom [][]float64
+	// KeyTypes gives each key column's type in the input, in the order of
+	// the chains' columns (tableio.Int64 for an integer column).
+	KeyTypes []tableio.ColumnType
 	// Timings in seconds: reading the file, and building panel and
 	// structure.
 	ReadSeconds, StructureSeconds float64
@@ -63,11 +73,12 @@ func Load(src Source) (*Data, error) {
 		keys = append(keys, c...)
 	}
 	start := time.Now()
-	rows, err := tableio.Read(src.Path, tableio.ReadOptions{Format: src.Format, Time: src.Time, Value: src.Value, Keys: keys})
+	rows, err := tableio.Read(src.Path, tableio.ReadOptions{Format: src.Format, Time: src.Time, Value: src.Value, Keys: keys,
+		TimeKind: src.TimeKind, Comma: src.Comma})
 	if err != nil {
 		return nil, err
 	}
-	d := &Data{ReadSeconds: time.Since(start).Seconds(), rows: rows, src: src,
+	d := &Data{ReadSeconds: time.Since(start).Seconds(), KeyTypes: rows.KeyTypes, rows: rows, src: src,
 		Input: InputReport{Path: rows.Path, SHA256: rows.SHA256, Rows: rows.N, Columns: rows.Columns}}
 
 	start = time.Now()

@@ -22,7 +22,7 @@ import (
 type Error struct {
 	File   string // path of the input file at fault
 	Line   int    // text line of a CSV file, the header being line 1
-	Row    int    // data row of a Parquet or Arrow file, counting from 1
+	Row    int    // data row, counting from 1 (the header of a CSV file is not a row)
 	Column string // column at fault
 	Option string // library option at fault, e.g. "Horizon"
 	Msg    string // what is wrong, in words

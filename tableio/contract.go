@@ -21,6 +21,13 @@ type ReadOptions struct {
 	Time, Value string
 	// Keys name the key attribute columns (all attributes of all chains).
 	Keys []string
+	// TimeKind says whether a period column of bare integers holds years
+	// or a step index; the zero value, TimeAuto, decides by the values.
+	TimeKind TimeKind
+	// Comma is the field separator of a CSV file. Zero means: detect it
+	// from the header line, taking the most frequent of ',', ';' and tab
+	// outside quotes (',' when there is none).
+	Comma rune
 }
 
 // Rows is the input table reduced to the columns trueup uses. Key columns
@@ -38,6 +45,11 @@ type Rows struct {
 	KeyNames []string
 	KeyCodes [][]int32
 	KeyDict  [][]string
+	// KeyTypes gives each key column's type in the source: Int64 for an
+	// integer column of a Parquet or Arrow file (its KeyDict entries are
+	// the numbers in decimal), String otherwise, including every CSV key.
+	// Writers use it to give integer keys their integer type back.
+	KeyTypes []ColumnType
 }
 
 // ColumnType is the type of an output column.
@@ -48,10 +60,14 @@ const (
 	String ColumnType = iota
 	Float64
 	Int64
+	// Date is a calendar day: Ints holds days since 1970-01-01. It is
+	// written as a Parquet DATE (INT32), an Arrow date32 and YYYY-MM-DD
+	// text in CSV.
+	Date
 )
 
 // Column is one output column. Exactly one of Strings, Floats, Ints is used,
-// according to Type. Null, when non-nil, marks null entries; a NaN float is
+// according to Type (Ints for Int64 and Date). Null, when non-nil, marks null entries; a NaN float is
 // also written as null.
 type Column struct {
 	Name    string

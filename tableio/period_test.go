@@ -55,8 +55,9 @@ func TestParsePeriodForms(t *testing.T) {
 
 func TestParsePeriodRejects(t *testing.T) {
 	for _, s := range []string{
-		"", "2024", "2024-3", "24-03-01", "2024/03/31", "2024-13", "2024-00", "2024-02-30",
-		"2024-03-31x", "2024-W00", "2024-W54", "2021-W53", "2024-W+7", "2024-W007",
+		"", "-3", "2024.0", "2024-3", "24-03-01", "2024/03/31", "2024-13", "2024-00", "2024-02-30",
+		"2024-03-31x", "2024-03-31T25:00", "2024-03-31T10", "2024-03-31 10:00+1:00", "2024-03-31T10:00:00 CET",
+		"2024-W00", "2024-W54", "2021-W53", "2024-W+7", "2024-W007",
 		"2024-Q0", "2024-Q5", "2024-Q12", "+202-03", "2024-+3", "abcd-01", "March 2024",
 	} {
 		_, err := ParsePeriod(s)
@@ -218,19 +219,51 @@ func TestCoarsen(t *testing.T) {
 }
 
 func TestParseGrain(t *testing.T) {
-	for i, s := range []string{"day", "week", "month", "quarter"} {
+	for i, s := range []string{"day", "week", "month", "quarter", "year", "index"} {
 		g, err := ParseGrain(s)
 		if err != nil || g != Grain(i) || g.String() != s {
 			t.Errorf("ParseGrain(%q) = %v, %v", s, g, err)
 		}
 	}
-	if _, err := ParseGrain("year"); !inputerr.Is(err) {
-		t.Errorf("ParseGrain(year) error %v, want an input error", err)
+	if _, err := ParseGrain("decade"); !inputerr.Is(err) {
+		t.Errorf("ParseGrain(decade) error %v, want an input error", err)
 	}
-	// Common practice: 7 days a week, 52 weeks, 12 months, 4 quarters a year.
-	for g, want := range map[Grain]int{Day: 7, Week: 52, Month: 12, Quarter: 4} {
+	// Common practice: 7 days a week, 52 weeks, 12 months, 4 quarters a
+	// year; yearly data and a step index have no seasonal period of their
+	// own (1).
+	for g, want := range map[Grain]int{Day: 7, Week: 52, Month: 12, Quarter: 4, Year: 1, Index: 1} {
 		if got := g.SeasonalPeriod(); got != want {
 			t.Errorf("%s seasonal period %d, want %d", g, got, want)
+		}
+	}
+}
+
+func TestYearsAndSteps(t *testing.T) {
+	y := mustParse(t, "2024")
+	if y.Grain != Year || y.String() != "2024" || !y.Start().Equal(date(2024, 1, 1)) || !y.HasDate() || y.Next(1).String() != "2025" {
+		t.Errorf("2024 read as %v %s starting %v", y.Grain, y, y.Start())
+	}
+	for _, s := range []string{"17", "0", "1799", "2201", "02024"} {
+		p := mustParse(t, s)
+		if p.Grain != Index || p.HasDate() || !p.Start().IsZero() {
+			t.Errorf("%s read as %v (has date %v)", s, p.Grain, p.HasDate())
+		}
+	}
+	if got := mustParse(t, "0042").String(); got != "42" {
+		t.Errorf("step 0042 prints as %s", got)
+	}
+	for _, c := range []struct{ from, want string }{{"2024-02-29", "2024"}, {"2024-11", "2024"}, {"2023-Q4", "2023"}} {
+		p, err := mustParse(t, c.from).Coarsen(Year)
+		if err != nil || p.String() != c.want {
+			t.Errorf("%s to a year: %v %v", c.from, p, err)
+		}
+	}
+	for _, c := range []struct {
+		from string
+		to   Grain
+	}{{"17", Year}, {"2024", Index}, {"2024-W07", Year}, {"2024", Month}} {
+		if _, err := mustParse(t, c.from).Coarsen(c.to); !inputerr.Is(err) {
+			t.Errorf("%s to %s: got %v, want an input error", c.from, c.to, err)
 		}
 	}
 }

@@ -45,12 +45,22 @@ func Read(path string, opt ReadOptions) (*Rows, error) {
 		r, err = readIPC(data, opt)
 	}
 	if err != nil {
-		return nil, fmt.Errorf("read %s: %w", path, err)
+		return nil, inFile(path, err)
 	}
 	sum := sha256.Sum256(data)
 	r.Path = path
 	r.SHA256 = hex.EncodeToString(sum[:])
 	return r, nil
+}
+
+// inFile names the file in err: an input error without a file gets it in
+// its File field; any other error is wrapped with the path.
+func inFile(path string, err error) error {
+	if e, ok := err.(*inputerr.Error); ok && e.File == "" {
+		e.File = path
+		return e
+	}
+	return fmt.Errorf("read %s: %w", path, err)
 }
 
 // unwrapPath drops the *os.PathError wrapper so the path is not printed
@@ -95,6 +105,7 @@ func newRows(columns []string, opt ReadOptions, n int) *Rows {
 		KeyNames: append([]string(nil), opt.Keys...),
 		KeyCodes: make([][]int32, len(opt.Keys)),
 		KeyDict:  make([][]string, len(opt.Keys)),
+		KeyTypes: make([]ColumnType, len(opt.Keys)),
 	}
 	return r
 }
@@ -187,6 +198,19 @@ func (k *keyEncoder) code(s string) int32 {
 	return c
 }
 
+// codeBytes is code for a key held in a byte slice; a repeated key costs
+// one comparison and a known one a map lookup, neither allocating.
+func (k *keyEncoder) codeBytes(b []byte) int32 {
+	if k.lastCode >= 0 && string(b) == k.last {
+		return k.lastCode
+	}
+	if c, ok := k.index[string(b)]; ok {
+		k.last, k.lastCode = k.dict[c], c
+		return c
+	}
+	return k.code(string(b))
+}
+
 // intCode is code for integer keys, written as decimal text in the
 // dictionary; format renders the value the way its column type prints.
 func (k *keyEncoder) intCode(v int64, format func() string) int32 {
@@ -208,7 +232,8 @@ func (k *keyEncoder) intCode(v int64, format func() string) int32 {
 
 // timeDecoder turns period cells into Periods, remembering the last label
 // so that runs of equal labels are parsed once, and checks that all
-// periods share one grain.
+// periods share one grain. Bare integers are kept as steps of Grain Index
+// until finish decides, for the whole column, whether they are years.
 type timeDecoder struct {
 	periods   []Period
 	grain     Grain
@@ -216,6 +241,7 @@ type timeDecoder struct {
 	last      string
 	lastP     Period
 	haveLast  bool
+	notYears  bool // some bare integer fails the automatic year rule
 
 	dictOf  any
 	dictMap []Period
@@ -227,14 +253,41 @@ func (t *timeDecoder) parse(s string) (Period, error) {
 	if t.haveLast && s == t.last {
 		return t.lastP, nil
 	}
-	p, err := ParsePeriod(s)
+	p, bare, err := parseLabel(s)
 	if err != nil {
 		return Period{}, err
+	}
+	if bare && !yearLike(strings.TrimSpace(s), p.Index) {
+		t.notYears = true
 	}
 	if err := t.checkGrain(p); err != nil {
 		return Period{}, err
 	}
 	t.last, t.lastP, t.haveLast = strings.Clone(s), p, true
+	return p, nil
+}
+
+// parseBytes is parse for a label in a byte slice; a run of equal labels
+// costs one comparison per row and no allocation.
+func (t *timeDecoder) parseBytes(b []byte) (Period, error) {
+	if t.haveLast && string(b) == t.last {
+		return t.lastP, nil
+	}
+	return t.parse(string(b))
+}
+
+// integer reads a period stored as an integer number: a year or a step.
+func (t *timeDecoder) integer(n int64) (Period, error) {
+	if n < 0 || n > maxStep {
+		return Period{}, inputerr.New("period %d is not a year or a step number (use whole numbers from 0)", n)
+	}
+	if n < minAutoYear || n > maxAutoYear {
+		t.notYears = true
+	}
+	p := Period{Index, int(n)}
+	if err := t.checkGrain(p); err != nil {
+		return Period{}, err
+	}
 	return p, nil
 }
 
@@ -247,4 +300,16 @@ func (t *timeDecoder) checkGrain(p Period) error {
 		return inputerr.New("period %s is a %s but earlier periods are %ss; use one grain throughout", p, p.Grain, t.grain)
 	}
 	return nil
+}
+
+// finish decides what a column of bare integers holds (see TimeKind) and
+// turns the steps into years when they are years.
+func (t *timeDecoder) finish(kind TimeKind) {
+	if t.grain != Index || kind == TimeSteps || (kind == TimeAuto && t.notYears) {
+		return
+	}
+	for i, p := range t.periods {
+		t.periods[i] = Period{Year, p.Index - 1970}
+	}
+	t.grain = Year
 }

@@ -2,7 +2,8 @@ package tableio
 
 import (
 	"bytes"
-	"context"
+	"fmt"
+	"math"
 	"strconv"
 	"time"
 
@@ -10,126 +11,9 @@ import (
 	"github.com/apache/arrow-go/v18/arrow/array"
 	"github.com/apache/arrow-go/v18/arrow/ipc"
 	"github.com/apache/arrow-go/v18/arrow/memory"
-	"github.com/apache/arrow-go/v18/parquet/file"
-	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 
 	"trueup/inputerr"
 )
-
-// batchRows is the number of rows decoded per Arrow record batch.
-const batchRows = 1 << 16
-
-// readParquet reads the needed columns of a Parquet file batch by batch.
-// Dictionary-encoded text columns are read as Arrow dictionaries, so each
-// distinct key or period label of a column chunk is looked up once, not
-// once per row.
-func readParquet(data []byte, opt ReadOptions) (*Rows, error) {
-	var (
-		pf      *file.Reader
-		rr      pqarrow.RecordReader
-		columns []string
-	)
-	err := decode("Parquet", func() (err error) {
-		pf, rr, columns, err = openParquet(data, opt)
-		return err
-	})
-	if err != nil {
-		return nil, err
-	}
-	defer pf.Close()
-	defer rr.Release()
-	c := newCollector(columns, opt, int(pf.NumRows()))
-	for {
-		var more bool
-		if err := decode("Parquet", func() error { more = rr.Next(); return nil }); err != nil {
-			return nil, err
-		}
-		if !more {
-			break
-		}
-		if err := c.add(rr.RecordBatch()); err != nil {
-			return nil, err
-		}
-	}
-	if err := rr.Err(); err != nil {
-		return nil, inputerr.New("corrupt Parquet data after row %d: %v", len(c.rows.Values), err)
-	}
-	return c.finish()
-}
-
-// openParquet checks the schema and returns a reader of the period, value
-// and key columns with the names of all columns.
-func openParquet(data []byte, opt ReadOptions) (*file.Reader, pqarrow.RecordReader, []string, error) {
-	pf, err := file.NewParquetReader(bytes.NewReader(data))
-	if err != nil {
-		return nil, nil, nil, inputerr.New("not a valid Parquet file: %v", err)
-	}
-	fail := func(err error) (*file.Reader, pqarrow.RecordReader, []string, error) {
-		pf.Close()
-		return nil, nil, nil, err
-	}
-	var props pqarrow.ArrowReadProperties
-	fr, err := pqarrow.NewFileReader(pf, props, memory.DefaultAllocator)
-	if err != nil {
-		return fail(inputerr.New("cannot read the Parquet schema: %v", err))
-	}
-	sc, err := fr.Schema()
-	if err != nil {
-		return fail(inputerr.New("cannot read the Parquet schema: %v", err))
-	}
-	columns := fieldNames(sc)
-	ti, vi, ki, err := findColumns(columns, opt)
-	if err != nil {
-		return fail(err)
-	}
-	var leaves []int
-	for _, f := range append([]int{ti, vi}, ki...) {
-		sf := fr.Manifest.Fields[f]
-		if !sf.IsLeaf() {
-			return fail(inputerr.New("column %q is nested (%s); trueup reads flat columns", columns[f], sf.Field.Type))
-		}
-		leaves = append(leaves, sf.ColIndex)
-		if f == vi {
-			continue // a text value column is refused with its own type in the message
-		}
-		switch sf.Field.Type.ID() {
-		case arrow.STRING, arrow.LARGE_STRING, arrow.BINARY, arrow.LARGE_BINARY:
-			if dictionaryEncoded(pf, sf.ColIndex) {
-				props.SetReadDict(sf.ColIndex, true)
-			}
-		}
-	}
-	if pf.NumRows() == 0 {
-		return fail(inputerr.New("no data rows"))
-	}
-	props.BatchSize = batchRows
-	// The read-as-dictionary choice shapes the schema, so it takes a
-	// second reader built with the final properties.
-	if fr, err = pqarrow.NewFileReader(pf, props, memory.DefaultAllocator); err != nil {
-		return fail(inputerr.New("cannot read the Parquet schema: %v", err))
-	}
-	rr, err := fr.GetRecordReader(context.Background(), leaves, nil)
-	if err != nil {
-		return fail(inputerr.New("cannot read the Parquet columns: %v", err))
-	}
-	return pf, rr, columns, nil
-}
-
-// dictionaryEncoded reports whether every chunk of the leaf column has a
-// dictionary page. Such columns are cheapest read as Arrow dictionaries;
-// for plainly stored text, building that dictionary costs more than
-// looking each value up in the key map (measured by
-// BenchmarkReadParquet10MPlain).
-func dictionaryEncoded(pf *file.Reader, leaf int) bool {
-	md := pf.MetaData()
-	for i := 0; i < md.NumRowGroups(); i++ {
-		cc, err := md.RowGroup(i).ColumnChunk(leaf)
-		if err != nil || !cc.HasDictionaryPage() {
-			return false
-		}
-	}
-	return true
-}
 
 // readIPC reads an Arrow IPC file (the random-access file format).
 func readIPC(data []byte, opt ReadOptions) (*Rows, error) {
@@ -246,6 +130,7 @@ func (c *collector) add(rec arrow.RecordBatch) error {
 
 func (c *collector) finish() (*Rows, error) {
 	r := c.rows
+	c.td.finish(c.opt.TimeKind)
 	r.Periods = c.td.periods
 	r.N = len(r.Values)
 	if r.N == 0 {
@@ -274,7 +159,7 @@ func (c *collector) addTimes(a arrow.Array, row0 int) error {
 	name := c.opt.Time
 	nulls := a.NullN() > 0
 	nullErr := func(i int) error {
-		return inputerr.New("row %d: period column %q is null", row0+i+1, name)
+		return rowErr(row0+i+1, name, "period column %q is null", name)
 	}
 	td := &c.td
 	start := len(td.periods)
@@ -339,7 +224,7 @@ func (c *collector) addTimes(a arrow.Array, row0 int) error {
 				}
 				p, err := td.parse(dict.Value(int(j)))
 				if err != nil {
-					return wrapAt("row", row0+i+1, name, err)
+					return atRow(row0+i+1, name, err)
 				}
 				td.dictMap[j], td.dictOK[j] = p, true
 			}
@@ -352,19 +237,84 @@ func (c *collector) addTimes(a arrow.Array, row0 int) error {
 			}
 			p, err := td.parse(a.Value(i))
 			if err != nil {
-				return wrapAt("row", row0+i+1, name, err)
+				return atRow(row0+i+1, name, err)
 			}
 			td.periods = append(td.periods, p)
 		}
+	case *array.Int64:
+		return c.addIntTimes(a, a.Values(), row0)
+	case *array.Int32:
+		return c.addIntTimes(a, a.Values(), row0)
+	case *array.Int16:
+		return c.addIntTimes(a, a.Values(), row0)
+	case *array.Uint32:
+		return c.addIntTimes(a, a.Values(), row0)
+	case *array.Uint16:
+		return c.addIntTimes(a, a.Values(), row0)
+	case *array.Uint64:
+		return c.addIntTimes(a, a.Values(), row0)
 	default:
-		return inputerr.New("period column %q has type %s; use a date, a timestamp or text labels such as 2024-03-31, 2024-W07, 2024-03 or 2024-Q1", name, a.DataType())
+		return inputerr.New("period column %q has type %s; %s", name, a.DataType(), periodTypesHint)
 	}
 	if len(td.periods) > start {
 		if err := td.checkGrain(td.periods[start]); err != nil {
-			return wrapAt("row", row0+1, name, err)
+			return atRow(row0+1, name, err)
 		}
 	}
 	return nil
+}
+
+// periodTypesHint lists the period column types the readers accept.
+const periodTypesHint = "use dates, timestamps, integers (years or steps) or text labels such as 2024-03-31, 2024-W07, 2024-03, 2024-Q1 or 2024"
+
+// addIntTimes converts one batch of an integer period column (years or
+// steps, see TimeKind).
+func (c *collector) addIntTimes(a arrow.Array, v any, row0 int) error {
+	nulls := a.NullN() > 0
+	return eachInt(v, func(i int, x int64) error {
+		if nulls && a.IsNull(i) {
+			return rowErr(row0+i+1, c.opt.Time, "period column %q is null", c.opt.Time)
+		}
+		p, err := c.td.integer(x)
+		if err != nil {
+			return atRow(row0+i+1, c.opt.Time, err)
+		}
+		c.td.periods = append(c.td.periods, p)
+		return nil
+	})
+}
+
+// eachInt calls f with each entry of an integer slice as an int64; a
+// uint64 too large for int64 is passed as -1, which callers refuse.
+func eachInt(v any, f func(i int, x int64) error) error {
+	var err error
+	run := func(n int, at func(int) int64) {
+		for i := 0; i < n && err == nil; i++ {
+			err = f(i, at(i))
+		}
+	}
+	switch v := v.(type) {
+	case []int64:
+		run(len(v), func(i int) int64 { return v[i] })
+	case []int32:
+		run(len(v), func(i int) int64 { return int64(v[i]) })
+	case []int16:
+		run(len(v), func(i int) int64 { return int64(v[i]) })
+	case []uint32:
+		run(len(v), func(i int) int64 { return int64(v[i]) })
+	case []uint16:
+		run(len(v), func(i int) int64 { return int64(v[i]) })
+	case []uint64:
+		run(len(v), func(i int) int64 {
+			if v[i] > math.MaxInt64 {
+				return -1
+			}
+			return int64(v[i])
+		})
+	default:
+		panic(fmt.Sprintf("tableio: eachInt of %T", v))
+	}
+	return err
 }
 
 // zone returns the location of an Arrow timestamp time zone, nil for UTC
@@ -482,10 +432,10 @@ func (c *collector) addValues(a arrow.Array, row0 int) error {
 	nulls := a.NullN() > 0
 	for i, v := range vals[start:] {
 		if nulls && a.IsNull(i) {
-			return inputerr.New("row %d: value column %q is null", row0+i+1, c.opt.Value)
+			return rowErr(row0+i+1, c.opt.Value, "value column %q is null", c.opt.Value)
 		}
 		if v-v != 0 { // NaN or ±Inf
-			return inputerr.New("row %d: value column %q is %v, not a finite number", row0+i+1, c.opt.Value, v)
+			return rowErr(row0+i+1, c.opt.Value, "value column %q is %v, not a finite number", c.opt.Value, v)
 		}
 	}
 	return nil
@@ -498,11 +448,17 @@ func (c *collector) addKeys(k int, a arrow.Array, row0 int) error {
 	enc, name := c.keys[k], c.opt.Keys[k]
 	nulls := a.NullN() > 0
 	bad := func(i int, what string) error {
-		return inputerr.New("row %d: key column %q is %s", row0+i+1, name, what)
+		return rowErr(row0+i+1, name, "key column %q is %s", name, what)
+	}
+	if arrow.IsInteger(a.DataType().ID()) {
+		c.rows.KeyTypes[k] = Int64
 	}
 	switch a := a.(type) {
 	case *array.Dictionary:
 		dict := a.Dictionary()
+		if arrow.IsInteger(dict.DataType().ID()) {
+			c.rows.KeyTypes[k] = Int64
+		}
 		if enc.dictOf != dict.Data() || len(enc.dictMap) != dict.Len() {
 			enc.dictOf = dict.Data()
 			enc.dictMap = enc.dictMap[:0]

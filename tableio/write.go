@@ -13,7 +13,8 @@ import (
 	"github.com/apache/arrow-go/v18/arrow/memory"
 	"github.com/apache/arrow-go/v18/parquet"
 	"github.com/apache/arrow-go/v18/parquet/compress"
-	"github.com/apache/arrow-go/v18/parquet/pqarrow"
+	"github.com/apache/arrow-go/v18/parquet/file"
+	"github.com/apache/arrow-go/v18/parquet/schema"
 )
 
 // WriteTable writes t to path in format f, atomically (see
@@ -61,7 +62,7 @@ func checkTable(t *Table) (int, error) {
 			m, other = len(c.Strings), len(c.Floats)+len(c.Ints)
 		case Float64:
 			m, other = len(c.Floats), len(c.Strings)+len(c.Ints)
-		case Int64:
+		case Int64, Date:
 			m, other = len(c.Ints), len(c.Strings)+len(c.Floats)
 		default:
 			return 0, fmt.Errorf("column %q: unknown type %d", c.Name, c.Type)
@@ -110,6 +111,8 @@ func writeCSV(w io.Writer, t *Table, n int) error {
 				rec[j] = c.Strings[i]
 			case c.Type == Float64:
 				rec[j] = string(appendCSVFloat(buf[:0], c.Floats[i]))
+			case c.Type == Date:
+				rec[j] = Period{Day, int(c.Ints[i])}.String()
 			default:
 				rec[j] = strconv.FormatInt(c.Ints[i], 10)
 			}
@@ -146,6 +149,18 @@ func record(t *Table, n int) arrow.RecordBatch {
 			cols[j] = b.NewArray()
 			b.Release()
 			fields[j] = arrow.Field{Name: c.Name, Type: arrow.PrimitiveTypes.Float64, Nullable: true}
+		case Date:
+			b := array.NewDate32Builder(mem)
+			for i, v := range c.Ints {
+				if valid[i] {
+					b.Append(arrow.Date32(v))
+				} else {
+					b.AppendNull()
+				}
+			}
+			cols[j] = b.NewArray()
+			b.Release()
+			fields[j] = arrow.Field{Name: c.Name, Type: arrow.FixedWidthTypes.Date32, Nullable: true}
 		default:
 			b := array.NewInt64Builder(mem)
 			b.AppendValues(c.Ints, valid)
@@ -165,23 +180,116 @@ func record(t *Table, n int) arrow.RecordBatch {
 // output a piece at a time (one Mi rows is common practice).
 const rowGroupRows = 1 << 20
 
+// writeParquet writes t with parquet/file's column chunk writers: every
+// column optional (nulls as definition level 0), text as UTF-8 String,
+// Date as INT32 DATE, dictionary pages where they pay, Snappy pages. The
+// file carries no timestamps, so the same table gives the same bytes.
 func writeParquet(w io.Writer, t *Table, n int) error {
-	rec := record(t, n)
-	defer rec.Release()
+	fields := make(schema.FieldList, len(t.Columns))
+	for j := range t.Columns {
+		c := &t.Columns[j]
+		var err error
+		switch c.Type {
+		case String:
+			fields[j], err = schema.NewPrimitiveNodeLogical(c.Name, parquet.Repetitions.Optional, schema.StringLogicalType{}, parquet.Types.ByteArray, -1, -1)
+		case Float64:
+			fields[j], err = schema.NewPrimitiveNode(c.Name, parquet.Repetitions.Optional, parquet.Types.Double, -1, -1)
+		case Int64:
+			fields[j], err = schema.NewPrimitiveNode(c.Name, parquet.Repetitions.Optional, parquet.Types.Int64, -1, -1)
+		default: // Date
+			fields[j], err = schema.NewPrimitiveNodeLogical(c.Name, parquet.Repetitions.Optional, schema.DateLogicalType{}, parquet.Types.Int32, -1, -1)
+		}
+		if err != nil {
+			return err
+		}
+	}
+	root, err := schema.NewGroupNode("schema", parquet.Repetitions.Required, fields, -1)
+	if err != nil {
+		return err
+	}
 	props := parquet.NewWriterProperties(
 		parquet.WithCompression(compress.Codecs.Snappy),
 		parquet.WithDictionaryDefault(true),
 		parquet.WithMaxRowGroupLength(rowGroupRows),
 	)
-	fw, err := pqarrow.NewFileWriter(rec.Schema(), w, props, pqarrow.NewArrowWriterProperties(pqarrow.WithStoreSchema()))
+	fw, err := file.NewParquetWriterWithError(w, root, file.WithWriterProps(props))
 	if err != nil {
 		return err
 	}
-	if err := fw.Write(rec); err != nil {
-		fw.Close()
-		return err
+	for lo := 0; ; lo += rowGroupRows { // an empty table gets one empty row group
+		hi := min(n, lo+rowGroupRows)
+		if err := writeRowGroup(fw, t, lo, hi); err != nil {
+			fw.Close()
+			return err
+		}
+		if hi == n {
+			break
+		}
 	}
 	return fw.Close()
+}
+
+// writeRowGroup writes rows lo to hi of t as one row group.
+func writeRowGroup(fw *file.Writer, t *Table, lo, hi int) error {
+	rg, err := fw.AppendRowGroupChecked()
+	if err != nil {
+		return err
+	}
+	def := make([]int16, hi-lo)
+	for j := range t.Columns {
+		c := &t.Columns[j]
+		for i := range def {
+			def[i] = 1
+			if c.isNull(lo + i) {
+				def[i] = 0
+			}
+		}
+		cw, err := rg.NextColumn()
+		if err != nil {
+			return err
+		}
+		switch c.Type {
+		case String:
+			v := make([]parquet.ByteArray, 0, hi-lo)
+			for i := lo; i < hi; i++ {
+				if def[i-lo] == 1 {
+					v = append(v, parquet.ByteArray(c.Strings[i]))
+				}
+			}
+			_, err = cw.(*file.ByteArrayColumnChunkWriter).WriteBatch(v, def, nil)
+		case Float64:
+			v := make([]float64, 0, hi-lo)
+			for i := lo; i < hi; i++ {
+				if def[i-lo] == 1 {
+					v = append(v, c.Floats[i])
+				}
+			}
+			_, err = cw.(*file.Float64ColumnChunkWriter).WriteBatch(v, def, nil)
+		case Int64:
+			v := make([]int64, 0, hi-lo)
+			for i := lo; i < hi; i++ {
+				if def[i-lo] == 1 {
+					v = append(v, c.Ints[i])
+				}
+			}
+			_, err = cw.(*file.Int64ColumnChunkWriter).WriteBatch(v, def, nil)
+		default: // Date
+			v := make([]int32, 0, hi-lo)
+			for i := lo; i < hi; i++ {
+				if def[i-lo] == 1 {
+					v = append(v, int32(c.Ints[i]))
+				}
+			}
+			_, err = cw.(*file.Int32ColumnChunkWriter).WriteBatch(v, def, nil)
+		}
+		if err != nil {
+			return err
+		}
+		if err := cw.Close(); err != nil {
+			return err
+		}
+	}
+	return rg.Close()
 }
 
 func writeIPC(w io.Writer, t *Table, n int) error {

@@ -77,14 +77,10 @@ series, model, estimates, fit_quality, forecast, residuals and warning.`,
 			return runFit(cmd.Context(), cmd.OutOrStdout(), &fl)
 		},
 	}
+	fl.src.registerInput(cmd)
 	f := cmd.Flags()
-	f.StringVar(&fl.src.input, "input", "", "sales table: .parquet, .csv or .arrow")
-	f.StringVar(&fl.src.format, "input-format", "", "read the input as parquet, csv or arrow whatever its extension")
-	f.StringVar(&fl.src.time, "time", "period", "period column: dates, timestamps, labels such as 2024-03, 2024-Q1, 2024-W07, 2024, or a time index 1, 2, 3")
-	f.StringVar(&fl.src.value, "value", "sales", "numeric value column")
 	f.StringVar(&fl.key, "key", "", "column whose values name separate series (default: the table is one series)")
-	f.StringVar(&fl.src.grain, "grain", "", "work at this grain, summing finer periods: day, week, month, quarter, year")
-	f.BoolVar(&fl.src.sumDuplicates, "sum-duplicates", false, "add up rows with the same key and period instead of refusing them")
+	groupFlags(cmd, "Input", "key")
 	f.StringVar(&fl.family, "family", "", "model family: "+familyNames())
 	f.StringVar(&fl.model, "model", "", `fixed form, e.g. "ARIMA(0,1,1)(0,1,1)" or "ETS(M,Ad,M)"; it implies the family`)
 	f.StringVar(&fl.transform, "transform", "none", "transform before fitting: none, log or boxcox (not with --family auto, which chooses its own)")
@@ -233,13 +229,12 @@ func (r *fitRun) view(i int, nf *engine.NodeFit) (*fitView, error) {
 	v.stdErr = make([]float64, h)
 	for k := range v.periods {
 		v.periods[k] = p.First.Next(p.T + k).String()
-		v.stdErr[k] = math.Sqrt(math.Max(nf.Variance[k], 0))
+		v.stdErr[k] = nf.StdError(k)
 	}
 	for _, l := range r.levels {
-		z := engine.Quantile(l)
 		lo, hi := make([]float64, h), make([]float64, h)
-		for k, m := range nf.Mean {
-			lo[k], hi[k] = m-z*v.stdErr[k], m+z*v.stdErr[k]
+		for k := range nf.Mean {
+			lo[k], hi[k] = nf.Bounds(k, l)
 		}
 		v.lower, v.upper = append(v.lower, lo), append(v.upper, hi)
 	}

@@ -51,7 +51,8 @@ var optionFlags = map[string]string{
 	"Levels": "--levels", "Family": "--family", "Model": "--model", "Transform": "--transform",
 	"Constant": "--constant", "Method": "--method", "Cov": "--cov", "At": "--at",
 	"Nonnegative": "--nonnegative", "Paths": "--paths", "History": "--history",
-	"Formats": "--format", "Out": "--out", "Origins": "--origins", "Every": "--every", "Compare": "--compare",
+	"Formats": "--format", "Out": "--out", "SumDuplicates": "--sum-duplicates", "Grain": "--grain",
+	"Origins": "--origins", "Every": "--every", "Compare": "--compare",
 }
 
 // run executes the command line and maps errors to exit statuses: input and

@@ -1,6 +1,8 @@
 package main
 
 import (
+	"fmt"
+
 	"github.com/spf13/cobra"
 
 	"trueup/engine"
@@ -16,18 +18,30 @@ type sourceFlags struct {
 	nest          []string
 	grain         string
 	sumDuplicates bool
+	integerTime   string
+	separator     string
 }
 
+// register adds the input flags and --nest.
 func (f *sourceFlags) register(cmd *cobra.Command) {
+	f.registerInput(cmd)
+	cmd.Flags().StringArrayVar(&f.nest, "nest", nil, "key columns of one chain, coarse to fine, comma-separated (repeatable)")
+	groupFlags(cmd, "Input", "nest")
+}
+
+// registerInput adds the flags that name the table, its columns and how
+// to read them, without --nest.
+func (f *sourceFlags) registerInput(cmd *cobra.Command) {
 	fl := cmd.Flags()
 	fl.StringVar(&f.input, "input", "", "sales table: .parquet, .csv or .arrow")
 	fl.StringVar(&f.format, "input-format", "", "read the input as parquet, csv or arrow whatever its extension")
 	fl.StringVar(&f.time, "time", "period", "period column: dates, timestamps, labels such as 2024-03, 2024-Q1, 2024-W07, 2024, or a time index 1, 2, 3")
 	fl.StringVar(&f.value, "value", "sales", "numeric value column")
-	fl.StringArrayVar(&f.nest, "nest", nil, "key columns of one chain, coarse to fine, comma-separated (repeatable)")
 	fl.StringVar(&f.grain, "grain", "", "work at this grain, summing finer periods: day, week, month, quarter, year")
 	fl.BoolVar(&f.sumDuplicates, "sum-duplicates", false, "add up rows with the same key and period instead of refusing them")
-	groupFlags(cmd, "Input", "input", "input-format", "time", "value", "nest", "grain", "sum-duplicates")
+	fl.StringVar(&f.integerTime, "integer-time", "auto", "read whole-number periods as years or steps (auto: four-digit numbers 1800-2200 are years)")
+	fl.StringVar(&f.separator, "separator", "", `CSV field separator: ",", ";", "|" or "tab" (default: detected from the header line)`)
+	groupFlags(cmd, "Input", "input", "input-format", "time", "value", "grain", "sum-duplicates", "integer-time", "separator")
 }
 
 // source returns the engine source the flags describe. needKeys says
@@ -44,6 +58,24 @@ func (f *sourceFlags) source(needKeys bool) (engine.Source, error) {
 			return src, err
 		}
 		src.Chains = chains
+	}
+	switch f.integerTime {
+	case "auto":
+	case "years":
+		src.TimeKind = tableio.TimeYears
+	case "steps":
+		src.TimeKind = tableio.TimeSteps
+	default:
+		return src, &usageError{fmt.Errorf("--integer-time: %q is not auto, years or steps", f.integerTime)}
+	}
+	switch f.separator {
+	case "":
+	case "tab", `\t`:
+		src.Comma = '\t'
+	case ",", ";", "|":
+		src.Comma = rune(f.separator[0])
+	default:
+		return src, &usageError{fmt.Errorf("--separator: %q is not one of \",\", \";\", \"|\" or \"tab\"", f.separator)}
 	}
 	if f.grain != "" {
 		g, err := tableio.ParseGrain(f.grain)

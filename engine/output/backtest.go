@@ -6,6 +6,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"strconv"
 
 	"trueup/engine"
 	"trueup/hierarchy"
@@ -53,7 +54,8 @@ func WriteBacktest(dir string, bt *engine.BacktestResult, formats []string) ([]s
 // BacktestTables returns the tables of a backtest:
 //
 //   - backtest: one row per origin, method, node and step — the level and
-//     key columns, origin (first forecast period), period, step, method,
+//     key columns, origin (first forecast period), period, period_start (its first
+//     day, a date), step, method,
 //     actual, forecast, error (actual − forecast), scale (the node's
 //     in-sample seasonal naive MAE at the origin; null where the node is
 //     not scored) and the interval bounds piL_lower, piL_upper;
@@ -85,20 +87,32 @@ func strCol(name string) tableio.Column { return tableio.Column{Name: name, Type
 func intCol(name string) tableio.Column { return tableio.Column{Name: name, Type: tableio.Int64} }
 func fltCol(name string) tableio.Column { return tableio.Column{Name: name, Type: tableio.Float64} }
 
-// nodeKeys appends node i's level and key values to the key columns.
+// nodeKeys appends node i's level and key values to the key columns
+// (integer keys as integers, as keyColumns writes them).
 func nodeKeys(cols []tableio.Column, st *hierarchy.Structure, i int) {
 	node := st.Nodes[i]
 	cols[0].Strings = append(cols[0].Strings, st.Levels[node.Level].Name)
 	for a, v := range node.Key {
-		cols[a+1].Strings = append(cols[a+1].Strings, v)
-		cols[a+1].Null = append(cols[a+1].Null, v == "")
+		c := &cols[a+1]
+		c.Null = append(c.Null, v == "")
+		if c.Type == tableio.Int64 {
+			x, _ := strconv.ParseInt(v, 10, 64) // "" is null
+			c.Ints = append(c.Ints, x)
+		} else {
+			c.Strings = append(c.Strings, v)
+		}
 	}
 }
 
-func emptyKeys(st *hierarchy.Structure) []tableio.Column {
+// emptyKeys returns the level column and one empty column per key
+// attribute, typed as the input's key columns.
+func emptyKeys(st *hierarchy.Structure, types []tableio.ColumnType) []tableio.Column {
 	cols := []tableio.Column{strCol("level")}
-	for _, a := range st.Attrs {
-		c := strCol(a)
+	for a, name := range st.Attrs {
+		c := strCol(name)
+		if a < len(types) && types[a] == tableio.Int64 {
+			c = intCol(name)
+		}
 		c.Null = []bool{}
 		cols = append(cols, c)
 	}
@@ -106,8 +120,9 @@ func emptyKeys(st *hierarchy.Structure) []tableio.Column {
 }
 
 func backtestTable(bt *engine.BacktestResult) *tableio.Table {
-	keys := emptyKeys(bt.Structure)
+	keys := emptyKeys(bt.Structure, bt.KeyTypes)
 	origin, period, step, method := strCol("origin"), strCol("period"), intCol("step"), strCol("method")
+	start := tableio.Column{Name: "period_start", Type: tableio.Date, Null: []bool{}}
 	actual, forecast, errc, scale := fltCol("actual"), fltCol("forecast"), fltCol("error"), fltCol("scale")
 	bounds := make([]tableio.Column, 2*len(bt.Levels))
 	for l, lv := range bt.Levels {
@@ -126,7 +141,14 @@ func backtestTable(bt *engine.BacktestResult) *tableio.Table {
 				for k := 0; k < bt.Horizon; k++ {
 					nodeKeys(keys, st, i)
 					origin.Strings = append(origin.Strings, org.Start.String())
-					period.Strings = append(period.Strings, org.Start.Next(k).String())
+					p := org.Start.Next(k)
+					period.Strings = append(period.Strings, p.String())
+					var day int64
+					if p.HasDate() {
+						day = p.Start().Unix() / 86400
+					}
+					start.Ints = append(start.Ints, day)
+					start.Null = append(start.Null, !p.HasDate())
 					step.Ints = append(step.Ints, int64(k+1))
 					method.Strings = append(method.Strings, m)
 					a, f := org.Actual[i][k], r.Solution.Forecast[i][k]
@@ -143,7 +165,7 @@ func backtestTable(bt *engine.BacktestResult) *tableio.Table {
 			}
 		}
 	}
-	cols := append(keys, origin, period, step, method, actual, forecast, errc, scale)
+	cols := append(keys, origin, period, start, step, method, actual, forecast, errc, scale)
 	return &tableio.Table{Columns: append(cols, bounds...)}
 }
 

@@ -11,6 +11,8 @@ import (
 	"trueup/engine"
 	"trueup/engine/output"
 	"trueup/fixtures"
+	"trueup/hierarchy"
+	"trueup/models/families"
 	"trueup/tableio"
 )
 
@@ -73,5 +75,80 @@ func TestUnknownFormatIsAnInputError(t *testing.T) {
 	got, err := output.ParseFormats("CSV, parquet,csv")
 	if err != nil || len(got) != 2 || got[0] != "csv" || got[1] != "parquet" {
 		t.Fatalf("ParseFormats = %v, %v", got, err)
+	}
+}
+
+// TestTypedPeriodAndIntegerKeys checks the tables analysts join to their
+// actuals: the period is a typed date (the first day of the period) beside
+// its text label, and a key column that was integer in the input is
+// integer in the output, null where a node aggregates over it.
+func TestTypedPeriodAndIntegerKeys(t *testing.T) {
+	cfg := fixtures.DefaultConfig("month")
+	cfg.Regions, cfg.Stores, cfg.Categories, cfg.Years = 1, 5, 1, 3
+	tb := fixtures.Generate(cfg).Table()
+	// Number the stores 101, 102, … in an integer column.
+	codes := map[string]int64{}
+	ids := tableio.Column{Name: "store_id", Type: tableio.Int64}
+	var cols []tableio.Column
+	for _, c := range tb.Columns {
+		if c.Name == fixtures.ColStore {
+			for _, s := range c.Strings {
+				if _, ok := codes[s]; !ok {
+					codes[s] = int64(101 + len(codes))
+				}
+				ids.Ints = append(ids.Ints, codes[s])
+			}
+			c = ids
+		}
+		cols = append(cols, c)
+	}
+	dir := t.TempDir()
+	input := filepath.Join(dir, "ids.parquet")
+	if err := tableio.WriteTable(input, &tableio.Table{Columns: cols}, tableio.Parquet); err != nil {
+		t.Fatal(err)
+	}
+	d, err := engine.Load(engine.Source{Path: input, Time: fixtures.DemoTimeColumn, Value: fixtures.DemoValueColumn,
+		Chains: []hierarchy.Chain{{"store_id"}}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := engine.Forecast(context.Background(), d, engine.Options{Model: families.Spec{Family: "drift"}, Horizon: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := output.Write(dir, res, []string{"parquet", "arrow"}); err != nil {
+		t.Fatal(err)
+	}
+	for _, name := range []string{"forecasts.parquet", "forecasts.arrow", "residuals.parquet"} {
+		back, err := tableio.ReadTable(filepath.Join(dir, name), "")
+		if err != nil {
+			t.Fatal(err)
+		}
+		col := map[string]tableio.Column{}
+		for _, c := range back.Columns {
+			col[c.Name] = c
+		}
+		id, start, label := col["store_id"], col["period_start"], col["period"]
+		if id.Type != tableio.Int64 || start.Type != tableio.Date || label.Type != tableio.String {
+			t.Fatalf("%s: store_id, period_start, period have types %v, %v, %v", name, id.Type, start.Type, label.Type)
+		}
+		sawNull, sawID := false, false
+		for r := range label.Strings {
+			p, err := tableio.ParsePeriod(label.Strings[r])
+			if err != nil {
+				t.Fatal(err)
+			}
+			if got := start.Ints[r]; got != p.Start().Unix()/86400 {
+				t.Fatalf("%s row %d: period_start is day %d, period %s starts on day %d", name, r, got, label.Strings[r], p.Start().Unix()/86400)
+			}
+			if id.Null != nil && id.Null[r] {
+				sawNull = true
+			} else if id.Ints[r] >= 101 && id.Ints[r] <= 105 {
+				sawID = true
+			}
+		}
+		if !sawNull || !sawID {
+			t.Errorf("%s: want store ids 101-105 and null for the total (saw id %v, null %v)", name, sawID, sawNull)
+		}
 	}
 }

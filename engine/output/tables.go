@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
+	"strconv"
 
 	"trueup/engine"
 	"trueup/tableio"
@@ -29,27 +30,67 @@ func Tables(res *engine.Result) []Table {
 	return out
 }
 
-// keyColumns returns one string column per key attribute with the node's
-// value, or null where the node aggregates over that attribute. repeat
+// keyColumns returns one column per key attribute with the node's value,
+// or null where the node aggregates over that attribute; an attribute that
+// was an integer column in the input is written as integers again. repeat
 // says how many consecutive rows each node occupies.
 func keyColumns(res *engine.Result, repeat int) []tableio.Column {
 	st := res.Structure
 	cols := make([]tableio.Column, len(st.Attrs)+1)
 	n := len(st.Nodes) * repeat
 	cols[0] = tableio.Column{Name: "level", Type: tableio.String, Strings: make([]string, 0, n)}
+	integer := make([]bool, len(st.Attrs))
 	for a, name := range st.Attrs {
-		cols[a+1] = tableio.Column{Name: name, Type: tableio.String, Strings: make([]string, 0, n), Null: make([]bool, 0, n)}
+		integer[a] = a < len(res.KeyTypes) && res.KeyTypes[a] == tableio.Int64
+		cols[a+1] = tableio.Column{Name: name, Type: tableio.String, Null: make([]bool, 0, n)}
+		if integer[a] {
+			cols[a+1].Type, cols[a+1].Ints = tableio.Int64, make([]int64, 0, n)
+		} else {
+			cols[a+1].Strings = make([]string, 0, n)
+		}
 	}
 	for _, node := range st.Nodes {
 		for r := 0; r < repeat; r++ {
 			cols[0].Strings = append(cols[0].Strings, st.Levels[node.Level].Name)
 			for a, v := range node.Key {
-				cols[a+1].Strings = append(cols[a+1].Strings, v)
-				cols[a+1].Null = append(cols[a+1].Null, v == "")
+				c := &cols[a+1]
+				c.Null = append(c.Null, v == "")
+				if integer[a] {
+					x, _ := strconv.ParseInt(v, 10, 64) // written from an integer by tableio; "" is null
+					c.Ints = append(c.Ints, x)
+				} else {
+					c.Strings = append(c.Strings, v)
+				}
 			}
 		}
 	}
 	return cols
+}
+
+// periodColumns returns the period as text ("period", e.g. 2026-03) and as
+// a typed date, the first day of the period ("period_start"; null for a
+// step index, which has no calendar), for the periods from the calendar's
+// column first, count of them, each repeated for every node.
+func periodColumns(res *engine.Result, first, count int) (label, start tableio.Column) {
+	n := len(res.Structure.Nodes) * count
+	label = tableio.Column{Name: "period", Type: tableio.String, Strings: make([]string, 0, n)}
+	start = tableio.Column{Name: "period_start", Type: tableio.Date, Ints: make([]int64, 0, n), Null: make([]bool, 0, n)}
+	labels, days, dated := make([]string, count), make([]int64, count), make([]bool, count)
+	for k := range labels {
+		p := res.Calendar.Period(first + k)
+		labels[k] = p.String()
+		if dated[k] = p.HasDate(); dated[k] {
+			days[k] = p.Start().Unix() / 86400
+		}
+	}
+	for range res.Structure.Nodes {
+		for k := range labels {
+			label.Strings = append(label.Strings, labels[k])
+			start.Ints = append(start.Ints, days[k])
+			start.Null = append(start.Null, !dated[k])
+		}
+	}
+	return label, start
 }
 
 // ForecastTable has one row per node and step: level, key columns,
@@ -61,7 +102,7 @@ func ForecastTable(res *engine.Result) *tableio.Table {
 	st := res.Structure
 	n := len(st.Nodes)
 	cols := keyColumns(res, h)
-	period := tableio.Column{Name: "period", Type: tableio.String, Strings: make([]string, 0, n*h)}
+	period, periodStart := periodColumns(res, res.Calendar.T, h)
 	step := tableio.Column{Name: "step", Type: tableio.Int64, Ints: make([]int64, 0, n*h)}
 	base := tableio.Column{Name: "base", Type: tableio.Float64, Floats: make([]float64, 0, n*h)}
 	baseVar := tableio.Column{Name: "base_variance", Type: tableio.Float64, Floats: make([]float64, 0, n*h)}
@@ -76,13 +117,8 @@ func ForecastTable(res *engine.Result) *tableio.Table {
 		bounds[2*l] = tableio.Column{Name: name + "_lower", Type: tableio.Float64, Floats: make([]float64, 0, n*h)}
 		bounds[2*l+1] = tableio.Column{Name: name + "_upper", Type: tableio.Float64, Floats: make([]float64, 0, n*h)}
 	}
-	labels := make([]string, h)
-	for k := range labels {
-		labels[k] = res.ForecastPeriod(k).String()
-	}
 	for i := 0; i < n; i++ {
 		for k := 0; k < h; k++ {
-			period.Strings = append(period.Strings, labels[k])
 			step.Ints = append(step.Ints, int64(k+1))
 			base.Floats = append(base.Floats, res.Fits[i].Mean[k])
 			v := math.NaN()
@@ -98,7 +134,7 @@ func ForecastTable(res *engine.Result) *tableio.Table {
 			}
 		}
 	}
-	cols = append(cols, period, step, base, baseVar, fc)
+	cols = append(cols, period, periodStart, step, base, baseVar, fc)
 	cols = append(cols, bounds...)
 	return &tableio.Table{Columns: cols}
 }
@@ -113,19 +149,14 @@ func ResidualTable(res *engine.Result) *tableio.Table {
 	T := res.Calendar.T
 	n := len(res.Fits)
 	cols := keyColumns(res, T)
-	period := tableio.Column{Name: "period", Type: tableio.String, Strings: make([]string, 0, n*T)}
+	period, periodStart := periodColumns(res, 0, T)
 	resid := tableio.Column{Name: "residual", Type: tableio.Float64, Floats: make([]float64, 0, n*T)}
-	labels := make([]string, T)
-	for t := range labels {
-		labels[t] = res.Calendar.Period(t).String()
-	}
 	row := make([]float64, T)
 	for _, f := range res.Fits {
 		f.ResidualsOnCalendar(row)
-		period.Strings = append(period.Strings, labels...)
 		resid.Floats = append(resid.Floats, row...)
 	}
-	return &tableio.Table{Columns: append(cols, period, resid)}
+	return &tableio.Table{Columns: append(cols, period, periodStart, resid)}
 }
 
 // ModelTable has one row per node: the chosen family, its spec, its
