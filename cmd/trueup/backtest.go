@@ -177,9 +177,15 @@ func printBacktest(w io.Writer, bt *engine.BacktestResult, files []string, asJSO
 		}
 		textTable(w, []string{"level", "scaled"}, rows)
 	}
-	if len(rep.Warnings) > 0 {
+	var warnings []string
+	for _, warn := range rep.Warnings {
+		if !strings.HasPrefix(warn, "method ") { // skipped methods are named at the top
+			warnings = append(warnings, warn)
+		}
+	}
+	if len(warnings) > 0 {
 		fmt.Fprintln(w, "\nWarnings:")
-		for _, warn := range rep.Warnings {
+		for _, warn := range warnings {
 			fmt.Fprintln(w, "  -", warn)
 		}
 	}
