@@ -8,6 +8,7 @@ import (
 	"path/filepath"
 	"strconv"
 
+	"trueup/accuracy"
 	"trueup/engine"
 	"trueup/hierarchy"
 	"trueup/inputerr"
@@ -58,7 +59,11 @@ func WriteBacktest(dir string, bt *engine.BacktestResult, formats []string) ([]s
 //     day, a date), step, method,
 //     actual, forecast, error (actual − forecast), scale (the node's
 //     in-sample seasonal naive MAE at the origin; null where the node is
-//     not scored) and the interval bounds piL_lower, piL_upper;
+//     not scored), scaled_error (error / scale: its mean is the bias, the
+//     mean of its absolute value the MASE), scaled_squared_error (error²
+//     over the seasonal naive MSE, behind the RMSSE), the interval bounds
+//     piL_lower, piL_upper, inside_L (1 when the actual lies in the
+//     interval) and interval_score_L (over the scale);
 //   - scores: level, method, step (null: all steps), count, mase, rmsse,
 //     bias, and coverage_L and interval_score_L per interval level; rows
 //     with a null level are the headline (mean over levels);
@@ -124,19 +129,26 @@ func backtestTable(bt *engine.BacktestResult) *tableio.Table {
 	origin, period, step, method := strCol("origin"), strCol("period"), intCol("step"), strCol("method")
 	start := tableio.Column{Name: "period_start", Type: tableio.Date, Null: []bool{}}
 	actual, forecast, errc, scale := fltCol("actual"), fltCol("forecast"), fltCol("error"), fltCol("scale")
+	scaled, squared := fltCol("scaled_error"), fltCol("scaled_squared_error")
 	bounds := make([]tableio.Column, 2*len(bt.Levels))
+	inside := make([]tableio.Column, len(bt.Levels))
+	score := make([]tableio.Column, len(bt.Levels))
 	for l, lv := range bt.Levels {
 		name := "pi" + engine.LevelLabel(lv)
 		bounds[2*l], bounds[2*l+1] = fltCol(name+"_lower"), fltCol(name+"_upper")
+		inside[l] = intCol("inside_" + engine.LevelLabel(lv))
+		inside[l].Null = []bool{}
+		score[l] = fltCol("interval_score_" + engine.LevelLabel(lv))
 	}
 	for _, org := range bt.Origins {
 		st := org.Structure
 		for _, m := range bt.Methods {
 			r := org.Results[m]
 			for i := range st.Nodes {
-				s := org.ScaleMAE[i]
-				if !org.Scored(i) {
-					s = nan
+				s, s2 := org.ScaleMAE[i], org.ScaleMSE[i]
+				scored := org.Scored(i)
+				if !scored {
+					s, s2 = nan, nan
 				}
 				for k := 0; k < bt.Horizon; k++ {
 					nodeKeys(keys, st, i)
@@ -156,17 +168,28 @@ func backtestTable(bt *engine.BacktestResult) *tableio.Table {
 					forecast.Floats = append(forecast.Floats, f)
 					errc.Floats = append(errc.Floats, a-f)
 					scale.Floats = append(scale.Floats, s)
+					scaled.Floats = append(scaled.Floats, (a-f)/s)
+					squared.Floats = append(squared.Floats, (a-f)*(a-f)/s2)
 					for l, lv := range bt.Levels {
 						lo, hi := r.Bounds(i, k, lv)
 						bounds[2*l].Floats = append(bounds[2*l].Floats, lo)
 						bounds[2*l+1].Floats = append(bounds[2*l+1].Floats, hi)
+						var in int64
+						if accuracy.Covered(lo, hi, a) {
+							in = 1
+						}
+						inside[l].Ints = append(inside[l].Ints, in)
+						inside[l].Null = append(inside[l].Null, !scored)
+						score[l].Floats = append(score[l].Floats, accuracy.IntervalScore(lo, hi, a, lv)/s)
 					}
 				}
 			}
 		}
 	}
-	cols := append(keys, origin, period, start, step, method, actual, forecast, errc, scale)
-	return &tableio.Table{Columns: append(cols, bounds...)}
+	cols := append(keys, origin, period, start, step, method, actual, forecast, errc, scale, scaled, squared)
+	cols = append(cols, bounds...)
+	cols = append(cols, inside...)
+	return &tableio.Table{Columns: append(cols, score...)}
 }
 
 func scoresTable(bt *engine.BacktestResult) *tableio.Table {
