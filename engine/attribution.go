@@ -283,18 +283,10 @@ func attribute(res *BacktestResult) *Attribution {
 		method, anc string
 		level       int
 	}
-	totals := map[group]float64{}
 	for k, d := range drivers {
-		totals[group{k.method, k.anc, d.lev}] += d.abs
-	}
-	for k, d := range drivers {
-		share := math.NaN()
-		if t := totals[group{k.method, k.anc, d.lev}]; t > 0 {
-			share = d.abs / t
-		}
 		at.Drivers = append(at.Drivers, Driver{Method: k.method, AncestorLevel: full.Levels[d.ancLevel].Name,
 			Level: full.Levels[d.lev].Name, Ancestor: labelOf(full, k.anc), Node: labelOf(full, k.node),
-			AbsError: d.abs, NetError: d.net, Share: share, ancestorIdx: d.ancLevel, levelIdx: d.lev,
+			AbsError: d.abs, NetError: d.net, ancestorIdx: d.ancLevel, levelIdx: d.lev,
 			ancestorKey: k.anc, driverKey: k.node})
 	}
 	order := map[string]int{}
@@ -317,14 +309,25 @@ func attribute(res *BacktestResult) *Attribution {
 		}
 		return a.driverKey < b.driverKey
 	})
+	// Ranks and shares, summing in the sorted order so that the bytes do
+	// not depend on map order.
+	totals := map[group]float64{}
 	for i := range at.Drivers {
 		d := &at.Drivers[i]
+		totals[group{d.Method, d.ancestorKey, d.levelIdx}] += d.AbsError
 		d.Rank = 1
 		if i > 0 {
 			p := at.Drivers[i-1]
 			if p.Method == d.Method && p.ancestorKey == d.ancestorKey && p.levelIdx == d.levelIdx {
 				d.Rank = p.Rank + 1
 			}
+		}
+	}
+	for i := range at.Drivers {
+		d := &at.Drivers[i]
+		d.Share = math.NaN()
+		if t := totals[group{d.Method, d.ancestorKey, d.levelIdx}]; t > 0 {
+			d.Share = d.AbsError / t
 		}
 	}
 

@@ -138,3 +138,37 @@ func TestWriteBacktest(t *testing.T) {
 		}
 	}
 }
+
+// TestBacktestSameBytesWhateverTheWorkers: every backtest table has the
+// same bytes with one worker and with three.
+func TestBacktestSameBytesWhateverTheWorkers(t *testing.T) {
+	d := smallChain(t)
+	var dirs []string
+	for _, workers := range []int{1, 3} {
+		bt, err := engine.Backtest(context.Background(), d, engine.BacktestOptions{
+			Options: engine.Options{Horizon: 4, Model: families.Spec{Family: "ets"}, Fitter: engine.Local{Workers: workers}},
+			Origins: 2, Every: 3})
+		if err != nil {
+			t.Fatal(err)
+		}
+		dir := t.TempDir()
+		if _, err := output.WriteBacktest(dir, bt, []string{"csv", "parquet"}); err != nil {
+			t.Fatal(err)
+		}
+		dirs = append(dirs, dir)
+	}
+	files, _ := filepath.Glob(filepath.Join(dirs[0], "*.*"))
+	for _, f := range files {
+		if filepath.Base(f) == "run.json" {
+			continue
+		}
+		a, _ := os.ReadFile(f)
+		b, _ := os.ReadFile(filepath.Join(dirs[1], filepath.Base(f)))
+		if !bytes.Equal(a, b) {
+			t.Errorf("%s differs between 1 and 3 workers", filepath.Base(f))
+		}
+	}
+	if len(files) != 13 {
+		t.Errorf("%d files", len(files))
+	}
+}
