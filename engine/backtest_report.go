@@ -25,6 +25,11 @@ type BacktestReport struct {
 	// origins and steps of |base − Σ children's base| over the
 	// aggregate's scale.
 	Incoherence []LevelIncoherence `json:"base_incoherence"`
+	// Cancellation is, for the recommended method, per aggregate level
+	// and split, the mean over aggregates, origins and steps of
+	// 1 − |parent error| / Σ |child errors| (0: the children's errors add
+	// up; near 1: they cancel).
+	Cancellation []LevelCancellation `json:"cancellation"`
 	// Helped and Hurt are the nodes where the recommended method changed
 	// the MASE of the base forecasts most, down and up.
 	Helped   []NodeScore        `json:"helped_most"`
@@ -40,6 +45,14 @@ type OriginReport struct {
 	HistoryEnd    string `json:"last_history_period"`
 	Periods       int    `json:"history_periods"`
 	Nodes         int    `json:"nodes"`
+}
+
+// LevelCancellation is the mean cancellation of the children's errors
+// of one level's aggregates over one split.
+type LevelCancellation struct {
+	Level string  `json:"level"`
+	Split string  `json:"split_level"`
+	Mean  float64 `json:"mean"`
 }
 
 // LevelIncoherence is the mean scaled incoherence of a level's base
@@ -84,6 +97,7 @@ func (r *BacktestReport) fill(res *BacktestResult, opt Options, origins, every i
 			r.Incoherence = append(r.Incoherence, LevelIncoherence{Level: lv.Name, Mean: sums[l] / float64(counts[l])})
 		}
 	}
+	r.Cancellation = cancellation(res)
 	r.Helped, r.Hurt = res.Attribution.Effects(res.Recommendation.Method, 5)
 	if r.Helped == nil {
 		r.Helped = []NodeScore{}
@@ -105,6 +119,39 @@ func skippedNames(s []SkippedMethod) []string {
 	out := make([]string, len(s))
 	for i, x := range s {
 		out[i] = x.Method
+	}
+	return out
+}
+
+// cancellation averages the cancellation of the recommended method's
+// contributions per parent level and split (each parent, origin and step
+// once).
+func cancellation(res *BacktestResult) []LevelCancellation {
+	type key struct{ parent, split int }
+	sums, counts := map[key]float64{}, map[key]int{}
+	seen := map[[4]int]bool{}
+	for _, c := range res.Attribution.Contributions {
+		if c.Method != res.Recommendation.Method {
+			continue
+		}
+		st := res.Origins[c.Origin].Structure
+		k := key{st.Nodes[c.Parent].Level, st.Nodes[c.Child].Level}
+		id := [4]int{c.Origin, c.Step, c.Parent, k.split}
+		if seen[id] {
+			continue
+		}
+		seen[id] = true
+		sums[k] += c.Cancellation
+		counts[k]++
+	}
+	out := []LevelCancellation{}
+	for p := range res.Structure.Levels {
+		for s := range res.Structure.Levels {
+			if n := counts[key{p, s}]; n > 0 {
+				out = append(out, LevelCancellation{Level: res.Structure.Levels[p].Name,
+					Split: res.Structure.Levels[s].Name, Mean: sums[key{p, s}] / float64(n)})
+			}
+		}
 	}
 	return out
 }

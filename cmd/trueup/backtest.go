@@ -157,6 +157,14 @@ func printBacktest(w io.Writer, bt *engine.BacktestResult, files []string, asJSO
 	if rec.Method != "" {
 		fmt.Fprintf(w, "\nRecommended: %s (%s).\n", rec.Method, rec.Reason)
 		printDrivers(w, bt, rec.Method)
+		if len(rep.Cancellation) > 0 {
+			fmt.Fprintf(w, "\nHow much the children's errors cancel (%s; 0: they add up, 1: they cancel out):\n", rec.Method)
+			var rows [][]string
+			for _, c := range rep.Cancellation {
+				rows = append(rows, []string{c.Level + " into " + c.Split, fmt.Sprintf("%.2f", c.Mean)})
+			}
+			textTable(w, []string{"aggregate level into children", "cancellation"}, rows)
+		}
 		if len(rep.Helped) > 0 || len(rep.Hurt) > 0 {
 			fmt.Fprintf(w, "\nWhere %s changed the base forecasts' MASE most:\n", rec.Method)
 			var rows [][]string
