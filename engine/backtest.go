@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"slices"
 	"strings"
 	"time"
 
@@ -105,6 +106,8 @@ type BacktestOrigin struct {
 	// ScaleMAE and ScaleMSE are each node's in-sample seasonal naive
 	// scales at the origin (accuracy.Scale on the history as fitted).
 	ScaleMAE, ScaleMSE []float64
+
+	fits []NodeFit // the fits every method shares
 }
 
 // Error is actual − forecast of node i at step k under method.
@@ -116,11 +119,7 @@ func (o *BacktestOrigin) Error(method string, i, k int) float64 {
 // trades at the origin (a closed node's forecast is a known zero) and has
 // a positive, finite scale.
 func (o *BacktestOrigin) Scored(i int) bool {
-	var r *Result
-	for _, r = range o.Results {
-		break
-	}
-	if r == nil || r.Fits[i].Closed {
+	if o.fits[i].Closed {
 		return false
 	}
 	s := o.ScaleMAE[i]
@@ -310,7 +309,7 @@ func Backtest(ctx context.Context, d *Data, bo BacktestOptions) (*BacktestResult
 		}
 		org := &BacktestOrigin{Periods: cut, Start: d.Panel.Period(cut), Results: map[string]*Result{}}
 		start = time.Now()
-		var any *Result
+		var first *Result // any method's result: they share the fits
 		for _, m := range methods {
 			if m == BaseMethod || skipped[m] != "" {
 				continue
@@ -324,27 +323,29 @@ func Backtest(ctx context.Context, d *Data, bo BacktestOptions) (*BacktestResult
 				return nil, err
 			}
 			org.Results[m] = r
-			any = r
+			if first == nil {
+				first = r
+			}
 		}
-		if any == nil { // only base asked, or every method skipped
+		if first == nil { // only base asked, or every method skipped
 			r, err := run(Reconciliation{Method: "bottom-up"})
 			if err != nil {
 				return nil, err
 			}
-			any = r
+			first = r
 		}
-		if contains(methods, BaseMethod) {
-			org.Results[BaseMethod] = baseResult(any)
+		if slices.Contains(methods, BaseMethod) {
+			org.Results[BaseMethod] = baseResult(first)
 		}
 		rep.Timings["fit"] += fitSeconds
 		rep.Timings["reconcile"] += time.Since(start).Seconds() - fitSeconds
 
-		org.Structure = any.Structure
+		org.Structure, org.fits = first.Structure, first.Fits
 		org.Actual = actuals(d, org.Structure, cut, h)
 		n := len(org.Structure.Nodes)
 		org.ScaleMAE, org.ScaleMSE = make([]float64, n), make([]float64, n)
 		for i := range org.ScaleMAE {
-			org.ScaleMAE[i], org.ScaleMSE[i], _ = accuracy.Scale(any.History[i], opt.Period)
+			org.ScaleMAE[i], org.ScaleMSE[i], _ = accuracy.Scale(first.History[i], opt.Period)
 		}
 		res.Origins = append(res.Origins, org)
 	}
@@ -369,15 +370,6 @@ func Backtest(ctx context.Context, d *Data, bo BacktestOptions) (*BacktestResult
 	rep.fill(res, opt, K, every)
 	res.Report = rep
 	return res, nil
-}
-
-func contains(xs []string, x string) bool {
-	for _, v := range xs {
-		if v == x {
-			return true
-		}
-	}
-	return false
 }
 
 // baseResult is r with the base forecasts and their variances as its
