@@ -63,12 +63,13 @@ func compareSetting(name string) (Reconciliation, error) {
 		return Reconciliation{}, nil
 	case strings.HasPrefix(name, "mint-"):
 		rc := Reconciliation{Method: "mint", Cov: strings.TrimPrefix(name, "mint-")}
-		_, _, err := rc.method()
-		return rc, err
+		if _, _, err := rc.method(); err != nil {
+			return rc, inputerr.ForOption("Compare", "method %q: %v", name, err)
+		}
+		return rc, nil
 	case strings.HasPrefix(name, "middle-out@"):
-		rc := Reconciliation{Method: "middle-out", At: strings.TrimPrefix(name, "middle-out@")}
-		_, _, err := rc.method()
-		return rc, err
+		// The level is checked against the structure when the method runs.
+		return Reconciliation{Method: "middle-out", At: strings.TrimPrefix(name, "middle-out@")}, nil
 	case name == "mint" || name == "middle-out":
 	default:
 		rc := Reconciliation{Method: name}
@@ -268,7 +269,7 @@ func Backtest(ctx context.Context, d *Data, bo BacktestOptions) (*BacktestResult
 	need := minFit + (K-1)*every + h
 	if T < need {
 		return nil, inputerr.ForOption("Origins",
-			"the history has %d periods; %d origins %d apart with a horizon of %d need at least %d (%d to fit at the first origin, two seasonal cycles, + %d between the first and last origin + %d of actuals after the last)",
+			"the history has %d periods; %d origins %d apart with a horizon of %d need at least %d: %d to fit at the first origin (two seasonal cycles), %d between the first and the last origin and %d of actuals after the last",
 			T, K, every, h, need, minFit, (K-1)*every, h)
 	}
 
