@@ -17,8 +17,8 @@ import (
 
 // TestBacktestAtOneOriginIsForecastOnTheCutHistory checks that a backtest
 // at a single origin is a forecast run on the history before it: the
-// forecasts table of each method equals, byte for byte, the one trueup
-// forecast writes from an input file holding only the rows before the
+// forecasts table of each method (and the models and residuals tables)
+// equals, byte for byte, the one trueup forecast writes from an input file holding only the rows before the
 // origin (the chain opens and closes stores, so the cut decides which
 // stores exist and which have closed).
 func TestBacktestAtOneOriginIsForecastOnTheCutHistory(t *testing.T) {
@@ -36,7 +36,9 @@ func TestBacktestAtOneOriginIsForecastOnTheCutHistory(t *testing.T) {
 		t.Fatal(err)
 	}
 	const h = 6
-	opt := engine.Options{Model: families.Spec{Family: "ets"}, Horizon: h, Fitter: engine.Local{Workers: 2}}
+	// The automatic family choice: the origin's choice must be the one a
+	// forecast run on the cut history makes.
+	opt := engine.Options{Horizon: h, Fitter: engine.Local{Workers: 2}}
 	bt, err := engine.Backtest(context.Background(), d, engine.BacktestOptions{Options: opt, Origins: 1,
 		Compare: []string{"base", "bottom-up", "mint-shrink", "mint-variance"}})
 	if err != nil {
@@ -89,10 +91,12 @@ func TestBacktestAtOneOriginIsForecastOnTheCutHistory(t *testing.T) {
 		if _, err := output.Write(b, org.Results[m.name], []string{"parquet"}); err != nil {
 			t.Fatal(err)
 		}
-		fa, _ := os.ReadFile(filepath.Join(a, "forecasts.parquet"))
-		fb, _ := os.ReadFile(filepath.Join(b, "forecasts.parquet"))
-		if len(fa) == 0 || !bytes.Equal(fa, fb) {
-			t.Errorf("%s: forecasts differ between forecast on the cut history and the backtest (%d and %d bytes)", m.name, len(fa), len(fb))
+		for _, table := range []string{"forecasts", "models", "residuals"} {
+			fa, _ := os.ReadFile(filepath.Join(a, table+".parquet"))
+			fb, _ := os.ReadFile(filepath.Join(b, table+".parquet"))
+			if len(fa) == 0 || !bytes.Equal(fa, fb) {
+				t.Errorf("%s: %s differ between forecast on the cut history and the backtest (%d and %d bytes)", m.name, table, len(fa), len(fb))
+			}
 		}
 	}
 }
