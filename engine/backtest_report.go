@@ -1,6 +1,7 @@
 package engine
 
 import (
+	"encoding/json"
 	"fmt"
 	"math"
 )
@@ -154,4 +155,51 @@ func cancellation(res *BacktestResult) []LevelCancellation {
 		}
 	}
 	return out
+}
+
+// finite is x, or nil (JSON null) when x is NaN or infinite, which JSON
+// cannot carry: a score with nothing to average, a comparison with a
+// method that did not run.
+func finite(x float64) any {
+	if math.IsNaN(x) || math.IsInf(x, 0) {
+		return nil
+	}
+	return x
+}
+
+func finites(xs []float64) []any {
+	out := make([]any, len(xs))
+	for i, x := range xs {
+		out[i] = finite(x)
+	}
+	return out
+}
+
+// MarshalJSON writes the score with null for a value it could not
+// compute.
+func (s Score) MarshalJSON() ([]byte, error) {
+	return json.Marshal(map[string]any{"level": s.Level, "method": s.Method, "step": s.Step, "count": s.Count,
+		"mase": finite(s.MASE), "rmsse": finite(s.RMSSE), "bias": finite(s.Bias),
+		"coverage": finites(s.Coverage), "interval_score": finites(s.IntervalScore)})
+}
+
+// MarshalJSON writes the headline with null for a value it could not
+// compute.
+func (h Headline) MarshalJSON() ([]byte, error) {
+	return json.Marshal(map[string]any{"method": h.Method, "mase": finite(h.MASE), "rmsse": finite(h.RMSSE),
+		"bias": finite(h.Bias), "coverage": finites(h.Coverage), "interval_score": finites(h.IntervalScore)})
+}
+
+// MarshalJSON writes the recommendation; the comparison with base is
+// null when base was not compared.
+func (r Recommendation) MarshalJSON() ([]byte, error) {
+	return json.Marshal(map[string]any{"method": r.Method, "mase": finite(r.MASE), "runner_up": r.RunnerUp,
+		"margin_percent": finite(r.Margin), "versus_base_percent": finite(r.VersusBase), "losses": r.Losses,
+		"reason": r.Reason})
+}
+
+// MarshalJSON writes the node score; the change is null without base.
+func (s NodeScore) MarshalJSON() ([]byte, error) {
+	return json.Marshal(map[string]any{"method": s.Method, "level": s.Level, "node": s.Node,
+		"mase": finite(s.MASE), "change_from_base": finite(s.Change)})
 }

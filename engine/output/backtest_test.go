@@ -176,3 +176,23 @@ func TestBacktestSameBytesWhateverTheWorkers(t *testing.T) {
 		t.Errorf("%d files", len(files))
 	}
 }
+
+// TestWriteBacktestWithoutBase: without base there is no comparison with
+// it, and run.json says null rather than failing on NaN.
+func TestWriteBacktestWithoutBase(t *testing.T) {
+	d := smallChain(t)
+	bt, err := engine.Backtest(context.Background(), d, engine.BacktestOptions{
+		Options: engine.Options{Model: families.Spec{Family: "drift"}, Horizon: 4}, Origins: 1,
+		Compare: []string{"bottom-up", "mint-shrink"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	files, err := output.WriteBacktest(t.TempDir(), bt, []string{"csv"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	data, _ := os.ReadFile(files[len(files)-1])
+	if !bytes.Contains(data, []byte(`"versus_base_percent": null`)) {
+		t.Errorf("run.json does not say versus_base_percent null")
+	}
+}
