@@ -28,6 +28,11 @@ func WriteBacktest(dir string, bt *engine.BacktestResult, formats []string) ([]s
 		}
 		tw = append(tw, w)
 	}
+	// run.json is written last, but checked first: nothing is written
+	// when the report cannot be.
+	if _, err := json.Marshal(&bt.Report); err != nil {
+		return nil, err
+	}
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return nil, &inputerr.Error{File: dir, Option: "Out", Msg: "cannot create the output directory", Err: err}
 	}
