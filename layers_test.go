@@ -22,6 +22,7 @@ var layers = [][]string{
 	{"trueup/fixtures"},                    // demo chain
 	{"trueup/engine"},                      // the library API
 	{"trueup/engine/output"},               // writers by format
+	{"trueup/report"},                      // the HTML report
 	{"trueup/cmd/...", "trueup/bench/...", "trueup/fixtures/cmd/..."}, // programs
 }
 

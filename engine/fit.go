@@ -5,6 +5,7 @@ import (
 	"math"
 	"strings"
 
+	"trueup/internal/numeric"
 	"trueup/models"
 	"trueup/models/families"
 )
@@ -144,4 +145,38 @@ func usable(y, resid, mean, variance []float64) error {
 		}
 	}
 	return nil
+}
+
+// ResidualCheck is the Ljung–Box test of a node's one-step residuals
+// (Ljung & Box 1978): whether autocorrelation is left that the model did
+// not capture.
+type ResidualCheck struct {
+	// Lags is the number of autocorrelations tested (numeric.LjungBoxLags);
+	// 0 when the node has too few residuals to test.
+	Lags int
+	// Statistic is Q; PValue its upper χ² tail with Lags degrees of
+	// freedom (no parameters discounted, since the families differ in
+	// what they estimate). Both NaN when Lags is 0.
+	Statistic, PValue float64
+}
+
+// minCheckResiduals is the fewest residuals the Ljung–Box check is run
+// on: with fewer, its χ² approximation says little (common practice).
+const minCheckResiduals = 10
+
+// ResidualCheck runs the Ljung–Box test on the node's finite one-step
+// residuals (leading and interior gaps skipped) with seasonal period m.
+func (nf *NodeFit) ResidualCheck(m int) ResidualCheck {
+	x := make([]float64, 0, len(nf.Residuals))
+	for _, r := range nf.Residuals {
+		if !math.IsNaN(r) && !math.IsInf(r, 0) {
+			x = append(x, r)
+		}
+	}
+	if len(x) < minCheckResiduals {
+		return ResidualCheck{Statistic: math.NaN(), PValue: math.NaN()}
+	}
+	h := numeric.LjungBoxLags(len(x), m)
+	q, p := numeric.LjungBox(numeric.ACF(x, h)[1:], len(x), 0)
+	return ResidualCheck{Lags: h, Statistic: q, PValue: p}
 }

@@ -446,6 +446,7 @@ type largeQP struct {
 	s    []float64      // T scratch
 	t1   []float64      // n scratch
 	t2   []float64      // n scratch
+	t3   []float64      // n scratch
 }
 
 // winv sets dst = W⁻¹·v (n-vectors).
@@ -481,11 +482,11 @@ func (q *largeQP) linear(y []float64) []float64 {
 func (q *largeQP) mul(dst, v []float64) {
 	if q.t2 == nil {
 		q.t2 = make([]float64, q.lp.n)
+		q.t3 = make([]float64, q.lp.n)
 	}
 	sv := q.lp.st.S.MulVec(q.t2, v)
-	t := make([]float64, len(sv))
-	q.winv(t, sv)
-	q.lp.st.S.MulTransVec(dst, t)
+	q.winv(q.t3, sv)
+	q.lp.st.S.MulTransVec(dst, q.t3)
 }
 
 // solveFree solves P_FF·x_F = rhs_F by conjugate gradients started from

@@ -31,6 +31,7 @@ done
 
 echo "== reconcile, 39,442 nodes, mint + shrink, Parquet (s wall)"
 for t in old new; do
+	mkdir -p "$dir/rec-$t"
 	(cd "${!t}" && go run ./bench/reconcile/gen -out "$dir/rec-$t" >/dev/null)
 done
 for r in $(seq "$rounds"); do

@@ -11,6 +11,7 @@ import (
 
 	"trueup/engine"
 	"trueup/engine/output"
+	"trueup/report"
 )
 
 func newBacktestCmd() *cobra.Command {
@@ -33,7 +34,8 @@ nodes drive the error of each aggregate, and recommends the method with
 the best mean score over levels.
 
 Writes backtest, scores, contributions, drivers, node_scores and
-incoherence tables and run.json to --out.`,
+incoherence tables and run.json to --out, then report.html with the
+scores, the recommendation and the drivers (unless --no-report).`,
 		Example: `  trueup backtest --input sales.parquet --nest region,store --nest category
 
   trueup backtest --input sales.parquet --nest region,store --nest category \
@@ -54,9 +56,23 @@ incoherence tables and run.json to --out.`,
 			if err != nil {
 				return err
 			}
-			formats, err := output.ParseFormats(rf.formats)
+			all, err := rf.outputFormats()
 			if err != nil {
 				return err
+			}
+			// The report is rendered from the folder once the tables and
+			// run.json are in it (report.FromDir reads a backtest's tables).
+			var formats []string
+			withReport := false
+			for _, f := range all {
+				if f == "report" {
+					withReport = true
+				} else {
+					formats = append(formats, f)
+				}
+			}
+			if len(formats) == 0 {
+				return &usageError{fmt.Errorf("--format names no table format (parquet, csv, arrow); a backtest writes its tables first")}
 			}
 			var methods []string
 			for _, m := range strings.Split(compare, ",") {
@@ -79,6 +95,17 @@ incoherence tables and run.json to --out.`,
 			files, err := output.WriteBacktest(rf.out, bt, formats)
 			if err != nil {
 				return err
+			}
+			if withReport {
+				in, err := report.FromDir(rf.out)
+				if err != nil {
+					return err
+				}
+				path, err := report.Write(rf.out, in)
+				if err != nil {
+					return err
+				}
+				files = append(files, path)
 			}
 			return printBacktest(cmd.OutOrStdout(), bt, files, rf.json)
 		},

@@ -50,7 +50,7 @@ func TestFitAutoJSON(t *testing.T) {
 		"--key", "store", "--horizon", "12", "--json")
 	choice := recs[0]["model"].(map[string]any)["details"].(map[string]any)["choice"].(map[string]any)
 	cands, ok := choice["candidates"].([]any)
-	if !ok || len(cands) != 5 {
+	if !ok || len(cands) != 6 {
 		t.Fatalf("candidates %v", choice["candidates"])
 	}
 	names := map[string]bool{}
@@ -61,10 +61,10 @@ func TestFitAutoJSON(t *testing.T) {
 			t.Errorf("candidate %v", m)
 		}
 	}
-	if !names["seasonal-naive"] || !names["arima+ets"] {
+	if !names["seasonal-naive"] || !names["theta+ets+arima"] {
 		t.Errorf("candidate families %v", names)
 	}
-	if !strings.Contains(choice["reason"].(string), "lowest validation MASE") {
+	if !strings.Contains(choice["reason"].(string), "validation MASE") {
 		t.Errorf("reason %v", choice["reason"])
 	}
 	recs = fitRecords(t, "fit", "--input", path, "--time", "month", "--value", "sales",

@@ -55,7 +55,7 @@ func runForecast(cmd *cobra.Command, src engine.Source, rf *runFlags) error {
 	if err != nil {
 		return err
 	}
-	formats, err := output.ParseFormats(rf.formats)
+	formats, err := rf.outputFormats()
 	if err != nil {
 		return err
 	}

@@ -66,7 +66,7 @@ into a plan.`,
 			if err != nil {
 				return err
 			}
-			formats, err := output.ParseFormats(of.formats)
+			formats, err := of.outputFormats()
 			if err != nil {
 				return err
 			}

@@ -41,6 +41,7 @@ they go into a plan.`,
 		newFitCmd(),
 		newReconcileCmd(),
 		newBacktestCmd(),
+		newReportCmd(),
 	)
 	return root
 }

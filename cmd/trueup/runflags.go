@@ -58,19 +58,31 @@ func (f *reconcileFlags) options(cmd *cobra.Command) engine.Reconciliation {
 
 // outputFlags say where and how results are written.
 type outputFlags struct {
-	out     string
-	formats string
-	quiet   bool
-	json    bool
+	out      string
+	formats  string
+	quiet    bool
+	json     bool
+	noReport bool
 }
 
 func (f *outputFlags) register(cmd *cobra.Command, defaultOut string) {
 	fl := cmd.Flags()
 	fl.StringVar(&f.out, "out", defaultOut, "directory for the result tables and run.json")
 	fl.StringVar(&f.formats, "format", "parquet", "output formats, comma-separated: "+strings.Join(output.Formats(), ", "))
+	fl.BoolVar(&f.noReport, "no-report", false, "do not write report.html (the report is written by default)")
 	fl.BoolVarP(&f.quiet, "quiet", "q", false, "no progress bar")
 	fl.BoolVar(&f.json, "json", false, "print a machine-readable summary on stdout")
-	groupFlags(cmd, "Output", "out", "format", "quiet", "json")
+	groupFlags(cmd, "Output", "out", "format", "no-report", "quiet", "json")
+}
+
+// outputFormats lists the formats to write: those of --format, then the
+// report unless --no-report.
+func (f *outputFlags) outputFormats() ([]string, error) {
+	list := f.formats
+	if !f.noReport {
+		list += ",report"
+	}
+	return output.ParseFormats(list)
 }
 
 func (f *runFlags) register(cmd *cobra.Command, defaultOut string) {

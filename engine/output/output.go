@@ -16,6 +16,7 @@ import (
 	"sort"
 	"strings"
 	"sync"
+	"time"
 
 	"trueup/engine"
 	"trueup/inputerr"
@@ -98,6 +99,7 @@ func Write(dir string, res *engine.Result, formats []string) ([]string, error) {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return nil, &inputerr.Error{File: dir, Option: "Out", Msg: "cannot create the output directory", Err: err}
 	}
+	start := time.Now()
 	var files []string
 	for _, name := range formats {
 		w := lookup(name)
@@ -111,6 +113,9 @@ func Write(dir string, res *engine.Result, formats []string) ([]string, error) {
 		}
 	}
 	res.Report.Files = files
+	if res.Report.Timings != nil {
+		res.Report.Timings["write"] = time.Since(start).Seconds()
+	}
 	data, err := json.MarshalIndent(&res.Report, "", "  ")
 	if err != nil {
 		return files, err

@@ -17,14 +17,15 @@ type Table struct {
 	Table *tableio.Table
 }
 
-// Tables returns the tables of a result: forecasts always; models and
-// residuals when the result holds fitted models (a forecast run, not a
-// reconciliation of given base forecasts).
+// Tables returns the tables of a result: forecasts always; models,
+// residuals and history when the result holds fitted models (a forecast
+// run, not a reconciliation of given base forecasts).
 func Tables(res *engine.Result) []Table {
 	out := []Table{{"forecasts", ForecastTable(res)}}
 	for _, f := range res.Fits {
 		if f.Fitted {
-			return append(out, Table{"models", ModelTable(res)}, Table{"residuals", ResidualTable(res)})
+			return append(out, Table{"models", ModelTable(res)}, Table{"residuals", ResidualTable(res)},
+				Table{"history", HistoryTable(res)})
 		}
 	}
 	return out
@@ -159,9 +160,27 @@ func ResidualTable(res *engine.Result) *tableio.Table {
 	return &tableio.Table{Columns: append(cols, period, periodStart, resid)}
 }
 
+// HistoryTable has one row per node and history period: level, key
+// columns, period, period_start and value, the node's history as it was
+// fitted (the aggregate of its members that existed; null outside the
+// node's span).
+func HistoryTable(res *engine.Result) *tableio.Table {
+	T := res.Calendar.T
+	n := len(res.History)
+	cols := keyColumns(res, T)
+	period, periodStart := periodColumns(res, 0, T)
+	value := tableio.Column{Name: "value", Type: tableio.Float64, Floats: make([]float64, 0, n*T)}
+	for _, h := range res.History {
+		value.Floats = append(value.Floats, h[:T]...)
+	}
+	return &tableio.Table{Columns: append(cols, period, periodStart, value)}
+}
+
 // ModelTable has one row per node: the chosen family, its spec, its
-// parameters as JSON text, AICc, σ², the number of observations and any
-// warning.
+// parameters as JSON text, AICc, σ², the number of observations, any
+// warning, and the Ljung–Box check of its residuals (engine.ResidualCheck
+// at the run's seasonal period): ljung_box_lags (0 when too few
+// residuals), ljung_box_q and ljung_box_p (null then).
 func ModelTable(res *engine.Result) *tableio.Table {
 	n := len(res.Fits)
 	cols := keyColumns(res, 1)
@@ -172,7 +191,13 @@ func ModelTable(res *engine.Result) *tableio.Table {
 	sigma2 := tableio.Column{Name: "sigma2", Type: tableio.Float64, Floats: make([]float64, n)}
 	nobs := tableio.Column{Name: "n_obs", Type: tableio.Int64, Ints: make([]int64, n)}
 	warn := tableio.Column{Name: "warning", Type: tableio.String, Strings: make([]string, n), Null: make([]bool, n)}
+	lbLags := tableio.Column{Name: "ljung_box_lags", Type: tableio.Int64, Ints: make([]int64, n)}
+	lbQ := tableio.Column{Name: "ljung_box_q", Type: tableio.Float64, Floats: make([]float64, n)}
+	lbP := tableio.Column{Name: "ljung_box_p", Type: tableio.Float64, Floats: make([]float64, n)}
+	m := max(res.Report.Counts.SeasonalLag, 1)
 	for i, f := range res.Fits {
+		check := f.ResidualCheck(m)
+		lbLags.Ints[i], lbQ.Floats[i], lbP.Floats[i] = int64(check.Lags), check.Statistic, check.PValue
 		warn.Strings[i] = f.Warning
 		warn.Null[i] = f.Warning == ""
 		family.Strings[i], spec.Strings[i] = f.Family, f.Spec
@@ -185,7 +210,7 @@ func ModelTable(res *engine.Result) *tableio.Table {
 		sigma2.Floats[i] = f.Sigma2
 		nobs.Ints[i] = int64(f.NObs)
 	}
-	cols = append(cols, family, spec, params, aicc, sigma2, nobs, warn)
+	cols = append(cols, family, spec, params, aicc, sigma2, nobs, warn, lbLags, lbQ, lbP)
 	return &tableio.Table{Columns: cols}
 }
 

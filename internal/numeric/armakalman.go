@@ -420,13 +420,16 @@ func (k *ARMAKalman) LogLik(w, phi, theta []float64) (ssq, sumLog float64, err e
 	}
 	m := -1 / f
 	steady := false
+	// ln F_t is taken once per change of F_t: in the steady state it is
+	// constant and the logarithm would otherwise dominate the loop.
+	logF := math.Log(f)
 	for _, wt := range w {
 		if !(f > 0) || math.IsInf(f, 0) {
 			return 0, 0, ErrBadVariance
 		}
 		v := wt - a[0]
 		ssq += v * v / f
-		sumLog += math.Log(f)
+		sumLog += logF
 		// a ← T a + K v / F.
 		g := v / f
 		a0 := a[0]
@@ -459,6 +462,7 @@ func (k *ARMAKalman) LogLik(w, phi, theta []float64) (ssq, sumLog float64, err e
 			steady = big*big*math.Abs(m) < 1e-14*f
 		}
 		f = fNext
+		logF = math.Log(f)
 	}
 	return ssq, sumLog, nil
 }

@@ -49,7 +49,50 @@ const KPSSLevelCritical5 = 0.463
 // (1996, J. Econometrics 70) for the KPSS test. It keeps the size of the
 // test close to nominal with fewer lags than the ⌊4(n/100)^{1/4}⌋ rule of
 // Kwiatkowski et al., and so detects the need to difference more often in
-// short monthly series.
+// short monthly series. The automatic ARIMA search uses it rather than
+// KPSSAutoLags: on README's accuracy series the data-dependent bandwidth
+// picks more lags, differences less often, and forecast worse (ARIMA's
+// mean MASE 1.212 against 1.172).
 func KPSSLags(n int) int {
 	return int(math.Floor(3 * math.Sqrt(float64(n)) / 13))
+}
+
+// KPSSAutoLags is the data-dependent lag truncation of Hobijn, Franses &
+// Ooms (1998, "Generalizations of the KPSS-test for stationarity",
+// Econometric Institute Report 9802/A, §3), the Newey & West (1994)
+// bandwidth for the Bartlett kernel: with the autocovariances γ̂_j of the
+// demeaned series up to n^{2/9}, ŝ = Σ_j j·γ̂_j / (γ̂_0 + Σ_j γ̂_j) (each γ̂_j
+// for j ≥ 1 counted twice), the truncation is ⌊1.1447·(ŝ²)^{1/3}·n^{1/3}⌋,
+// at most n − 1. It is the rule of statsmodels' kpss(nlags="auto").
+func KPSSAutoLags(x []float64) int {
+	n := len(x)
+	if n < 3 {
+		return 0
+	}
+	mean := 0.0
+	for _, v := range x {
+		mean += v
+	}
+	mean /= float64(n)
+	cov := int(math.Pow(float64(n), 2.0/9.0))
+	var s0, s1 float64
+	for _, v := range x {
+		s0 += (v - mean) * (v - mean)
+	}
+	s0 /= float64(n)
+	for j := 1; j <= cov && j < n; j++ {
+		var g float64
+		for t := j; t < n; t++ {
+			g += (x[t] - mean) * (x[t-j] - mean)
+		}
+		g /= float64(n) / 2
+		s0 += g
+		s1 += float64(j) * g
+	}
+	if s0 == 0 {
+		return 0
+	}
+	sh := s1 / s0
+	lags := int(1.1447 * math.Cbrt(sh*sh) * math.Cbrt(float64(n)))
+	return max(0, min(lags, n-1))
 }

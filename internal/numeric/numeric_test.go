@@ -5,6 +5,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 	"trueup/fixtures/reference"
 )
@@ -286,6 +287,60 @@ func TestLogLikMatchesFilter(t *testing.T) {
 		}
 		if math.Abs(s1-s2) > 1e-9*s1 || math.Abs(l1-l2) > 1e-9*math.Max(1, math.Abs(l1)) {
 			t.Errorf("%v %v: filter (%v, %v), Chandrasekhar (%v, %v)", c.phi, c.theta, s1, l1, s2, l2)
+		}
+	}
+}
+
+// TestKPSSAutoLagsAgainstStatsmodels compares KPSSAutoLags, and the
+// statistic at that truncation, with statsmodels 0.13.5's
+// kpss(x, regression="c", nlags="auto") (Debian python3-statsmodels;
+// values in fixtures/reference/arima/kpss_auto.json, written by
+// regenerate_kpss_auto.py).
+func TestKPSSAutoLagsAgainstStatsmodels(t *testing.T) {
+	b, err := os.ReadFile(filepath.Join(refDir, "kpss_auto.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ref struct {
+		Cases []struct {
+			Series, Transform string
+			Period, Lags      int
+			Statistic         float64
+		}
+	}
+	if err := json.Unmarshal(b, &ref); err != nil {
+		t.Fatal(err)
+	}
+	if len(ref.Cases) < 10 {
+		t.Fatalf("%d cases", len(ref.Cases))
+	}
+	for _, c := range ref.Cases {
+		x := loadSeries(t, c.Series)
+		if strings.HasPrefix(c.Transform, "log") {
+			for i := range x {
+				x[i] = math.Log(x[i])
+			}
+		}
+		lag := 0
+		switch {
+		case strings.HasSuffix(c.Transform, "sdiff"):
+			lag = c.Period
+		case strings.HasSuffix(c.Transform, "diff"):
+			lag = 1
+		}
+		if lag > 0 {
+			for i := 0; i+lag < len(x); i++ {
+				x[i] = x[i+lag] - x[i]
+			}
+			x = x[:len(x)-lag]
+		}
+		lags := KPSSAutoLags(x)
+		if lags != c.Lags {
+			t.Errorf("%s/%s: %d lags, statsmodels %d", c.Series, c.Transform, lags, c.Lags)
+			continue
+		}
+		if got := KPSSLevel(x, lags); math.Abs(got-c.Statistic) > 1e-9*math.Max(1, c.Statistic) {
+			t.Errorf("%s/%s: statistic %v, statsmodels %v", c.Series, c.Transform, got, c.Statistic)
 		}
 	}
 }

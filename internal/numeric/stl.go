@@ -283,3 +283,22 @@ func SeasonalStrength(seasonal, remainder []float64) float64 {
 	}
 	return math.Max(0, 1-vr/vs)
 }
+
+// StrongSeasonStrength is the seasonal strength above which a series is
+// treated as strongly seasonal: 0.64, the value used in common practice
+// with the STL strength measure (recalled from memory of Hyndman &
+// Athanasopoulos, Forecasting: Principles and Practice, not from a table).
+const StrongSeasonStrength = 0.64
+
+// StronglySeasonal reports whether the STL seasonal strength of x with
+// period m (seasonal window 13) exceeds StrongSeasonStrength. It needs two
+// full seasons and m ≥ 2; otherwise it reports false.
+func StronglySeasonal(x []float64, m int) bool {
+	n := len(x)
+	if m < 2 || n < 2*m {
+		return false
+	}
+	s, tr, r := make([]float64, n), make([]float64, n), make([]float64, n)
+	STL(x, m, STLOptions{SeasonalWindow: 13}, s, tr, r)
+	return SeasonalStrength(s, r) > StrongSeasonStrength
+}

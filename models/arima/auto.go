@@ -21,13 +21,12 @@ type AutoOptions struct {
 	MaxP, MaxQ, MaxSP, MaxSQ, MaxOrder int
 	// MaxFourier bounds K for long periods (m > 24); 0 means 6.
 	MaxFourier int
+	// RankByCSS ranks the candidate orders by their conditional-sum-of-
+	// squares fits on every series, not only on long ones (n > 150 or
+	// m > 12); the chosen order is still refitted by exact likelihood.
+	// It is several times faster and may pick a different order.
+	RankByCSS bool
 }
-
-// Seasonal-strength threshold above which one seasonal difference is
-// taken. 0.64 is the value used in common practice with the STL strength
-// measure (recalled from memory of Hyndman & Athanasopoulos, Forecasting:
-// Principles and Practice, not from a table).
-const seasonalStrengthThreshold = 0.64
 
 // maxSeasonalARMAPeriod is the longest period for which seasonal ARMA
 // terms are searched; longer periods use Fourier regressors instead.
@@ -36,7 +35,8 @@ const maxSeasonalARMAPeriod = 24
 // Auto chooses and fits a seasonal ARIMA model for y:
 //
 //   - D: one seasonal difference when the STL seasonal strength (Wang,
-//     Smith & Hyndman 2006) of the (transformed) series exceeds 0.64. We use
+//     Smith & Hyndman 2006) of the (transformed) series exceeds 0.64
+//     (numeric.StronglySeasonal). We use
 //     the strength measure rather than a seasonal unit-root test because it
 //     needs no tables of critical values for each period and, being a
 //     variance ratio, behaves the same for any m.
@@ -105,9 +105,7 @@ func Auto(y []float64, opt AutoOptions) (*Fitted, error) {
 	sd := 0
 	fourier := m > maxSeasonalARMAPeriod
 	if m > 1 && !fourier {
-		s, tr, r := make([]float64, n), make([]float64, n), make([]float64, n)
-		numeric.STL(z, m, numeric.STLOptions{SeasonalWindow: 13}, s, tr, r)
-		if numeric.SeasonalStrength(s, r) > seasonalStrengthThreshold && n-m >= m+3 {
+		if numeric.StronglySeasonal(z, m) && n-m >= m+3 {
 			sd = 1
 		}
 	}
@@ -126,7 +124,7 @@ func Auto(y []float64, opt AutoOptions) (*Fitted, error) {
 	}
 	// Hyndman & Khandakar rank candidates by an approximation on long
 	// series; the winner is refitted exactly.
-	approx := n > 150 || m > 12
+	approx := opt.RankByCSS || n > 150 || m > 12
 	var ranked []*Fitted
 	var err error
 	if fourier {

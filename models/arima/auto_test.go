@@ -136,7 +136,7 @@ func TestLogForecastMoments(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	mu, v := f.forecastTransformed(12, nil)
+	mu, v := f.forecastTransformed(12, nil, false)
 	mean, _ := f.Forecast(12)
 	lo, hi := f.Interval(12, 0.95)
 	for k := range mu {

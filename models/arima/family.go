@@ -35,6 +35,9 @@ func (fam Family) Fit(y []float64, opt models.FitOptions) (models.Model, error) 
 // When Spec.Period is 0 the period comes from FitOptions.Period.
 type Fixed struct {
 	Spec Spec
+	// Start, when not nil, starts the estimation from a previous fit of
+	// the same form (see Options.Start).
+	Start *Fitted
 }
 
 var _ models.Family = Fixed{}
@@ -48,7 +51,7 @@ func (fam Fixed) Fit(y []float64, opt models.FitOptions) (models.Model, error) {
 	if s.Period == 0 {
 		s.Period = opt.Period
 	}
-	f, err := FitOrder(y, s, Options{})
+	f, err := FitOrder(y, s, Options{Start: fam.Start})
 	if err != nil {
 		return nil, err
 	}

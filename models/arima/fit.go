@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 
 	"gonum.org/v1/gonum/optimize"
 
@@ -29,6 +30,13 @@ type Options struct {
 	// rank candidates cheaply on long series; the chosen model is always
 	// refitted exactly.
 	Approximate bool
+
+	// Start, when not nil, is a fit of the same form on similar data (the
+	// same series a few periods shorter, say): its coefficients start the
+	// likelihood optimisation and the conditional-sum-of-squares start is
+	// skipped. The optimum sought is the same; only the path to it is
+	// shorter. A Start of another form is ignored.
+	Start *Fitted
 }
 
 // maxRaw bounds the unconstrained parameters so that tanh stays below one
@@ -56,6 +64,8 @@ type problem struct {
 	work       []float64
 	u, e       []float64
 	beta       []float64
+	uBeta      []float64 // the β that u was computed for
+	uValid     bool
 	kal        numeric.ARMAKalman
 	// fixBeta holds the regression coefficients at their least-squares
 	// values (the approximate fit used to rank candidates).
@@ -388,8 +398,15 @@ func (pr *problem) expand() {
 	}
 }
 
-// errorsSeries writes u = w − x_dβ.
+// errorsSeries writes u = w − x_dβ, unless u already holds it for the
+// current β (held fixed, or unchanged between evaluations): with Fourier
+// terms for weekly data it would otherwise cost as much as the likelihood.
 func (pr *problem) errorsSeries() {
+	if pr.uValid && slices.Equal(pr.uBeta, pr.beta) {
+		return
+	}
+	pr.uBeta = append(pr.uBeta[:0], pr.beta...)
+	pr.uValid = true
 	copy(pr.u, pr.w)
 	for i, col := range pr.xd {
 		b := pr.beta[i]
@@ -458,8 +475,21 @@ func minimize(f func([]float64) float64, x0 []float64) ([]float64, error) {
 	if n == 0 {
 		return x0, nil
 	}
+	// The optimiser asks for the value and the gradient at the same point
+	// one after the other: remember the last value so that the forward
+	// differences do not evaluate the likelihood there a second time.
+	var lastX []float64
+	var lastF float64
+	value := func(x []float64) float64 {
+		lastF = f(x)
+		lastX = append(lastX[:0], x...)
+		return lastF
+	}
 	grad := func(g, x []float64) {
-		fx := f(x)
+		fx := lastF
+		if !slices.Equal(x, lastX) {
+			fx = value(x)
+		}
 		xx := make([]float64, n)
 		copy(xx, x)
 		for i := range xx {
@@ -469,7 +499,7 @@ func minimize(f func([]float64) float64, x0 []float64) ([]float64, error) {
 			xx[i] = x[i]
 		}
 	}
-	prob := optimize.Problem{Func: f, Grad: grad}
+	prob := optimize.Problem{Func: value, Grad: grad}
 	settings := &optimize.Settings{
 		GradientThreshold: 1e-5,
 		Converger:         &optimize.FunctionConverge{Absolute: 1e-9, Iterations: 8},

@@ -115,7 +115,9 @@ func FitOrder(y []float64, spec Spec, opt Options) (*Fitted, error) {
 		f.nFour--
 	}
 	x := make([]float64, k)
-	if xc, err := minimize(pr.cssObjective, x); err == nil {
+	if warmStart(pr, opt.Start, x) {
+		// x holds the previous fit's coefficients.
+	} else if xc, err := minimize(pr.cssObjective, x); err == nil {
 		x = xc
 	} else {
 		f.warn = append(f.warn, "conditional-sum-of-squares start failed, started from zero")
@@ -138,6 +140,20 @@ func FitOrder(y []float64, spec Spec, opt Options) (*Fitted, error) {
 		f.warn = append(f.warn, "an AR or MA root lies within about 1% of the unit circle (over-differencing or cancelling roots?)")
 	}
 	return f, nil
+}
+
+// warmStart packs the coefficients of start into x when start is an exact
+// fit of pr's form; it reports whether it did.
+func warmStart(pr *problem, start *Fitted, x []float64) bool {
+	if start == nil || start.approx || start.spec != pr.spec || pr.fixBeta || len(start.beta) != len(pr.beta) {
+		return false
+	}
+	copy(pr.ar, start.ar)
+	copy(pr.ma, start.ma)
+	copy(pr.sar, start.sar)
+	copy(pr.sma, start.sma)
+	copy(pr.beta, start.beta)
+	return pr.pack(x) && pr.mlObjective(x) < 1e10
 }
 
 // finish evaluates the fit at x: coefficients, σ², likelihood, residuals
@@ -250,8 +266,8 @@ func (f *Fitted) regression(t int, future [][]float64) float64 {
 // transformed (log or identity) scale, from the exact predictive
 // distribution of the state space form extended by the nd lags of the
 // undifferenced errors, so that estimation-sample state uncertainty is
-// carried into the variances.
-func (f *Fitted) forecastTransformed(h int, future [][]float64) (mean, variance []float64) {
+// carried into the variances. With pointOnly the variances are left at 0.
+func (f *Fitted) forecastTransformed(h int, future [][]float64, pointOnly bool) (mean, variance []float64) {
 	mean = make([]float64, h)
 	variance = make([]float64, h)
 	if h <= 0 {
@@ -289,43 +305,63 @@ func (f *Fitted) forecastTransformed(h int, future [][]float64) (mean, variance 
 	c[0] = 1
 	copy(c[r:], f.delta)
 	T := f.nObs
+	// F is sparse (at most 1 + nd entries a row): multiply by its non-zero
+	// entries only, so a step costs O(n²·nnz) instead of O(n³).
+	type entry struct {
+		col int
+		v   float64
+	}
+	rows := make([][]entry, n)
+	for i := 0; i < n; i++ {
+		for j := 0; j < n; j++ {
+			if F[i*n+j] != 0 {
+				rows[i] = append(rows[i], entry{j, F[i*n+j]})
+			}
+		}
+	}
 	tmp := make([]float64, n*n)
 	s2 := make([]float64, n)
 	for k := 0; k < h; k++ {
 		var mu, vv float64
 		for i := 0; i < n; i++ {
 			mu += c[i] * s[i]
-			var row float64
-			for j := 0; j < n; j++ {
-				row += V[i*n+j] * c[j]
+			if !pointOnly {
+				var row float64
+				for j := 0; j < n; j++ {
+					row += V[i*n+j] * c[j]
+				}
+				vv += c[i] * row
 			}
-			vv += c[i] * row
 		}
 		mean[k] = mu + f.regression(T+k+1, future)
 		variance[k] = math.Max(vv, 0)
 		// s ← F s; V ← F V Fᵀ + σ² R Rᵀ.
-		for i := 0; i < n; i++ {
+		for i, row := range rows {
 			var acc float64
-			for j := 0; j < n; j++ {
-				acc += F[i*n+j] * s[j]
+			for _, e := range row {
+				acc += e.v * s[e.col]
 			}
 			s2[i] = acc
 		}
 		copy(s, s2)
-		for i := 0; i < n; i++ {
-			for j := 0; j < n; j++ {
-				var acc float64
-				for l := 0; l < n; l++ {
-					acc += F[i*n+l] * V[l*n+j]
+		if pointOnly {
+			continue
+		}
+		for i, row := range rows {
+			t := tmp[i*n : (i+1)*n]
+			clear(t)
+			for _, e := range row {
+				vl := V[e.col*n : (e.col+1)*n]
+				for j := range t {
+					t[j] += e.v * vl[j]
 				}
-				tmp[i*n+j] = acc
 			}
 		}
 		for i := 0; i < n; i++ {
-			for j := 0; j < n; j++ {
+			for j, row := range rows {
 				var acc float64
-				for l := 0; l < n; l++ {
-					acc += tmp[i*n+l] * F[j*n+l]
+				for _, e := range row {
+					acc += tmp[i*n+e.col] * e.v
 				}
 				V[i*n+j] = acc
 			}
@@ -337,6 +373,19 @@ func (f *Fitted) forecastTransformed(h int, future [][]float64) (mean, variance 
 		}
 	}
 	return mean, variance
+}
+
+// PointForecast returns the h-step point forecasts without their
+// variances, where they do not need them: on the modelled scale (no log)
+// the mean of the predictive distribution; with the log transform the
+// lognormal mean, which does, so it is Forecast's mean.
+func (f *Fitted) PointForecast(h int) []float64 {
+	if f.spec.Log {
+		mean, _ := f.Forecast(h)
+		return mean
+	}
+	mean, _ := f.forecastTransformed(h, f.future, true)
+	return mean
 }
 
 // maxExp keeps back-transformed values finite.
@@ -357,7 +406,7 @@ func (f *Fitted) Forecast(h int) (mean, variance []float64) {
 // given as one slice per column (steps beyond them hold each regressor at
 // its last given value).
 func (f *Fitted) ForecastWith(h int, future [][]float64) (mean, variance []float64) {
-	mean, variance = f.forecastTransformed(h, future)
+	mean, variance = f.forecastTransformed(h, future, false)
 	if !f.spec.Log {
 		return mean, variance
 	}
@@ -378,7 +427,7 @@ func (f *Fitted) ForecastWith(h int, future [][]float64) (mean, variance []float
 // back-transformed, so with the log transform it is asymmetric and exact
 // (quantiles are preserved by monotone maps).
 func (f *Fitted) Interval(h int, level float64) (lo, hi []float64) {
-	mean, variance := f.forecastTransformed(h, f.future)
+	mean, variance := f.forecastTransformed(h, f.future, false)
 	lo = make([]float64, h)
 	hi = make([]float64, h)
 	level = math.Max(1e-6, math.Min(level, 1-1e-12))

@@ -133,7 +133,7 @@ func TestAgainstR(t *testing.T) {
 			} else {
 				t.Logf("higher optimum than R: loglik %.4f vs %.4f", ll, c.LogLik)
 			}
-			mean, v := f.forecastTransformed(len(c.Forecast), f.future)
+			mean, v := f.forecastTransformed(len(c.Forecast), f.future, false)
 			for k := range mean {
 				if rel := math.Abs(mean[k]-c.Forecast[k]) / math.Abs(c.Forecast[k]); rel > 0.005 {
 					t.Errorf("forecast h=%d: %.6g, R %.6g", k+1, mean[k], c.Forecast[k])

@@ -13,11 +13,13 @@ import (
 // validation record.
 type Fitted struct {
 	models.Model
-	scores  []Score
-	winner  int // index into scores; −1 when chosen without validation
-	origins int
-	horizon int
-	note    string
+	scores   []Score
+	winner   int // index into scores; −1 when chosen without validation
+	combined int // index of the combination in scores, or −1
+	margin   float64
+	origins  int
+	horizon  int
+	note     string
 }
 
 var _ models.Model = (*Fitted)(nil)
@@ -40,13 +42,20 @@ func (f *Fitted) Reason() string {
 			continue
 		}
 		if math.IsInf(s.MASE, 1) {
-			others = append(others, s.Family+" failed")
+			others = append(others, s.Family+" "+short(s.Err))
 		} else {
 			others = append(others, fmt.Sprintf("%s %.3f", s.Family, s.MASE))
 		}
 	}
-	return fmt.Sprintf("%s had the lowest validation MASE, %.3f over %d origin(s) at horizon %d (others: %s)",
-		w.Family, w.MASE, f.origins, f.horizon, strings.Join(others, ", "))
+	why := "had the lowest validation MASE"
+	switch {
+	case f.winner == f.combined:
+		why = fmt.Sprintf("is the default: no single method beat it by %.0f%%", 100*f.margin)
+	case f.combined >= 0 && !math.IsInf(f.scores[f.combined].MASE, 1):
+		why = fmt.Sprintf("beat the combination by more than %.0f%%", 100*f.margin)
+	}
+	return fmt.Sprintf("%s %s, validation MASE %.3f over %d origin(s) at horizon %d (others: %s)",
+		w.Family, why, w.MASE, f.origins, f.horizon, strings.Join(others, ", "))
 }
 
 // Params implements models.Model: the winner's parameters plus "choice":
@@ -105,3 +114,11 @@ func (f *Fitted) Interval(h int, level float64) (lo, hi []float64) {
 // Warning implements models.Model: fallbacks of the choice, then the
 // winner's own warning.
 func (f *Fitted) Warning() string { return join(f.note, f.Model.Warning()) }
+
+// short is the first clause of an error message, for the reason line.
+func short(err string) string {
+	if strings.HasPrefix(err, "not offered") {
+		return "not offered"
+	}
+	return "failed"
+}

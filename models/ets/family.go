@@ -40,6 +40,9 @@ func (Family) Fit(y []float64, opt models.FitOptions) (models.Model, error) {
 // FitOptions.Period as the seasonal period.
 type Fixed struct {
 	Spec Spec
+	// Start, when not nil, starts the estimation from a previous fit of
+	// the same form (see FitFrom).
+	Start *Fitted
 }
 
 var _ models.Family = Fixed{}
@@ -47,9 +50,9 @@ var _ models.Family = Fixed{}
 // Name implements models.Family.
 func (Fixed) Name() string { return Name }
 
-// Fit implements models.Family by FitSpec.
+// Fit implements models.Family by FitFrom.
 func (fam Fixed) Fit(y []float64, opt models.FitOptions) (models.Model, error) {
-	f, err := FitSpec(y, fam.Spec, opt.Period)
+	f, err := FitFrom(y, fam.Spec, opt.Period, fam.Start)
 	if err != nil {
 		return nil, err
 	}
@@ -136,7 +139,7 @@ func Auto(y []float64, m int) (*Fitted, []Candidate, error) {
 		if s.Seasonal() {
 			mm = m
 		}
-		f, err := fit(y, s, mm, starts[:1])
+		f, err := fit(y, s, mm, starts[:1], nil)
 		if err != nil || !f.admissible || math.IsInf(f.crit.AICc, 0) {
 			continue
 		}
@@ -149,7 +152,7 @@ func Auto(y []float64, m int) (*Fitted, []Candidate, error) {
 		return nil, cands, fmt.Errorf("ets: no candidate form gave an admissible fit")
 	}
 	// The search used one start per form; refit the choice from all starts.
-	if g, err := fit(y, best.spec, best.m, starts); err == nil && g.admissible && g.crit.AICc < best.crit.AICc {
+	if g, err := fit(y, best.spec, best.m, starts, nil); err == nil && g.admissible && g.crit.AICc < best.crit.AICc {
 		best = g
 	}
 	if note != "" {

@@ -173,7 +173,30 @@ func FitSpec(y []float64, sp Spec, m int) (*Fitted, error) {
 	if err := checkData(y, sp, m); err != nil {
 		return nil, err
 	}
-	return fit(y, sp, m, starts)
+	return fit(y, sp, m, starts, nil)
+}
+
+// FitFrom is FitSpec started from the parameters and initial states of
+// start, a fit of the same form to a shorter stretch of the same series
+// (the automatic choice's earlier validation origin): one
+// Levenberg–Marquardt run from there instead of the two heuristic starts,
+// which are used when start is nil, of another form or period, or leads
+// nowhere.
+func FitFrom(y []float64, sp Spec, m int, start *Fitted) (*Fitted, error) {
+	if err := sp.Valid(); err != nil {
+		return nil, err
+	}
+	if !sp.Seasonal() {
+		m = 1
+	}
+	if err := checkData(y, sp, m); err != nil {
+		return nil, err
+	}
+	if start == nil || start.spec != sp || start.m != m {
+		return fit(y, sp, m, starts, nil)
+	}
+	p := start.Parameters()
+	return fit(y, sp, m, starts, &p)
 }
 
 func checkData(y []float64, sp Spec, m int) error {
@@ -212,7 +235,10 @@ var starts = [][4]float64{{0.3, 0.1, 0.1, 0.95}, {0.05, 0.5, 0.2, 0.9}}
 // of: r_t = y_t − ŷ_t for additive errors, and for multiplicative errors
 // r_t = ε_t·g with ε_t = (y_t − ŷ_t)/ŷ_t and g the geometric mean of the
 // ŷ_t, because n·ln Σε² + 2Σ ln ŷ = n·ln Σ(ε·g)².
-func fit(y []float64, sp Spec, m int, starts [][4]float64) (*Fitted, error) {
+//
+// With warm not nil, the search starts from warm alone, and from starts
+// only if that gives no valid fit.
+func fit(y []float64, sp Spec, m int, starts [][4]float64, warm *Params) (*Fitted, error) {
 	scale := 0.0
 	for _, v := range y {
 		scale += math.Abs(v)
@@ -251,6 +277,14 @@ func fit(y []float64, sp Spec, m int, starts [][4]float64) (*Fitted, error) {
 	w := newLMWork(n, np)
 	x, best := make([]float64, np), make([]float64, np)
 	bestF := math.Inf(1)
+	if warm != nil {
+		k.pack(warm, x)
+		if f := levenbergMarquardt(pr, w, x, 200); !math.IsInf(f, 1) {
+			bestF = f
+			copy(best, x)
+			starts = nil
+		}
+	}
 	p0 := initialParams(y, sp, m)
 	for _, st := range starts {
 		p0.Alpha, p0.Beta, p0.Gamma, p0.Phi = st[0], st[1]*st[0], st[2]*(1-st[0]), st[3]

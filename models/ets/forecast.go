@@ -211,3 +211,12 @@ func sampleVar(x []float64) float64 {
 	}
 	return ss / float64(len(x)-1)
 }
+
+// PointForecast returns the point forecasts ŷ_{T+h|T} for steps 1..h
+// without their variances (no simulation for (M,·,M) forms).
+func (f *Fitted) PointForecast(h int) []float64 {
+	if h <= 0 {
+		return []float64{}
+	}
+	return f.point(h)
+}

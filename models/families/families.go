@@ -7,21 +7,25 @@ import (
 	"trueup/models/arima"
 	"trueup/models/choose"
 	"trueup/models/ets"
+	"trueup/models/intermittent"
 	"trueup/models/naive"
+	"trueup/models/theta"
 )
 
 // Default is the family used when --family is not given: the per-node
-// choice among ARIMA, ETS, their combination and the naive benchmarks.
+// choice among ARIMA, ETS, Theta, their median and the naive benchmarks.
 const Default = choose.Name
 
 // Registry returns a registry holding every family.
 func Registry() *models.Registry {
 	r := &models.Registry{}
-	// The automatic choice in the configuration whose accuracy is measured
-	// in bench/ets/accuracy.md (ARIMA on the Box–Cox scale).
+	// The automatic choice in the configuration whose accuracy README
+	// reports (go run ./bench/accuracy).
 	r.Register(choose.Standard(choose.Options{}))
 	r.Register(arima.Family{})
 	r.Register(ets.Family{})
+	r.Register(theta.Family{})
+	r.Register(intermittent.SBA{})
 	r.Register(naive.SeasonalNaive{})
 	r.Register(naive.Drift{})
 	r.Register(naive.LastValue{})

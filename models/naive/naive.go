@@ -44,6 +44,8 @@ type Fitted struct {
 	m      int       // seasonal lag (1 for drift)
 	y      []float64 // the data
 	drift  float64
+	level  float64 // the mean method's level
+	flat   bool    // the mean method on a history without variation
 	resid  []float64
 	sigma2 float64
 	crit   models.Criteria
@@ -117,6 +119,8 @@ func (f *Fitted) Spec() string {
 		return "random walk with drift"
 	case "last":
 		return "last value"
+	case MeanName:
+		return "mean"
 	}
 	return fmt.Sprintf("seasonal naive m=%d", f.m)
 }
@@ -130,6 +134,8 @@ func (f *Fitted) Params() map[string]any {
 		return map[string]any{"estimates": []models.Estimate{{Name: "drift", Value: f.drift}}}
 	case "last":
 		return map[string]any{}
+	case MeanName:
+		return map[string]any{"estimates": []models.Estimate{{Name: "mean", Value: f.level}}}
 	}
 	return map[string]any{"lag": f.m}
 }
@@ -149,6 +155,14 @@ func (f *Fitted) Forecast(h int) (mean, variance []float64) {
 		case "last":
 			mean[i] = f.y[T-1]
 			variance[i] = f.sigma2 * float64(step)
+			continue
+		case MeanName:
+			mean[i] = f.level
+			if f.flat {
+				variance[i] = f.sigma2 * float64(step)
+			} else {
+				variance[i] = f.sigma2 * (1 + 1/float64(T))
+			}
 			continue
 		}
 		k := (step - 1) / f.m

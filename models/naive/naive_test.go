@@ -103,3 +103,30 @@ func TestConstantSeriesHasNoNaN(t *testing.T) {
 		}
 	}
 }
+
+// TestMean: the mean method's forecast and the prediction variance
+// s²(1 + 1/T) of a new observation from a constant mean (Hyndman &
+// Athanasopoulos, Forecasting: Principles and Practice, 3rd ed., §5.5);
+// without variation the rough rule σ² = max(ȳ², 1)/T growing with h (ours,
+// see Mean).
+func TestMean(t *testing.T) {
+	m, err := Mean{}.Fit([]float64{30, 50, 40}, models.FitOptions{Period: 12})
+	if err != nil {
+		t.Fatal(err)
+	}
+	mean, v := m.Forecast(2)
+	if mean[0] != 40 || math.Abs(v[1]-100*(1+1.0/3)) > 1e-9 {
+		t.Errorf("mean %v variance %v, want 40 and %g", mean, v, 100*(1+1.0/3))
+	}
+	flat, err := Mean{}.Fit([]float64{0, 0, 0, 0}, models.FitOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	mean, v = flat.Forecast(2)
+	if mean[1] != 0 || v[0] != 0.25 || v[1] != 0.5 || flat.Warning() == "" {
+		t.Errorf("flat: mean %v variance %v warning %q", mean, v, flat.Warning())
+	}
+	if _, err := (Mean{}).Fit(nil, models.FitOptions{}); err == nil {
+		t.Error("empty series accepted")
+	}
+}

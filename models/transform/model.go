@@ -138,6 +138,24 @@ func (f *Fitted) Forecast(h int) (mean, variance []float64) {
 	return mean, variance
 }
 
+// PointForecast returns the back-transformed point forecasts without the
+// variances when the inner model can give its point forecasts alone and
+// no bias adjustment is asked for (the median f⁻¹(μ) needs no variance);
+// otherwise the means of Forecast.
+func (f *Fitted) PointForecast(h int) []float64 {
+	p, ok := f.inner.(interface{ PointForecast(int) []float64 })
+	if f.bias || !ok {
+		mean, _ := f.Forecast(h)
+		return mean
+	}
+	mu := p.PointForecast(h)
+	out := make([]float64, len(mu))
+	for i, v := range mu {
+		out[i], _ = f.moments(v, 0)
+	}
+	return out
+}
+
 func (f *Fitted) moments(mu, v float64) (mean, variance float64) {
 	tr := f.tr
 	if tr.Identity {

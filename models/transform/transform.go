@@ -22,6 +22,7 @@ import (
 	"math"
 
 	"trueup/inputerr"
+	"trueup/internal/numeric"
 )
 
 // Kind names a transform.
@@ -213,7 +214,7 @@ func joinNote(a, b string) string {
 // taken back from the end of the series; blocks with a non-positive mean
 // are skipped. ok is false with fewer than two usable blocks. The search
 // is a grid of step 0.05 refined by golden-section search around the best
-// grid point.
+// grid point (numeric.GridGolden).
 func Guerrero(y []float64, m int, lo, hi float64) (float64, bool) {
 	r := m
 	if r < 2 {
@@ -253,31 +254,5 @@ func Guerrero(y []float64, m int, lo, hi float64) (float64, bool) {
 		}
 		return math.Sqrt(math.Max(ss/n-mean*mean, 0)*n/(n-1)) / mean
 	}
-	best, bestV := lo, math.Inf(1)
-	const step = 0.05
-	for l := lo; l <= hi+1e-12; l += step {
-		if v := cv(l); v < bestV {
-			best, bestV = l, v
-		}
-	}
-	a, b := math.Max(lo, best-step), math.Min(hi, best+step)
-	g := (math.Sqrt(5) - 1) / 2
-	c, d := b-g*(b-a), a+g*(b-a)
-	fc, fd := cv(c), cv(d)
-	for i := 0; i < 40; i++ {
-		if fc < fd {
-			b, d, fd = d, c, fc
-			c = b - g*(b-a)
-			fc = cv(c)
-		} else {
-			a, c, fc = c, d, fd
-			d = a + g*(b-a)
-			fd = cv(d)
-		}
-	}
-	l := (a + b) / 2
-	if cv(l) > bestV {
-		l = best
-	}
-	return l, true
+	return numeric.GridGolden(cv, lo, hi, 0.05), true
 }

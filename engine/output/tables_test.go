@@ -1,0 +1,81 @@
+package output_test
+
+import (
+	"context"
+	"math"
+	"testing"
+
+	"trueup/engine"
+	"trueup/engine/output"
+	"trueup/internal/numeric"
+	"trueup/models/families"
+	"trueup/tableio"
+)
+
+func columnOf(t *testing.T, tb *tableio.Table, name string) *tableio.Column {
+	t.Helper()
+	for i := range tb.Columns {
+		if tb.Columns[i].Name == name {
+			return &tb.Columns[i]
+		}
+	}
+	t.Fatalf("no column %q", name)
+	return nil
+}
+
+// TestHistoryAndResidualCheck checks the history table against the
+// result's histories, and the models table's Ljung–Box columns against
+// numeric.LjungBox run on the residuals table's finite residuals of each
+// node (the statistic itself is checked against statsmodels in
+// internal/numeric).
+func TestHistoryAndResidualCheck(t *testing.T) {
+	d := smallChain(t)
+	res, err := engine.Forecast(context.Background(), d, engine.Options{Model: families.Spec{Family: "seasonal-naive"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	tables := map[string]*tableio.Table{}
+	for _, tb := range output.Tables(res) {
+		tables[tb.Name] = tb.Table
+	}
+	T := res.Calendar.T
+	value := columnOf(t, tables["history"], "value")
+	period := columnOf(t, tables["history"], "period")
+	for i, h := range res.History {
+		for k := 0; k < T; k++ {
+			r := i*T + k
+			if got := value.Floats[r]; got != h[k] && !(math.IsNaN(got) && math.IsNaN(h[k])) {
+				t.Fatalf("history node %d period %d: %v, result %v", i, k, got, h[k])
+			}
+			if period.Strings[r] != res.Calendar.Period(k).String() {
+				t.Fatalf("history row %d: period %s", r, period.Strings[r])
+			}
+		}
+	}
+	resid := columnOf(t, tables["residuals"], "residual")
+	lags, q, p := columnOf(t, tables["models"], "ljung_box_lags"), columnOf(t, tables["models"], "ljung_box_q"), columnOf(t, tables["models"], "ljung_box_p")
+	tested := 0
+	for i := range res.Fits {
+		var x []float64
+		for k := 0; k < T; k++ {
+			if v := resid.Floats[i*T+k]; !math.IsNaN(v) {
+				x = append(x, v)
+			}
+		}
+		h := int(lags.Ints[i])
+		if h == 0 {
+			if len(x) >= 10 || !math.IsNaN(p.Floats[i]) {
+				t.Fatalf("node %d: no test on %d residuals (p %v)", i, len(x), p.Floats[i])
+			}
+			continue
+		}
+		wantQ, wantP := numeric.LjungBox(numeric.ACF(x, h)[1:], len(x), 0)
+		if math.Abs(q.Floats[i]-wantQ) > 1e-9*math.Max(1, wantQ) || math.Abs(p.Floats[i]-wantP) > 1e-12 {
+			t.Fatalf("node %d: Q %v p %v, from the residuals table %v %v", i, q.Floats[i], p.Floats[i], wantQ, wantP)
+		}
+		tested++
+	}
+	if tested == 0 {
+		t.Fatal("no node was tested")
+	}
+}

@@ -1,0 +1,443 @@
+// The page script of trueup's report: decodes the embedded data (gzip,
+// base64, float32 byte planes; see report.go) and draws the charts with
+// uPlot. window.trueupReport exposes the state that tests and the
+// benchmark read.
+"use strict";
+(async function () {
+  const api = { ready: false, error: null, selected: -1, select: null, timings: {} };
+  window.trueupReport = api;
+  const t0 = performance.now();
+  const css = getComputedStyle(document.documentElement);
+  const color = name => css.getPropertyValue(name).trim();
+
+  function bytes(id) {
+    const s = atob(document.getElementById(id).textContent.trim());
+    const u = new Uint8Array(s.length);
+    for (let i = 0; i < s.length; i++) u[i] = s.charCodeAt(i);
+    return u;
+  }
+  async function gunzip(u) {
+    const stream = new Blob([u]).stream().pipeThrough(new DecompressionStream("gzip"));
+    return new Uint8Array(await new Response(stream).arrayBuffer());
+  }
+
+  let meta, all;
+  try {
+    meta = JSON.parse(new TextDecoder().decode(await gunzip(bytes("meta"))));
+    const raw = await gunzip(bytes("series"));
+    const n = raw.length / 4;
+    all = new Float32Array(n);
+    const b = new Uint8Array(all.buffer);
+    for (let i = 0; i < n; i++) {
+      b[4 * i] = raw[i]; b[4 * i + 1] = raw[n + i]; b[4 * i + 2] = raw[2 * n + i]; b[4 * i + 3] = raw[3 * n + i];
+    }
+  } catch (e) {
+    api.error = String(e);
+    document.getElementById("loading").textContent = "This report's data could not be decoded: " + e;
+    document.getElementById("loading").className = "error";
+    return;
+  }
+  api.timings.decode = performance.now() - t0;
+
+  const N = meta.nodes.length, T = meta.history.length, H = meta.forecast.length, K = meta.lags;
+  const labels = meta.history.concat(meta.forecast);
+  let off = 0;
+  const field = len => { const f = all.subarray(off, off + len); off += len; return f; };
+  const S = { history: field(N * T), base: field(N * H), forecast: field(N * H), lower: [], upper: [] };
+  if (meta.z) S.sd = field(N * H);
+  else for (let l = 0; l < meta.intervals.length; l++) { S.lower.push(field(N * H)); S.upper.push(field(N * H)); }
+  S.acf = field(N * K); S.pacf = field(N * K);
+  // bounds returns interval l's lower and upper bounds of node i, from
+  // the embedded bounds or from forecast ∓ z·sd (see compactBounds).
+  function bounds(l, i) {
+    if (!meta.z) return [slice(S.lower[l], i, H), slice(S.upper[l], i, H)];
+    const lo = [], hi = [], z = meta.z[l];
+    for (let k = 0; k < H; k++) {
+      const f = S.forecast[i * H + k], sd = S.sd[i * H + k];
+      if (Number.isNaN(f) || Number.isNaN(sd)) { lo.push(null); hi.push(null); continue; }
+      lo.push(meta.clamp_at_zero ? Math.max(0, f - z * sd) : f - z * sd);
+      hi.push(f + z * sd);
+    }
+    return [lo, hi];
+  }
+
+  const run = meta.run || {}, counts = run.counts || {};
+  const unit = "sales per " + (counts.grain || "period");
+  const nf0 = new Intl.NumberFormat("en-GB", { maximumFractionDigits: 0 });
+  const nf2 = new Intl.NumberFormat("en-GB", { maximumFractionDigits: 2 });
+  const fmt = v => v == null || Number.isNaN(v) ? "–" : (Math.abs(v) >= 100 ? nf0 : nf2).format(v);
+  const short = v => {
+    const a = Math.abs(v);
+    if (a >= 1e9) return nf2.format(v / 1e9) + " bn";
+    if (a >= 1e6) return nf2.format(v / 1e6) + " m";
+    if (a >= 1e4) return nf0.format(v / 1e3) + " k";
+    return nf2.format(v);
+  };
+  const el = (tag, attrs, ...kids) => {
+    const e = document.createElement(tag);
+    for (const [k, v] of Object.entries(attrs || {})) {
+      if (k === "class") e.className = v; else if (k.startsWith("on")) e.addEventListener(k.slice(2), v); else e.setAttribute(k, v);
+    }
+    for (const k of kids) e.append(k instanceof Node ? k : String(k));
+    return e;
+  };
+  const nodeName = i => {
+    const nd = meta.nodes[i];
+    const parts = nd.key.filter(k => k !== "");
+    return parts.length ? parts.join(" · ") : "Total";
+  };
+  const levelName = i => meta.levels[meta.nodes[i].level].name;
+  const slice = (f, i, len) => Array.from(f.subarray(i * len, (i + 1) * len), v => Number.isNaN(v) ? null : v);
+
+  // seriesData returns the x positions and the series of node i on the
+  // history-then-forecast axis: history, base, forecast, then per interval
+  // (widest first) upper and lower.
+  function seriesData(i) {
+    const x = labels.map((_, t) => t);
+    const pad = new Array(T).fill(null), tail = new Array(H).fill(null);
+    const hist = slice(S.history, i, T).concat(tail);
+    const cols = [x, hist, pad.concat(slice(S.base, i, H)), pad.concat(slice(S.forecast, i, H))];
+    for (let l = meta.intervals.length - 1; l >= 0; l--) {
+      const [lo, hi] = bounds(l, i);
+      cols.push(pad.concat(hi), pad.concat(lo));
+    }
+    return cols;
+  }
+
+  const xAxis = { values: (u, splits) => splits.map(t => labels[t] ?? ""), space: 64, incrs: [1, 2, 3, 4, 6, 12, 24, 36, 52, 104, 365], grid: { stroke: "#e6e9ee" } };
+  function tsOptions(width, height, compact) {
+    const series = [{ label: "period", value: (u, t) => t == null ? "–" : labels[t] },
+      { label: "history", stroke: color("--history"), width: 1.5, value: (u, v) => fmt(v) },
+      { label: "base forecast", stroke: color("--base"), width: 1.25, dash: [5, 4], value: (u, v) => fmt(v), show: !compact },
+      { label: "reconciled forecast", stroke: color("--forecast"), width: 2, value: (u, v) => fmt(v) }];
+    const bands = [];
+    for (let l = meta.intervals.length - 1; l >= 0; l--) {
+      const wide = l === meta.intervals.length - 1 && meta.intervals.length > 1;
+      const fill = color(wide ? "--band95" : "--band80"), edge = color(wide ? "--band95-edge" : "--band80-edge");
+      const at = series.length;
+      series.push({ label: meta.intervals[l] + "% interval", stroke: edge, width: 1, points: { show: false }, value: (u, v) => fmt(v) },
+        { label: meta.intervals[l] + "% lower", stroke: edge, width: 1, points: { show: false }, value: (u, v) => fmt(v) });
+      bands.push({ series: [at, at + 1], fill });
+    }
+    return {
+      width, height, series, bands, scales: { x: { time: false } },
+      legend: { show: !compact }, cursor: { drag: { x: false, y: false } },
+      axes: [xAxis, { values: (u, s) => s.map(short), size: 64, label: compact ? undefined : unit, grid: { stroke: "#e6e9ee" } }],
+      hooks: { ready: [u => { // one legend entry per interval: the lower bound's row is hidden
+        const rows = u.root.querySelectorAll(".u-legend .u-series");
+        for (let s = 5; s < u.series.length; s += 2) if (rows[s]) rows[s].style.display = "none";
+      }] },
+    };
+  }
+  const charts = [];
+  function draw(target, opts, data) {
+    if (target.uplot) { charts.splice(charts.indexOf(target.uplot), 1); target.uplot.destroy(); }
+    target.textContent = "";
+    const u = new uPlot(opts, data, target);
+    target.uplot = u;
+    charts.push(u);
+    return u;
+  }
+  const width = e => Math.max(280, Math.floor(e.getBoundingClientRect().width || 900));
+
+  // What was run.
+  const facts = document.getElementById("run-facts");
+  const opts = run.options || {};
+  const fact = (k, v) => { if (v !== undefined && v !== null && v !== "") facts.append(el("dt", {}, k), el("dd", {}, v)); };
+  fact("Command", run.command ? "trueup " + run.command : undefined);
+  if (run.input) {
+    const file = String(run.input.path || "").split(/[\\/]/).pop();
+    const sha = run.input.sha256 ? `, SHA-256 ${String(run.input.sha256).slice(0, 12)}…` : "";
+    fact("Input", el("span", { title: run.input.path }, `${file} (${nf0.format(run.input.rows)} rows${sha})`));
+  }
+  fact("History", counts.first_period ? `${counts.first_period} to ${counts.last_period} (${counts.periods} ${counts.grain || "period"}s)` : undefined);
+  if (H) fact("Forecast", `${meta.forecast[0]} to ${meta.forecast[H - 1]} (${H} periods ahead), intervals ${meta.intervals.map(l => l + "%").join(" and ")}`);
+  if (N) fact("Structure", `${nf0.format(N)} nodes in ${meta.levels.length} levels: ` + meta.levels.map(l => `${l.name} ${nf0.format(l.nodes.length)}`).join(", "));
+  if (Array.isArray(run.origins) && run.origins.length) fact("Backtest", `${run.origins.length} origins (first forecast periods ${run.origins.map(o => o.first_forecast_period).join(", ")}); methods compared: ${(run.methods || []).join(", ")}`);
+  if (run.models) fact("Models chosen", Object.entries(run.models).sort().map(([k, v]) => `${k} ${v}`).join(", ") + (opts.family ? ` (family option: ${opts.family})` : ""));
+  if (run.reconcile) {
+    const notes = Object.entries(run.reconcile.notes || {}).map(([k, v]) => `${k} ${nf2.format(v)}`).join(", ");
+    const whys = {
+      "mint": "MinT combines every level's forecast, weighting each by how reliable its errors have been, so that totals equal the sum of their parts",
+      "bottom-up": "the forecasts of the finest level are added up, so every total is the sum of its parts",
+      "top-down-hist": "the total's forecast is split down by each node's share of the history",
+      "top-down-avg": "the total's forecast is split down by each node's average share of the history",
+      "top-down-fcst": "the total's forecast is split down by each node's share of the forecasts",
+      "middle-out": "one level's forecasts are added up above it and split down below it",
+    };
+    const why = whys[run.reconcile.method] || "the method named in the run's options";
+    fact("Reconciliation", `${run.reconcile.method}${opts.cov ? " (covariance " + opts.cov + ")" : ""}${opts.nonnegative ? ", non-negative" : ""}: ${why}${notes ? "; " + notes : ""}`);
+  }
+  if (run.warnings && run.warnings.length) fact("Warnings", el("ul", {}, ...run.warnings.map(w => el("li", { class: "warning" }, w))));
+
+  // Forecast sections: left out for a backtest's folder, which has no forecasts.
+  if (N > 0) {
+    // The total.
+    const totalLevel = meta.levels.findIndex(l => l.name === "total");
+    const totalNode = meta.levels[totalLevel >= 0 ? totalLevel : 0].nodes[0];
+    document.getElementById("total-title").textContent = `${nodeName(totalNode)}: history and forecast with ${meta.intervals.map(l => l + "%").join(" and ")} intervals`;
+    const totalEl = document.getElementById("total-chart");
+    draw(totalEl, tsOptions(width(totalEl), 340, false), seriesData(totalNode));
+    totalEl.dataset.forecastPoints = String(slice(S.forecast, totalNode, H).filter(v => v != null).length);
+
+    // Small multiples: the largest nodes of each level below the total.
+    const TOP = 6;
+    const grids = document.getElementById("level-grids");
+    meta.levels.forEach((lv, l) => {
+      if (lv.nodes.length === 1 && l === (totalLevel >= 0 ? totalLevel : 0)) return;
+      grids.append(el("h3", {}, `${lv.name}: ${nf0.format(lv.nodes.length)} nodes` + (lv.nodes.length > TOP ? ` (largest ${TOP} shown)` : "")));
+      const grid = el("div", { class: "grid" });
+      grids.append(grid);
+      for (const i of lv.nodes.slice(0, TOP)) {
+        const box = el("div", { class: "chart" });
+        grid.append(el("div", { class: "cell" }, el("button", { onclick: () => select(i, true) }, nodeName(i)), box));
+        draw(box, tsOptions(330, 170, true), seriesData(i));
+      }
+      if (lv.nodes.length > TOP) {
+        const pick = el("select", { "aria-label": "all nodes of " + lv.name });
+        pick.append(el("option", { value: "" }, `All ${nf0.format(lv.nodes.length)} nodes of ${lv.name}, largest first…`));
+        const fillOptions = () => { // filled on first use: a level can have tens of thousands of nodes
+          if (pick.options.length > 1) return;
+          const frag = document.createDocumentFragment();
+          for (const i of lv.nodes) frag.append(el("option", { value: i }, nodeName(i)));
+          pick.append(frag);
+        };
+        pick.addEventListener("focus", fillOptions);
+        pick.addEventListener("mousedown", fillOptions);
+        pick.addEventListener("change", () => { if (pick.value !== "") select(+pick.value, true); });
+        grids.append(el("div", { class: "level-more" }, pick));
+      }
+    });
+
+    // Any node.
+    const lowerNames = meta.nodes.map((_, i) => (nodeName(i) + " " + levelName(i)).toLowerCase());
+    const byVolume = meta.nodes.map((_, i) => i).sort((a, b) => meta.nodes[b].volume - meta.nodes[a].volume || a - b);
+    const search = document.getElementById("search"), matches = document.getElementById("matches");
+    let found = [];
+    function find() {
+      const words = search.value.toLowerCase().split(/\s+/).filter(Boolean);
+      found = [];
+      if (words.length) for (const i of byVolume) {
+        if (words.every(w => lowerNames[i].includes(w))) found.push(i);
+        if (found.length === 30) break;
+      }
+      matches.replaceChildren(...found.map((i, k) => el("li", { role: "option", class: k === 0 ? "active" : "", onclick: () => { select(i, false); matches.replaceChildren(); } },
+        nodeName(i) + " ", el("small", {}, levelName(i)))));
+    }
+    search.addEventListener("input", find);
+    let active = 0; // the highlighted match: arrow keys move it, Enter opens it
+    const highlight = k => {
+      active = Math.max(0, Math.min(found.length - 1, k));
+      matches.querySelectorAll("li").forEach((li, j) => li.classList.toggle("active", j === active));
+      const li = matches.children[active];
+      if (li) li.scrollIntoView({ block: "nearest" });
+    };
+    search.addEventListener("input", () => { active = 0; });
+    search.addEventListener("keydown", e => {
+      if (e.key === "ArrowDown" || e.key === "ArrowUp") { e.preventDefault(); highlight(active + (e.key === "ArrowDown" ? 1 : -1)); }
+      if (e.key === "Enter" && found.length) { select(found[active] ?? found[0], false); matches.replaceChildren(); }
+      if (e.key === "Escape") matches.replaceChildren();
+    });
+
+    function corrChart(target, name, f, i) {
+      const nres = meta.nodes[i].n_resid;
+      const vals = slice(f, i, K);
+      const k = vals.findIndex(v => v == null);
+      const len = k < 0 ? K : k;
+      target.textContent = "";
+      if (len < 1) { target.append(el("p", { class: "note" }, `No ${name}: too few residuals.`)); return; }
+      const bound = 1.96 / Math.sqrt(nres);
+      const x = Array.from({ length: len }, (_, j) => j + 1);
+      const top = Math.min(1, 1.25 * Math.max(bound, ...vals.slice(0, len).map(Math.abs)));
+      draw(target, {
+        width: width(target), height: 200, title: `${name} of the residuals`, scales: { x: { time: false, range: [0.5, len + 0.5] }, y: { range: [-top, top] } },
+        series: [{ label: "lag" }, { label: name, stroke: color("--forecast"), fill: color("--band80"), paths: uPlot.paths.bars({ size: [0.6, 14] }), points: { show: false }, value: (u, v) => v == null ? "–" : v.toFixed(3) },
+          { label: "±1.96/√n", stroke: color("--alert"), dash: [4, 4], width: 1, points: { show: false }, value: () => bound.toFixed(3) },
+          { label: "", stroke: color("--alert"), dash: [4, 4], width: 1, points: { show: false } }],
+        axes: [{ label: "lag", incrs: [1, 2, 3, 4, 6, 12], grid: { show: false } }, { size: 44, grid: { stroke: "#e6e9ee" } }],
+        hooks: { ready: [u => { const r = u.root.querySelectorAll(".u-legend .u-series"); if (r[3]) r[3].style.display = "none"; }] },
+      }, [x, vals.slice(0, len), x.map(() => bound), x.map(() => -bound)]);
+    }
+
+    function select(i, scroll) {
+      const start = performance.now();
+      const nd = meta.nodes[i];
+      api.selected = i;
+      document.getElementById("node-title").textContent = `${nodeName(i)} (${levelName(i)})`;
+      const chart = document.getElementById("node-chart");
+      draw(chart, tsOptions(width(chart), 320, false), seriesData(i));
+      chart.dataset.node = String(i);
+      const model = document.getElementById("node-model");
+      const rows = [["Model", nd.family ? `${nd.family}: ${nd.spec}` : "none (base forecasts given)"],
+        ["AICc", nd.aicc == null ? "–" : nf2.format(nd.aicc)], ["σ²", nd.sigma2 == null ? "–" : fmt(nd.sigma2)]];
+      let params = null;
+      try { params = nd.params ? JSON.parse(nd.params) : null; } catch (e) { params = null; }
+      const table = el("table", {}, ...rows.map(([k, v]) => el("tr", {}, el("th", {}, k), el("td", {}, v))));
+      if (params && Array.isArray(params.estimates)) {
+        for (const e of params.estimates) table.append(el("tr", {}, el("th", {}, e.name ?? e.Name ?? "estimate"), el("td", { class: "num" }, typeof (e.value ?? e.Value) === "number" ? (e.value ?? e.Value).toPrecision(6) : JSON.stringify(e))));
+      }
+      const nodeBounds = meta.intervals.map((_, l) => bounds(l, i));
+      const fcRows = meta.forecast.map((p, k) => {
+        const cells = [p, fmt(S.base[i * H + k]), fmt(S.forecast[i * H + k])];
+        nodeBounds.forEach(([lo, hi]) => cells.push(`${fmt(lo[k])} – ${fmt(hi[k])}`));
+        return el("tr", {}, ...cells.map((c, j) => el("td", { class: j ? "num" : "" }, c)));
+      });
+      const head = el("tr", {}, ...["period", "base", "forecast", ...meta.intervals.map(l => l + "% interval")].map((c, j) => el("th", { class: j ? "num" : "" }, c)));
+      model.replaceChildren(el("h3", {}, "Model"), table,
+        ...(nd.warning ? [el("p", { class: "warning" }, "Warning: " + nd.warning)] : []),
+        ...(params ? [el("details", {}, el("summary", {}, "All parameters (JSON)"), el("pre", { class: "scroll" }, JSON.stringify(params, null, 1)))] : []));
+      const check = model;
+      document.getElementById("node-check").replaceChildren(el("h3", {}, "Forecasts"), el("div", { class: "scroll" }, el("table", {}, head, ...fcRows)));
+      check.append(el("h3", {}, "Ljung–Box test of the residuals"));
+      if (nd.lb_p == null) check.append(el("p", { class: "note" }, "Not run: too few residuals."));
+      else {
+        const pass = nd.lb_p >= meta.fail_p;
+        check.append(el("p", {}, `Q = ${nd.lb_q.toFixed(2)} on ${nd.lb_lags} lags, p-value ${nd.lb_p < 1e-4 ? nd.lb_p.toExponential(2) : nd.lb_p.toFixed(4)}: `,
+          el("span", { class: pass ? "pass" : "fail" }, pass ? "no autocorrelation left at the 5% level" : "autocorrelation left in the residuals at the 5% level")),
+        el("p", { class: "note" }, `A failing test means the model missed a pattern; its intervals may be too narrow. Bars beyond the dashed lines (±1.96/√n, n = ${nd.n_resid} residuals) show where.`));
+      }
+      corrChart(document.getElementById("node-acf"), "ACF", S.acf, i);
+      corrChart(document.getElementById("node-pacf"), "PACF", S.pacf, i);
+      if (scroll) document.getElementById("explorer").scrollIntoView();
+      api.timings.select = performance.now() - start;
+    }
+    api.select = select;
+    api.nodeName = nodeName;
+    api.nodeCount = N;
+
+    // Residual checks.
+    const failing = document.getElementById("failing");
+    if (!K) failing.append(el("p", { class: "note" }, "No residuals in this run's tables, so no checks."));
+    else {
+      failing.append(el("p", {}, `${nf0.format(meta.failing.length)} of ${nf0.format(N)} nodes have residuals that fail the Ljung–Box test at the 5% level` + (meta.failing.length > 200 ? " (the 200 with the smallest p-values are listed)." : ".")));
+      if (meta.failing.length) failing.append(el("div", { class: "scroll" }, el("table", {},
+        el("tr", {}, el("th", {}, "node"), el("th", {}, "level"), el("th", {}, "model"), el("th", { class: "num" }, "Q"), el("th", { class: "num" }, "lags"), el("th", { class: "num" }, "p-value")),
+        ...meta.failing.slice(0, 200).map(i => { const nd = meta.nodes[i]; return el("tr", {},
+          el("td", {}, el("button", { class: "node-link", onclick: () => select(i, true) }, nodeName(i))), el("td", {}, levelName(i)), el("td", {}, nd.spec || nd.family || ""),
+          el("td", { class: "num" }, nd.lb_q.toFixed(2)), el("td", { class: "num" }, nd.lb_lags), el("td", { class: "num" }, nd.lb_p.toExponential(2))); }))));
+    }
+
+    select(totalNode, false);
+    // A link may name a node: report.html#node=Thornvale opens the largest
+    // node whose name and level contain those words.
+    const wanted = decodeURIComponent((location.hash.match(/^#node=(.+)$/) || [])[1] || "");
+    if (wanted) { search.value = wanted; find(); if (found.length) select(found[0], true); matches.replaceChildren(); }
+  } else {
+    for (const id of ["total", "levels", "explorer", "diagnostics"]) document.getElementById(id).hidden = true;
+  }
+
+  // Accuracy: the backtest's scores and drivers (see accuracy.go) and its
+  // recommendation from run.json.
+  const acc = Object.fromEntries((meta.accuracy || []).map(tb => [tb.name, tb]));
+  if (meta.accuracy && meta.accuracy.length) {
+    document.getElementById("accuracy").hidden = false;
+    const box = document.getElementById("accuracy-tables");
+    const records = tb => tb.rows.map(r => Object.fromEntries(tb.columns.map((c, j) => [c, r[j]])));
+    const num = v => v == null ? "–" : nf2.format(v);
+    const pct = v => v == null ? "–" : nf0.format(100 * v) + "%";
+    const htmlTable = (head, rows) => el("div", { class: "scroll" }, el("table", {},
+      el("tr", {}, ...head.map((h, j) => el("th", { class: j ? "num" : "" }, h))),
+      ...rows.map(r => el("tr", {}, ...r.map((v, j) => el("td", { class: j ? "num" : "" }, v))))));
+    const short14 = s => s.length > 16 ? s.slice(0, 15) + "…" : s;
+    // dotChart draws one dot per category and series (no lines), with
+    // optional dashed reference lines.
+    function dotChart(target, title, catLabel, cats, series, yLabel, refs, yfmt) {
+      const palette = [color("--forecast"), color("--base"), color("--history"), "#5b3f9e", "#2f6db3", "#8a1c1c", "#6b6b00"];
+      const x = cats.map((_, k) => k);
+      const opts = {
+        width: width(target), height: 260, title, scales: { x: { time: false, range: [-0.5, cats.length - 0.5] } },
+        series: [{ label: catLabel, value: (u, k) => k == null ? "–" : cats[k] }],
+        axes: [{ values: (u, sp) => sp.map(k => Number.isInteger(k) ? short14(String(cats[k] ?? "")) : ""), incrs: [1], grid: { show: false }, size: 50 },
+          { values: (u, sp) => sp.map(yfmt), size: 60, label: yLabel, grid: { stroke: "#e6e9ee" } }],
+      };
+      const data = [x];
+      series.forEach((sr, j) => {
+        opts.series.push({ label: sr.label, stroke: palette[j % palette.length], width: 0, paths: () => null,
+          points: { show: true, size: 9, fill: palette[j % palette.length] }, value: (u, v) => v == null ? "–" : yfmt(v) });
+        data.push(sr.values);
+      });
+      for (const r of refs || []) {
+        opts.series.push({ label: r.label, stroke: color("--alert"), dash: [4, 4], width: 1, points: { show: false }, value: () => yfmt(r.value) });
+        data.push(x.map(() => r.value));
+      }
+      draw(target, opts, data);
+    }
+    function barChart(target, title, names, values, yLabel, yfmt) {
+      draw(target, {
+        width: width(target), height: 260, title, scales: { x: { time: false, range: [-0.5, names.length - 0.5] }, y: { range: (u, lo, hi) => [Math.min(0, lo), Math.max(0, hi) * 1.1 || 1] } },
+        series: [{ label: "node", value: (u, k) => k == null ? "–" : names[k] },
+          { label: yLabel, stroke: color("--forecast"), fill: color("--band80"), paths: uPlot.paths.bars({ size: [0.7, 60] }), points: { show: false }, value: (u, v) => v == null ? "–" : yfmt(v) }],
+        axes: [{ values: (u, sp) => sp.map(k => Number.isInteger(k) ? short14(String(names[k] ?? "")) : ""), incrs: [1], grid: { show: false }, size: 50 },
+          { values: (u, sp) => sp.map(yfmt), size: 60, label: yLabel, grid: { stroke: "#e6e9ee" } }],
+      }, [names.map((_, k) => k), values]);
+    }
+    const rec = run.recommendation;
+    if (rec && rec.method) {
+      box.append(el("p", { class: "caution" }, el("strong", {}, `Recommended reconciliation: ${rec.method}. `),
+        `Headline MASE ${num(rec.mase)}` + (rec.runner_up ? `, ${num(rec.margin_percent)}% below ${rec.runner_up}` : "") +
+        (Number.isFinite(rec.versus_base_percent) ? `, ${num(rec.versus_base_percent)}% better than the base forecasts` : "") + ". " + (rec.reason || "")));
+    }
+    if (acc.scores) {
+      const sc = records(acc.scores);
+      const methods = [...new Set(sc.map(r => r.method))];
+      const head = sc.filter(r => r.level == null), byLevel = sc.filter(r => r.level != null);
+      const levels = [...new Set(byLevel.map(r => r.level))];
+      const covCols = acc.scores.columns.filter(c => /^coverage_/.test(c));
+      box.append(el("h3", {}, "Scores by method (mean over levels)"),
+        htmlTable(["method", "MASE", "RMSSE", "bias", ...covCols.map(c => `${c.slice(9)}% interval coverage`)],
+          head.map(r => [r.method, num(r.mase), num(r.rmsse), num(r.bias), ...covCols.map(c => pct(r[c]))])));
+      const at = (lv, m, col) => { const r = byLevel.find(r => r.level === lv && r.method === m); return r ? r[col] ?? null : null; };
+      if (levels.length) {
+        const t1 = el("div", { class: "chart" });
+        box.append(el("h3", {}, "MASE by level and method (lower is better)"), t1);
+        dotChart(t1, "MASE over all steps and origins", "level", levels, methods.map(m => ({ label: m, values: levels.map(lv => at(lv, m, "mase")) })), "MASE", [{ label: "seasonal naive (1)", value: 1 }], v => nf2.format(v));
+      }
+      if (covCols.length && head.length) {
+        const t2 = el("div", { class: "chart" });
+        box.append(el("h3", {}, "Interval coverage against its nominal level"),
+          el("p", { class: "note" }, "The share of actual values inside each interval; a dot below its dashed line means the intervals were too narrow."), t2);
+        dotChart(t2, "coverage (mean over levels)", "method", head.map(r => r.method),
+          covCols.map(c => ({ label: c.slice(9) + "% interval", values: head.map(r => r[c] ?? null) })), "coverage",
+          covCols.map(c => ({ label: `nominal ${c.slice(9)}%`, value: +c.slice(9) / 100 })), v => nf0.format(100 * v) + "%");
+      }
+    }
+    if (acc.drivers) {
+      const dr = records(acc.drivers);
+      const method = rec && rec.method && dr.some(r => r.method === rec.method) ? rec.method : (dr[0] || {}).method;
+      const groups = new Map();
+      for (const r of dr.filter(r => r.method === method)) {
+        const key = `${r.ancestor_level}\u0000${r.ancestor}\u0000${r.level}`;
+        if (!groups.has(key)) groups.set(key, []);
+        groups.get(key).push(r);
+      }
+      const label = g => (g[0].ancestor_level === "total" ? "the total" : `${g[0].ancestor} (${g[0].ancestor_level})`) + ` by ${g[0].level}`;
+      const chartOf = (target, g) => { g.sort((a, b) => a.rank - b.rank); barChart(target, `Drivers of the error of ${label(g)}`, g.map(r => r.node), g.map(r => r.share), "share of absolute error", v => nf0.format(100 * v) + "%"); };
+      box.append(el("h3", {}, `Drivers of the error (${method})`),
+        el("p", { class: "note" }, "The nodes whose errors make up most of an aggregate's absolute error over the backtest, largest first."));
+      const all = [...groups.values()];
+      const totals = all.filter(g => g[0].ancestor_level === "total");
+      for (const g of totals) { const t = el("div", { class: "chart" }); box.append(t); chartOf(t, g); }
+      const others = all.filter(g => g[0].ancestor_level !== "total");
+      if (others.length) {
+        const pick = el("select", { "aria-label": "drivers of another aggregate" }, el("option", { value: "" }, `Drivers of another aggregate (${others.length})…`),
+          ...others.map((g, k) => el("option", { value: k }, label(g))));
+        const t = el("div", { class: "chart" });
+        pick.addEventListener("change", () => { if (pick.value !== "") chartOf(t, others[+pick.value]); });
+        box.append(el("div", { class: "level-more" }, pick), t);
+      }
+    }
+    for (const tb of meta.accuracy.filter(tb => tb.name !== "scores" && tb.name !== "drivers")) {
+      box.append(el("h3", {}, tb.name), htmlTable(tb.columns, tb.rows.slice(0, 200).map(r => r.map(v => v == null ? "" : typeof v === "number" ? nf2.format(v) : v))));
+    }
+  }
+
+  const resize = w => { for (const u of charts) if (u.root.isConnected && u.root.closest("#total-chart, #node-chart")) u.setSize({ width: w || width(u.root.parentElement), height: u.height }); };
+  window.addEventListener("beforeprint", () => resize(680));
+  window.addEventListener("afterprint", () => resize());
+
+  document.getElementById("loading").remove();
+  await new Promise(r => requestAnimationFrame(() => r()));
+  api.timings.firstView = performance.now() - t0;
+  api.timings.sinceNavigation = performance.now();
+  api.ready = true;
+})();

@@ -1,0 +1,311 @@
+package report
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"strings"
+	"sync"
+	"testing"
+	"time"
+
+	"github.com/chromedp/cdproto/cdp"
+	"github.com/chromedp/cdproto/log"
+	"github.com/chromedp/cdproto/network"
+	"github.com/chromedp/cdproto/runtime"
+	"github.com/chromedp/chromedp"
+	"github.com/chromedp/chromedp/kb"
+
+	"trueup/engine"
+	"trueup/engine/output"
+	"trueup/models/families"
+)
+
+// findChromium returns the path of a Chromium or Chrome binary, or "".
+func findChromium() string {
+	for _, name := range []string{"chromium", "chromium-browser", "google-chrome"} {
+		if p, err := exec.LookPath(name); err == nil {
+			return p
+		}
+	}
+	return ""
+}
+
+// startBrowser starts headless Chromium with the flags this machine needs
+// (root, no GPU, no background network) and returns a browser context.
+// In CI (CI=true) a missing browser fails the test; elsewhere it skips.
+func startBrowser(t *testing.T) (context.Context, context.CancelFunc) {
+	t.Helper()
+	bin := findChromium()
+	if bin == "" {
+		if os.Getenv("CI") == "true" {
+			t.Fatal("no Chromium installed; .ci/run installs Debian's chromium")
+		}
+		t.Skip("no Chromium installed (apt-get install chromium); the browser test needs one")
+	}
+	opts := []chromedp.ExecAllocatorOption{
+		chromedp.ExecPath(bin), chromedp.Headless, chromedp.NoSandbox, chromedp.DisableGPU,
+		chromedp.NoFirstRun, chromedp.NoDefaultBrowserCheck, chromedp.UserDataDir(t.TempDir()),
+		chromedp.Flag("disable-quic", true), chromedp.Flag("disable-background-networking", true),
+		chromedp.Flag("disable-component-update", true), chromedp.Flag("disable-sync", true),
+		chromedp.WindowSize(1200, 1500),
+	}
+	actx, cancelAlloc := chromedp.NewExecAllocator(context.Background(), opts...)
+	ctx, cancelCtx := chromedp.NewContext(actx)
+	ctx, cancelTimeout := context.WithTimeout(ctx, 2*time.Minute)
+	return ctx, func() { cancelTimeout(); cancelCtx(); cancelAlloc() }
+}
+
+// TestReportInBrowser opens the demo's report from disk in headless
+// Chromium, fails on any console error, uncaught exception or failed
+// request, checks that the total's chart has one forecast point per
+// period of the horizon, selects a node by typing its name and checks
+// that the node's chart shows that node's forecasts, and saves
+// screenshots in the test's temporary folder. With TRUEUP_SCREENSHOT set
+// to a path it also writes the front page's screenshot there (the
+// README's picture: TRUEUP_SCREENSHOT=$PWD/docs/report-front.png go test
+// ./report -run TestReportInBrowser).
+func TestReportInBrowser(t *testing.T) {
+	ctx, cancel := startBrowser(t)
+	defer cancel()
+	res := forecastDemo(t, families.Spec{}) // the demo's own automatic choice
+	dir := t.TempDir()
+	in, err := FromResult(res, "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	path, err := Write(dir, in)
+	if err != nil {
+		t.Fatal(err)
+	}
+
+	var mu sync.Mutex
+	var problems []string
+	err = chromedp.Listen(ctx, func(ev any) {
+		mu.Lock()
+		defer mu.Unlock()
+		switch e := ev.(type) {
+		case *runtime.EventConsoleAPICalled:
+			if e.Type == runtime.ConsoleAPICalledTypeError || e.Type == runtime.ConsoleAPICalledTypeAssert {
+				problems = append(problems, fmt.Sprintf("console %s: %s", e.Type, argsText(e.Args)))
+			}
+		case *runtime.EventExceptionThrown:
+			problems = append(problems, "exception: "+e.ExceptionDetails.Text+" "+exceptionText(e.ExceptionDetails))
+		case *network.EventLoadingFailed:
+			problems = append(problems, "failed request: "+e.ErrorText)
+		case *network.EventRequestWillBeSent:
+			if u := e.Request.URL; !strings.HasPrefix(u, "file:") && !strings.HasPrefix(u, "data:") && !strings.HasPrefix(u, "blob:") {
+				problems = append(problems, "request to "+u)
+			}
+		case *log.EventEntryAdded:
+			if e.Entry.Level == log.EntryLevelError {
+				problems = append(problems, "log error: "+e.Entry.Text)
+			}
+		}
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := chromedp.Call(ctx, network.Enable, network.EnableParams{}); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := chromedp.Call(ctx, log.Enable, cdp.Empty{}); err != nil {
+		t.Fatal(err)
+	}
+	total, err := totalNodeIndex(res)
+	if err != nil {
+		t.Fatal(err)
+	}
+	eval := func(expr string) float64 {
+		t.Helper()
+		v, err := chromedp.Run(ctx, chromedp.Evaluate[float64](expr))
+		if err != nil {
+			t.Fatalf("%s: %v", expr, err)
+		}
+		return v
+	}
+	if err := chromedp.Do(ctx, chromedp.Navigate("file://"+path)); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := chromedp.Run(ctx, chromedp.Poll[bool](`!!(window.trueupReport && (window.trueupReport.ready || window.trueupReport.error))`,
+		chromedp.WithPollingTimeout(30*time.Second))); err != nil {
+		t.Fatalf("the page did not finish drawing: %v", err)
+	}
+	if msg, err := chromedp.Run(ctx, chromedp.Evaluate[string](`window.trueupReport.error || ""`)); err != nil || msg != "" {
+		t.Fatalf("the page did not load its data: %v %s", err, msg)
+	}
+	forecastPoints := eval(`document.getElementById("total-chart").uplot.data[3].filter(v => v != null).length`)
+	historyPoints := eval(`document.getElementById("total-chart").uplot.data[1].filter(v => v != null).length`)
+	if int(forecastPoints) != res.Horizon {
+		t.Errorf("the total's chart has %v forecast points, want %d (the horizon)", forecastPoints, res.Horizon)
+	}
+	if int(historyPoints) != res.Calendar.T {
+		t.Errorf("the total's chart has %v history points, want %d", historyPoints, res.Calendar.T)
+	}
+	front, err := chromedp.Run(ctx, chromedp.CaptureScreenshot())
+	if err != nil {
+		t.Fatal(err)
+	}
+	saveShot(t, filepath.Join(t.TempDir(), "front.png"), front)
+	if p := os.Getenv("TRUEUP_SCREENSHOT"); p != "" {
+		saveShot(t, p, front)
+	}
+
+	// Select a store by typing its name; the node chart must switch from
+	// the total to that node and show its reconciled forecasts.
+	store := ""
+	for _, nd := range res.Structure.Nodes {
+		if res.Structure.Levels[nd.Level].Name == "region+store" {
+			store = nd.Key[storeAttr(res)]
+			break
+		}
+	}
+	if store == "" {
+		t.Fatal("the demo has no region+store level")
+	}
+	before := eval(`+document.getElementById("node-chart").dataset.node`)
+	if int(before) != total {
+		t.Errorf("the node view started on node %v, want the total (%d)", before, total)
+	}
+	search := chromedp.CSS("#search")
+	if err := chromedp.Do(ctx, chromedp.SendKeys(search, store), chromedp.WaitVisible(chromedp.CSS("#matches li")),
+		chromedp.SendKeys(search, kb.Enter)); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := chromedp.Run(ctx, chromedp.Poll[bool](fmt.Sprintf(`+document.getElementById("node-chart").dataset.node !== %d`, total),
+		chromedp.WithPollingTimeout(5*time.Second))); err != nil {
+		t.Fatalf("the node chart did not change after typing %q and Enter: %v", store, err)
+	}
+	node := int(eval(`+document.getElementById("node-chart").dataset.node`))
+	title, err := chromedp.Run(ctx, chromedp.Text(chromedp.CSS("#node-title")))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(title, store) {
+		t.Errorf("after typing %q the node view shows %q", store, title)
+	}
+	shown, err := chromedp.Run(ctx, chromedp.Evaluate[[]float64](`document.getElementById("node-chart").uplot.data[3].filter(v => v != null)`))
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := res.Solution.Forecast[node]
+	if len(shown) != len(want) {
+		t.Fatalf("the node chart shows %d forecast points, want %d", len(shown), len(want))
+	}
+	for k := range want {
+		if math.Abs(shown[k]-want[k]) > 1e-6*math.Max(1, math.Abs(want[k])) {
+			t.Errorf("node %d step %d: chart %v, reconciled forecast %v", node, k+1, shown[k], want[k])
+		}
+	}
+	// The widest interval's band: series 4 (upper) and 5 (lower).
+	band, err := chromedp.Run(ctx, chromedp.Evaluate[[][]float64](`[4, 5].map(s => document.getElementById("node-chart").uplot.data[s].filter(v => v != null))`))
+	if err != nil {
+		t.Fatal(err)
+	}
+	widest := res.Levels[len(res.Levels)-1]
+	for k := range want {
+		lo, hi := res.Bounds(node, k, widest)
+		tol := 1e-6 * math.Max(1, math.Abs(hi)+math.Abs(want[k]))
+		if len(band[0]) != len(want) || len(band[1]) != len(want) || math.Abs(band[0][k]-hi) > tol || math.Abs(band[1][k]-lo) > tol {
+			t.Fatalf("node %d step %d: %v%% band drawn as %v, want [%v, %v]", node, k+1, widest, band, lo, hi)
+		}
+	}
+	if err := chromedp.Do(ctx, chromedp.ScrollIntoView(chromedp.CSS("#explorer"))); err != nil {
+		t.Fatal(err)
+	}
+	selected, err := chromedp.Run(ctx, chromedp.CaptureScreenshot())
+	if err != nil {
+		t.Fatal(err)
+	}
+	saveShot(t, filepath.Join(t.TempDir(), "node.png"), selected)
+
+	// The same run's folder with a backtest's tables beside it: the
+	// accuracy section is drawn (its numbers are invented; only the
+	// drawing is checked here).
+	withAcc := t.TempDir()
+	if _, err := output.Write(withAcc, res, []string{"parquet"}); err != nil {
+		t.Fatal(err)
+	}
+	accuracyFolder(t, withAcc)
+	accIn, err := FromDir(withAcc)
+	if err != nil {
+		t.Fatal(err)
+	}
+	accPath, err := Write(withAcc, accIn)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := chromedp.Do(ctx, chromedp.Navigate("file://"+accPath)); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := chromedp.Run(ctx, chromedp.Poll[bool](`!!(window.trueupReport && (window.trueupReport.ready || window.trueupReport.error))`,
+		chromedp.WithPollingTimeout(30*time.Second))); err != nil {
+		t.Fatalf("the page with accuracy tables did not finish drawing: %v", err)
+	}
+	if charts := eval(`document.getElementById("accuracy").hidden ? -1 : document.querySelectorAll("#accuracy .uplot").length`); charts != 3 {
+		t.Errorf("the accuracy section has %v charts, want 3 (MASE by level, coverage, drivers of the total)", charts)
+	}
+	if err := chromedp.Do(ctx, chromedp.ScrollIntoView(chromedp.CSS("#accuracy"))); err != nil {
+		t.Fatal(err)
+	}
+	accShot, err := chromedp.Run(ctx, chromedp.CaptureScreenshot())
+	if err != nil {
+		t.Fatal(err)
+	}
+	saveShot(t, filepath.Join(t.TempDir(), "accuracy.png"), accShot)
+	mu.Lock()
+	defer mu.Unlock()
+	for _, p := range problems {
+		t.Error(p)
+	}
+}
+
+// totalNodeIndex returns the index of the node of the total level.
+func totalNodeIndex(res *engine.Result) (int, error) {
+	for i, nd := range res.Structure.Nodes {
+		if res.Structure.Levels[nd.Level].Name == "total" {
+			return i, nil
+		}
+	}
+	return 0, fmt.Errorf("no total node")
+}
+
+// storeAttr returns the position of the store attribute in node keys.
+func storeAttr(res *engine.Result) int {
+	for a, name := range res.Structure.Attrs {
+		if name == "store" {
+			return a
+		}
+	}
+	return len(res.Structure.Attrs) - 1
+}
+
+func exceptionText(d *runtime.ExceptionDetails) string {
+	if d.Exception != nil {
+		return d.Exception.Description
+	}
+	return ""
+}
+
+func argsText(args []*runtime.RemoteObject) string {
+	var parts []string
+	for _, a := range args {
+		if a.Value != nil {
+			parts = append(parts, string(a.Value))
+		} else {
+			parts = append(parts, a.Description)
+		}
+	}
+	return strings.Join(parts, " ")
+}
+
+func saveShot(t *testing.T, path string, png []byte) {
+	t.Helper()
+	if err := os.WriteFile(path, png, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("screenshot: %s", path)
+}
