@@ -13,26 +13,33 @@ import (
 	"trueup/models/families"
 )
 
+// loadDemo writes the built-in demo chain (an invented retail chain:
+// regions, stores, categories) to a temporary file and loads it, as a user
+// loads a sales table; done removes the file.
+func loadDemo() (data *engine.Data, done func()) {
+	dir, err := os.MkdirTemp("", "trueup-example")
+	if err != nil {
+		log.Fatal(err)
+	}
+	path := filepath.Join(dir, "sales.parquet")
+	if err := os.WriteFile(path, fixtures.DemoMonthlyParquet, 0o644); err != nil {
+		log.Fatal(err)
+	}
+	data, err = engine.Load(engine.Source{Path: path, Time: "period", Value: "sales",
+		Chains: fixtures.DemoChains()})
+	if err != nil {
+		log.Fatal(err)
+	}
+	return data, func() { os.RemoveAll(dir) }
+}
+
 // ExampleForecast forecasts the built-in demo chain (an invented retail
 // chain: regions, stores, categories) and checks the promise trueup makes:
 // every total equals the sum of its parts. The drift family keeps the
 // example fast; the zero Options would choose a model per node.
 func ExampleForecast() {
-	dir, err := os.MkdirTemp("", "trueup-example")
-	if err != nil {
-		log.Fatal(err)
-	}
-	defer os.RemoveAll(dir)
-	path := filepath.Join(dir, "sales.parquet")
-	if err := os.WriteFile(path, fixtures.DemoMonthlyParquet, 0o644); err != nil {
-		log.Fatal(err)
-	}
-
-	data, err := engine.Load(engine.Source{Path: path, Time: "period", Value: "sales",
-		Chains: fixtures.DemoChains()})
-	if err != nil {
-		log.Fatal(err)
-	}
+	data, done := loadDemo()
+	defer done()
 	res, err := engine.Forecast(context.Background(), data, engine.Options{
 		Model:   families.Spec{Family: "drift"},
 		Horizon: 3,
@@ -68,20 +75,8 @@ func ExampleForecast() {
 // the method with the best mean MASE over levels. The drift family keeps
 // the example fast.
 func ExampleBacktest() {
-	dir, err := os.MkdirTemp("", "trueup-example")
-	if err != nil {
-		log.Fatal(err)
-	}
-	defer os.RemoveAll(dir)
-	path := filepath.Join(dir, "sales.parquet")
-	if err := os.WriteFile(path, fixtures.DemoMonthlyParquet, 0o644); err != nil {
-		log.Fatal(err)
-	}
-	data, err := engine.Load(engine.Source{Path: path, Time: "period", Value: "sales",
-		Chains: fixtures.DemoChains()})
-	if err != nil {
-		log.Fatal(err)
-	}
+	data, done := loadDemo()
+	defer done()
 	bt, err := engine.Backtest(context.Background(), data, engine.BacktestOptions{
 		Options: engine.Options{Model: families.Spec{Family: "drift"}, Horizon: 6},
 		Origins: 3,
