@@ -14,7 +14,7 @@ import (
 // nothing reaches back up. A pattern ending in "/..." covers a folder and
 // everything below it.
 var layers = [][]string{
-	{"trueup/internal/...", "trueup/inputerr", "trueup/fixtures/reference"}, // leaves
+	{"trueup/internal/...", "trueup/inputerr", "trueup/fixtures/reference", "trueup/accuracy"}, // leaves
 	{"trueup/tableio"},                     // tables in and out
 	{"trueup/hierarchy"},                   // grouped structure
 	{"trueup/models", "trueup/models/..."}, // model families

@@ -72,6 +72,11 @@ type Reconciliation struct {
 	// Paths is the number of seeded sample paths behind mint's interval
 	// widths on large structures; 0 means reconcile.DefaultPaths.
 	Paths int
+	// Origins is the number of backtest origins behind Method "auto"
+	// (AutoMethod: the method is chosen by a short backtest of the
+	// DefaultCompare methods); 0 means AutoOrigins. Other methods refuse
+	// it.
+	Origins int
 }
 
 // DefaultMethod is the reconciliation used when none is named: MinT with
@@ -204,6 +209,9 @@ func (r Reconciliation) method() (reconcile.Method, Reconciliation, error) {
 	if r.Method == "mint" && r.Cov == "" {
 		r.Cov = string(reconcile.CovShrink)
 	}
+	if r.Origins != 0 {
+		return nil, r, inputerr.ForOption("Origins", "backtest origins apply to the automatic choice of method only")
+	}
 	if r.Paths < 0 {
 		return nil, r, inputerr.ForOption("Paths", "the number of sample paths must be at least 1, got %d", r.Paths)
 	}
@@ -219,6 +227,9 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	}
 	if err := opt.supported(d.Panel.T, d.Panel.Grain.SeasonalPeriod()); err != nil {
 		return nil, err
+	}
+	if opt.Reconcile.Method == AutoMethod {
+		return forecastAuto(ctx, d, opt)
 	}
 	opt, err := opt.resolve(d.Panel.Grain.SeasonalPeriod())
 	if err != nil {

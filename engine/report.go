@@ -72,6 +72,8 @@ type LevelCount struct {
 type ReconcileReport struct {
 	Method string             `json:"method"`
 	Notes  map[string]float64 `json:"notes,omitempty"`
+	// Auto records the backtest behind an automatic choice of method.
+	Auto *AutoChoice `json:"automatic_choice,omitempty"`
 }
 
 // optionsReport records the options as resolved, defaults filled in.

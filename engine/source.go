@@ -55,6 +55,11 @@ type Data struct {
 	// Timings in seconds: reading the file, and building panel and
 	// structure.
 	ReadSeconds, StructureSeconds float64
+
+	// rows and src are what Load read, kept so that Cut can rebuild the
+	// panel from the rows before an origin (see backtest.go).
+	rows *tableio.Rows
+	src  Source
 }
 
 // Load reads the table, builds the panel and the grouped structure.
@@ -73,18 +78,29 @@ func Load(src Source) (*Data, error) {
 	if err != nil {
 		return nil, err
 	}
-	d := &Data{ReadSeconds: time.Since(start).Seconds(), KeyTypes: rows.KeyTypes,
+	d := &Data{ReadSeconds: time.Since(start).Seconds(), KeyTypes: rows.KeyTypes, rows: rows, src: src,
 		Input: InputReport{Path: rows.Path, SHA256: rows.SHA256, Rows: rows.N, Columns: rows.Columns}}
 
 	start = time.Now()
-	if d.Panel, err = BuildPanel(rows, PanelOptions{Grain: src.Grain, SumDuplicates: src.SumDuplicates}); err != nil {
+	if err := d.arrange(rows, src); err != nil {
 		return nil, err
+	}
+	d.StructureSeconds = time.Since(start).Seconds()
+	return d, nil
+}
+
+// arrange builds the panel, the structure and the bottom series of d from
+// rows.
+func (d *Data) arrange(rows *tableio.Rows, src Source) error {
+	var err error
+	if d.Panel, err = BuildPanel(rows, PanelOptions{Grain: src.Grain, SumDuplicates: src.SumDuplicates}); err != nil {
+		return err
 	}
 	if len(src.Chains) == 0 {
 		d.Bottom = d.Panel.Values
 	} else {
 		if d.Structure, err = hierarchy.Build(src.Chains, d.Panel.Keys); err != nil {
-			return nil, err
+			return err
 		}
 		d.Bottom = make([][]float64, len(d.Panel.Keys))
 		for i, key := range d.Panel.Keys {
@@ -92,6 +108,5 @@ func Load(src Source) (*Data, error) {
 			d.Bottom[j] = d.Panel.Values[i]
 		}
 	}
-	d.StructureSeconds = time.Since(start).Seconds()
-	return d, nil
+	return nil
 }

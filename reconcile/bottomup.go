@@ -7,11 +7,10 @@ import "trueup/inputerr"
 // Principles and Practice, 3rd ed., §11.2). Its variance is that of the
 // bottom errors added up: for node i,
 //
-//	var_i = Σ_{j,k∈i} c_j c_k W_jk
-//	      = λ Σ_{j∈i} c_j² D_j + (1−λ)(1/T) Σ_t (Σ_{j∈i} c_j √D_j x_tj)²
+//	var_i = Σ_{j,k∈i} c_j c_k W_jk = (1/T) Σ_t (Σ_{j∈i} c_j √D_j x_tj)²
 //
-// with the shrinkage covariance of the bottom residuals (no missing
-// residuals), computed in O(nnz(S)·T) per step.
+// with W the sample covariance of the bottom residuals (no missing
+// residuals; see Solution.Variance), computed in O(nnz(S)·T) per step.
 type BottomUp struct{}
 
 var _ Method = BottomUp{}

@@ -83,9 +83,13 @@ type Solution struct {
 	// The variances are the diagonal of one joint Gaussian distribution
 	// of the reconciled errors, S·G·W_h·Gᵀ·Sᵀ, so the interval of a total
 	// is not the sum of its parts' intervals. W (one step) is always the
-	// shrinkage covariance of the residuals (see errCov), whatever
-	// covariance a projection uses for its weights, because it is the best
-	// available estimate of the error covariance. The h-step covariance
+	// sample covariance W1 of the residuals (errCov with λ = 0), whatever
+	// covariance a projection uses for its weights: shrinkage steadies the
+	// inverse W⁻¹ that the weights need, but the variance needs no inverse,
+	// and shrinking the correlations towards zero understates the spread
+	// of every aggregate whose members' errors move together (on the demo
+	// chain's backtest the total's 80% intervals covered 35% of outcomes
+	// with the shrinkage covariance, 58% with W1). The h-step covariance
 	// W_h scales W per series by c_hi = √(BaseVar[i][h]/D_i), the growth
 	// of that series' base standard deviation from its one-step residual
 	// one, W_h = C_h·W·C_h, applied to the series the method takes its
@@ -215,6 +219,12 @@ func (p *Problem) wantVariance() bool { return p.BaseVar != nil && p.Residuals !
 // errorCov estimates the shrinkage covariance W of the residuals.
 func (p *Problem) errorCov() (*errCov, error) {
 	return newErrCov(p.Residuals, -1, p.Structure.Label)
+}
+
+// varianceCov estimates the covariance of the one-step errors behind the
+// reconciled variances: the sample covariance W1 (shrinkage λ = 0).
+func (p *Problem) varianceCov() (*errCov, error) {
+	return newErrCov(p.Residuals, 0, p.Structure.Label)
 }
 
 // growth returns c_hi = √(BaseVar[i][h] / D_i) for the nodes idx, as

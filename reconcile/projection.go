@@ -155,7 +155,11 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 		sol.Notes["lambda"] = errc.lambda
 	}
 	if p.wantVariance() {
-		f, err := g.errorFactor(errc, p.Paths, p.Seed)
+		vc, err := p.varianceCov()
+		if err != nil {
+			return Solution{}, err
+		}
+		f, err := g.errorFactor(vc, p.Paths, p.Seed)
 		if err != nil {
 			return Solution{}, err
 		}
@@ -164,7 +168,7 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 		for j := range bidx {
 			bidx[j] = off + j
 		}
-		sol.Variance = factorVariance(p.Structure, growth(&p, errc, bidx, h), f)
+		sol.Variance = factorVariance(p.Structure, growth(&p, vc, bidx, h), f)
 		if f.ctrl != nil {
 			_, paths := f.ctrl.Dims()
 			sol.Notes["variance_paths"] = float64(paths)

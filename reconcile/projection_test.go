@@ -147,14 +147,15 @@ func eye(m int) *mat.Dense {
 	return e
 }
 
-// TestMinTTrace: for the same W (here the shrinkage covariance, and base
-// variances equal to its diagonal so W_1 = W), MinT's reconciled variance
-// has a trace no larger than OLS's or WLS's (Wickramasuriya et al. 2019,
-// Theorem 1: MinT minimizes tr(S·G·W·Gᵀ·Sᵀ) over G with S·G·S = S).
+// TestMinTTrace: when G is built from the same W the variances use (the
+// sample covariance W1, and base variances equal to its diagonal so that
+// W_1 = W), MinT's reconciled variance has a trace no larger than that of
+// OLS, WLS, the shrinkage projection or bottom-up (Wickramasuriya et al.
+// 2019, Theorem 1: MinT minimizes tr(S·G·W·Gᵀ·Sᵀ) over G with S·G·S = S).
 func TestMinTTrace(t *testing.T) {
 	st := grouped(t, 2, 3, 4)
-	p := problemFor(st, 30, 1, 9)
-	w, _ := p.errorCov()
+	p := problemFor(st, 60, 1, 9)
+	w, _ := p.varianceCov()
 	for i := range p.BaseVar {
 		p.BaseVar[i][0] = w.D[i]
 	}
@@ -170,8 +171,8 @@ func TestMinTTrace(t *testing.T) {
 		}
 		return s
 	}
-	mint := trace(CovShrink)
-	for _, cov := range []Covariance{CovIdentity, CovStructural, CovVariance} {
+	mint := trace(CovSample)
+	for _, cov := range []Covariance{CovIdentity, CovStructural, CovVariance, CovShrink} {
 		if o := trace(cov); !(mint <= o*(1+1e-12)) {
 			t.Errorf("trace MinT %g > trace %s %g", mint, cov, o)
 		}
@@ -188,7 +189,8 @@ func TestMinTTrace(t *testing.T) {
 }
 
 // TestProjectionVarianceExact checks the dense variance against the
-// direct matrix product diag(S·C·G·W·Gᵀ·C·Sᵀ).
+// direct matrix product diag(S·C·G·W1·Gᵀ·C·Sᵀ), G from the shrinkage W and
+// W1 the sample covariance.
 func TestProjectionVarianceExact(t *testing.T) {
 	st := grouped(t, 2, 2, 3)
 	p := problemFor(st, 30, 2, 13)
@@ -198,7 +200,7 @@ func TestProjectionVarianceExact(t *testing.T) {
 		t.Fatal(err)
 	}
 	g := denseG(t, p, CovShrink)
-	w, _ := p.errorCov()
+	w, _ := p.varianceCov()
 	wd := denseW(w)
 	s := denseS(st)
 	off := st.BottomOffset()

@@ -86,11 +86,10 @@ func (sp *splitPlan) solve(p *Problem, prop [][]float64, h int) (Solution, error
 	if !p.wantVariance() {
 		return sol, nil
 	}
-	w, err := p.errorCov()
+	w, err := p.varianceCov()
 	if err != nil {
 		return Solution{}, err
 	}
-	sol.Notes["lambda"] = w.lambda
 	sol.Variance = sp.variance(p.Structure, w, growth(p, w, sp.mid, h), prop, h)
 	return sol, nil
 }

@@ -26,7 +26,8 @@ equals the sum of its parts. Forecasts are estimates: review them before
 they go into a plan.`,
 		Example: `  trueup demo
   trueup inspect --input sales.parquet --nest region,store --nest category
-  trueup forecast --input sales.parquet --nest region,store --nest category --out plan`,
+  trueup forecast --input sales.parquet --nest region,store --nest category --out plan
+  trueup backtest --input sales.parquet --nest region,store --nest category`,
 		Version:       engine.Version,
 		SilenceUsage:  true,
 		SilenceErrors: true,
@@ -39,6 +40,7 @@ they go into a plan.`,
 		newInspectCmd(),
 		newFitCmd(),
 		newReconcileCmd(),
+		newBacktestCmd(),
 		newReportCmd(),
 	)
 	return root

@@ -25,6 +25,9 @@ type runFlags struct {
 	reconcileFlags
 	levels  string
 	workers int
+	origins int // backtest origins behind --method auto
+	// hasOrigins says whether --origins is this command's (forecast, demo).
+	hasOrigins bool
 	outputFlags
 }
 
@@ -83,6 +86,20 @@ func (f *outputFlags) outputFormats() ([]string, error) {
 }
 
 func (f *runFlags) register(cmd *cobra.Command, defaultOut string) {
+	f.registerModel(cmd)
+	f.reconcileFlags.register(cmd)
+	fl := cmd.Flags()
+	fl.Lookup("method").Usage += ", or auto: the best of a short backtest (see trueup backtest)"
+	fl.IntVar(&f.origins, "origins", engine.AutoOrigins, "with --method auto: backtest origins the method is chosen at")
+	groupFlags(cmd, "Reconciliation", "origins")
+	f.hasOrigins = true
+	f.outputFlags.register(cmd, defaultOut)
+}
+
+// registerModel registers the model flags only (period, horizon, family,
+// levels, workers): backtest compares reconciliations instead of choosing
+// one.
+func (f *runFlags) registerModel(cmd *cobra.Command) {
 	fl := cmd.Flags()
 	fl.IntVar(&f.period, "period", 0, "seasonal period (default from the grain: 7, 52, 12, 4; 1 for years and time indexes)")
 	fl.IntVar(&f.horizon, "horizon", 0, "periods to forecast (default: one seasonal cycle, e.g. 12 months)")
@@ -90,8 +107,6 @@ func (f *runFlags) register(cmd *cobra.Command, defaultOut string) {
 	fl.StringVar(&f.levels, "levels", "80,95", "prediction interval levels in percent, comma-separated")
 	fl.IntVar(&f.workers, "workers", runtime.NumCPU(), "nodes fitted in parallel")
 	groupFlags(cmd, "Model", "period", "horizon", "family", "levels", "workers")
-	f.reconcileFlags.register(cmd)
-	f.outputFlags.register(cmd, defaultOut)
 }
 
 // options turns the flags into engine options, checking them before any
@@ -117,6 +132,15 @@ func (f *runFlags) options(cmd *cobra.Command) (engine.Options, error) {
 		Reconcile: f.reconcileFlags.options(cmd),
 		Levels:    levels,
 		Fitter:    engine.Local{Workers: f.workers},
+	}
+	if f.hasOrigins && cmd.Flags().Changed("origins") {
+		if f.origins < 1 {
+			return engine.Options{}, &usageError{fmt.Errorf("--origins must be at least 1, got %d", f.origins)}
+		}
+		if f.method != engine.AutoMethod {
+			return engine.Options{}, &usageError{fmt.Errorf("--origins applies to --method auto only")}
+		}
+		opt.Reconcile.Origins = f.origins
 	}
 	if !f.quiet && term.IsTerminal(int(os.Stderr.Fd())) {
 		opt.Progress = progressBar("fitting nodes")

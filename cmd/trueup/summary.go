@@ -35,8 +35,12 @@ func printSummary(w io.Writer, res *engine.Result, files []string, asJSON bool) 
 	if len(extras) > 0 {
 		how += " (" + strings.Join(extras, ", ") + ")"
 	}
-	fmt.Fprintf(w, "Forecast %d %ss ahead (%s to %s) for %d nodes, reconciled with %s.\n\n",
+	fmt.Fprintf(w, "Forecast %d %ss ahead (%s to %s) for %d nodes, reconciled with %s.\n",
 		c.Horizon, c.Grain, c.ForecastRange[0], c.ForecastRange[1], c.Nodes, how)
+	if a := rep.Reconcile.Auto; a != nil {
+		fmt.Fprintf(w, "Method chosen by a backtest at %d origins: %s (%s).\n", a.Origins, a.Method, a.Reason)
+	}
+	fmt.Fprintln(w)
 	var levels, fams [][]string
 	for _, l := range rep.LevelCounts() {
 		levels = append(levels, []string{l.Level, grouped(float64(l.Nodes))})

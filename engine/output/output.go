@@ -106,6 +106,13 @@ func Write(dir string, res *engine.Result, formats []string) ([]string, error) {
 			return nil, inputerr.ForOption("Formats", "unknown output format %q", name)
 		}
 	}
+	return writeStaged(dir, func(s string) ([]string, error) { return writeSet(s, res, formats) })
+}
+
+// writeStaged replaces the output set in dir with the one fill writes into
+// a staging folder (fill returns the file names, run.json last), and
+// returns the paths of the new set's files in dir.
+func writeStaged(dir string, fill func(staging string) ([]string, error)) ([]string, error) {
 	if err := checkParent(dir); err != nil {
 		return nil, err
 	}
@@ -117,7 +124,7 @@ func Write(dir string, res *engine.Result, formats []string) ([]string, error) {
 		}
 		return nil, err
 	}
-	files, err := writeSet(s, res, formats)
+	files, err := fill(s)
 	if err != nil {
 		discard(s)
 		return nil, err
@@ -139,6 +146,7 @@ func writeSet(s string, res *engine.Result, formats []string) ([]string, error) 
 	start := time.Now()
 	var names []string
 	seen := map[string]bool{}
+	var err error
 	for _, name := range formats {
 		written, err := lookup(name).Write(s, res)
 		if err != nil {
@@ -151,13 +159,8 @@ func writeSet(s string, res *engine.Result, formats []string) ([]string, error) 
 			}
 		}
 	}
-	res.Report.Files = make([]engine.FileRecord, len(names))
-	for i, n := range names {
-		sum, err := checksum(filepath.Join(s, n))
-		if err != nil {
-			return nil, err
-		}
-		res.Report.Files[i] = engine.FileRecord{Name: n, SHA256: sum}
+	if res.Report.Files, err = records(s, names); err != nil {
+		return nil, err
 	}
 	if res.Report.Timings != nil {
 		res.Report.Timings["write"] = time.Since(start).Seconds()
@@ -172,12 +175,30 @@ func writeSet(s string, res *engine.Result, formats []string) ([]string, error) 
 	return append(names, RunFile), nil
 }
 
+// records lists the named files of folder s with their checksums.
+func records(s string, names []string) ([]engine.FileRecord, error) {
+	out := make([]engine.FileRecord, len(names))
+	for i, n := range names {
+		sum, err := checksum(filepath.Join(s, n))
+		if err != nil {
+			return nil, err
+		}
+		out[i] = engine.FileRecord{Name: n, SHA256: sum}
+	}
+	return out, nil
+}
+
 // tableWriter writes the result's tables in one table format.
 type tableWriter struct{ format tableio.Format }
 
 func (t tableWriter) Write(dir string, res *engine.Result) ([]string, error) {
+	return t.writeTables(dir, Tables(res))
+}
+
+// writeTables writes tables into dir, one file each.
+func (t tableWriter) writeTables(dir string, tables []Table) ([]string, error) {
 	var files []string
-	for _, tb := range Tables(res) {
+	for _, tb := range tables {
 		path := filepath.Join(dir, tb.Name+t.format.Ext())
 		if err := tableio.WriteTable(path, tb.Table, t.format); err != nil {
 			return files, fmt.Errorf("write %s: %w", path, err)

@@ -65,6 +65,8 @@
   const unit = "sales per " + (counts.grain || "period");
   const nf0 = new Intl.NumberFormat("en-GB", { maximumFractionDigits: 0 });
   const nf2 = new Intl.NumberFormat("en-GB", { maximumFractionDigits: 2 });
+  // Table cells: always two decimals, so a column reads alike.
+  const nf2fixed = new Intl.NumberFormat("en-GB", { minimumFractionDigits: 2, maximumFractionDigits: 2 });
   const fmt = v => v == null || Number.isNaN(v) ? "–" : (Math.abs(v) >= 100 ? nf0 : nf2).format(v);
   const short = v => {
     const a = Math.abs(v);
@@ -333,7 +335,7 @@
     document.getElementById("accuracy").hidden = false;
     const box = document.getElementById("accuracy-tables");
     const records = tb => tb.rows.map(r => Object.fromEntries(tb.columns.map((c, j) => [c, r[j]])));
-    const num = v => v == null ? "–" : nf2.format(v);
+    const num = v => v == null ? "–" : nf2fixed.format(v);
     const pct = v => v == null ? "–" : nf0.format(100 * v) + "%";
     const htmlTable = (head, rows) => el("div", { class: "scroll" }, el("table", {},
       el("tr", {}, ...head.map((h, j) => el("th", { class: j ? "num" : "" }, h))),
@@ -373,9 +375,11 @@
     }
     const rec = run.recommendation;
     if (rec && rec.method) {
+      // The backtest states its reason in full; compose one only without it.
+      const why = rec.reason || (`Headline MASE ${num(rec.mase)}` + (rec.runner_up ? `, ${num(rec.margin_percent)}% below ${rec.runner_up}` : "") +
+        (Number.isFinite(rec.versus_base_percent) ? `, ${num(rec.versus_base_percent)}% better than the base forecasts` : "") + ".");
       box.append(el("p", { class: "caution" }, el("strong", {}, `Recommended reconciliation: ${rec.method}. `),
-        `Headline MASE ${num(rec.mase)}` + (rec.runner_up ? `, ${num(rec.margin_percent)}% below ${rec.runner_up}` : "") +
-        (Number.isFinite(rec.versus_base_percent) ? `, ${num(rec.versus_base_percent)}% better than the base forecasts` : "") + ". " + (rec.reason || "")));
+        why.charAt(0).toUpperCase() + why.slice(1)));
     }
     if (acc.scores) {
       const sc = records(acc.scores);

@@ -1,0 +1,182 @@
+package engine_test
+
+import (
+	"context"
+	"math"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"trueup/accuracy"
+	"trueup/engine"
+	"trueup/fixtures"
+	"trueup/models/families"
+	"trueup/tableio"
+)
+
+// chain writes a small invented chain (regions × stores × categories) and
+// loads it.
+func chain(t *testing.T, years int) *engine.Data {
+	t.Helper()
+	cfg := fixtures.DefaultConfig("month")
+	cfg.Regions, cfg.Stores, cfg.Categories, cfg.Years = 2, 5, 2, years
+	input := filepath.Join(t.TempDir(), "small.parquet")
+	if err := tableio.WriteTable(input, fixtures.Generate(cfg).Table(), tableio.Parquet); err != nil {
+		t.Fatal(err)
+	}
+	d, err := engine.Load(engine.Source{Path: input, Time: fixtures.DemoTimeColumn, Value: fixtures.DemoValueColumn,
+		Chains: fixtures.DemoChains()})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return d
+}
+
+func TestBacktestAttributionAddsUp(t *testing.T) {
+	d := chain(t, 4)
+	res, err := engine.Backtest(context.Background(), d, engine.BacktestOptions{
+		Options: engine.Options{Model: families.Spec{Family: "drift"}, Horizon: 6, Fitter: engine.Local{Workers: 2}},
+		Origins: 3, Every: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(res.Origins) != 3 || res.Origins[2].Periods != d.Panel.T-6 || res.Origins[1].Periods != d.Panel.T-8 {
+		t.Fatalf("origins at %d, %d, %d periods of %d", res.Origins[0].Periods, res.Origins[1].Periods, res.Origins[2].Periods, d.Panel.T)
+	}
+	if len(res.Skipped) != 1 || res.Skipped[0].Method != "top-down-fcst" {
+		t.Errorf("skipped %+v, want top-down-fcst (crossed chains)", res.Skipped)
+	}
+	// Every split of every aggregate: contributions add up to the
+	// parent's error to 1e-9 relative.
+	type key struct {
+		m          string
+		o, s, p, l int
+	}
+	sums := map[key]float64{}
+	parent := map[key]float64{}
+	for _, c := range res.Attribution.Contributions {
+		st := res.Origins[c.Origin].Structure
+		k := key{c.Method, c.Origin, c.Step, c.Parent, st.Nodes[c.Child].Level}
+		sums[k] += c.Contribution
+		parent[k] = c.ParentError
+	}
+	if len(sums) == 0 {
+		t.Fatal("no contributions")
+	}
+	for k, s := range sums {
+		org := res.Origins[k.o]
+		scale := math.Abs(org.Actual[k.p][k.s-1]) + 1
+		if math.Abs(s-parent[k]) > 1e-9*scale {
+			t.Errorf("%+v: children add to %v, parent error %v", k, s, parent[k])
+		}
+	}
+	if res.Recommendation.Method == "" || res.Recommendation.Method == engine.BaseMethod {
+		t.Errorf("recommendation %+v", res.Recommendation)
+	}
+}
+
+// TestPlantedErrorDrivesItsAncestors plants a large jump in one bottom
+// series after the first origin: that series must rank first among the
+// bottom series under each of its ancestors.
+func TestPlantedErrorDrivesItsAncestors(t *testing.T) {
+	d := chain(t, 4)
+	T := d.Panel.T
+	planted := -1
+	for j, y := range d.Bottom {
+		if !math.IsNaN(y[0]) && !math.IsNaN(y[T-1]) {
+			planted = j
+			break
+		}
+	}
+	y := d.Bottom[planted] // the actuals; the rows the origins are cut from keep the history
+	for t := T - 8; t < T; t++ {
+		y[t] += 1e6
+	}
+	res, err := engine.Backtest(context.Background(), d, engine.BacktestOptions{
+		Options: engine.Options{Model: families.Spec{Family: "seasonal-naive"}, Horizon: 4},
+		Origins: 2, Every: 2, Compare: []string{"base", "bottom-up", "mint-shrink"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	st := d.Structure
+	bottomLevel := st.Levels[len(st.Levels)-1].Name
+	want := st.Label(st.BottomOffset() + planted)
+	ancestors := 0
+	for _, m := range res.Methods {
+		if m == engine.BaseMethod {
+			continue
+		}
+		for _, dr := range res.Attribution.Drivers {
+			if dr.Method != m || dr.Level != bottomLevel || dr.Rank != 1 {
+				continue
+			}
+			under := false
+			for _, dr2 := range res.Attribution.Drivers {
+				if dr2.Method == m && dr2.Ancestor == dr.Ancestor && dr2.Node == want {
+					under = true
+				}
+			}
+			if !under {
+				continue
+			}
+			ancestors++
+			if dr.Node != want {
+				t.Errorf("%s: first driver of %s is %s, want %s", m, dr.Ancestor, dr.Node, want)
+			}
+		}
+	}
+	if ancestors != 2*(len(st.Levels)-1) {
+		t.Errorf("checked %d ancestor rankings, want %d", ancestors, 2*(len(st.Levels)-1))
+	}
+}
+
+func TestBacktestRefusesTooShortHistory(t *testing.T) {
+	d := chain(t, 3)
+	_, err := engine.Backtest(context.Background(), d, engine.BacktestOptions{Origins: 20})
+	if err == nil || !strings.Contains(err.Error(), "need at least 55") {
+		t.Fatalf("got %v, want a message naming the 55 periods needed", err)
+	}
+}
+
+// TestBacktestScoresAreTheAccuracyMeasures recomputes the total's level
+// scores from the origins with package accuracy (checked against base R
+// in accuracy_test.go).
+func TestBacktestScoresAreTheAccuracyMeasures(t *testing.T) {
+	d := chain(t, 4)
+	res, err := engine.Backtest(context.Background(), d, engine.BacktestOptions{
+		Options: engine.Options{Model: families.Spec{Family: "seasonal-naive"}, Horizon: 5},
+		Origins: 3, Compare: []string{"base", "mint-shrink"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, m := range res.Methods {
+		var mase, rmsse float64
+		cov := make([]float64, len(res.Levels))
+		for _, org := range res.Origins {
+			r := org.Results[m]
+			mae, mse, _ := accuracy.Scale(r.History[0], res.Period)
+			if mae != org.ScaleMAE[0] || mse != org.ScaleMSE[0] {
+				t.Errorf("scale %v %v, accuracy.Scale %v %v", org.ScaleMAE[0], org.ScaleMSE[0], mae, mse)
+			}
+			mase += accuracy.MASE(org.Actual[0], r.Solution.Forecast[0], mae) / 3
+			rmsse += accuracy.RMSSE(org.Actual[0], r.Solution.Forecast[0], mse) / 3
+			for l, lv := range res.Levels {
+				for k, a := range org.Actual[0] {
+					lo, hi := r.Bounds(0, k, lv)
+					if accuracy.Covered(lo, hi, a) {
+						cov[l] += 1.0 / 15
+					}
+				}
+			}
+		}
+		s, ok := res.LevelScore("total", m)
+		if !ok || math.Abs(s.MASE-mase) > 1e-12 || math.Abs(s.RMSSE-rmsse) > 1e-12 {
+			t.Errorf("%s: total MASE %v RMSSE %v, recomputed %v %v", m, s.MASE, s.RMSSE, mase, rmsse)
+		}
+		for l := range cov {
+			if math.Abs(s.Coverage[l]-cov[l]) > 1e-12 {
+				t.Errorf("%s: coverage %v, recomputed %v", m, s.Coverage[l], cov[l])
+			}
+		}
+	}
+}
