@@ -35,7 +35,7 @@ func WriteBacktest(dir string, bt *engine.BacktestResult, formats []string, rend
 	if _, err := json.Marshal(&bt.Report); err != nil {
 		return nil, err
 	}
-	return writeStaged(dir, func(s string) ([]string, error) {
+	return writeStaged(dir, backtestSet, func(s string) ([]string, error) {
 		tables := BacktestTables(bt)
 		var names []string
 		for _, w := range tw {

@@ -106,18 +106,18 @@ func Write(dir string, res *engine.Result, formats []string) ([]string, error) {
 			return nil, inputerr.ForOption("Formats", "unknown output format %q", name)
 		}
 	}
-	return writeStaged(dir, func(s string) ([]string, error) { return writeSet(s, res, formats) })
+	return writeStaged(dir, forecastSet, func(s string) ([]string, error) { return writeSet(s, res, formats) })
 }
 
-// writeStaged replaces the output set in dir with the one fill writes into
-// a staging folder (fill returns the file names, run.json last), and
-// returns the paths of the new set's files in dir.
-func writeStaged(dir string, fill func(staging string) ([]string, error)) ([]string, error) {
+// writeStaged replaces the output set of kind in dir with the one fill
+// writes into a staging folder (fill returns the file names, run.json
+// last), and returns the paths of the new set's files in dir.
+func writeStaged(dir string, kind setKind, fill func(staging string) ([]string, error)) ([]string, error) {
 	if err := checkParent(dir); err != nil {
 		return nil, err
 	}
 	removeStale(dir)
-	s, err := stage(dir)
+	s, err := stage(dir, kind)
 	if err != nil {
 		if s != "" {
 			discard(s)

@@ -16,6 +16,7 @@ import (
 
 	"trueup/engine"
 	"trueup/inputerr"
+	"trueup/tableio"
 )
 
 // An output folder is replaced as a whole. Write builds the new set in a
@@ -26,8 +27,9 @@ import (
 // demo's copy of its input, a backtest's tables) are carried into the
 // staging folder as hard links before the writers run, so they survive the
 // swap without being copied. trueup's own files are those the previous
-// run.json lists, run.json itself and the temporary files of an
-// interrupted write; they are replaced, never carried over.
+// run.json lists (when it describes a set of the same kind, see setKind),
+// run.json itself and the temporary files of an interrupted write; they
+// are replaced, never carried over.
 //
 // Subfolders cannot be hard-linked, so a folder holding one is refused
 // rather than emptied (which also keeps a home folder or a project folder
@@ -131,19 +133,57 @@ func checkEntries(dir string, entries []os.DirEntry) error {
 	return nil
 }
 
-// ownFiles names the files of the set that run.json in dir describes,
-// run.json included. It reads both the current form of the list (names
-// with checksums) and the earlier one (paths).
-func ownFiles(dir string) map[string]bool {
-	own := map[string]bool{RunFile: true}
+// setKind tells the two kinds of output set apart: a forecast's (forecast,
+// demo, reconcile) and a backtest's. A folder may hold one of each, so
+// that the report of a forecast shows a backtest's accuracy: a new set
+// replaces the files of the previous set of its own kind and keeps the
+// other kind's tables, as it keeps the user's files. run.json describes
+// the latest set.
+type setKind int
+
+const (
+	forecastSet setKind = iota
+	backtestSet
+)
+
+// setTables names the tables of each kind of set (Tables and
+// BacktestTables make them); with any table format's extension, and
+// report.html, they are the kind's own files even when run.json describes
+// the other kind. A test keeps the lists in step with the writers.
+var setTables = map[setKind][]string{
+	forecastSet: {"forecasts", "models", "residuals", "history"},
+	backtestSet: {"backtest", "scores", "contributions", "drivers", "node_scores", "incoherence"},
+}
+
+// kindOf is the kind of set a run.json's command wrote.
+func kindOf(command string) setKind {
+	if command == "backtest" {
+		return backtestSet
+	}
+	return forecastSet
+}
+
+// ownFiles names the files to replace in dir by a new set of kind: run.json,
+// report.html, the kind's tables in every format and, when run.json
+// describes a set of the same kind, the files it lists. It
+// reads both the current form of the list (names with checksums) and the
+// earlier one (paths).
+func ownFiles(dir string, kind setKind) map[string]bool {
+	own := map[string]bool{RunFile: true, "report.html": true}
+	for _, name := range setTables[kind] {
+		for _, f := range []tableio.Format{tableio.Parquet, tableio.CSV, tableio.Arrow} {
+			own[name+f.Ext()] = true
+		}
+	}
 	b, err := os.ReadFile(filepath.Join(dir, RunFile))
 	if err != nil {
 		return own
 	}
 	var rep struct {
-		Files []json.RawMessage `json:"files"`
+		Command string            `json:"command"`
+		Files   []json.RawMessage `json:"files"`
 	}
-	if json.Unmarshal(b, &rep) != nil {
+	if json.Unmarshal(b, &rep) != nil || kindOf(rep.Command) != kind {
 		return own
 	}
 	for _, raw := range rep.Files {
@@ -202,8 +242,8 @@ func alive(pid int) bool {
 }
 
 // stage makes a staging folder beside dir, holding hard links to the files
-// of dir that are not trueup's own.
-func stage(dir string) (string, error) {
+// of dir that the new set of kind does not replace.
+func stage(dir string, kind setKind) (string, error) {
 	parent, base := filepath.Split(filepath.Clean(dir))
 	if parent == "" {
 		parent = "."
@@ -228,7 +268,7 @@ func stage(dir string) (string, error) {
 	if err := os.Chmod(s, 0o755); err != nil {
 		return s, err
 	}
-	own := ownFiles(dir)
+	own := ownFiles(dir, kind)
 	for _, e := range entries {
 		if own[e.Name()] || isTemp(e.Name()) {
 			continue

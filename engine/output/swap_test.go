@@ -218,3 +218,65 @@ func TestCheckRefusesWhatCannotTakeASet(t *testing.T) {
 		}
 	}
 }
+
+// TestBacktestAndForecastShareAFolder: a backtest into a forecast's folder
+// keeps the forecast's tables (the report shows both), and a forecast
+// after it replaces its own tables and keeps the backtest's.
+func TestBacktestAndForecastShareAFolder(t *testing.T) {
+	res := quickResult(t)
+	bt, err := engine.Backtest(context.Background(), smallChain(t), engine.BacktestOptions{
+		Options: engine.Options{Model: families.Spec{Family: "drift"}, Horizon: 3}, Origins: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := filepath.Join(t.TempDir(), "plan")
+	if _, err := output.Write(dir, res, []string{"csv"}); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := output.WriteBacktest(dir, bt, []string{"csv"}, nil); err != nil {
+		t.Fatal(err)
+	}
+	files := snapshot(t, dir)
+	for _, name := range []string{"forecasts.csv", "scores.csv"} {
+		if _, ok := files[name]; !ok {
+			t.Errorf("after the backtest, %s is missing", name)
+		}
+	}
+	if _, err := output.Write(dir, res, []string{"parquet"}); err != nil {
+		t.Fatal(err)
+	}
+	files = snapshot(t, dir)
+	if _, ok := files["forecasts.csv"]; ok {
+		t.Error("the first forecast's csv tables survived a forecast that wrote parquet")
+	}
+	for _, name := range []string{"forecasts.parquet", "scores.csv"} {
+		if _, ok := files[name]; !ok {
+			t.Errorf("after the second forecast, %s is missing", name)
+		}
+	}
+	noStaging(t, dir)
+}
+
+// TestSetTablesNameEveryTable keeps the swap's lists of each kind's tables
+// in step with the tables the writers make.
+func TestSetTablesNameEveryTable(t *testing.T) {
+	res := quickResult(t)
+	bt, err := engine.Backtest(context.Background(), smallChain(t), engine.BacktestOptions{
+		Options: engine.Options{Model: families.Spec{Family: "drift"}, Horizon: 3}, Origins: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var made, listed []string
+	for _, tb := range output.Tables(res) {
+		made = append(made, tb.Name)
+	}
+	for _, tb := range output.BacktestTables(bt) {
+		made = append(made, tb.Name)
+	}
+	listed = append(append(listed, output.ForecastSetTables...), output.BacktestSetTables...)
+	sort.Strings(made)
+	sort.Strings(listed)
+	if strings.Join(made, " ") != strings.Join(listed, " ") {
+		t.Errorf("writers make %v, the swap knows %v", made, listed)
+	}
+}
