@@ -290,7 +290,7 @@ func TestSignalsLeaveOneCompleteSet(t *testing.T) {
 				case sig == syscall.SIGKILL:
 				case strings.Contains(msg, "\n"):
 					t.Errorf("more than one line: %q", msg)
-				case strings.Contains(msg, "no output folder was changed"):
+				case strings.Contains(msg, "the output folder keeps its previous set"):
 					if horizon != 3 {
 						t.Errorf("%q, yet the folder holds the new set", msg)
 					}

@@ -62,7 +62,7 @@ func exitOnSignal(sig <-chan os.Signal) {
 func interruptMessage(s os.Signal, done []string) string {
 	name := map[os.Signal]string{syscall.SIGHUP: "SIGHUP", syscall.SIGINT: "SIGINT", syscall.SIGTERM: "SIGTERM"}[s]
 	if len(done) == 0 {
-		return "trueup: stopped by " + name + "; no output folder was changed"
+		return "trueup: stopped by " + name + " before new results were put in place; the output folder keeps its previous set"
 	}
 	return "trueup: stopped by " + name + " after the new results were complete in " + strings.Join(done, ", ")
 }
