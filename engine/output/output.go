@@ -116,8 +116,12 @@ func writeStaged(dir string, kind setKind, fill func(staging string) ([]string, 
 	if err := checkParent(dir); err != nil {
 		return nil, err
 	}
-	removeStale(dir)
-	s, err := stage(dir, kind)
+	abs, err := filepath.Abs(dir)
+	if err != nil {
+		return nil, err
+	}
+	removeStale(abs)
+	s, err := stage(abs, kind)
 	if err != nil {
 		if s != "" {
 			discard(s)
@@ -129,7 +133,7 @@ func writeStaged(dir string, kind setKind, fill func(staging string) ([]string, 
 		discard(s)
 		return nil, err
 	}
-	if err := commit(s, dir); err != nil {
+	if err := commit(s, abs); err != nil {
 		discard(s)
 		return nil, err
 	}

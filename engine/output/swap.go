@@ -95,7 +95,14 @@ func checkParent(dir string) error {
 	if fi, err := os.Stat(dir); err == nil && !fi.IsDir() {
 		return &inputerr.Error{File: dir, Option: "Out", Msg: "is a file, not a folder"}
 	}
-	parent := filepath.Dir(filepath.Clean(dir))
+	abs, err := filepath.Abs(dir)
+	if err != nil {
+		return &inputerr.Error{File: dir, Option: "Out", Msg: "cannot resolve the output folder", Err: err}
+	}
+	if cwd, err := os.Getwd(); err == nil && (cwd == abs || strings.HasPrefix(cwd, abs+string(filepath.Separator))) {
+		return &inputerr.Error{File: dir, Option: "Out", Msg: "is the current folder or holds it; trueup replaces its output folder as a whole, so give a folder of its own, such as a new subfolder"}
+	}
+	parent := filepath.Dir(abs)
 	if err := os.MkdirAll(parent, 0o755); err != nil {
 		return &inputerr.Error{File: parent, Option: "Out", Msg: "cannot create the folder that holds the output folder", Err: err}
 	}

@@ -280,3 +280,22 @@ func TestSetTablesNameEveryTable(t *testing.T) {
 		t.Errorf("writers make %v, the swap knows %v", made, listed)
 	}
 }
+
+// TestCurrentFolderIsRefused: swapping the current folder away would leave
+// the user's shell in a deleted folder.
+func TestCurrentFolderIsRefused(t *testing.T) {
+	dir := t.TempDir()
+	t.Chdir(dir)
+	for _, out := range []string{".", dir, filepath.Dir(dir)} {
+		if err := output.Check(out); !inputerr.Is(err) || !strings.Contains(err.Error(), "current folder") {
+			t.Errorf("Check(%s) = %v, want an input error about the current folder", out, err)
+		}
+	}
+	if err := output.Check("plan"); err != nil {
+		t.Errorf("a new subfolder of the current one: %v", err)
+	}
+	if _, err := output.Write("plan", quickResult(t), []string{"csv"}); err != nil {
+		t.Fatal(err)
+	}
+	checkSums(t, filepath.Join(dir, "plan"))
+}
