@@ -432,3 +432,55 @@ func TestReadOnlyFolderIsRefusedBeforeTheWork(t *testing.T) {
 	sameFolder(t, out, old)
 	completeSet(t, out)
 }
+
+// TestBacktestInterruptedWhileWriting interrupts a backtest as it writes
+// its set into a folder holding a forecast's set and an earlier backtest's:
+// the folder keeps both complete, and a finished backtest replaces only
+// its own kind's files.
+func TestBacktestInterruptedWhileWriting(t *testing.T) {
+	input := faultInput(t)
+	out := filepath.Join(t.TempDir(), "plan")
+	backtest := []string{"backtest", "--input", input, "--time", fixtures.DemoTimeColumn, "--value", fixtures.DemoValueColumn,
+		"--nest", fixtures.DemoNest[0], "--nest", fixtures.DemoNest[1], "--family", "drift", "--quiet",
+		"--horizon", "3", "--origins", "2", "--format", "csv", "--out", out}
+	if code, stderr := runBin(t, forecastArgs(input, out, 3, "parquet")...); code != 0 {
+		t.Fatalf("forecast: exit %d: %s", code, stderr)
+	}
+	if code, stderr := runBin(t, backtest...); code != 0 {
+		t.Fatalf("backtest: exit %d: %s", code, stderr)
+	}
+	before := readFolder(t, out)
+	for _, name := range []string{"forecasts.parquet", "scores.csv", "report.html"} {
+		if _, ok := before[name]; !ok {
+			t.Fatalf("%s missing after a forecast and a backtest into one folder", name)
+		}
+	}
+	for _, sig := range []syscall.Signal{syscall.SIGINT, syscall.SIGKILL} {
+		cmd := exec.Command(binary(t), backtest...)
+		var stderr bytes.Buffer
+		cmd.Stderr = &stderr
+		if err := cmd.Start(); err != nil {
+			t.Fatal(err)
+		}
+		done := make(chan struct{})
+		go func() { cmd.Wait(); close(done) }()
+		waitUntil(staging(out), done)
+		cmd.Process.Signal(sig)
+		<-done
+		code := cmd.ProcessState.ExitCode()
+		t.Logf("%v: exit %d; %s", sig, code, strings.TrimSpace(stderr.String()))
+		after := readFolder(t, out)
+		if len(after) != len(before) {
+			t.Errorf("%v: folder had %d files, now %d", sig, len(before), len(after))
+		}
+		for name, b := range before {
+			a := after[name]
+			if name == "run.json" {
+				a, b = withoutTimings(t, a), withoutTimings(t, b)
+			}
+			if a != b {
+				t.Errorf("%v: %s differs from the complete sets' (a backtest of the same data writes the same bytes)", sig, name)
+			}
+		}
+	}
+}
