@@ -3,6 +3,7 @@ package tableio
 import (
 	"math/rand/v2"
 	"os"
+	"strconv"
 	"testing"
 
 	"trueup/inputerr"
@@ -36,7 +37,17 @@ func FuzzParsePeriod(f *testing.F) {
 		if err != nil {
 			return
 		}
-		// A period read back from its own label is the same period.
+		// A period read back from its own label is the same period; but a
+		// step of an integer index is a bare integer, which one label
+		// cannot tell from a year ("02000" is step 2000, "2000" the year:
+		// the readers decide by the whole column), so its label is only
+		// checked to be its number.
+		if p.Grain == Index {
+			if p.String() != strconv.Itoa(p.Index) {
+				t.Fatalf("%q reads as step %d, labelled %q", s, p.Index, p.String())
+			}
+			return
+		}
 		q, err := ParsePeriod(p.String())
 		if err != nil || q != p {
 			t.Fatalf("%q reads as %v, whose label %q reads as %v (%v)", s, p, p.String(), q, err)
