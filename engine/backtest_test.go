@@ -11,17 +11,14 @@ import (
 	"trueup/engine"
 	"trueup/fixtures"
 	"trueup/models/families"
-	"trueup/tableio"
 )
 
 // chain writes a small invented chain (regions × stores × categories) and
 // loads it.
 func chain(t *testing.T, years int) *engine.Data {
 	t.Helper()
-	cfg := fixtures.DefaultConfig("month")
-	cfg.Regions, cfg.Stores, cfg.Categories, cfg.Years = 2, 5, 2, years
 	input := filepath.Join(t.TempDir(), "small.parquet")
-	if err := tableio.WriteTable(input, fixtures.Generate(cfg).Table(), tableio.Parquet); err != nil {
+	if err := fixtures.WriteSmall(input, years); err != nil {
 		t.Fatal(err)
 	}
 	d, err := engine.Load(engine.Source{Path: input, Time: fixtures.DemoTimeColumn, Value: fixtures.DemoValueColumn,

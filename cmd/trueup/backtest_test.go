@@ -7,17 +7,14 @@ import (
 	"testing"
 
 	"trueup/fixtures"
-	"trueup/tableio"
 )
 
 // smallInput writes a small invented chain (4 years, monthly) and returns
 // its path.
 func smallInput(t *testing.T) string {
 	t.Helper()
-	cfg := fixtures.DefaultConfig("month")
-	cfg.Regions, cfg.Stores, cfg.Categories, cfg.Years = 2, 5, 2, 4
 	path := filepath.Join(t.TempDir(), "small.parquet")
-	if err := tableio.WriteTable(path, fixtures.Generate(cfg).Table(), tableio.Parquet); err != nil {
+	if err := fixtures.WriteSmall(path, 4); err != nil {
 		t.Fatal(err)
 	}
 	return path

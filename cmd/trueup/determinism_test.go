@@ -13,7 +13,7 @@ import (
 // that differs from run to run by nature. The default (automatic) model
 // choice is used, as its search is where worker order could show.
 func TestEveryFileSameBytesAcrossRunsAndWorkers(t *testing.T) {
-	input := faultInput(t)
+	input := smallInput(t)
 	var first map[string]string
 	for i, workers := range []int{1, 2, 3, 1, 2, 3} {
 		out := filepath.Join(t.TempDir(), "run")

@@ -62,19 +62,6 @@ func TestMain(m *testing.M) {
 	os.Exit(code)
 }
 
-// faultInput writes a small chain (2 regions, 5 stores, 2 categories, 4
-// years of months) as Parquet.
-func faultInput(t *testing.T) string {
-	t.Helper()
-	cfg := fixtures.DefaultConfig("month")
-	cfg.Regions, cfg.Stores, cfg.Categories, cfg.Years = 2, 5, 2, 4
-	path := filepath.Join(t.TempDir(), "sales.parquet")
-	if err := tableio.WriteTable(path, fixtures.Generate(cfg).Table(), tableio.Parquet); err != nil {
-		t.Fatal(err)
-	}
-	return path
-}
-
 // forecastArgs are the arguments of a quick forecast of input into out.
 func forecastArgs(input, out string, horizon int, formats string) []string {
 	return []string{"forecast", "--input", input, "--time", fixtures.DemoTimeColumn, "--value", fixtures.DemoValueColumn,
@@ -231,7 +218,7 @@ func staging(dir string) func() bool {
 // A signal exits with 128 + its number and one line that says which
 // folder state it left, and that line is checked against the folder.
 func TestSignalsLeaveOneCompleteSet(t *testing.T) {
-	input := faultInput(t)
+	input := smallInput(t)
 	out := filepath.Join(t.TempDir(), "plan")
 	if code, stderr := runBin(t, forecastArgs(input, out, 3, "parquet")...); code != 0 {
 		t.Fatalf("first run: exit %d: %s", code, stderr)
@@ -326,7 +313,7 @@ func TestSignalsLeaveOneCompleteSet(t *testing.T) {
 // TestCorruptInputLeavesTheFolder feeds a truncated Parquet file and a
 // garbled CSV: each is an input error (exit 2) and the folder is untouched.
 func TestCorruptInputLeavesTheFolder(t *testing.T) {
-	input := faultInput(t)
+	input := smallInput(t)
 	out := filepath.Join(t.TempDir(), "plan")
 	if code, stderr := runBin(t, forecastArgs(input, out, 3, "parquet")...); code != 0 {
 		t.Fatalf("first run: exit %d: %s", code, stderr)
@@ -382,7 +369,7 @@ func copyFolder(t *testing.T, src, dst string) {
 // cause), the old set is intact and no staging folder is left to fill the
 // disk further.
 func TestFullDiskLeavesThePreviousSet(t *testing.T) {
-	input := faultInput(t)
+	input := smallInput(t)
 	first := filepath.Join(t.TempDir(), "plan")
 	if code, stderr := runBin(t, forecastArgs(input, first, 3, "csv")...); code != 0 {
 		t.Fatalf("first run: exit %d: %s", code, stderr)
@@ -412,7 +399,7 @@ func TestFullDiskLeavesThePreviousSet(t *testing.T) {
 // output set read-only (chmod does not stop root): the run stops before
 // reading the input, with exit 2 naming --out, and the set is untouched.
 func TestReadOnlyFolderIsRefusedBeforeTheWork(t *testing.T) {
-	input := faultInput(t)
+	input := smallInput(t)
 	mnt := t.TempDir()
 	mountTmpfs(t, mnt, "size=4m")
 	out := filepath.Join(mnt, "plan")
@@ -438,7 +425,7 @@ func TestReadOnlyFolderIsRefusedBeforeTheWork(t *testing.T) {
 // the folder keeps both complete, and a finished backtest replaces only
 // its own kind's files.
 func TestBacktestInterruptedWhileWriting(t *testing.T) {
-	input := faultInput(t)
+	input := smallInput(t)
 	out := filepath.Join(t.TempDir(), "plan")
 	backtest := []string{"backtest", "--input", input, "--time", fixtures.DemoTimeColumn, "--value", fixtures.DemoValueColumn,
 		"--nest", fixtures.DemoNest[0], "--nest", fixtures.DemoNest[1], "--family", "drift", "--quiet",

@@ -148,8 +148,7 @@ func readFile(t *testing.T, path string) string {
 // monthly input form and checks that forecast, fit, inspect and reconcile
 // give the reference form's output byte for byte.
 func TestEveryInputFormThroughEveryCommand(t *testing.T) {
-	cfg := fixtures.DefaultConfig("month")
-	cfg.Regions, cfg.Stores, cfg.Categories, cfg.Years = 2, 5, 2, 4
+	cfg := fixtures.SmallConfig(4)
 	tb := fixtures.Generate(cfg).Table()
 	dir := t.TempDir()
 	nest := []string{"--nest", "region,store", "--nest", "category"}

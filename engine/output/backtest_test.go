@@ -22,8 +22,7 @@ import (
 // origin (the chain opens and closes stores, so the cut decides which
 // stores exist and which have closed).
 func TestBacktestAtOneOriginIsForecastOnTheCutHistory(t *testing.T) {
-	cfg := fixtures.DefaultConfig("month")
-	cfg.Regions, cfg.Stores, cfg.Categories, cfg.Years = 2, 5, 2, 4
+	cfg := fixtures.SmallConfig(4)
 	table := fixtures.Generate(cfg).Table()
 	dir := t.TempDir()
 	full := filepath.Join(dir, "full.parquet")

@@ -20,10 +20,8 @@ import (
 // categories, 4 years of months) and loads it.
 func smallChain(t *testing.T) *engine.Data {
 	t.Helper()
-	cfg := fixtures.DefaultConfig("month")
-	cfg.Regions, cfg.Stores, cfg.Categories, cfg.Years = 2, 5, 2, 4
 	input := filepath.Join(t.TempDir(), "small.parquet")
-	if err := tableio.WriteTable(input, fixtures.Generate(cfg).Table(), tableio.Parquet); err != nil {
+	if err := fixtures.WriteSmall(input, 4); err != nil {
 		t.Fatal(err)
 	}
 	d, err := engine.Load(engine.Source{Path: input, Time: fixtures.DemoTimeColumn, Value: fixtures.DemoValueColumn,
