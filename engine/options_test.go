@@ -24,7 +24,7 @@ func TestOptionsBeyondTheHistory(t *testing.T) {
 		{Options{Horizon: 73}, "Horizon", "at most 72"},
 		{Options{Horizon: 10000}, "Horizon", "at most 72"},
 	} {
-		err := c.opt.supported(72, 12)
+		err := c.opt.Supported(72, 12)
 		if c.option == "" {
 			if err != nil {
 				t.Errorf("%+v: %v", c.opt, err)
@@ -36,7 +36,7 @@ func TestOptionsBeyondTheHistory(t *testing.T) {
 		}
 	}
 	// A short history keeps the default horizon of its grain (one cycle).
-	if err := (Options{Horizon: 12}).supported(10, 12); err != nil {
+	if err := (Options{Horizon: 12}).Supported(10, 12); err != nil {
 		t.Errorf("the default horizon refused on a short history: %v", err)
 	}
 }

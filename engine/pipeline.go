@@ -164,14 +164,14 @@ func (o Options) resolve(period int) (Options, error) {
 	return o, nil
 }
 
-// supported checks a period and a horizon given explicitly against the
+// Supported checks a period and a horizon given explicitly against the
 // length of the history, t periods, before any fitting. A seasonal
 // pattern is estimated from at least two full cycles, so the period is at
 // most t/2; a forecast reaches at most as far ahead as the history goes
 // back, t periods, or the default horizon if that is longer (both common
 // practice). The defaults taken from the grain are not refused: a history
 // too short for them gets non-seasonal models, as before.
-func (o Options) supported(t, grainPeriod int) error {
+func (o Options) Supported(t, grainPeriod int) error {
 	if o.Period > 1 && o.Period > t/2 {
 		return inputerr.ForOption("Period", "a seasonal period of %d needs at least %d periods of history (two cycles); the history has %d, which supports a period of at most %d",
 			o.Period, 2*o.Period, t, max(t/2, 1))
@@ -225,7 +225,7 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	if d.Structure == nil {
 		return nil, inputerr.ForOption("Chains", "a forecast run needs key columns to build the structure from")
 	}
-	if err := opt.supported(d.Panel.T, d.Panel.Grain.SeasonalPeriod()); err != nil {
+	if err := opt.Supported(d.Panel.T, d.Panel.Grain.SeasonalPeriod()); err != nil {
 		return nil, err
 	}
 	if opt.Reconcile.Method == AutoMethod {

@@ -128,6 +128,9 @@ func runFit(ctx context.Context, w io.Writer, fl *fitFlags) error {
 	if err != nil {
 		return err
 	}
+	if err := (engine.Options{Period: fl.period, Horizon: fl.horizon}).Supported(data.Panel.T, data.Panel.Grain.SeasonalPeriod()); err != nil {
+		return err
+	}
 	run := fitRun{data: data, levels: levels}
 	order := seriesOrder(data.Panel, fl.key != "")
 	period := fl.period

@@ -268,7 +268,9 @@ func TestFitErrors(t *testing.T) {
 		{"--constant"},                              // constant without model
 		{"--key", "store", "--levels", "80,120"},    // bad level
 		{"--key", "store", "--workers", "0"},
-		{"--key", "region"}, // no such column
+		{"--key", "store", "--horizon", "1000"}, // beyond what 144 months support
+		{"--key", "store", "--period", "100"},   // fewer than two cycles of history
+		{"--key", "region"},                     // no such column
 	} {
 		args := append(append([]string{}, base...), extra...)
 		if code := run(args); code != exitInput {
