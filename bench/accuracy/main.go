@@ -34,25 +34,50 @@ import (
 	"trueup/models/transform"
 )
 
-// seriesSet lists the series (file under fixtures/reference) and periods.
-var seriesSet = []struct {
+// series is one public series of the table, the file under
+// fixtures/reference that holds it, its period and the set it belongs to.
+type series struct {
 	file   string
 	period int
-}{
-	{"ets/data/AirPassengers", 12}, {"ets/data/co2", 12}, {"ets/data/fdeaths", 12},
-	{"ets/data/ldeaths", 12}, {"ets/data/mdeaths", 12}, {"ets/data/nottem", 12},
-	{"ets/data/UKDriverDeaths", 12}, {"ets/data/USAccDeaths", 12},
-	{"ets/data/Seatbelts_front", 12}, {"ets/data/Seatbelts_rear", 12},
-	{"ets/data/austres", 4}, {"ets/data/JohnsonJohnson", 4}, {"ets/data/UKgas", 4},
-	{"accuracy/data/freeny_y", 4}, {"accuracy/data/drinks", 12},
-	{"accuracy/data/seattle_tmax", 12}, {"accuracy/data/seattle_precip", 12},
+	set    string
+}
+
+// Sets of series. "classic" are the seasonal series of R's datasets
+// package and a few other open tables; "txhousing" are the monthly home
+// sales of every Texas city with complete data in R's ggplot2 package.
+const (
+	classic   = "classic"
+	txhousing = "txhousing"
+)
+
+// seriesSet lists the series of the table: the classic set, then every
+// txhousing city exported by fixtures/reference/accuracy/export.R.
+func seriesSet() ([]series, error) {
+	set := []series{
+		{"ets/data/AirPassengers", 12, classic}, {"ets/data/co2", 12, classic}, {"ets/data/fdeaths", 12, classic},
+		{"ets/data/ldeaths", 12, classic}, {"ets/data/mdeaths", 12, classic}, {"ets/data/nottem", 12, classic},
+		{"ets/data/UKDriverDeaths", 12, classic}, {"ets/data/USAccDeaths", 12, classic},
+		{"ets/data/Seatbelts_front", 12, classic}, {"ets/data/Seatbelts_rear", 12, classic},
+		{"ets/data/austres", 4, classic}, {"ets/data/JohnsonJohnson", 4, classic}, {"ets/data/UKgas", 4, classic},
+		{"accuracy/data/freeny_y", 4, classic}, {"accuracy/data/drinks", 12, classic},
+		{"accuracy/data/seattle_tmax", 12, classic}, {"accuracy/data/seattle_precip", 12, classic},
+	}
+	files, err := reference.Glob("accuracy/data/txhousing_*.csv")
+	if err != nil {
+		return nil, err
+	}
+	for _, f := range files {
+		set = append(set, series{strings.TrimSuffix(f, ".csv"), 12, txhousing})
+	}
+	return set, nil
 }
 
 func main() {
 	margin := flag.Float64("margin", 0, "Options.Margin of the automatic choice (0: its default)")
 	origins := flag.Int("origins", 0, "Options.Origins of the automatic choice (0: its default)")
+	explain := flag.Bool("explain", false, "print, on standard error, each series' validation scores and the form every method fitted")
 	flag.Parse()
-	arimaBC := transform.Family{Inner: arima.Family{}, Opt: transform.Options{Kind: transform.BoxCox}}
+	arimaBC := transform.Family{Inner: arima.Family{Options: arima.AutoOptions{RankByCSS: true}}, Opt: transform.Options{Kind: transform.BoxCox}}
 	auto := choose.Standard(choose.Options{Margin: *margin, Origins: *origins})
 	methods := []struct {
 		name string
@@ -67,6 +92,10 @@ func main() {
 		{"drift", func(int) models.Family { return naive.Drift{} }},
 		{naive.SeasonalNaiveName, func(int) models.Family { return naive.SeasonalNaive{} }},
 	}
+	set, err := seriesSet()
+	if err != nil {
+		fail(err)
+	}
 	scores := make([][]float64, len(methods))
 	var b strings.Builder
 	b.WriteString("| series | m | n |")
@@ -76,7 +105,7 @@ func main() {
 	b.WriteString(" auto chose |\n|---|---|---|" + strings.Repeat("---|", len(methods)+1) + "\n")
 	var in80, in95, total int
 	start := time.Now()
-	for _, s := range seriesSet {
+	for _, s := range set {
 		y, err := reference.Series(s.file + ".csv")
 		if err != nil {
 			fail(err)
@@ -100,6 +129,12 @@ func main() {
 			v := mae / float64(h) / scale
 			scores[i] = append(scores[i], v)
 			fmt.Fprintf(&b, " %.3f |", v)
+			if *explain {
+				fmt.Fprintf(os.Stderr, "%s %s: %.3f %s\n", name, m.name, v, fit.Spec())
+				if r, ok := fit.(interface{ Reason() string }); ok {
+					fmt.Fprintf(os.Stderr, "  %s\n", r.Reason())
+				}
+			}
 			if i == 0 {
 				chose = fit.Family()
 				for j := range test {
@@ -117,20 +152,36 @@ func main() {
 		}
 		fmt.Fprintf(&b, " %s |\n", chose)
 	}
-	for _, row := range []struct {
+	groups := []struct {
 		name string
-		stat func([]float64) float64
-	}{{"mean MASE", mean}, {"median MASE", median}} {
-		fmt.Fprintf(&b, "| **%s** | | |", row.name)
-		for i := range methods {
-			fmt.Fprintf(&b, " **%.3f** |", row.stat(scores[i]))
+		keep func(series) bool
+	}{
+		{fmt.Sprintf("all %d series", len(set)), func(series) bool { return true }},
+		{classic, func(s series) bool { return s.set == classic }},
+		{txhousing, func(s series) bool { return s.set == txhousing }},
+	}
+	for _, g := range groups {
+		for _, row := range []struct {
+			name string
+			stat func([]float64) float64
+		}{{"mean MASE", mean}, {"median MASE", median}} {
+			fmt.Fprintf(&b, "| **%s, %s** | | |", row.name, g.name)
+			for i := range methods {
+				var xs []float64
+				for j, s := range set {
+					if g.keep(s) {
+						xs = append(xs, scores[i][j])
+					}
+				}
+				fmt.Fprintf(&b, " **%.3f** |", row.stat(xs))
+			}
+			b.WriteString(" |\n")
 		}
-		b.WriteString(" |\n")
 	}
 	fmt.Print(b.String())
 	fmt.Printf("\nauto's Gaussian intervals on the %d held-out values: %.1f%% inside the 80%% interval, %.1f%% inside the 95%% interval\n",
 		total, 100*float64(in80)/float64(total), 100*float64(in95)/float64(total))
-	fmt.Fprintf(os.Stderr, "%d series in %.1f s\n", len(seriesSet), time.Since(start).Seconds())
+	fmt.Fprintf(os.Stderr, "%d series in %.1f s\n", len(set), time.Since(start).Seconds())
 }
 
 // medianOnly is the median of ETS, ARIMA (the given family) and Theta,

@@ -32,12 +32,14 @@ package choose
 import (
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 	"strings"
 
 	"trueup/inputerr"
 	"trueup/internal/numeric"
 	"trueup/models"
+	"trueup/models/naive"
 )
 
 // Name is the registry name of the automatic choice.
@@ -396,15 +398,25 @@ func rank(scores []Score) []int {
 // validate: by the median of the combined candidates that accept it (one
 // alone if only one does), otherwise by the richest single candidate that
 // accepts it (the last listed first). For a strongly seasonal series only
-// fits with a seasonal component count (seasonal naive is the last resort).
+// fits with a seasonal component count, and seasonal naive joins the
+// median: with under three seasons of history the other members often
+// cannot fit a seasonal form at all (ETS's AICc penalty for m seasonal
+// states on two seasons is prohibitive), and last year's values are then
+// the steadiest estimate of the seasonal pattern. Without it a lone
+// seasonal ARIMA decided such series (README's accuracy section measures
+// the change on seattle_tmax).
 func (f *Family) fallback(y []float64, opt models.FitOptions, note string) (models.Model, error) {
 	seasonal := numeric.StronglySeasonal(y, max(opt.Period, 1))
 	var parts []models.Model
 	var names, errs []string
-	for _, k := range f.members {
-		if mod, err := f.cands[k].Fit(y, opt); err == nil && (!seasonal || hasSeason(mod)) {
+	for k, c := range f.cands {
+		member := slices.Contains(f.members, k)
+		if !member && !(seasonal && c.Name() == naive.SeasonalNaiveName) {
+			continue
+		}
+		if mod, err := c.Fit(y, opt); err == nil && (!seasonal || hasSeason(mod)) {
 			parts = append(parts, mod)
-			names = append(names, f.cands[k].Name())
+			names = append(names, c.Name())
 		}
 	}
 	switch len(parts) {

@@ -2,6 +2,7 @@ package choose
 
 import (
 	"encoding/json"
+	"gonum.org/v1/gonum/stat"
 	"math"
 	"strings"
 	"testing"
@@ -122,6 +123,36 @@ func TestShortSeries(t *testing.T) {
 	}
 	if _, err := newAuto().Fit(nil, models.FitOptions{Period: 12, Horizon: 12}); err == nil {
 		t.Error("empty series accepted")
+	}
+}
+
+// TestShortSeasonalSeriesKeepsTheSeason: a strongly seasonal series too
+// short to validate (30 months of R's USAccDeaths, under three seasons)
+// gets seasonal naive in its fallback median, so its forecast keeps the
+// seasonal pattern; a short series without strong seasonality (12 quarters
+// of R's austres, a smooth trend) does not.
+func TestShortSeasonalSeriesKeepsTheSeason(t *testing.T) {
+	y := series(t, "USAccDeaths")[:30]
+	m, err := newAuto().Fit(y, models.FitOptions{Period: 12, Horizon: 12})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(m.Family(), "seasonal-naive") || !strings.Contains(m.Warning(), "without validation") {
+		t.Fatalf("family %q, warning %q", m.Family(), m.Warning())
+	}
+	// The forecast follows last year's pattern: correlation with the last
+	// 12 observations above 0.9.
+	fc, _ := m.Forecast(12)
+	if r := stat.Correlation(fc, y[18:], nil); r < 0.9 {
+		t.Errorf("forecast correlates %.2f with the last season; want > 0.9", r)
+	}
+	q := series(t, "austres")[:12]
+	m, err = newAuto().Fit(q, models.FitOptions{Period: 4, Horizon: 4})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if strings.Contains(m.Family(), "seasonal-naive") {
+		t.Errorf("a trending series without strong seasonality got %q", m.Family())
 	}
 }
 
