@@ -152,7 +152,7 @@ func TestEveryInputFormThroughEveryCommand(t *testing.T) {
 	tb := fixtures.Generate(cfg).Table()
 	dir := t.TempDir()
 	nest := []string{"--nest", "region,store", "--nest", "category"}
-	type outputs struct{ forecast, fit, inspect, reconcile string }
+	type outputs struct{ forecast, fit, inspect, reconcile, backtest string }
 	var ref outputs
 	var refForecasts string
 	for i, f := range monthlyForms {
@@ -180,6 +180,10 @@ func TestEveryInputFormThroughEveryCommand(t *testing.T) {
 		runOK(t, append([]string{"reconcile", "--base", refForecasts, "--history", path, "--method", "top-down-hist",
 			"--format", "csv", "--out", rec}, nest...)...)
 		got.reconcile = readFile(t, filepath.Join(rec, "forecasts.csv"))
+		bt := filepath.Join(dir, fmt.Sprintf("bt%d", i))
+		runOK(t, append([]string{"backtest", "--input", path, "--family", "ets", "--horizon", "3", "--origins", "2",
+			"--compare", "base,mint-shrink", "--quiet", "--no-report", "--format", "csv", "--out", bt}, nest...)...)
+		got.backtest = readFile(t, filepath.Join(bt, "backtest.csv")) + readFile(t, filepath.Join(bt, "scores.csv"))
 		if i == 0 {
 			ref = got
 			continue
@@ -187,6 +191,7 @@ func TestEveryInputFormThroughEveryCommand(t *testing.T) {
 		for _, c := range []struct{ what, got, want string }{
 			{"forecast", got.forecast, ref.forecast}, {"fit", got.fit, ref.fit},
 			{"inspect", got.inspect, ref.inspect}, {"reconcile", got.reconcile, ref.reconcile},
+			{"backtest", got.backtest, ref.backtest},
 		} {
 			if c.got != c.want {
 				t.Errorf("%s: %s output differs from the labels form:\n%s\nwant\n%s", f.name, c.what, head(c.got), head(c.want))
@@ -236,7 +241,7 @@ func TestYearsAndStepsThroughEveryCommand(t *testing.T) {
 		}, steps: true},
 	}
 	dir := t.TempDir()
-	var refForecast, refFit string
+	var refForecast, refFit, refScores string
 	for i, f := range forms {
 		var b strings.Builder
 		b.WriteString("year,region,store,sales\n")
@@ -263,8 +268,12 @@ func TestYearsAndStepsThroughEveryCommand(t *testing.T) {
 		rec := filepath.Join(dir, fmt.Sprintf("rec%d", i))
 		runOK(t, "reconcile", "--base", filepath.Join(out, "forecasts.csv"), "--history", path, "--time", "year",
 			"--nest", "region,store", "--method", "top-down-avg", "--format", "csv", "--out", rec)
+		bt := filepath.Join(dir, fmt.Sprintf("bt%d", i))
+		runOK(t, append([]string{"backtest", "--nest", "region,store", "--origins", "2", "--compare", "base,bottom-up",
+			"--quiet", "--no-report", "--format", "csv", "--out", bt}, common...)...)
+		scores := readFile(t, filepath.Join(bt, "scores.csv"))
 		if i == 0 {
-			refForecast, refFit = fc, fit
+			refForecast, refFit, refScores = fc, fit, scores
 			if !strings.Contains(fc, ",2028,") {
 				t.Fatalf("yearly forecasts do not start in 2028:\n%s", head(fc))
 			}
@@ -278,6 +287,9 @@ func TestYearsAndStepsThroughEveryCommand(t *testing.T) {
 				t.Errorf("%s: forecasts differ from the year labels' beyond the period labels:\n%s\nwant\n%s", f.name, head(fc), head(refForecast))
 			}
 			continue
+		}
+		if scores != refScores {
+			t.Errorf("%s: backtest scores differ from the year labels form:\n%s\nwant\n%s", f.name, head(scores), head(refScores))
 		}
 		if fc != refForecast || fit != refFit {
 			t.Errorf("%s: output differs from the year labels form:\n%s\nwant\n%s", f.name, head(fc), head(refForecast))
