@@ -382,7 +382,12 @@ func (r *fitRun) writeText(w io.Writer, i int, nf *engine.NodeFit) error {
 	fmt.Fprintln(w)
 	fmt.Fprintf(w, "  fit quality (%d parameters, %d observations in the likelihood)\n", c.K, c.N)
 	fmt.Fprintf(w, "    innovation variance  %.6g\n", nf.Sigma2)
-	crit := func(x float64) string { return groupedDecimals(x, 2) } // criteria are compared to 0.01
+	crit := func(x float64) string { // criteria are compared to 0.01
+		if math.IsInf(x, 0) || math.IsNaN(x) {
+			return "undefined" // AICc with no more observations than parameters
+		}
+		return groupedDecimals(x, 2)
+	}
 	indentedTable(w, "    ", []string{"criterion", "value"}, [][]string{
 		{"AICc", crit(c.AICc)}, {"AIC", crit(c.AIC)}, {"BIC", crit(c.BIC)}, {"log-likelihood", crit(c.LogLik)}})
 	if nf.Warning != "" {
@@ -477,8 +482,12 @@ func estimateList(x any) ([]estimate, bool) {
 	return out, true
 }
 
+// maxInline is the longest object of scalars written on its key's line;
+// a longer one (a sentence among its values, say) gets a line per field.
+const maxInline = 80
+
 // flat writes x on one line when it is a scalar, a list of scalars or an
-// object of scalars.
+// object of scalars short enough (maxInline).
 func flat(x any) (string, bool) {
 	switch y := x.(type) {
 	case map[string]any:
@@ -495,7 +504,8 @@ func flat(x any) (string, bool) {
 			}
 			parts[j] = k + " " + s
 		}
-		return strings.Join(parts, ", "), true
+		line := strings.Join(parts, ", ")
+		return line, len(line) <= maxInline
 	case []any:
 		parts := make([]string, len(y))
 		for j, e := range y {

@@ -61,7 +61,9 @@ func (f *Fitted) Reason() string {
 // Params implements models.Model: the winner's parameters plus "choice":
 // {"winner": family, "reason": in words, "origins": validation origins,
 // "validation_horizon": steps scored, "candidates": one {"family", "form",
-// "mase" (null when the candidate failed), "error"} per candidate}.
+// "mase" (null when the candidate failed), "error"} per candidate}. A
+// series chosen for without validation (too short) has only "winner" and
+// "reason".
 func (f *Fitted) Params() map[string]any {
 	inner := f.Model.Params()
 	out := make(map[string]any, len(inner)+1)
@@ -80,13 +82,13 @@ func (f *Fitted) Params() map[string]any {
 		}
 		cands[i] = c
 	}
-	out["choice"] = map[string]any{
-		"winner":             f.Model.Family(),
-		"reason":             f.Reason(),
-		"origins":            f.origins,
-		"validation_horizon": f.horizon,
-		"candidates":         cands,
+	choice := map[string]any{"winner": f.Model.Family(), "reason": f.Reason()}
+	if f.winner >= 0 {
+		choice["origins"] = f.origins
+		choice["validation_horizon"] = f.horizon
+		choice["candidates"] = cands
 	}
+	out["choice"] = choice
 	return out
 }
 
