@@ -47,10 +47,11 @@ error unless --sum-duplicates adds such rows. A series that stopped before
 the table's last period is forecast as zero (closed).
 
 Each series is fitted exactly as forecast fits a node: --family auto (the
-default) validates ARIMA, ETS, seasonal naive, drift and the ARIMA+ETS
-average at the last three forecast origins by MASE at --horizon and refits
-the winner; arima and ets choose their form by AICc; seasonal-naive, drift
-and last are the benchmarks. When a family cannot fit a series, the
+default) scores seasonal naive, drift, Theta, ETS, ARIMA and the median of
+Theta, ETS and ARIMA at up to six past forecast origins by MASE at
+--horizon, keeps the median unless a single method scores 10% lower, and
+refits the form it scored on the whole series; arima and ets choose their
+form by AICc; seasonal-naive, drift and last are the benchmarks. When a family cannot fit a series, the
 simpler benchmarks are tried in turn and the warning says so.
 
 --model fixes the form and implies its family:
