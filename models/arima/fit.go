@@ -468,7 +468,7 @@ func (pr *problem) css() (float64, int) {
 	return ssq, max(len(u)-nc, 0)
 }
 
-// minimize runs BFGS with forward-difference gradients from x, falling back
+// minimize runs BFGS (minimizeBFGS) with forward-difference gradients from x, falling back
 // to Nelder–Mead when BFGS fails. It returns the best point found.
 func minimize(f func([]float64) float64, x0 []float64) ([]float64, error) {
 	n := len(x0)
@@ -485,12 +485,12 @@ func minimize(f func([]float64) float64, x0 []float64) ([]float64, error) {
 		lastX = append(lastX[:0], x...)
 		return lastF
 	}
+	xx := make([]float64, n)
 	grad := func(g, x []float64) {
 		fx := lastF
 		if !slices.Equal(x, lastX) {
 			fx = value(x)
 		}
-		xx := make([]float64, n)
 		copy(xx, x)
 		for i := range xx {
 			h := 1e-6 * math.Max(1, math.Abs(xx[i]))
@@ -499,17 +499,14 @@ func minimize(f func([]float64) float64, x0 []float64) ([]float64, error) {
 			xx[i] = x[i]
 		}
 	}
-	prob := optimize.Problem{Func: value, Grad: grad}
-	settings := &optimize.Settings{
+	settings := bfgsSettings{
 		GradientThreshold: 1e-5,
 		Converger:         &optimize.FunctionConverge{Absolute: 1e-9, Iterations: 8},
 		MajorIterations:   200,
 	}
-	res, err := optimize.Minimize(prob, x0, settings, &optimize.BFGS{})
-	if err == nil || (res != nil && res.F < f(x0)) {
-		if res != nil && !math.IsNaN(res.F) {
-			return res.X, nil
-		}
+	xb, fb, err := minimizeBFGS(value, grad, x0, settings)
+	if (err == nil || fb < f(x0)) && !math.IsNaN(fb) {
+		return xb, nil
 	}
 	res, err2 := optimize.Minimize(optimize.Problem{Func: f}, x0, &optimize.Settings{MajorIterations: 2000}, &optimize.NelderMead{})
 	if res != nil && res.F <= f(x0) {
