@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"sync"
 
 	"gonum.org/v1/gonum/optimize"
 
@@ -66,16 +67,21 @@ type problem struct {
 	beta       []float64
 	uBeta      []float64 // the β that u was computed for
 	uValid     bool
-	kal        numeric.ARMAKalman
+	kal        *numeric.ARMAKalman // from kalmanPool; FitOrder returns it
 	// fixBeta holds the regression coefficients at their least-squares
 	// values (the approximate fit used to rank candidates).
 	fixBeta bool
 }
 
+// kalmanPool keeps Kalman filter workspaces between fits: the automatic
+// search and the validation fit dozens of models per series, and a fresh
+// workspace per fit was a large share of the allocations of a run.
+var kalmanPool = sync.Pool{New: func() any { return new(numeric.ARMAKalman) }}
+
 // newProblem differences the series and sets up regressors: the constant,
 // then the Fourier pairs, then the external columns xreg.
 func newProblem(y []float64, spec Spec, xreg [][]float64) (*problem, error) {
-	pr := &problem{spec: spec, y: y, m: max(spec.Period, 1)}
+	pr := &problem{spec: spec, y: y, m: max(spec.Period, 1), kal: kalmanPool.Get().(*numeric.ARMAKalman)}
 	if !spec.seasonal() {
 		spec.SP, spec.SD, spec.SQ, spec.Fourier = 0, 0, 0, 0
 		pr.spec = spec

@@ -106,6 +106,7 @@ func FitOrder(y []float64, spec Spec, opt Options) (*Fitted, error) {
 	if k := pr.nParams(); len(pr.w) <= k+1 {
 		return nil, inputerr.New("model %s needs more than %d observations after differencing, the series has %d", spec, k+1, len(pr.w))
 	}
+	defer kalmanPool.Put(pr.kal)
 	pr.fixBeta = opt.Approximate
 	k := pr.nFree()
 	f := &Fitted{spec: pr.spec, nObs: len(y), m: pr.m, delta: pr.delta, approx: opt.Approximate,
