@@ -474,8 +474,9 @@ func (pr *problem) css() (float64, int) {
 	return ssq, max(len(u)-nc, 0)
 }
 
-// minimize runs BFGS (minimizeBFGS) with forward-difference gradients from x, falling back
-// to Nelder–Mead when BFGS fails. It returns the best point found.
+// minimize runs BFGS (minimizeBFGS) with forward-difference gradients from
+// x, falling back to Nelder–Mead when BFGS fails. It returns the best point
+// found.
 func minimize(f func([]float64) float64, x0 []float64) ([]float64, error) {
 	n := len(x0)
 	if n == 0 {
