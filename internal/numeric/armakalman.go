@@ -161,6 +161,9 @@ func (k *ARMAKalman) stationaryCov(p, q int, rowOnly bool) bool {
 		row := sys[kk*w : kk*w+w]
 		row[kk] += 1
 		for i := 1; i <= p; i++ {
+			if ph[i-1] == 0 {
+				continue // most of a seasonal model's φ_i are zero
+			}
 			d := kk - i
 			if d < 0 {
 				d = -d
@@ -215,28 +218,31 @@ func (k *ARMAKalman) stationaryCov(p, q int, rowOnly bool) bool {
 func solveAugmented(a []float64, n int) bool {
 	w := n + 1
 	for c := 0; c < n; c++ {
-		piv := c
+		piv, big := c, math.Abs(a[c*w+c])
 		for r := c + 1; r < n; r++ {
-			if math.Abs(a[r*w+c]) > math.Abs(a[piv*w+c]) {
-				piv = r
+			if v := math.Abs(a[r*w+c]); v > big {
+				piv, big = r, v
 			}
 		}
-		if math.Abs(a[piv*w+c]) < 1e-13 {
+		if big < 1e-13 {
 			return false
 		}
+		pivRow := a[c*w : c*w+w]
 		if piv != c {
+			other := a[piv*w : piv*w+w]
 			for j := c; j < w; j++ {
-				a[c*w+j], a[piv*w+j] = a[piv*w+j], a[c*w+j]
+				pivRow[j], other[j] = other[j], pivRow[j]
 			}
 		}
-		inv := 1 / a[c*w+c]
+		inv := 1 / pivRow[c]
 		for r := c + 1; r < n; r++ {
-			f := a[r*w+c] * inv
+			row := a[r*w : r*w+w]
+			f := row[c] * inv
 			if f == 0 {
 				continue
 			}
 			for j := c; j < w; j++ {
-				a[r*w+j] -= f * a[c*w+j]
+				row[j] -= f * pivRow[j]
 			}
 		}
 	}

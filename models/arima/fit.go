@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"sync"
 
 	"gonum.org/v1/gonum/optimize"
 
@@ -66,16 +67,21 @@ type problem struct {
 	beta       []float64
 	uBeta      []float64 // the β that u was computed for
 	uValid     bool
-	kal        numeric.ARMAKalman
+	kal        *numeric.ARMAKalman // from kalmanPool; FitOrder returns it
 	// fixBeta holds the regression coefficients at their least-squares
 	// values (the approximate fit used to rank candidates).
 	fixBeta bool
 }
 
+// kalmanPool keeps Kalman filter workspaces between fits: the automatic
+// search and the validation fit dozens of models per series, and a fresh
+// workspace per fit was a large share of the allocations of a run.
+var kalmanPool = sync.Pool{New: func() any { return new(numeric.ARMAKalman) }}
+
 // newProblem differences the series and sets up regressors: the constant,
 // then the Fourier pairs, then the external columns xreg.
 func newProblem(y []float64, spec Spec, xreg [][]float64) (*problem, error) {
-	pr := &problem{spec: spec, y: y, m: max(spec.Period, 1)}
+	pr := &problem{spec: spec, y: y, m: max(spec.Period, 1), kal: kalmanPool.Get().(*numeric.ARMAKalman)}
 	if !spec.seasonal() {
 		spec.SP, spec.SD, spec.SQ, spec.Fourier = 0, 0, 0, 0
 		pr.spec = spec
@@ -468,8 +474,9 @@ func (pr *problem) css() (float64, int) {
 	return ssq, max(len(u)-nc, 0)
 }
 
-// minimize runs BFGS with forward-difference gradients from x, falling back
-// to Nelder–Mead when BFGS fails. It returns the best point found.
+// minimize runs BFGS (minimizeBFGS) with forward-difference gradients from
+// x, falling back to Nelder–Mead when BFGS fails. It returns the best point
+// found.
 func minimize(f func([]float64) float64, x0 []float64) ([]float64, error) {
 	n := len(x0)
 	if n == 0 {
@@ -485,12 +492,12 @@ func minimize(f func([]float64) float64, x0 []float64) ([]float64, error) {
 		lastX = append(lastX[:0], x...)
 		return lastF
 	}
+	xx := make([]float64, n)
 	grad := func(g, x []float64) {
 		fx := lastF
 		if !slices.Equal(x, lastX) {
 			fx = value(x)
 		}
-		xx := make([]float64, n)
 		copy(xx, x)
 		for i := range xx {
 			h := 1e-6 * math.Max(1, math.Abs(xx[i]))
@@ -499,17 +506,14 @@ func minimize(f func([]float64) float64, x0 []float64) ([]float64, error) {
 			xx[i] = x[i]
 		}
 	}
-	prob := optimize.Problem{Func: value, Grad: grad}
-	settings := &optimize.Settings{
+	settings := bfgsSettings{
 		GradientThreshold: 1e-5,
 		Converger:         &optimize.FunctionConverge{Absolute: 1e-9, Iterations: 8},
 		MajorIterations:   200,
 	}
-	res, err := optimize.Minimize(prob, x0, settings, &optimize.BFGS{})
-	if err == nil || (res != nil && res.F < f(x0)) {
-		if res != nil && !math.IsNaN(res.F) {
-			return res.X, nil
-		}
+	xb, fb, err := minimizeBFGS(value, grad, x0, settings)
+	if (err == nil || fb < f(x0)) && !math.IsNaN(fb) {
+		return xb, nil
 	}
 	res, err2 := optimize.Minimize(optimize.Problem{Func: f}, x0, &optimize.Settings{MajorIterations: 2000}, &optimize.NelderMead{})
 	if res != nil && res.F <= f(x0) {

@@ -106,6 +106,7 @@ func FitOrder(y []float64, spec Spec, opt Options) (*Fitted, error) {
 	if k := pr.nParams(); len(pr.w) <= k+1 {
 		return nil, inputerr.New("model %s needs more than %d observations after differencing, the series has %d", spec, k+1, len(pr.w))
 	}
+	defer kalmanPool.Put(pr.kal)
 	pr.fixBeta = opt.Approximate
 	k := pr.nFree()
 	f := &Fitted{spec: pr.spec, nObs: len(y), m: pr.m, delta: pr.delta, approx: opt.Approximate,
@@ -278,48 +279,57 @@ func (f *Fitted) forecastTransformed(h int, future [][]float64, pointOnly bool) 
 	s := make([]float64, n)
 	copy(s, f.a)
 	copy(s[r:], f.zLags)
-	V := make([]float64, n*n)
-	for i := 0; i < r; i++ {
-		for j := 0; j < r; j++ {
-			V[i*n+j] = f.p[i*r+j] * f.sigma2
+	// V, the state covariance, is needed for the variances only.
+	var V, tmp []float64
+	if !pointOnly {
+		V = make([]float64, n*n)
+		tmp = make([]float64, n*n)
+		for i := 0; i < r; i++ {
+			for j := 0; j < r; j++ {
+				V[i*n+j] = f.p[i*r+j] * f.sigma2
+			}
 		}
 	}
 	// Transition F: ARMA companion block; z_t = α_1 + Σ δ_j z_{t−j}; shift.
-	F := make([]float64, n*n)
+	// F is sparse (at most 1 + nd entries a row): it is kept as its
+	// non-zero entries, row by row in column order, so a step costs
+	// O(n²·nnz) instead of O(n³).
+	type entry struct {
+		col int
+		v   float64
+	}
+	rows := make([][]entry, n)
+	entries := make([]entry, 0, 2*n+nd)
+	row := func(i int, es ...entry) {
+		start := len(entries)
+		for _, e := range es {
+			if e.v != 0 {
+				entries = append(entries, e)
+			}
+		}
+		rows[i] = entries[start:len(entries):len(entries)]
+	}
 	for i := 0; i < r; i++ {
-		F[i*n] = f.phi[i]
 		if i+1 < r {
-			F[i*n+i+1] = 1
+			row(i, entry{0, f.phi[i]}, entry{i + 1, 1})
+		} else {
+			row(i, entry{0, f.phi[i]})
 		}
 	}
 	if nd > 0 {
-		F[r*n] = 1
+		es := []entry{{0, 1}}
 		for j := 0; j < nd; j++ {
-			F[r*n+r+j] = f.delta[j]
+			es = append(es, entry{r + j, f.delta[j]})
 		}
+		row(r, es...)
 		for j := 1; j < nd; j++ {
-			F[(r+j)*n+r+j-1] = 1
+			row(r+j, entry{r + j - 1, 1})
 		}
 	}
 	c := make([]float64, n)
 	c[0] = 1
 	copy(c[r:], f.delta)
 	T := f.nObs
-	// F is sparse (at most 1 + nd entries a row): multiply by its non-zero
-	// entries only, so a step costs O(n²·nnz) instead of O(n³).
-	type entry struct {
-		col int
-		v   float64
-	}
-	rows := make([][]entry, n)
-	for i := 0; i < n; i++ {
-		for j := 0; j < n; j++ {
-			if F[i*n+j] != 0 {
-				rows[i] = append(rows[i], entry{j, F[i*n+j]})
-			}
-		}
-	}
-	tmp := make([]float64, n*n)
 	s2 := make([]float64, n)
 	for k := 0; k < h; k++ {
 		var mu, vv float64

@@ -274,7 +274,8 @@ func fit(y []float64, sp Spec, m int, starts [][4]float64, warm *Params) (*Fitte
 		}
 		return true
 	}
-	w := newLMWork(n, np)
+	w := getLMWork(n, np)
+	defer putLMWork(w)
 	x, best := make([]float64, np), make([]float64, np)
 	bestF := math.Inf(1)
 	if warm != nil {

@@ -2,6 +2,7 @@ package ets
 
 import (
 	"math"
+	"sync"
 
 	"gonum.org/v1/gonum/floats"
 )
@@ -24,14 +25,32 @@ type lmWork struct {
 	free         []bool
 }
 
-func newLMWork(n, p int) *lmWork {
-	return &lmWork{
-		r: make([]float64, n), rt: make([]float64, n), jac: make([]float64, n*p),
-		a: make([]float64, p*p), chol: make([]float64, p*p),
-		g: make([]float64, p), d: make([]float64, p), xt: make([]float64, p), xh: make([]float64, p),
-		free: make([]bool, p),
+// lmPool keeps lmWork buffers between fits: the automatic form search and
+// the validation fit dozens of forms per series.
+var lmPool = sync.Pool{New: func() any { return new(lmWork) }}
+
+// getLMWork returns buffers for n residuals and p parameters from lmPool;
+// putLMWork returns them. levenbergMarquardt writes every buffer before it
+// reads it, so their old contents do not matter.
+func getLMWork(n, p int) *lmWork {
+	w := lmPool.Get().(*lmWork)
+	size := func(s []float64, k int) []float64 {
+		if cap(s) < k {
+			return make([]float64, k)
+		}
+		return s[:k]
 	}
+	w.r, w.rt, w.jac = size(w.r, n), size(w.rt, n), size(w.jac, n*p)
+	w.a, w.chol = size(w.a, p*p), size(w.chol, p*p)
+	w.g, w.d, w.xt, w.xh = size(w.g, p), size(w.d, p), size(w.xt, p), size(w.xh, p)
+	if cap(w.free) < p {
+		w.free = make([]bool, p)
+	}
+	w.free = w.free[:p]
+	return w
 }
+
+func putLMWork(w *lmWork) { lmPool.Put(w) }
 
 func sumSq(r []float64) float64 {
 	s := 0.0
