@@ -186,8 +186,9 @@ type projector interface {
 	// relative tolerance tol where the solver is iterative.
 	apply(y *mat.Dense, tol float64) (*mat.Dense, error)
 	// errorFactor returns the factor of G·W·Gᵀ for the residual
-	// covariance W: exact, or on the large path with the diagonal part of
-	// W represented by seeded Gaussian sample paths.
+	// covariance W: exact, except on the large path when more than paths
+	// nodes have a diagonal part in W (residuals that start late), where
+	// that part is represented by paths seeded Gaussian sample paths.
 	errorFactor(w *errCov, paths int, seed uint64) (*factor, error)
 	// qp returns the quadratic programme of the non-negative projection.
 	qp() (qpProblem, error)
@@ -269,18 +270,28 @@ func (d *denseProjector) apply(y *mat.Dense, _ float64) (*mat.Dense, error) {
 }
 
 func (d *denseProjector) errorFactor(w *errCov, _ int, _ uint64) (*factor, error) {
-	m, n := d.g.Dims()
+	m, _ := d.g.Dims()
 	r := w.rank()
-	// F = [G·diag(√Δ), G·U]: the first block is G with scaled columns.
-	f := mat.NewDense(m, n+r, nil)
+	var late []int
+	for i, v := range w.Delta {
+		if v > 0 {
+			late = append(late, i)
+		}
+	}
+	if len(late)+r == 0 {
+		return &factor{}, nil
+	}
+	// F = [G·diag(√Δ), G·U], the first block only where Δ > 0: G's
+	// columns of those nodes, scaled.
+	f := mat.NewDense(m, len(late)+r, nil)
 	for j := 0; j < m; j++ {
-		for i, v := range w.Delta {
-			f.Set(j, i, d.g.At(j, i)*math.Sqrt(v))
+		for q, i := range late {
+			f.Set(j, q, d.g.At(j, i)*math.Sqrt(w.Delta[i]))
 		}
 	}
 	if r > 0 {
-		gu := f.Slice(0, m, n, n+r).(*mat.Dense)
-		gu.Mul(d.g, mat.NewDense(n, r, w.U))
+		gu := f.Slice(0, m, len(late), len(late)+r).(*mat.Dense)
+		gu.Mul(d.g, mat.NewDense(len(w.Delta), r, w.U))
 	}
 	return &factor{exact: f}, nil
 }

@@ -329,45 +329,71 @@ func (lp *largeProjector) apply(ym *mat.Dense, tol float64) (*mat.Dense, error) 
 	return out, nil
 }
 
-// varianceTol is the relative residual of the solves behind variances:
-// they feed interval widths, where an error of order 1e-4 is far below
-// the sampling error of the paths (a few per cent).
-const varianceTol = 1e-4
-
-// errorFactor returns the exact part G·U and N = paths reconciled sample
-// paths G·diag(√Δ)·z_s/√N, z_s seeded standard normal n-vectors, whose
-// outer products estimate G·diag(Δ)·Gᵀ (Panagiotelis, Gamakumara,
-// Athanasopoulos & Hyndman 2023, "Probabilistic forecast reconciliation:
-// properties, evaluation and score optimisation", EJOR 306(2), §5:
-// reconcile sample paths by the same G). The exact value would need one
-// solve per node; the sampled part is sharpened by a control variate
-// (factorVariance).
+// errorFactor returns the factor of G·W·Gᵀ for the variance covariance
+// W = diag(Δ) + U·Uᵀ (the sample covariance W1: Δ_i = D_i·(1 − T_i/T) is
+// zero for every node with a residual in each period). The rank-T part is
+// exact: the T columns G·U. The diagonal part needs one column
+// G·√Δ_i·e_i per node with Δ_i > 0 (a node whose residuals start late):
+// exact as well while there are at most paths such nodes, which costs no
+// more than the sampled estimate would. Above that, it is estimated from
+// paths reconciled sample paths G·diag(√Δ)·z_s/√paths, z_s seeded
+// standard normal n-vectors, whose outer products estimate
+// G·diag(Δ)·Gᵀ (Panagiotelis, Gamakumara, Athanasopoulos & Hyndman 2023,
+// "Probabilistic forecast reconciliation: properties, evaluation and
+// score optimisation", EJOR 306(2), §5: reconcile sample paths by the
+// same G), sharpened by a control variate (factorVariance). All columns
+// are solved together, to the forecasts' tolerance.
 func (lp *largeProjector) errorFactor(w *errCov, paths int, seed uint64) (*factor, error) {
 	if paths <= 0 {
 		paths = DefaultPaths
 	}
 	T := w.rank()
-	r := T + paths
-	rhs := mat.NewDense(lp.n, r, nil)
-	ctrl := mat.NewDense(lp.m, paths, nil)
-	rng := rand.New(rand.NewPCG(seed, 0x7275e0b))
-	scale := 1 / math.Sqrt(float64(paths))
-	for i := 0; i < lp.n; i++ {
-		for t := 0; t < T; t++ {
-			rhs.Set(i, t, w.U[i*T+t])
-		}
-		s := math.Sqrt(w.Delta[i]) * scale
-		for q := 0; q < paths; q++ {
-			v := s * rng.NormFloat64()
-			rhs.Set(i, T+q, v)
-			if i >= lp.k {
-				ctrl.Set(i-lp.k, q, v)
-			}
+	var late []int
+	for i, d := range w.Delta {
+		if d > 0 {
+			late = append(late, i)
 		}
 	}
-	f, err := lp.apply(rhs, varianceTol)
+	sampled := len(late) > paths
+	extra := len(late)
+	if sampled {
+		extra = paths
+	}
+	r := T + extra
+	rhs := mat.NewDense(lp.n, r, nil)
+	raw := rhs.RawMatrix()
+	for i := 0; i < lp.n; i++ {
+		copy(raw.Data[i*raw.Stride:i*raw.Stride+T], w.U[i*T:(i+1)*T])
+	}
+	var ctrl *mat.Dense
+	if sampled {
+		ctrl = mat.NewDense(lp.m, paths, nil)
+		rng := rand.New(rand.NewPCG(seed, 0x7275e0b))
+		scale := 1 / math.Sqrt(float64(paths))
+		for i := 0; i < lp.n; i++ {
+			s := math.Sqrt(w.Delta[i]) * scale
+			for q := 0; q < paths; q++ {
+				v := s * rng.NormFloat64()
+				rhs.Set(i, T+q, v)
+				if i >= lp.k {
+					ctrl.Set(i-lp.k, q, v)
+				}
+			}
+		}
+	} else {
+		for q, i := range late {
+			rhs.Set(i, T+q, math.Sqrt(w.Delta[i]))
+		}
+	}
+	if r == 0 {
+		return &factor{}, nil
+	}
+	f, err := lp.apply(rhs, solveTol)
 	if err != nil {
 		return nil, err
+	}
+	if !sampled {
+		return &factor{exact: f}, nil
 	}
 	out := &factor{paths: f.Slice(0, lp.m, T, r).(*mat.Dense), ctrl: ctrl, deltaB: w.Delta[lp.k:]}
 	if T > 0 {
