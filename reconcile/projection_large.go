@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"sync"
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
@@ -42,7 +43,8 @@ type largeProjector struct {
 	// is nil and dq is the whole diagonal of Q (Jacobi).
 	dq   []float64
 	core *mat.Cholesky
-	iter int // most iterations any solve of solveQ needed
+	mu   sync.Mutex // guards iter: solves may run concurrently
+	iter int        // most iterations any solve of solveQ needed
 }
 
 func newLargeProjector(st *hierarchy.Structure, w *errCov) (*largeProjector, error) {
@@ -290,9 +292,9 @@ func (lp *largeProjector) solveQ(b []float64, r int, tol float64) ([]float64, er
 			}
 		}
 	}
-	if it > lp.iter {
-		lp.iter = it
-	}
+	lp.mu.Lock()
+	lp.iter = max(lp.iter, it)
+	lp.mu.Unlock()
 	if ndone < r {
 		rn := colNorms(res, r)
 		worst := 0.0
@@ -435,6 +437,8 @@ func (lp *largeProjector) errorFactor(w *errCov, paths int, seed uint64) (*facto
 }
 
 func (lp *largeProjector) notes() map[string]float64 {
+	lp.mu.Lock()
+	defer lp.mu.Unlock()
 	return map[string]float64{"cg_iterations": float64(lp.iter)}
 }
 
