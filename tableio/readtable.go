@@ -160,13 +160,18 @@ func readTablePlainCSV(data []byte) (*Table, bool) {
 	names := bytes.Split(header, []byte{comma})
 	nc := len(names)
 	n := bytes.Count(body, []byte{'\n'}) + 1
+	// A column's type is guessed from its first non-empty field, which
+	// sizes one slice for it; the leading empty fields (nulls) are only
+	// counted until then.
 	type col struct {
-		c  Column
-		in interner
+		c     Column
+		in    interner
+		typed bool
+		lead  int
 	}
 	cols := make([]col, nc)
 	for j, name := range names {
-		cols[j].c = Column{Name: string(name), Type: Float64, Floats: make([]float64, 0, n)}
+		cols[j].c = Column{Name: string(name), Type: Float64}
 	}
 	// toString turns column j, numeric for its first rows rows, into a
 	// String column by reading those rows' text again.
@@ -209,11 +214,31 @@ func readTablePlainCSV(data []byte) (*Table, bool) {
 				}
 				f = line
 			}
-			c := &cols[j].c
+			cj := &cols[j]
+			c := &cj.c
 			if len(f) == 0 {
+				if !cj.typed {
+					cj.lead++
+					if c.Null == nil {
+						c.Null = make([]bool, n)
+					}
+					c.Null[rows] = true
+					continue
+				}
 				c.appendZero()
 				setNull(c, rows, n)
 				continue
+			}
+			if !cj.typed {
+				cj.typed = true
+				if _, err := strconv.ParseFloat(string(f), 64); err == nil {
+					c.Floats = make([]float64, cj.lead, n)
+					for i := range c.Floats {
+						c.Floats[i] = math.NaN()
+					}
+				} else {
+					c.Type, c.Strings = String, make([]string, cj.lead, n)
+				}
 			}
 			if c.Type == Float64 {
 				// string(f) of a short field does not allocate: it
@@ -234,11 +259,14 @@ func readTablePlainCSV(data []byte) (*Table, bool) {
 	t := &Table{Columns: make([]Column, nc)}
 	for j := range cols {
 		c := cols[j].c
+		if !cols[j].typed { // every field empty: all null numbers
+			c.Floats = make([]float64, rows)
+			for i := range c.Floats {
+				c.Floats[i] = math.NaN()
+			}
+		}
 		if c.Null != nil {
 			c.Null = c.Null[:rows:rows]
-		}
-		if c.Type == Float64 && rows == 0 {
-			c.Floats = []float64{}
 		}
 		t.Columns[j] = c
 	}
