@@ -71,6 +71,24 @@ func LoadTables(ts Tables) (*BaseSet, error) {
 	for _, ch := range ts.Chains {
 		attrs = append(attrs, ch...)
 	}
+	// The residuals table is read and arranged beside the base table, on
+	// the other core; its errors count only after the base table's.
+	type loaded struct {
+		t   *nodeTable
+		err error
+	}
+	resDone := make(chan loaded, 1)
+	if ts.Residuals != "" {
+		go func() {
+			rt, err := tableio.ReadTable(ts.Residuals, ts.Format)
+			if err != nil {
+				resDone <- loaded{err: err}
+				return
+			}
+			res, err := newNodeTable(ts.Residuals, rt, attrs, "residual")
+			resDone <- loaded{res, err}
+		}()
+	}
 	baseT, err := tableio.ReadTable(ts.Base, ts.Format)
 	if err != nil {
 		return nil, err
@@ -95,14 +113,11 @@ func LoadTables(ts Tables) (*BaseSet, error) {
 		}
 	}
 	if ts.Residuals != "" {
-		rt, err := tableio.ReadTable(ts.Residuals, ts.Format)
-		if err != nil {
-			return nil, err
+		r := <-resDone
+		if r.err != nil {
+			return nil, r.err
 		}
-		res, err := newNodeTable(ts.Residuals, rt, attrs, "residual")
-		if err != nil {
-			return nil, err
-		}
+		res := r.t
 		if err := res.remap(base.dicts); err != nil {
 			return nil, err
 		}

@@ -69,8 +69,10 @@ type Reconciliation struct {
 	// means automatic: on for mint when the history has no negative value
 	// (sales cannot be negative), off otherwise.
 	Nonnegative *bool
-	// Paths is the number of seeded sample paths behind mint's interval
-	// widths on large structures; 0 means reconcile.DefaultPaths.
+	// Paths bounds the cost of mint's interval widths on large structures
+	// (see reconcile.Problem.Paths): they are exact while at most Paths
+	// nodes have residuals that start late, and partly estimated from
+	// Paths seeded sample paths above; 0 means reconcile.DefaultPaths.
 	Paths int
 	// Origins is the number of backtest origins behind Method "auto"
 	// (AutoMethod: the method is chosen by a short backtest of the

@@ -41,8 +41,11 @@ type Problem struct {
 	// picks dense algebra up to DenseMaxNodes nodes and the large-n path
 	// above.
 	Solver Solver
-	// Paths is the number of Gaussian sample paths the large-n projection
-	// path uses for the diagonal part of the variance (0: DefaultPaths).
+	// Paths bounds the cost of the variances on the large-n projection
+	// path (0: DefaultPaths). The sample covariance W1 behind variances
+	// has a diagonal part only at nodes whose residuals start late; up to
+	// Paths such nodes it is computed exactly (one extra solved column
+	// each), above that it is estimated from Paths Gaussian sample paths.
 	Paths int
 	// Seed seeds those paths (any fixed value gives identical output).
 	Seed uint64
@@ -61,15 +64,15 @@ const (
 )
 
 // DenseMaxNodes is the largest structure SolverAuto reconciles with dense
-// algebra, which gives exact variances. Dense needs O(n²) memory and
-// O(n³) time: at n = 1,971 it takes about 18 times as long as the large-n
-// path (BenchmarkMinT), whose variances are partly sampled.
+// algebra. Dense needs O(n²) memory and O(n³) time: at n = 1,971 it takes
+// many times as long as the large-n path (BenchmarkMinT), whose variances
+// are as exact (see Problem.Paths for the one exception).
 const DenseMaxNodes = 600
 
-// DefaultPaths is the number of sample paths used when Problem.Paths is 0.
-// At n = 1,971 (BenchmarkMinT's structure) 200 paths give standard
-// deviations within 2.5% of the exact ones for half the nodes and within
-// 6% for nine in ten; the error shrinks as 1/√paths.
+// DefaultPaths is Problem.Paths when it is 0: up to 200 nodes whose
+// residuals start late, variances are exact; above, the late nodes' part
+// of each variance is estimated from 200 sample paths, whose error shrinks
+// as 1/√paths.
 const DefaultPaths = 200
 
 // Solution is a coherent forecast.

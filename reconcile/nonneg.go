@@ -18,9 +18,10 @@ type qpProblem interface {
 	linear(y []float64) []float64
 	// mul sets dst = P·v.
 	mul(dst, v []float64)
-	// solveFree solves P_FF·x_F = rhs_F with x = 0 off the free set;
-	// x0, when not nil, is a starting guess for iterative solvers.
-	solveFree(free []bool, rhs, x0 []float64) ([]float64, error)
+	// solveFree solves P_FF·x_F = rhs_F with x = 0 off the free set,
+	// where rhs = linear(y); x0, when not nil, is a starting guess for
+	// iterative solvers.
+	solveFree(free []bool, rhs, y, x0 []float64) ([]float64, error)
 }
 
 // nonnegative returns, column by column, the minimizer of the
@@ -112,7 +113,7 @@ func activeSet(qp qpProblem, y, start []float64) ([]float64, error) {
 	fewest, backup := m+1, 3
 	var infeasible []int
 	for iter := 0; iter < 3*m+10; iter++ {
-		s, err := qp.solveFree(free, q, x)
+		s, err := qp.solveFree(free, q, y, x)
 		if err != nil {
 			return nil, err
 		}
@@ -168,7 +169,7 @@ func (q denseQP) mul(dst, v []float64) {
 	mat.NewVecDense(len(dst), dst).MulVec(q.d.p, mat.NewVecDense(len(v), v))
 }
 
-func (q denseQP) solveFree(free []bool, rhs, _ []float64) ([]float64, error) {
+func (q denseQP) solveFree(free []bool, rhs, _, _ []float64) ([]float64, error) {
 	var idx []int
 	for j, f := range free {
 		if f {

@@ -103,3 +103,47 @@ func abs(x float64) float64 {
 	}
 	return x
 }
+
+// TestNonnegativeLargeAgrees: at about 2,000 nodes, with bottom series
+// pushed below zero at different steps, the large path's restricted
+// solves (constraint form) give the dense path's non-negative answer.
+func TestNonnegativeLargeAgrees(t *testing.T) {
+	st := retail(t, 2, 3, 2, 4, 26) // 1,971 nodes, 1,248 bottom
+	p := problemFor(st, 60, 3, 41)
+	off := st.BottomOffset()
+	for j := 0; j < st.NumBottom(); j += 7 {
+		p.Base[off+j][j%3] = -40
+	}
+	p.Nonnegative = true
+	p.Solver = SolverDense
+	d, err := Projection{Cov: CovShrink}.Reconcile(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p.Solver = SolverLarge
+	l, err := Projection{Cov: CovShrink}.Reconcile(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	zeros := 0
+	for j := range d.Bottom {
+		for k, v := range d.Bottom[j] {
+			if v == 0 {
+				zeros++
+			}
+			if l.Bottom[j][k] < 0 {
+				t.Fatalf("bottom %d step %d negative: %g", j, k+1, l.Bottom[j][k])
+			}
+		}
+	}
+	if zeros == 0 {
+		t.Fatal("test does not exercise the constraint")
+	}
+	for i := range d.Forecast {
+		for k := range d.Forecast[i] {
+			if relDiff(l.Forecast[i][k], d.Forecast[i][k]) > 1e-7 {
+				t.Errorf("%s step %d: dense %g large %g", st.Label(i), k+1, d.Forecast[i][k], l.Forecast[i][k])
+			}
+		}
+	}
+}

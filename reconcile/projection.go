@@ -137,6 +137,23 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 	if err != nil {
 		return Solution{}, err
 	}
+	// The variances need only G, not the forecasts: they are solved in
+	// a goroutine of their own, beside the forecasts.
+	type variances struct {
+		v     [][]float64
+		paths int
+		err   error
+	}
+	vdone := make(chan variances, 1)
+	if p.wantVariance() {
+		go func() {
+			var out variances
+			out.v, out.paths, out.err = projectionVariance(&p, g, h)
+			vdone <- out
+		}()
+	} else {
+		vdone <- variances{}
+	}
 	base := mat.NewDense(n, h, nil)
 	for i, row := range p.Base {
 		base.SetRow(i, row)
@@ -147,32 +164,20 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 	} else {
 		bottom, err = g.apply(base, solveTol)
 	}
+	vr := <-vdone
 	if err != nil {
 		return Solution{}, err
+	}
+	if vr.err != nil {
+		return Solution{}, vr.err
 	}
 	sol := coherent(p.Structure, denseRows(bottom))
 	if errc != nil {
 		sol.Notes["lambda"] = errc.lambda
 	}
-	if p.wantVariance() {
-		vc, err := p.varianceCov()
-		if err != nil {
-			return Solution{}, err
-		}
-		f, err := g.errorFactor(vc, p.Paths, p.Seed)
-		if err != nil {
-			return Solution{}, err
-		}
-		off := p.Structure.BottomOffset()
-		bidx := make([]int, p.Structure.NumBottom())
-		for j := range bidx {
-			bidx[j] = off + j
-		}
-		sol.Variance = factorVariance(p.Structure, growth(&p, vc, bidx, h), f)
-		if f.ctrl != nil {
-			_, paths := f.ctrl.Dims()
-			sol.Notes["variance_paths"] = float64(paths)
-		}
+	sol.Variance = vr.v
+	if vr.paths > 0 {
+		sol.Notes["variance_paths"] = float64(vr.paths)
 	}
 	for k, v := range g.notes() {
 		sol.Notes[k] = v
@@ -180,14 +185,40 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 	return sol, nil
 }
 
-// projector applies G for one choice of W.
+// projectionVariance returns the reconciled variances of a projection
+// (see Solution.Variance) and the number of sample paths behind them (0
+// when exact).
+func projectionVariance(p *Problem, g projector, h int) ([][]float64, int, error) {
+	vc, err := p.varianceCov()
+	if err != nil {
+		return nil, 0, err
+	}
+	f, err := g.errorFactor(vc, p.Paths, p.Seed)
+	if err != nil {
+		return nil, 0, err
+	}
+	off := p.Structure.BottomOffset()
+	bidx := make([]int, p.Structure.NumBottom())
+	for j := range bidx {
+		bidx[j] = off + j
+	}
+	paths := 0
+	if f.ctrl != nil {
+		_, paths = f.ctrl.Dims()
+	}
+	return factorVariance(p.Structure, growth(p, vc, bidx, h), f), paths, nil
+}
+
+// projector applies G for one choice of W. Its methods may be called
+// from concurrent goroutines.
 type projector interface {
 	// apply returns G·Y for Y with n rows (any number of columns), to a
 	// relative tolerance tol where the solver is iterative.
 	apply(y *mat.Dense, tol float64) (*mat.Dense, error)
 	// errorFactor returns the factor of G·W·Gᵀ for the residual
-	// covariance W: exact, or on the large path with the diagonal part of
-	// W represented by seeded Gaussian sample paths.
+	// covariance W: exact, except on the large path when more than paths
+	// nodes have a diagonal part in W (residuals that start late), where
+	// that part is represented by paths seeded Gaussian sample paths.
 	errorFactor(w *errCov, paths int, seed uint64) (*factor, error)
 	// qp returns the quadratic programme of the non-negative projection.
 	qp() (qpProblem, error)
@@ -269,18 +300,28 @@ func (d *denseProjector) apply(y *mat.Dense, _ float64) (*mat.Dense, error) {
 }
 
 func (d *denseProjector) errorFactor(w *errCov, _ int, _ uint64) (*factor, error) {
-	m, n := d.g.Dims()
+	m, _ := d.g.Dims()
 	r := w.rank()
-	// F = [G·diag(√Δ), G·U]: the first block is G with scaled columns.
-	f := mat.NewDense(m, n+r, nil)
+	var late []int
+	for i, v := range w.Delta {
+		if v > 0 {
+			late = append(late, i)
+		}
+	}
+	if len(late)+r == 0 {
+		return &factor{}, nil
+	}
+	// F = [G·diag(√Δ), G·U], the first block only where Δ > 0: G's
+	// columns of those nodes, scaled.
+	f := mat.NewDense(m, len(late)+r, nil)
 	for j := 0; j < m; j++ {
-		for i, v := range w.Delta {
-			f.Set(j, i, d.g.At(j, i)*math.Sqrt(v))
+		for q, i := range late {
+			f.Set(j, q, d.g.At(j, i)*math.Sqrt(w.Delta[i]))
 		}
 	}
 	if r > 0 {
-		gu := f.Slice(0, m, n, n+r).(*mat.Dense)
-		gu.Mul(d.g, mat.NewDense(n, r, w.U))
+		gu := f.Slice(0, m, len(late), len(late)+r).(*mat.Dense)
+		gu.Mul(d.g, mat.NewDense(len(w.Delta), r, w.U))
 	}
 	return &factor{exact: f}, nil
 }

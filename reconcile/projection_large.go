@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"sync"
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
@@ -42,8 +43,8 @@ type largeProjector struct {
 	// is nil and dq is the whole diagonal of Q (Jacobi).
 	dq   []float64
 	core *mat.Cholesky
-	iter int       // most iterations any solve needed
-	tmp  []float64 // k × r scratch of precond
+	mu   sync.Mutex // guards iter: solves may run concurrently
+	iter int        // most iterations any solve of solveQ needed
 }
 
 func newLargeProjector(st *hierarchy.Structure, w *errCov) (*largeProjector, error) {
@@ -118,6 +119,15 @@ func (lp *largeProjector) ucMul(dst, z []float64, r int) {
 	k := lp.k
 	copy(dst[:k*r], z)
 	clear(dst[k*r:])
+	if r == 1 {
+		for a := 0; a < k; a++ {
+			za := z[a]
+			for _, j := range lp.st.S.Row(a) {
+				dst[k+j] -= za
+			}
+		}
+		return
+	}
 	for a := 0; a < k; a++ {
 		za := z[a*r : (a+1)*r]
 		for _, j := range lp.st.S.Row(a) {
@@ -130,6 +140,16 @@ func (lp *largeProjector) ucMul(dst, z []float64, r int) {
 func (lp *largeProjector) ucTMul(dst, v []float64, r int) {
 	k := lp.k
 	copy(dst, v[:k*r])
+	if r == 1 {
+		for a := 0; a < k; a++ {
+			s := dst[a]
+			for _, j := range lp.st.S.Row(a) {
+				s -= v[k+j]
+			}
+			dst[a] = s
+		}
+		return
+	}
 	for a := 0; a < k; a++ {
 		d := dst[a*r : (a+1)*r]
 		for _, j := range lp.st.S.Row(a) {
@@ -156,8 +176,9 @@ func (lp *largeProjector) qMul(dst, z, scratch, small []float64, r int) {
 }
 
 // precond sets dst = (D0 + Y·Yᵀ)⁻¹·v by the Woodbury identity:
-// D0⁻¹v − D0⁻¹Y·(I + YᵀD0⁻¹Y)⁻¹·YᵀD0⁻¹v.
-func (lp *largeProjector) precond(dst, v, small []float64, inv []float64, r int) {
+// D0⁻¹v − D0⁻¹Y·(I + YᵀD0⁻¹Y)⁻¹·YᵀD0⁻¹v, with scratch small (T × r) and
+// tmp (k × r).
+func (lp *largeProjector) precond(dst, v, small, tmp []float64, inv []float64, r int) {
 	for a := 0; a < lp.k; a++ {
 		f := inv[a]
 		for q := a * r; q < (a+1)*r; q++ {
@@ -168,6 +189,19 @@ func (lp *largeProjector) precond(dst, v, small []float64, inv []float64, r int)
 		return
 	}
 	T := lp.y.Cols
+	if r == 1 { // the same with matrix-vector products
+		sv := blas64.Vector{N: T, Inc: 1, Data: small}
+		blas64.Gemv(blas.Trans, 1, lp.y, blas64.Vector{N: lp.k, Inc: 1, Data: dst}, 0, sv)
+		x := mat.NewVecDense(T, small)
+		if err := lp.core.SolveVecTo(x, x); err != nil {
+			panic("reconcile: preconditioner solve: " + err.Error())
+		}
+		blas64.Gemv(blas.NoTrans, 1, lp.y, sv, 0, blas64.Vector{N: lp.k, Inc: 1, Data: tmp})
+		for a, f := range inv {
+			dst[a] -= f * tmp[a]
+		}
+		return
+	}
 	dm := blas64.General{Rows: lp.k, Cols: r, Stride: r, Data: dst}
 	sm := blas64.General{Rows: T, Cols: r, Stride: r, Data: small}
 	blas64.Gemm(blas.Trans, blas.NoTrans, 1, lp.y, dm, 0, sm)
@@ -175,7 +209,7 @@ func (lp *largeProjector) precond(dst, v, small []float64, inv []float64, r int)
 	if err := lp.core.SolveTo(x, x); err != nil {
 		panic("reconcile: preconditioner solve: " + err.Error())
 	}
-	tmp := lp.tmp[:lp.k*r]
+	tmp = tmp[:lp.k*r]
 	tm := blas64.General{Rows: lp.k, Cols: r, Stride: r, Data: tmp}
 	blas64.Gemm(blas.NoTrans, blas.NoTrans, 1, lp.y, blas64.General{Rows: T, Cols: r, Stride: r, Data: x.RawMatrix().Data}, 0, tm)
 	for a := 0; a < lp.k; a++ {
@@ -207,7 +241,7 @@ func (lp *largeProjector) solveQ(b []float64, r int, tol float64) ([]float64, er
 		T = lp.y.Cols
 	}
 	small := make([]float64, T*r)
-	lp.tmp = make([]float64, k*r)
+	tmp := make([]float64, k*r)
 	inv := make([]float64, k)
 	for a := range inv {
 		inv[a] = 1 / lp.dq[a]
@@ -222,7 +256,7 @@ func (lp *largeProjector) solveQ(b []float64, r int, tol float64) ([]float64, er
 			ndone++
 		}
 	}
-	lp.precond(z, res, small, inv, r)
+	lp.precond(z, res, small, tmp, inv, r)
 	copy(p, z)
 	colDots(rz, res, z, r)
 	pq := make([]float64, r)
@@ -247,7 +281,7 @@ func (lp *largeProjector) solveQ(b []float64, r int, tol float64) ([]float64, er
 				ndone++
 			}
 		}
-		lp.precond(z, res, small, inv, r)
+		lp.precond(z, res, small, tmp, inv, r)
 		old := append([]float64(nil), rz...)
 		colDots(rz, res, z, r)
 		for a := 0; a < k; a++ {
@@ -258,9 +292,9 @@ func (lp *largeProjector) solveQ(b []float64, r int, tol float64) ([]float64, er
 			}
 		}
 	}
-	if it > lp.iter {
-		lp.iter = it
-	}
+	lp.mu.Lock()
+	lp.iter = max(lp.iter, it)
+	lp.mu.Unlock()
 	if ndone < r {
 		rn := colNorms(res, r)
 		worst := 0.0
@@ -329,45 +363,71 @@ func (lp *largeProjector) apply(ym *mat.Dense, tol float64) (*mat.Dense, error) 
 	return out, nil
 }
 
-// varianceTol is the relative residual of the solves behind variances:
-// they feed interval widths, where an error of order 1e-4 is far below
-// the sampling error of the paths (a few per cent).
-const varianceTol = 1e-4
-
-// errorFactor returns the exact part G·U and N = paths reconciled sample
-// paths G·diag(√Δ)·z_s/√N, z_s seeded standard normal n-vectors, whose
-// outer products estimate G·diag(Δ)·Gᵀ (Panagiotelis, Gamakumara,
-// Athanasopoulos & Hyndman 2023, "Probabilistic forecast reconciliation:
-// properties, evaluation and score optimisation", EJOR 306(2), §5:
-// reconcile sample paths by the same G). The exact value would need one
-// solve per node; the sampled part is sharpened by a control variate
-// (factorVariance).
+// errorFactor returns the factor of G·W·Gᵀ for the variance covariance
+// W = diag(Δ) + U·Uᵀ (the sample covariance W1: Δ_i = D_i·(1 − T_i/T) is
+// zero for every node with a residual in each period). The rank-T part is
+// exact: the T columns G·U. The diagonal part needs one column
+// G·√Δ_i·e_i per node with Δ_i > 0 (a node whose residuals start late):
+// exact as well while there are at most paths such nodes, which costs no
+// more than the sampled estimate would. Above that, it is estimated from
+// paths reconciled sample paths G·diag(√Δ)·z_s/√paths, z_s seeded
+// standard normal n-vectors, whose outer products estimate
+// G·diag(Δ)·Gᵀ (Panagiotelis, Gamakumara, Athanasopoulos & Hyndman 2023,
+// "Probabilistic forecast reconciliation: properties, evaluation and
+// score optimisation", EJOR 306(2), §5: reconcile sample paths by the
+// same G), sharpened by a control variate (factorVariance). All columns
+// are solved together, to the forecasts' tolerance.
 func (lp *largeProjector) errorFactor(w *errCov, paths int, seed uint64) (*factor, error) {
 	if paths <= 0 {
 		paths = DefaultPaths
 	}
 	T := w.rank()
-	r := T + paths
-	rhs := mat.NewDense(lp.n, r, nil)
-	ctrl := mat.NewDense(lp.m, paths, nil)
-	rng := rand.New(rand.NewPCG(seed, 0x7275e0b))
-	scale := 1 / math.Sqrt(float64(paths))
-	for i := 0; i < lp.n; i++ {
-		for t := 0; t < T; t++ {
-			rhs.Set(i, t, w.U[i*T+t])
-		}
-		s := math.Sqrt(w.Delta[i]) * scale
-		for q := 0; q < paths; q++ {
-			v := s * rng.NormFloat64()
-			rhs.Set(i, T+q, v)
-			if i >= lp.k {
-				ctrl.Set(i-lp.k, q, v)
-			}
+	var late []int
+	for i, d := range w.Delta {
+		if d > 0 {
+			late = append(late, i)
 		}
 	}
-	f, err := lp.apply(rhs, varianceTol)
+	sampled := len(late) > paths
+	extra := len(late)
+	if sampled {
+		extra = paths
+	}
+	r := T + extra
+	rhs := mat.NewDense(lp.n, r, nil)
+	raw := rhs.RawMatrix()
+	for i := 0; i < lp.n; i++ {
+		copy(raw.Data[i*raw.Stride:i*raw.Stride+T], w.U[i*T:(i+1)*T])
+	}
+	var ctrl *mat.Dense
+	if sampled {
+		ctrl = mat.NewDense(lp.m, paths, nil)
+		rng := rand.New(rand.NewPCG(seed, 0x7275e0b))
+		scale := 1 / math.Sqrt(float64(paths))
+		for i := 0; i < lp.n; i++ {
+			s := math.Sqrt(w.Delta[i]) * scale
+			for q := 0; q < paths; q++ {
+				v := s * rng.NormFloat64()
+				rhs.Set(i, T+q, v)
+				if i >= lp.k {
+					ctrl.Set(i-lp.k, q, v)
+				}
+			}
+		}
+	} else {
+		for q, i := range late {
+			rhs.Set(i, T+q, math.Sqrt(w.Delta[i]))
+		}
+	}
+	if r == 0 {
+		return &factor{}, nil
+	}
+	f, err := lp.apply(rhs, solveTol)
 	if err != nil {
 		return nil, err
+	}
+	if !sampled {
+		return &factor{exact: f}, nil
 	}
 	out := &factor{paths: f.Slice(0, lp.m, T, r).(*mat.Dense), ctrl: ctrl, deltaB: w.Delta[lp.k:]}
 	if T > 0 {
@@ -377,14 +437,15 @@ func (lp *largeProjector) errorFactor(w *errCov, paths int, seed uint64) (*facto
 }
 
 func (lp *largeProjector) notes() map[string]float64 {
+	lp.mu.Lock()
+	defer lp.mu.Unlock()
 	return map[string]float64{"cg_iterations": float64(lp.iter)}
 }
 
 // qp implements projector for the large path: P = SᵀW⁻¹S applied with
 // W⁻¹ = Δ⁻¹ − Δ⁻¹U·K⁻¹·UᵀΔ⁻¹, K = I + UᵀΔ⁻¹U (the Woodbury identity),
-// and restricted solves by conjugate gradients preconditioned with the
-// exact diagonal of P, diag(P)_j = Σ_{i∋j} 1/Δ_i − ‖L⁻¹V_j‖² with
-// V = SᵀΔ⁻¹U and K = L·Lᵀ, computed in O(nnz(S)·T + mT²).
+// for q and for the optimality check; restricted solves in the constraint
+// form (largeQP.solveFree).
 func (lp *largeProjector) qp() (qpProblem, error) {
 	w := lp.w
 	for i, d := range w.Delta {
@@ -392,61 +453,40 @@ func (lp *largeProjector) qp() (qpProblem, error) {
 			return nil, inputerr.New("non-negative reconciliation needs W⁻¹, and W is singular at %s; use the shrink covariance", lp.st.Label(i))
 		}
 	}
-	q := &largeQP{lp: lp, T: w.rank(), diag: make([]float64, lp.m)}
-	for i := 0; i < lp.n; i++ {
-		for _, j := range lp.st.S.Row(i) {
-			q.diag[j] += 1 / w.Delta[i]
-		}
-	}
+	q := &largeQP{lp: lp, T: w.rank()}
 	T := q.T
 	if T == 0 {
 		return q, nil
 	}
 	q.u = blas64.General{Rows: lp.n, Cols: T, Stride: T, Data: w.U}
 	ud := blas64.General{Rows: lp.n, Cols: T, Stride: T, Data: make([]float64, lp.n*T)}
-	v := make([]float64, lp.m*T) // V = SᵀΔ⁻¹U, m × T
 	for i := 0; i < lp.n; i++ {
-		f := 1 / w.Delta[i]
-		src := w.U[i*T : (i+1)*T]
-		floats.ScaleTo(ud.Data[i*T:(i+1)*T], 1/math.Sqrt(w.Delta[i]), src)
-		for _, j := range lp.st.S.Row(i) {
-			floats.AddScaled(v[j*T:(j+1)*T], f, src)
-		}
+		floats.ScaleTo(ud.Data[i*T:(i+1)*T], 1/math.Sqrt(w.Delta[i]), w.U[i*T:(i+1)*T])
 	}
 	var ok bool
 	if q.k, ok = identityPlusGram(ud); !ok {
 		return nil, fmt.Errorf("reconcile: I + UᵀΔ⁻¹U not positive definite")
-	}
-	var l mat.TriDense
-	q.k.LTo(&l)
-	vt := mat.NewDense(lp.m, T, v)
-	var lv mat.Dense // (L⁻¹·Vᵀ)ᵀ = V·L⁻ᵀ
-	if err := lv.Solve(&l, vt.T()); err != nil {
-		return nil, fmt.Errorf("reconcile: Woodbury core solve: %w", err)
-	}
-	for j := 0; j < lp.m; j++ {
-		c := lv.ColView(j)
-		q.diag[j] -= mat.Dot(c, c)
-	}
-	for j, d := range q.diag {
-		if !(d > 0) {
-			return nil, fmt.Errorf("reconcile: diagonal of SᵀW⁻¹S not positive at bottom %d", j)
-		}
 	}
 	q.s = make([]float64, T)
 	return q, nil
 }
 
 type largeQP struct {
-	lp   *largeProjector
-	T    int
-	u    blas64.General // U, n × T
-	k    *mat.Cholesky  // K = I + UᵀΔ⁻¹U
-	diag []float64      // diag(P)
-	s    []float64      // T scratch
-	t1   []float64      // n scratch
-	t2   []float64      // n scratch
-	t3   []float64      // n scratch
+	lp *largeProjector
+	T  int
+	u  blas64.General // U, n × T
+	k  *mat.Cholesky  // K = I + UᵀΔ⁻¹U
+	s  []float64      // T scratch
+	t1 []float64      // n scratch
+	t2 []float64      // n scratch
+	t3 []float64      // n scratch
+	// warm keeps the constraint-form solution of the last restricted
+	// solve and the forecast column it was for: the next solve of the
+	// same column starts from it.
+	warm struct {
+		y []float64
+		x []float64
+	}
 }
 
 // winv sets dst = W⁻¹·v (n-vectors).
@@ -489,63 +529,163 @@ func (q *largeQP) mul(dst, v []float64) {
 	q.lp.st.S.MulTransVec(dst, q.t3)
 }
 
-// solveFree solves P_FF·x_F = rhs_F by conjugate gradients started from
-// x0 (restricted to the free set), which the active-set method supplies
-// as its current point, so that consecutive solves start close.
-func (q *largeQP) solveFree(free []bool, rhs, x0 []float64) ([]float64, error) {
-	m := len(free)
-	mask := func(v []float64) {
-		for j := range v {
-			if !free[j] {
-				v[j] = 0
+// solveFree solves the projection restricted to the free bottom series in
+// the constraint form of largeProjector, with the bound ones as further
+// constraints: with A the bound set and E_A its bottom unit vectors
+// (n × |A|), V = [Uc, E_A] and
+//
+//	ỹ = y − W·V·(VᵀWV)⁻¹·Vᵀy
+//
+// ỹ is the W⁻¹-projection of y onto the coherent forecasts whose bottom
+// series in A are zero, so its bottom rows are the minimizer of ½bᵀPb − qᵀb
+// with b_A = 0 (the same argument as for Uc alone). VᵀWV (k + |A| square)
+// is solved by conjugate gradients preconditioned block-diagonally: the
+// Woodbury preconditioner of Q for the Uc block, the diagonal of W_AA for
+// the other; like Q, it is applied through Y = UcᵀU and the rows U_A, so
+// that no product costs more than the sparse S and k × T. The unknowns
+// are held as a (k + m)-vector, zero off A.
+func (q *largeQP) solveFree(free []bool, _, y, _ []float64) ([]float64, error) {
+	lp := q.lp
+	k, m, n := lp.k, lp.m, lp.n
+	d := lp.w.Delta
+	T := q.T
+	u := lp.w.U
+	bound := func(v []float64) { // zero the μ part off A
+		for j, f := range free {
+			if f {
+				v[k+j] = 0
 			}
 		}
 	}
-	x := make([]float64, m)
-	if x0 != nil {
-		copy(x, x0)
-		mask(x)
+	vn := make([]float64, n)
+	small := make([]float64, T)
+	// mulV sets dst = VᵀWV·x.
+	mulV := func(dst, x []float64) {
+		lp.ucMul(vn, x[:k], 1)
+		for j, f := range free {
+			if !f {
+				vn[k+j] += x[k+j]
+			}
+		}
+		for i, di := range d {
+			vn[i] *= di
+		}
+		lp.ucTMul(dst[:k], vn, 1)
+		for j, f := range free {
+			dst[k+j] = 0
+			if !f {
+				dst[k+j] = vn[k+j]
+			}
+		}
+		if T == 0 {
+			return
+		}
+		// Uᵀ·V·x = Yᵀ·x_k + U_Aᵀ·x_A, then add [Y; U_A]·that.
+		sv := blas64.Vector{N: T, Inc: 1, Data: small}
+		blas64.Gemv(blas.Trans, 1, lp.y, blas64.Vector{N: k, Inc: 1, Data: x[:k]}, 0, sv)
+		for j, f := range free {
+			if !f {
+				floats.AddScaled(small, x[k+j], u[(k+j)*T:(k+j+1)*T])
+			}
+		}
+		blas64.Gemv(blas.NoTrans, 1, lp.y, sv, 1, blas64.Vector{N: k, Inc: 1, Data: dst[:k]})
+		for j, f := range free {
+			if !f {
+				dst[k+j] += floats.Dot(u[(k+j)*T:(k+j+1)*T], small)
+			}
+		}
 	}
-	r := make([]float64, m)
-	q.mul(r, x)
-	for j := range r {
-		r[j] = rhs[j] - r[j]
+	tmp := make([]float64, k)
+	inv := make([]float64, k)
+	for a := range inv {
+		inv[a] = 1 / lp.dq[a]
 	}
-	mask(r)
-	b := append([]float64(nil), rhs...)
-	mask(b)
+	wdiag := make([]float64, m) // 1 / W_jj of the bottom series
+	for j := range wdiag {
+		v := d[k+j]
+		if T > 0 {
+			r := u[(k+j)*T : (k+j+1)*T]
+			v += floats.Dot(r, r)
+		}
+		wdiag[j] = 1 / v
+	}
+	pre := func(dst, r []float64) {
+		lp.precond(dst[:k], r[:k], small, tmp, inv, 1)
+		for j, f := range free {
+			dst[k+j] = 0
+			if !f {
+				dst[k+j] = wdiag[j] * r[k+j]
+			}
+		}
+	}
+	b := make([]float64, k+m) // Vᵀy
+	lp.ucTMul(b[:k], y, 1)
+	for j, f := range free {
+		if !f {
+			b[k+j] = y[k+j]
+		}
+	}
+	x := make([]float64, k+m)
+	if len(q.warm.y) > 0 && &q.warm.y[0] == &y[0] {
+		copy(x, q.warm.x)
+		bound(x)
+	}
+	res := make([]float64, k+m)
+	mulV(res, x)
+	for i := range res {
+		res[i] = b[i] - res[i]
+	}
 	bn := math.Sqrt(dot(b, b))
-	if bn == 0 {
-		return make([]float64, m), nil
-	}
-	z := make([]float64, m)
-	for j := range z {
-		z[j] = r[j] / q.diag[j]
-	}
-	p := append([]float64(nil), z...)
-	ap := make([]float64, m)
-	rz := dot(r, z)
-	for it := 0; it < maxCGIter; it++ {
-		if math.Sqrt(dot(r, r)) <= solveTol*bn {
-			return x, nil
-		}
-		q.mul(ap, p)
-		mask(ap)
-		alpha := rz / dot(p, ap)
-		for j := range x {
-			x[j] += alpha * p[j]
-			r[j] -= alpha * ap[j]
-		}
-		for j := range z {
-			z[j] = r[j] / q.diag[j]
-		}
-		old := rz
-		rz = dot(r, z)
-		for j := range p {
-			p[j] = z[j] + rz/old*p[j]
+	z := make([]float64, k+m)
+	ap := make([]float64, k+m)
+	if bn > 0 {
+		pre(z, res)
+		p := append([]float64(nil), z...)
+		rz := dot(res, z)
+		for it := 0; math.Sqrt(dot(res, res)) > solveTol*bn; it++ {
+			if it == maxCGIter {
+				return nil, fmt.Errorf("conjugate gradients did not converge in %d iterations", maxCGIter)
+			}
+			mulV(ap, p)
+			alpha := rz / dot(p, ap)
+			floats.AddScaled(x, alpha, p)
+			floats.AddScaled(res, -alpha, ap)
+			pre(z, res)
+			old := rz
+			rz = dot(res, z)
+			for i := range p {
+				p[i] = z[i] + rz/old*p[i]
+			}
 		}
 	}
-	return nil, fmt.Errorf("conjugate gradients did not converge in %d iterations", maxCGIter)
+	q.warm.y, q.warm.x = y, x
+	// Bottom rows of ỹ = y − W·V·x.
+	lp.ucMul(vn, x[:k], 1)
+	for j, f := range free {
+		if !f {
+			vn[k+j] += x[k+j]
+		}
+	}
+	out := make([]float64, m)
+	if T > 0 {
+		clear(small)
+		for i := 0; i < n; i++ {
+			if vn[i] != 0 {
+				floats.AddScaled(small, vn[i], u[i*T:(i+1)*T])
+			}
+		}
+	}
+	for j := range out {
+		if !free[j] {
+			continue // zero by its constraint
+		}
+		v := y[k+j] - d[k+j]*vn[k+j]
+		if T > 0 {
+			v -= floats.Dot(u[(k+j)*T:(k+j+1)*T], small)
+		}
+		out[j] = v
+	}
+	return out, nil
 }
 
 func dot(a, b []float64) float64 { return floats.Dot(a, b) }

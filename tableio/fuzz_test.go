@@ -1,6 +1,7 @@
 package tableio
 
 import (
+	"bytes"
 	"math/rand/v2"
 	"os"
 	"strconv"
@@ -165,4 +166,60 @@ func TestDamagedFilesAreInputErrors(t *testing.T) {
 			}()
 		}
 	}
+}
+
+// FuzzReadTablePlainCSV: wherever the one-pass reader of plain CSV files
+// takes a file, it reads the same table as encoding/csv does.
+func FuzzReadTablePlainCSV(f *testing.F) {
+	for _, s := range []string{
+		"store,period,sales\nA,2024-01,120.5\nA,2024-02,\n",
+		"store;period;sales\r\nA;2024-01;1\r\n\r\nB;2024-01;x\r\n",
+		"a\tb\n1\t2\n3\tNaN\n1e400\t4\n",
+		"a,b\n1,2\n\n3\n",
+		"a,b\n1,2,3\n",
+		"a,b\n,\n,2\n7,\r",
+		"k,v\n12,1\n13,2\nA1,3\n",
+		"k,v\n",
+	} {
+		f.Add([]byte(s))
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		if bytes.IndexByte(data, 0) >= 0 {
+			return
+		}
+		fast, ok := readTablePlainCSV(data)
+		if !ok {
+			return
+		}
+		slow, err := readTableCSVRecords(data)
+		if err != nil {
+			t.Fatalf("plain reader read %q, encoding/csv refuses it: %v", data, err)
+		}
+		if len(fast.Columns) != len(slow.Columns) {
+			t.Fatalf("%q: %d columns, encoding/csv %d", data, len(fast.Columns), len(slow.Columns))
+		}
+		for j, a := range fast.Columns {
+			b := slow.Columns[j]
+			if a.Name != b.Name || a.Type != b.Type || len(a.Strings) != len(b.Strings) || len(a.Floats) != len(b.Floats) {
+				t.Fatalf("%q column %d: %q %v (%d, %d), encoding/csv %q %v (%d, %d)", data, j,
+					a.Name, a.Type, len(a.Strings), len(a.Floats), b.Name, b.Type, len(b.Strings), len(b.Floats))
+			}
+			for i := range a.Strings {
+				if a.Strings[i] != b.Strings[i] {
+					t.Fatalf("%q column %d row %d: %q, encoding/csv %q", data, j, i, a.Strings[i], b.Strings[i])
+				}
+			}
+			for i := range a.Floats {
+				if x, y := a.Floats[i], b.Floats[i]; x != y && !(x != x && y != y) {
+					t.Fatalf("%q column %d row %d: %v, encoding/csv %v", data, j, i, x, y)
+				}
+			}
+			rows := len(a.Strings) + len(a.Floats)
+			for i := 0; i < rows; i++ {
+				if (a.Null != nil && a.Null[i]) != (b.Null != nil && b.Null[i]) {
+					t.Fatalf("%q column %d row %d: null %v, encoding/csv %v", data, j, i, a.Null, b.Null)
+				}
+			}
+		}
+	})
 }

@@ -6,7 +6,6 @@ import (
 	"math"
 	"os"
 	"strconv"
-	"strings"
 	"time"
 
 	"github.com/apache/arrow-go/v18/arrow"
@@ -59,7 +58,16 @@ func readTableCSV(data []byte) (*Table, error) {
 	if bytes.IndexByte(data[:min(len(data), 1<<16)], 0) >= 0 {
 		return nil, inputerr.New("not a CSV text file (it contains NUL bytes)")
 	}
-	cr, err := newCSVReader(bytes.TrimPrefix(data, []byte("\xef\xbb\xbf")), 0)
+	data = bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))
+	if t, ok := readTablePlainCSV(data); ok {
+		return t, nil
+	}
+	return readTableCSVRecords(data)
+}
+
+// readTableCSVRecords is readTableCSV through encoding/csv, for any file.
+func readTableCSVRecords(data []byte) (*Table, error) {
+	cr, err := newCSVReader(data, 0)
 	if err != nil {
 		return nil, err
 	}
@@ -87,6 +95,7 @@ func readTableCSV(data []byte) (*Table, error) {
 		} else {
 			c.Strings = make([]string, len(body))
 		}
+		var in interner
 		for i, r := range body {
 			s := r[j]
 			if s == "" {
@@ -94,7 +103,7 @@ func readTableCSV(data []byte) (*Table, error) {
 				continue
 			}
 			if c.Type == String {
-				c.Strings[i] = s
+				c.Strings[i] = in.str(s)
 				continue
 			}
 			v, _ := strconv.ParseFloat(s, 64)
@@ -106,6 +115,162 @@ func readTableCSV(data []byte) (*Table, error) {
 		t.Columns[j] = c
 	}
 	return t, nil
+}
+
+// readTablePlainCSV is readTableCSV for the common file that has no
+// quotes and no carriage return except in CRLF line ends: there every
+// line is a record and every separator splits fields, so the file is
+// read in one pass over its bytes, with no string per record or per
+// numeric field. It reports false, having read nothing, for any other
+// file, or when a line has a different number of fields from the header
+// (encoding/csv then reads the file, and words the error).
+func readTablePlainCSV(data []byte) (*Table, bool) {
+	if bytes.IndexByte(data, '"') >= 0 {
+		return nil, false
+	}
+	if cr := bytes.Count(data, []byte{'\r'}); cr > 0 {
+		crlf := bytes.Count(data, []byte("\r\n"))
+		if cr != crlf && !(cr == crlf+1 && data[len(data)-1] == '\r') {
+			return nil, false
+		}
+	}
+	comma := byte(detectComma(data))
+	// next returns the next non-empty line (without its line end) and the
+	// rest, as encoding/csv skips empty lines and drops \r before \n or
+	// at the end of the file.
+	next := func(rest []byte) (line, after []byte) {
+		for len(rest) > 0 {
+			i := bytes.IndexByte(rest, '\n')
+			if i < 0 {
+				line, rest = rest, nil
+			} else {
+				line, rest = rest[:i], rest[i+1:]
+			}
+			line = bytes.TrimSuffix(line, []byte{'\r'})
+			if len(line) > 0 {
+				return line, rest
+			}
+		}
+		return nil, nil
+	}
+	header, body := next(data)
+	if header == nil {
+		return nil, false
+	}
+	names := bytes.Split(header, []byte{comma})
+	nc := len(names)
+	n := bytes.Count(body, []byte{'\n'}) + 1
+	// A column's type is guessed from its first non-empty field, which
+	// sizes one slice for it; the leading empty fields (nulls) are only
+	// counted until then.
+	type col struct {
+		c     Column
+		in    interner
+		typed bool
+		lead  int
+	}
+	cols := make([]col, nc)
+	for j, name := range names {
+		cols[j].c = Column{Name: string(name), Type: Float64}
+	}
+	// toString turns column j, numeric for its first rows rows, into a
+	// String column by reading those rows' text again.
+	toString := func(j, rows int) {
+		c := &cols[j].c
+		c.Type, c.Floats, c.Strings = String, nil, make([]string, 0, n)
+		rest := body
+		for r := 0; r < rows; r++ {
+			var line []byte
+			line, rest = next(rest)
+			f := line
+			for q := 0; q < j; q++ {
+				f = f[bytes.IndexByte(f, comma)+1:]
+			}
+			if e := bytes.IndexByte(f, comma); e >= 0 {
+				f = f[:e]
+			}
+			c.Strings = append(c.Strings, cols[j].in.bytes(f))
+			if c.Null != nil { // NaN was null as a number, not as text
+				c.Null[r] = len(f) == 0
+			}
+		}
+	}
+	rows := 0
+	for rest := body; ; rows++ {
+		var line []byte
+		if line, rest = next(rest); line == nil {
+			break
+		}
+		for j := 0; j < nc; j++ {
+			var f []byte
+			if e := bytes.IndexByte(line, comma); e >= 0 {
+				if j == nc-1 {
+					return nil, false // more fields than the header
+				}
+				f, line = line[:e], line[e+1:]
+			} else {
+				if j != nc-1 {
+					return nil, false // fewer fields than the header
+				}
+				f = line
+			}
+			cj := &cols[j]
+			c := &cj.c
+			if len(f) == 0 {
+				if !cj.typed {
+					cj.lead++
+					if c.Null == nil {
+						c.Null = make([]bool, n)
+					}
+					c.Null[rows] = true
+					continue
+				}
+				c.appendZero()
+				setNull(c, rows, n)
+				continue
+			}
+			if !cj.typed {
+				cj.typed = true
+				if _, err := strconv.ParseFloat(string(f), 64); err == nil {
+					c.Floats = make([]float64, cj.lead, n)
+					for i := range c.Floats {
+						c.Floats[i] = math.NaN()
+					}
+				} else {
+					c.Type, c.Strings = String, make([]string, cj.lead, n)
+				}
+			}
+			if c.Type == Float64 {
+				// string(f) of a short field does not allocate: it
+				// does not outlive the call.
+				v, err := strconv.ParseFloat(string(f), 64)
+				if err == nil {
+					c.Floats = append(c.Floats, v)
+					if math.IsNaN(v) {
+						setNull(c, rows, n)
+					}
+					continue
+				}
+				toString(j, rows)
+			}
+			c.Strings = append(c.Strings, cols[j].in.bytes(f))
+		}
+	}
+	t := &Table{Columns: make([]Column, nc)}
+	for j := range cols {
+		c := cols[j].c
+		if !cols[j].typed { // every field empty: all null numbers
+			c.Floats = make([]float64, rows)
+			for i := range c.Floats {
+				c.Floats[i] = math.NaN()
+			}
+		}
+		if c.Null != nil {
+			c.Null = c.Null[:rows:rows]
+		}
+		t.Columns[j] = c
+	}
+	return t, true
 }
 
 // orUTC is loc, or UTC when loc is nil.
@@ -185,6 +350,7 @@ func readParquetColumn(pf *pqFile, pc *pqColumn, c *Column, n int) error {
 	}
 	b := &pf.bufs
 	maxDef := pc.desc.MaxDefinitionLevel()
+	var in interner // one string per distinct text, not per cell
 	row0 := 0
 	for g := 0; g < pf.r.NumRowGroups(); g++ {
 		// each spreads the batch's values over its rows, marking nulls.
@@ -207,7 +373,7 @@ func readParquetColumn(pf *pqFile, pc *pqColumn, c *Column, n int) error {
 		switch pc.kind {
 		case pqText:
 			err = scan(pf, g, pc, row0, &b.bytes, func(v []parquet.ByteArray, def []int16, rows, _ int) error {
-				return each(def, rows, func(k int) error { c.Strings = append(c.Strings, string(v[k])); return nil })
+				return each(def, rows, func(k int) error { c.Strings = append(c.Strings, in.bytes(v[k])); return nil })
 			})
 		case pqBool:
 			err = scan(pf, g, pc, row0, &b.bools, func(v []bool, def []int16, rows, _ int) error {
@@ -383,6 +549,7 @@ func fromChunks(c *Column, chunks []arrow.Array, n int) error {
 		c.Type, c.Strings = String, make([]string, 0, n)
 	}
 	row := 0
+	var in interner // one string per distinct text, not per cell
 	for _, a := range chunks {
 		for i := 0; i < a.Len(); i++ {
 			v := a
@@ -400,7 +567,7 @@ func fromChunks(c *Column, chunks []arrow.Array, n int) error {
 				row++
 				continue
 			}
-			if err := c.appendCell(v, k); err != nil {
+			if err := c.appendCell(v, k, &in); err != nil {
 				return err
 			}
 			row++
@@ -420,8 +587,8 @@ func (c *Column) appendZero() {
 	}
 }
 
-// appendCell appends entry k of a, which is not null.
-func (c *Column) appendCell(a arrow.Array, k int) error {
+// appendCell appends entry k of a, which is not null; text goes through in.
+func (c *Column) appendCell(a arrow.Array, k int, in *interner) error {
 	switch a := a.(type) {
 	case *array.Float64:
 		c.Floats = append(c.Floats, a.Value(k))
@@ -462,8 +629,8 @@ func (c *Column) appendCell(a arrow.Array, k int) error {
 		unit := a.DataType().(*arrow.TimestampType).Unit
 		c.Strings = append(c.Strings, a.Value(k).ToTime(unit).Format(time.RFC3339Nano))
 	case stringValuer:
-		// Clone: the value may point into a decoder buffer.
-		c.Strings = append(c.Strings, strings.Clone(a.Value(k)))
+		// A copy (in.str): the value may point into a decoder buffer.
+		c.Strings = append(c.Strings, in.str(a.Value(k)))
 	case *array.Binary:
 		c.Strings = append(c.Strings, string(a.Value(k)))
 	case *array.LargeBinary:

@@ -2,8 +2,12 @@
 # Times trueup reconcile end to end on a retail structure of 39,442 nodes
 # (state → store, 10 stores, crossed with category → department → item,
 # 3,000 items: 30,000 bottom series), T = 60 residual days, horizon 28,
-# MinT with the shrinkage covariance, read from and written to Parquet,
-# without and with --nonnegative. Then compares the dense and large-n MinT paths at about 2,000 nodes.
+# MinT with the shrinkage covariance, as users run it (report.html
+# included): read from and written to Parquet, then the same inputs as CSV
+# read from and written to CSV, each without and with --nonnegative. Then
+# compares the dense and large-n MinT paths at about 2,000 nodes.
+# Prints wall time, user CPU, peak memory and the load average (the
+# machine is shared: a busy machine stretches wall times).
 # Usage: bench/reconcile/run.sh   (from anywhere; needs /usr/bin/time)
 set -euo pipefail
 cd "$(dirname "$0")/../.."
@@ -11,19 +15,25 @@ dir=$(mktemp -d)
 trap 'rm -rf "$dir"' EXIT
 go build -o "$dir/trueup" ./cmd/trueup
 echo "generating inputs into $dir ..."
-go run ./bench/reconcile/gen -out "$dir"
-ls -l "$dir"/*.parquet
-cmd=("$dir/trueup" reconcile --base "$dir/base.parquet" --residuals "$dir/residuals.parquet"
-     --nest state,store --nest category,department,item --method mint --cov shrink --out "$dir/out")
-echo "+ trueup ${cmd[*]:1}"
-/usr/bin/time -v "${cmd[@]}" 2> "$dir/time.txt"
-grep -E "Elapsed \(wall clock\)|Maximum resident set size" "$dir/time.txt"
-grep -A 6 '"timings_seconds"' "$dir/out/run.json"
-grep -A 4 '"notes"' "$dir/out/run.json"
-echo "+ the same with --nonnegative"
-nonneg=("${cmd[@]:0:${#cmd[@]}-1}" "$dir/out-nonnegative" --nonnegative)
-/usr/bin/time -v "${nonneg[@]}" 2> "$dir/time.txt" >/dev/null
-grep -E "Elapsed \(wall clock\)|User time|Maximum resident set size" "$dir/time.txt"
+for f in parquet csv; do
+  mkdir -p "$dir/$f"
+  go run ./bench/reconcile/gen -out "$dir/$f" -format "$f"
+done
+ls -l "$dir"/parquet/*.parquet "$dir"/csv/*.csv
+for f in parquet csv; do
+  cmd=("$dir/trueup" reconcile --base "$dir/$f/base.$f" --residuals "$dir/$f/residuals.$f"
+       --nest state,store --nest category,department,item --method mint --cov shrink
+       --format "$f" --out "$dir/out-$f")
+  for extra in "" --nonnegative; do
+    echo
+    echo "+ trueup ${cmd[*]:1} $extra"
+    echo "load average before: $(cut -d' ' -f1-3 /proc/loadavg)"
+    /usr/bin/time -v "${cmd[@]}" $extra 2> "$dir/time.txt" >/dev/null
+    grep -E "Elapsed \(wall clock\)|User time|System time|Maximum resident set size" "$dir/time.txt"
+    echo "load average after: $(cut -d' ' -f1-3 /proc/loadavg)"
+    grep -A 4 '"timings_seconds"' "$dir/out-$f/run.json" | tail -n +2
+  done
+done
 echo
 echo "dense vs large-n MinT(Shrink), T = 60, h = 28, variances included:"
 go test -run '^$' -bench 'BenchmarkMinT$' -benchtime 3x ./reconcile | tee "$dir/bench.txt" | grep Benchmark

@@ -44,7 +44,7 @@ func (f *reconcileFlags) register(cmd *cobra.Command) {
 	fl.StringVar(&f.cov, "cov", "", "covariance for mint: "+strings.Join(reconcile.CovNames(), ", ")+" (default shrink)")
 	fl.StringVar(&f.at, "at", "", "level to reconcile from with middle-out, e.g. region+category")
 	fl.BoolVar(&f.nonnegative, "nonnegative", false, "keep reconciled bottom-level forecasts at or above zero\n(default: on for mint when the history has no negative value; --nonnegative=false turns it off)")
-	fl.IntVar(&f.paths, "paths", reconcile.DefaultPaths, fmt.Sprintf("sample paths behind mint's interval widths above %d nodes (more: slower, closer)", reconcile.DenseMaxNodes))
+	fl.IntVar(&f.paths, "paths", reconcile.DefaultPaths, fmt.Sprintf("above %d nodes, mint's interval widths are exact while at most this many nodes have residuals that start late, partly from this many sample paths above (more: slower, closer)", reconcile.DenseMaxNodes))
 	groupFlags(cmd, "Reconciliation", "method", "cov", "at", "nonnegative", "paths")
 }
 

@@ -110,7 +110,7 @@ func printTail(w io.Writer, res *engine.Result, files []string) {
 var noteLabels = map[string]string{
 	"lambda":         "shrinkage intensity λ",
 	"cg_iterations":  "conjugate-gradient iterations",
-	"variance_paths": "sample paths behind the interval widths",
+	"variance_paths": "sample paths behind the interval widths of nodes whose residuals start late",
 }
 
 // totalRows is how many forecast periods of the total the summary shows.
