@@ -25,8 +25,7 @@ import (
 )
 
 // Writer writes one format of a result into dir and returns the paths it
-// wrote. The writers of one output set run concurrently: a Writer reads
-// res and never changes it, and writes only its own files.
+// wrote.
 type Writer interface {
 	Write(dir string, res *engine.Result) ([]string, error)
 }
@@ -152,32 +151,11 @@ func writeSet(s string, res *engine.Result, formats []string) ([]string, error) 
 	var names []string
 	seen := map[string]bool{}
 	var err error
-	// Each format writes its own files from the same result, which no
-	// writer changes: they run side by side, and their files are listed
-	// in the order of formats.
-	type done struct {
-		files []string
-		err   error
-	}
-	out := make([]chan done, len(formats))
-	for i, name := range formats {
-		out[i] = make(chan done, 1)
-		go func() {
-			files, err := lookup(name).Write(s, res)
-			out[i] <- done{files, err}
-		}()
-	}
-	results := make([]done, len(formats))
-	for i := range formats {
-		results[i] = <-out[i]
-	}
-	for _, r := range results {
-		if r.err != nil {
-			return nil, r.err
+	for _, name := range formats {
+		written, err := lookup(name).Write(s, res)
+		if err != nil {
+			return nil, err
 		}
-	}
-	for _, r := range results {
-		written := r.files
 		for _, p := range written {
 			if n := filepath.Base(p); !seen[n] {
 				seen[n] = true
