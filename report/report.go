@@ -57,8 +57,13 @@ type Input struct {
 // tables as engine/output makes them and its run report. Accuracy tables
 // are read from dir when it has them ("" reads none).
 func FromResult(res *engine.Result, dir string) (*Input, error) {
+	return fromTables(res, output.Tables(res), dir)
+}
+
+// fromTables is FromResult with the result's tables already built.
+func fromTables(res *engine.Result, tables []output.Table, dir string) (*Input, error) {
 	in := &Input{Tables: map[string]*tableio.Table{}}
-	for _, t := range output.Tables(res) {
+	for _, t := range tables {
 		in.Tables[t.Name] = t.Table
 	}
 	b, err := json.Marshal(&res.Report)
@@ -247,8 +252,14 @@ func gzipBase64(b []byte) (string, error) {
 type writer struct{}
 
 // Write gathers the result's input and writes dir/report.html.
-func (writer) Write(dir string, res *engine.Result) ([]string, error) {
-	in, err := FromResult(res, dir)
+func (w writer) Write(dir string, res *engine.Result) ([]string, error) {
+	return w.WriteTables(dir, res, output.Tables(res))
+}
+
+// WriteTables implements output.TableWriter: Write with the tables the
+// set's other writers use.
+func (writer) WriteTables(dir string, res *engine.Result, tables []output.Table) ([]string, error) {
+	in, err := fromTables(res, tables, dir)
 	if err != nil {
 		return nil, err
 	}

@@ -39,7 +39,7 @@ func WriteBacktest(dir string, bt *engine.BacktestResult, formats []string, rend
 		tables := BacktestTables(bt)
 		var names []string
 		for _, w := range tw {
-			written, err := w.writeTables(s, tables)
+			written, err := w.WriteTables(s, nil, tables)
 			if err != nil {
 				return nil, err
 			}

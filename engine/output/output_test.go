@@ -150,3 +150,49 @@ func TestTypedPeriodAndIntegerKeys(t *testing.T) {
 		}
 	}
 }
+
+// tableSpy is a TableWriter that records the tables it was handed.
+type tableSpy struct{ got *[]output.Table }
+
+func (s tableSpy) Write(dir string, res *engine.Result) ([]string, error) {
+	return s.WriteTables(dir, res, output.Tables(res))
+}
+
+func (s tableSpy) WriteTables(_ string, _ *engine.Result, tables []output.Table) ([]string, error) {
+	*s.got = tables
+	return nil, nil
+}
+
+// TestWritersShareOneCopyOfTheTables: the table writers of one set are
+// handed the same tables, built once, and write the same files as alone.
+func TestWritersShareOneCopyOfTheTables(t *testing.T) {
+	var first, second []output.Table
+	output.Register("spy-first", tableSpy{&first})
+	output.Register("spy-second", tableSpy{&second})
+	res, err := engine.Forecast(context.Background(), smallChain(t), engine.Options{Model: families.Spec{Family: "drift"}, Horizon: 3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	if _, err := output.Write(filepath.Join(dir, "both"), res, []string{"spy-first", "csv", "spy-second"}); err != nil {
+		t.Fatal(err)
+	}
+	if len(first) == 0 || len(first) != len(second) {
+		t.Fatalf("spies got %d and %d tables", len(first), len(second))
+	}
+	for i := range first {
+		if first[i].Table != second[i].Table {
+			t.Errorf("table %s built twice", first[i].Name)
+		}
+	}
+	if _, err := output.Write(filepath.Join(dir, "alone"), res, []string{"csv"}); err != nil {
+		t.Fatal(err)
+	}
+	for _, tb := range first {
+		a, errA := os.ReadFile(filepath.Join(dir, "both", tb.Name+".csv"))
+		b, errB := os.ReadFile(filepath.Join(dir, "alone", tb.Name+".csv"))
+		if errA != nil || errB != nil || !bytes.Equal(a, b) {
+			t.Errorf("%s.csv differs when written beside other writers (%v, %v)", tb.Name, errA, errB)
+		}
+	}
+}
