@@ -115,16 +115,7 @@ func TestNonnegativeLargeAgrees(t *testing.T) {
 		p.Base[off+j][j%3] = -40
 	}
 	p.Nonnegative = true
-	p.Solver = SolverDense
-	d, err := Projection{Cov: CovShrink}.Reconcile(p)
-	if err != nil {
-		t.Fatal(err)
-	}
-	p.Solver = SolverLarge
-	l, err := Projection{Cov: CovShrink}.Reconcile(p)
-	if err != nil {
-		t.Fatal(err)
-	}
+	d, l := denseAndLarge(t, Projection{Cov: CovShrink}, p)
 	zeros := 0
 	for j := range d.Bottom {
 		for k, v := range d.Bottom[j] {

@@ -52,17 +52,7 @@ func TestDenseAndLargeAgree(t *testing.T) {
 		if cov == CovSample {
 			T = 80
 		}
-		p := problemFor(st, T, 3, 21)
-		p.Solver = SolverDense
-		d, err := Projection{Cov: cov}.Reconcile(p)
-		if err != nil {
-			t.Fatalf("%s dense: %v", cov, err)
-		}
-		p.Solver = SolverLarge
-		l, err := Projection{Cov: cov}.Reconcile(p)
-		if err != nil {
-			t.Fatalf("%s large: %v", cov, err)
-		}
+		d, l := denseAndLarge(t, Projection{Cov: cov}, problemFor(st, T, 3, 21))
 		checkCoherent(t, st, d)
 		checkCoherent(t, st, l)
 		for i := range d.Forecast {
@@ -249,16 +239,7 @@ func TestLargeVarianceExact(t *testing.T) {
 	if late := lateStarts(&p, 13, 5); late > DefaultPaths || late == 0 {
 		t.Fatalf("%d late nodes: the test wants 1 to %d", late, DefaultPaths)
 	}
-	p.Solver = SolverDense
-	d, err := Projection{Cov: CovShrink}.Reconcile(p)
-	if err != nil {
-		t.Fatal(err)
-	}
-	p.Solver = SolverLarge
-	l, err := Projection{Cov: CovShrink}.Reconcile(p)
-	if err != nil {
-		t.Fatal(err)
-	}
+	d, l := denseAndLarge(t, Projection{Cov: CovShrink}, p)
 	if _, ok := l.Notes["variance_paths"]; ok {
 		t.Error("variance sampled with fewer late nodes than paths")
 	}
@@ -334,4 +315,20 @@ func TestDeterministic(t *testing.T) {
 			}
 		}
 	}
+}
+
+// denseAndLarge reconciles p by pr on the dense path and on the
+// large-structure path.
+func denseAndLarge(t *testing.T, pr Projection, p Problem) (dense, large Solution) {
+	t.Helper()
+	p.Solver = SolverDense
+	dense, err := pr.Reconcile(p)
+	if err != nil {
+		t.Fatalf("%s dense: %v", pr.Cov, err)
+	}
+	p.Solver = SolverLarge
+	if large, err = pr.Reconcile(p); err != nil {
+		t.Fatalf("%s large: %v", pr.Cov, err)
+	}
+	return dense, large
 }
