@@ -161,14 +161,15 @@ func writeSet(s string, res *engine.Result, formats []string) ([]string, error) 
 	var err error
 	var tables []Table // built once, for every TableWriter of the set
 	for _, name := range formats {
+		w := lookup(name)
 		var written []string
-		if tw, ok := lookup(name).(TableWriter); ok {
+		if tw, ok := w.(TableWriter); ok {
 			if tables == nil {
 				tables = Tables(res)
 			}
 			written, err = tw.WriteTables(s, res, tables)
 		} else {
-			written, err = lookup(name).Write(s, res)
+			written, err = w.Write(s, res)
 		}
 		if err != nil {
 			return nil, err
