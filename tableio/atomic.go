@@ -2,10 +2,13 @@ package tableio
 
 import (
 	"bufio"
+	"errors"
 	"fmt"
 	"io"
+	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"strconv"
 	"sync"
 )
 
@@ -52,7 +55,7 @@ func writeAtomic(path string, write func(w io.Writer) error) (err error) {
 	if dir == "" {
 		dir = "."
 	}
-	f, err := os.CreateTemp(dir, "."+base+".tmp-*")
+	f, err := createTemp(dir, "."+base+".tmp-")
 	if err != nil {
 		return fmt.Errorf("write %s: %w", path, err)
 	}
@@ -73,10 +76,6 @@ func writeAtomic(path string, write func(w io.Writer) error) (err error) {
 	if err = bw.Flush(); err != nil {
 		return err
 	}
-	// CreateTemp makes the file private (0600); results are meant to be read.
-	if err = f.Chmod(0o644); err != nil {
-		return err
-	}
 	if err = f.Sync(); err != nil {
 		return err
 	}
@@ -88,6 +87,19 @@ func writeAtomic(path string, write func(w io.Writer) error) (err error) {
 	}
 	syncDir(dir)
 	return nil
+}
+
+// createTemp creates a new file in dir named prefix and a random number.
+// Its mode is 0666 less the umask, as for any file a program creates (and
+// its group a setgid folder's): os.CreateTemp would make it private.
+func createTemp(dir, prefix string) (*os.File, error) {
+	for {
+		name := filepath.Join(dir, prefix+strconv.FormatUint(uint64(rand.Uint32()), 10))
+		f, err := os.OpenFile(name, os.O_RDWR|os.O_CREATE|os.O_EXCL, 0o666)
+		if !errors.Is(err, os.ErrExist) {
+			return f, err
+		}
+	}
 }
 
 // syncDir makes the rename durable where the platform allows fsync on a

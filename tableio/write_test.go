@@ -8,6 +8,7 @@ import (
 	"os"
 	"path/filepath"
 	"reflect"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -155,10 +156,35 @@ func TestWriteReplacesAndSetsMode(t *testing.T) {
 	if string(b) != `{"new":true}` {
 		t.Errorf("file holds %q", b)
 	}
-	if st, _ := os.Stat(path); st.Mode().Perm() != 0o644 {
-		t.Errorf("mode %v, want 0644", st.Mode().Perm())
+	// A new file's mode is 0666 less the umask (POSIX open(2), common
+	// practice for a program's output), not the private 0600 of a
+	// temporary file.
+	want := 0o666 &^ umask(t)
+	if st, _ := os.Stat(path); st.Mode().Perm() != want {
+		t.Errorf("mode %v, want %v", st.Mode().Perm(), want)
 	}
 	noLeftovers(t, filepath.Dir(path), 1)
+}
+
+// umask reads the process's umask from /proc/self/status (Linux 4.7 and
+// later), which, unlike syscall.Umask, does not change it.
+func umask(t *testing.T) os.FileMode {
+	t.Helper()
+	b, err := os.ReadFile("/proc/self/status")
+	if err != nil {
+		t.Skip("no /proc/self/status to read the umask from:", err)
+	}
+	for _, line := range strings.Split(string(b), "\n") {
+		if v, ok := strings.CutPrefix(line, "Umask:"); ok {
+			m, err := strconv.ParseUint(strings.TrimSpace(v), 8, 32)
+			if err != nil {
+				t.Fatal(err)
+			}
+			return os.FileMode(m)
+		}
+	}
+	t.Skip("/proc/self/status gives no umask")
+	return 0
 }
 
 // noLeftovers fails if dir holds other than want entries or any temp file.
