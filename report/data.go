@@ -194,12 +194,13 @@ func periodsIn(t *tableio.Table, name string) ([]string, []int, error) {
 // forecasts table is required; models, residuals and history add the
 // model, diagnostics and history of each node when present.
 func build(in *Input) (*Data, error) {
-	// The timings and the file list are left out: they are not shown, and
-	// without them the report of a run and one rendered later from its
-	// folder are the same bytes.
+	// The timings and the file lists (of the set, and of the other kind's
+	// set kept beside it) are left out: they are not shown, and without
+	// them the report of a run and one rendered later from its folder are
+	// the same bytes.
 	run := map[string]any{}
 	for k, v := range in.Run {
-		if k != "timings_seconds" && k != "files" {
+		if k != "timings_seconds" && k != "files" && k != "other_set" {
 			run[k] = v
 		}
 	}

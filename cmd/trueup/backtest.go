@@ -83,7 +83,7 @@ scores, the recommendation and the drivers (unless --no-report).`,
 			if len(methods) == 0 {
 				return &usageError{fmt.Errorf("--compare names no method (use %s)", engine.CompareNames())}
 			}
-			if err := output.Check(rf.out); err != nil {
+			if err := output.Check(rf.out, output.Plan{Backtest: true, Formats: all, Inputs: []string{src.Path}}); err != nil {
 				return err
 			}
 			data, err := engine.Load(src)

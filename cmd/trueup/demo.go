@@ -30,13 +30,14 @@ can be repeated with "trueup forecast".`,
 			if _, err := rf.options(cmd); err != nil {
 				return err
 			}
-			if _, err := rf.outputFormats(); err != nil {
+			formats, err := rf.outputFormats()
+			if err != nil {
 				return err
 			}
-			if err := output.Check(rf.out); err != nil {
+			if err := output.Check(rf.out, output.Plan{Formats: formats}); err != nil {
 				return err
 			}
-			if err := os.MkdirAll(rf.out, 0o755); err != nil {
+			if err := os.MkdirAll(rf.out, 0o777); err != nil {
 				return err
 			}
 			src := engine.Source{Path: filepath.Join(rf.out, "demo_sales.parquet"),

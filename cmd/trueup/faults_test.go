@@ -471,3 +471,210 @@ func TestBacktestInterruptedWhileWriting(t *testing.T) {
 		}
 	}
 }
+
+// runWithUmask runs the binary under a shell that sets the umask first
+// (the umask is process-wide, so the test process keeps its own).
+func runWithUmask(t *testing.T, umask string, args ...string) (int, string) {
+	t.Helper()
+	cmd := exec.Command("sh", append([]string{"-c", "umask " + umask + ` && exec "$0" "$@"`, binary(t)}, args...)...)
+	var stderr bytes.Buffer
+	cmd.Stderr = &stderr
+	err := cmd.Run()
+	var ee *exec.ExitError
+	if err != nil && !errors.As(err, &ee) {
+		t.Fatal(err)
+	}
+	return cmd.ProcessState.ExitCode(), stderr.String()
+}
+
+// modeAndGroup returns the permission bits (setgid and sticky included)
+// and group of path.
+func modeAndGroup(t *testing.T, path string) (uint32, int) {
+	t.Helper()
+	fi, err := os.Stat(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	st := fi.Sys().(*syscall.Stat_t)
+	return st.Mode & 0o7777, int(st.Gid)
+}
+
+// TestUmaskAndGroupFolderAreKept: a new output folder and its files get
+// the modes the umask gives any new folder and file (0777 and 0666 less
+// the umask, POSIX mkdir(2)/open(2)); a group folder (setgid, 2770,
+// another group) keeps its mode and group through a run, and its new
+// files take its group. Changing the group needs root, so that part runs
+// as root only.
+func TestUmaskAndGroupFolderAreKept(t *testing.T) {
+	input := smallInput(t)
+	out := filepath.Join(t.TempDir(), "plan")
+	if code, stderr := runWithUmask(t, "027", forecastArgs(input, out, 3, "parquet,csv,report")...); code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	if mode, _ := modeAndGroup(t, out); mode != 0o750 {
+		t.Errorf("new folder under umask 027: mode %o, want 750", mode)
+	}
+	for name := range readFolder(t, out) {
+		if mode, _ := modeAndGroup(t, filepath.Join(out, name)); mode != 0o640 {
+			t.Errorf("%s under umask 027: mode %o, want 640", name, mode)
+		}
+	}
+	if os.Geteuid() != 0 {
+		t.Skip("giving the folder another group needs root")
+	}
+	const gid = 12345
+	if err := os.Chown(out, 0, gid); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.Chmod(out, 0o770|os.ModeSetgid); err != nil {
+		t.Fatal(err)
+	}
+	if code, stderr := runWithUmask(t, "007", forecastArgs(input, out, 3, "parquet,csv,report")...); code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	if mode, g := modeAndGroup(t, out); mode != 0o2770 || g != gid {
+		t.Errorf("group folder after a run: mode %o group %d, want 2770 and %d", mode, g, gid)
+	}
+	for name := range readFolder(t, out) {
+		if mode, g := modeAndGroup(t, filepath.Join(out, name)); mode != 0o660 || g != gid {
+			t.Errorf("%s in the group folder under umask 007: mode %o group %d, want 660 and %d", name, mode, g, gid)
+		}
+	}
+}
+
+// TestInputInsideTheOutputFolder: a user's file named like a table,
+// here the run's own input, stays through a run that does not write that
+// name, even into a folder no run has written yet; a run that would write
+// over it exits 2 before any work and leaves it.
+func TestInputInsideTheOutputFolder(t *testing.T) {
+	out := filepath.Join(t.TempDir(), "plan")
+	if err := os.Mkdir(out, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	input := filepath.Join(out, "history.parquet")
+	copyFile(t, smallInput(t), input)
+	data, _ := os.ReadFile(input)
+	if code, stderr := runBin(t, forecastArgs(input, out, 3, "csv")...); code != 0 {
+		t.Fatalf("csv run: exit %d: %s", code, stderr)
+	}
+	if b, err := os.ReadFile(input); err != nil || !bytes.Equal(b, data) {
+		t.Fatalf("the input history.parquet after a csv run: %v (changed: %v)", err, !bytes.Equal(b, data))
+	}
+	before := readFolder(t, out)
+	code, stderr := runBin(t, forecastArgs(input, out, 3, "parquet")...)
+	if code != 2 || !strings.Contains(stderr, "history.parquet") || !strings.Contains(stderr, "--out") {
+		t.Errorf("parquet run over its own input: exit %d, %q; want exit 2 naming the file and --out", code, stderr)
+	}
+	sameFolder(t, out, before)
+}
+
+// copyFile copies the file src to dst.
+func copyFile(t *testing.T, src, dst string) {
+	t.Helper()
+	b, err := os.ReadFile(src)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(dst, b, 0o644); err != nil {
+		t.Fatal(err)
+	}
+}
+
+// TestLockedFolderRefusesEveryWriter: while another process holds the
+// output folder's lock (here the test process, flock on the lock file
+// beside the folder, its id inside), every command that writes a set
+// exits 2 before any work, naming that process, and the folder is left.
+func TestLockedFolderRefusesEveryWriter(t *testing.T) {
+	input := smallInput(t)
+	out := filepath.Join(t.TempDir(), "plan")
+	if code, stderr := runBin(t, forecastArgs(input, out, 3, "csv")...); code != 0 {
+		t.Fatalf("first run: exit %d: %s", code, stderr)
+	}
+	before := readFolder(t, out)
+	lockFile := filepath.Join(filepath.Dir(out), ".plan.lock")
+	f, err := os.OpenFile(lockFile, os.O_RDWR|os.O_CREATE, 0o666)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	if err := syscall.Flock(int(f.Fd()), syscall.LOCK_EX|syscall.LOCK_NB); err != nil {
+		t.Fatal(err)
+	}
+	fmt.Fprintf(f, "%d\n", os.Getpid())
+	model := []string{"--time", fixtures.DemoTimeColumn, "--value", fixtures.DemoValueColumn,
+		"--nest", fixtures.DemoNest[0], "--nest", fixtures.DemoNest[1], "--family", "drift", "--quiet", "--out", out}
+	commands := map[string][]string{
+		"forecast":  forecastArgs(input, out, 4, "csv"),
+		"backtest":  append([]string{"backtest", "--input", input, "--origins", "2", "--horizon", "3"}, model...),
+		"demo":      {"demo", "--family", "drift", "--horizon", "3", "--quiet", "--out", out},
+		"reconcile": {"reconcile", "--base", filepath.Join(out, "forecasts.csv"), "--nest", "region,store", "--quiet", "--out", out},
+	}
+	for name, args := range commands {
+		code, stderr := runBin(t, args...)
+		if code != 2 || !strings.Contains(stderr, fmt.Sprintf("process %d", os.Getpid())) {
+			t.Errorf("%s into a locked folder: exit %d, %q; want exit 2 naming process %d", name, code, stderr, os.Getpid())
+		}
+	}
+	sameFolder(t, out, before)
+}
+
+// TestConcurrentRunsIntoOneFolder starts two runs into one folder at once,
+// twenty times: each either finishes or exits 2 because the other holds
+// the lock, and the folder always holds one complete set, that of the
+// run that finished last. A file made in the folder while a run writes
+// its set is still there afterwards.
+func TestConcurrentRunsIntoOneFolder(t *testing.T) {
+	input := smallInput(t)
+	out := filepath.Join(t.TempDir(), "plan")
+	if code, stderr := runBin(t, forecastArgs(input, out, 2, "csv")...); code != 0 {
+		t.Fatalf("first run: exit %d: %s", code, stderr)
+	}
+	refused := 0
+	for trial := range 20 {
+		var wg sync.WaitGroup
+		codes := make([]int, 2)
+		msgs := make([]string, 2)
+		for i, h := range []int{3, 4} {
+			wg.Add(1)
+			go func() {
+				defer wg.Done()
+				codes[i], msgs[i] = runBin(t, forecastArgs(input, out, h, "csv")...)
+			}()
+		}
+		wg.Wait()
+		horizon := completeSet(t, out)
+		for i := range codes {
+			switch {
+			case codes[i] == 2 && strings.Contains(msgs[i], "another trueup run"):
+				refused++
+				if other := []int{4, 3}[i]; horizon != other {
+					t.Errorf("trial %d: the horizon-%d run was refused, yet the folder holds the horizon-%d set", trial, 7-other, horizon)
+				}
+			case codes[i] != 0:
+				t.Errorf("trial %d: exit %d: %s", trial, codes[i], msgs[i])
+			}
+		}
+	}
+	t.Logf("%d of 40 runs were refused because the other run held the lock", refused)
+
+	for trial := range 5 {
+		cmd := exec.Command(binary(t), forecastArgs(input, out, 3, "csv,parquet")...)
+		if err := cmd.Start(); err != nil {
+			t.Fatal(err)
+		}
+		done := make(chan struct{})
+		go func() { cmd.Wait(); close(done) }()
+		waitUntil(staging(out), done)
+		name := fmt.Sprintf("during-%d.txt", trial)
+		if err := os.WriteFile(filepath.Join(out, name), []byte("mine"), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		<-done
+		if code := cmd.ProcessState.ExitCode(); code != 0 {
+			t.Fatalf("trial %d: exit %d", trial, code)
+		}
+		if b, err := os.ReadFile(filepath.Join(out, name)); err != nil || string(b) != "mine" {
+			t.Errorf("trial %d: %s, made while the run wrote its set: %q, %v", trial, name, b, err)
+		}
+	}
+}

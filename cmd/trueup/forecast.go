@@ -41,7 +41,11 @@ into a plan.`,
 			if err != nil {
 				return err
 			}
-			if err := output.Check(rf.out); err != nil {
+			formats, err := rf.outputFormats()
+			if err != nil {
+				return err
+			}
+			if err := output.Check(rf.out, output.Plan{Formats: formats, Inputs: []string{src.Path}}); err != nil {
 				return err
 			}
 			return runForecast(cmd, src, &rf)

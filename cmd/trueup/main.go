@@ -30,6 +30,7 @@ func main() {
 	go exitOnSignal(sig)
 	code := run(os.Args[1:])
 	exitMu.Lock() // a signal being handled keeps it: that exit wins
+	output.Release()
 	os.Exit(code)
 }
 

@@ -70,7 +70,7 @@ into a plan.`,
 			if err != nil {
 				return err
 			}
-			if err := output.Check(of.out); err != nil {
+			if err := output.Check(of.out, output.Plan{Formats: formats, Inputs: []string{base, residuals, history}}); err != nil {
 				return err
 			}
 			chains, err := hierarchy.ParseNest(nest)

@@ -35,7 +35,8 @@ func WriteBacktest(dir string, bt *engine.BacktestResult, formats []string, rend
 	if _, err := json.Marshal(&bt.Report); err != nil {
 		return nil, err
 	}
-	return writeStaged(dir, backtestSet, func(s string) ([]string, error) {
+	return writeStaged(dir, backtestSet, func(st *stagedSet) ([]string, error) {
+		s := st.path
 		tables := BacktestTables(bt)
 		var names []string
 		for _, w := range tw {
@@ -52,11 +53,11 @@ func WriteBacktest(dir string, bt *engine.BacktestResult, formats []string, rend
 			if bt.Report.Files, err = records(s, names); err != nil {
 				return err
 			}
-			data, err := json.MarshalIndent(&bt.Report, "", "  ")
+			data, err := st.runJSON(&bt.Report, names)
 			if err != nil {
 				return err
 			}
-			return tableio.WriteFileAtomic(filepath.Join(s, RunFile), append(data, '\n'))
+			return tableio.WriteFileAtomic(filepath.Join(s, RunFile), data)
 		}
 		if err := writeRun(); err != nil {
 			return nil, err

@@ -11,7 +11,6 @@
 package output
 
 import (
-	"encoding/json"
 	"fmt"
 	"path/filepath"
 	"sort"
@@ -114,13 +113,14 @@ func Write(dir string, res *engine.Result, formats []string) ([]string, error) {
 			return nil, inputerr.ForOption("Formats", "unknown output format %q", name)
 		}
 	}
-	return writeStaged(dir, forecastSet, func(s string) ([]string, error) { return writeSet(s, res, formats) })
+	return writeStaged(dir, forecastSet, func(st *stagedSet) ([]string, error) { return writeSet(st, res, formats) })
 }
 
 // writeStaged replaces the output set of kind in dir with the one fill
-// writes into a staging folder (fill returns the file names, run.json
-// last), and returns the paths of the new set's files in dir.
-func writeStaged(dir string, kind setKind, fill func(staging string) ([]string, error)) ([]string, error) {
+// writes into the staging folder st.path (fill returns the file names,
+// run.json last), and returns the paths of the new set's files in dir. It
+// holds the lock on dir throughout (taking it unless Check took it).
+func writeStaged(dir string, kind setKind, fill func(st *stagedSet) ([]string, error)) ([]string, error) {
 	if err := checkParent(dir); err != nil {
 		return nil, err
 	}
@@ -128,21 +128,30 @@ func writeStaged(dir string, kind setKind, fill func(staging string) ([]string, 
 	if err != nil {
 		return nil, err
 	}
-	removeStale(abs)
-	s, err := stage(abs, kind)
+	took, err := lock(abs)
 	if err != nil {
-		if s != "" {
-			discard(s)
+		return nil, err
+	}
+	if took {
+		defer unlock(abs)
+	}
+	removeStale(abs)
+	st, err := stage(abs, kind)
+	if err != nil {
+		if st != nil {
+			discard(st.path)
 		}
 		return nil, err
 	}
-	files, err := fill(s)
-	if err != nil {
-		discard(s)
-		return nil, err
+	files, err := fill(st)
+	if err == nil {
+		err = st.inTheWay(files)
 	}
-	if err := commit(s, abs); err != nil {
-		discard(s)
+	if err == nil {
+		err = commit(st, files)
+	}
+	if err != nil {
+		discard(st.path)
 		return nil, err
 	}
 	paths := make([]string, len(files))
@@ -152,9 +161,10 @@ func writeStaged(dir string, kind setKind, fill func(staging string) ([]string, 
 	return paths, nil
 }
 
-// writeSet runs the writers into the staging folder s, then writes run.json
+// writeSet runs the writers into the staging folder, then writes run.json
 // with the checksums, and returns the file names, run.json last.
-func writeSet(s string, res *engine.Result, formats []string) ([]string, error) {
+func writeSet(st *stagedSet, res *engine.Result, formats []string) ([]string, error) {
+	s := st.path
 	start := time.Now()
 	var names []string
 	seen := map[string]bool{}
@@ -187,11 +197,11 @@ func writeSet(s string, res *engine.Result, formats []string) ([]string, error) 
 	if res.Report.Timings != nil {
 		res.Report.Timings["write"] = time.Since(start).Seconds()
 	}
-	data, err := json.MarshalIndent(&res.Report, "", "  ")
+	data, err := st.runJSON(&res.Report, names)
 	if err != nil {
 		return nil, err
 	}
-	if err := tableio.WriteFileAtomic(filepath.Join(s, RunFile), append(data, '\n')); err != nil {
+	if err := tableio.WriteFileAtomic(filepath.Join(s, RunFile), data); err != nil {
 		return nil, err
 	}
 	return append(names, RunFile), nil

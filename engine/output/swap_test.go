@@ -10,6 +10,7 @@ import (
 	"path/filepath"
 	"sort"
 	"strings"
+	"syscall"
 	"testing"
 
 	"trueup/engine"
@@ -202,7 +203,7 @@ func TestCheckRefusesWhatCannotTakeASet(t *testing.T) {
 	os.MkdirAll(filepath.Join(withSub, "inner"), 0o755)
 	os.WriteFile(filepath.Join(withSub, output.RunFile), []byte("{}"), 0o644)
 	for _, dir := range []string{file, withSub, filepath.Join(file, "below")} {
-		err := output.Check(dir)
+		err := output.Check(dir, output.Plan{})
 		if !inputerr.Is(err) || inputerr.OptionOf(err) != "Out" {
 			t.Errorf("Check(%s) = %v, want an input error about Out", dir, err)
 		}
@@ -213,7 +214,7 @@ func TestCheckRefusesWhatCannotTakeASet(t *testing.T) {
 	os.MkdirAll(plain, 0o755)
 	os.WriteFile(filepath.Join(plain, "sales.csv"), []byte("x"), 0o644)
 	for _, dir := range []string{empty, plain, filepath.Join(base, "new", "deeper")} {
-		if err := output.Check(dir); err != nil {
+		if err := output.Check(dir, output.Plan{}); err != nil {
 			t.Errorf("Check(%s) = %v, want nil", dir, err)
 		}
 	}
@@ -287,15 +288,219 @@ func TestCurrentFolderIsRefused(t *testing.T) {
 	dir := t.TempDir()
 	t.Chdir(dir)
 	for _, out := range []string{".", dir, filepath.Dir(dir)} {
-		if err := output.Check(out); !inputerr.Is(err) || !strings.Contains(err.Error(), "current folder") {
+		if err := output.Check(out, output.Plan{}); !inputerr.Is(err) || !strings.Contains(err.Error(), "current folder") {
 			t.Errorf("Check(%s) = %v, want an input error about the current folder", out, err)
 		}
 	}
-	if err := output.Check("plan"); err != nil {
+	if err := output.Check("plan", output.Plan{}); err != nil {
 		t.Errorf("a new subfolder of the current one: %v", err)
 	}
 	if _, err := output.Write("plan", quickResult(t), []string{"csv"}); err != nil {
 		t.Fatal(err)
 	}
 	checkSums(t, filepath.Join(dir, "plan"))
+}
+
+// TestFolderOwnerGroupAndModeAreKept: a run replaces what is in the
+// folder, not who may use it. A group folder (setgid, mode 2770, another
+// group) keeps its mode and group, and the new files take the group, as
+// files created in a setgid folder do (POSIX mkdir(2)/open(2) on Linux).
+// Changing the group needs root or membership, so the group part runs as
+// root only.
+func TestFolderOwnerGroupAndModeAreKept(t *testing.T) {
+	res := quickResult(t)
+	dir := filepath.Join(t.TempDir(), "plan")
+	if err := os.Mkdir(dir, 0o700); err != nil {
+		t.Fatal(err)
+	}
+	gid := os.Getgid()
+	if os.Geteuid() == 0 {
+		gid = 12345
+		if err := os.Chown(dir, 0, gid); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if err := os.Chmod(dir, 0o2770|os.ModeSetgid); err != nil {
+		t.Fatal(err)
+	}
+	for run := range 2 {
+		if _, err := output.Write(dir, res, []string{"csv"}); err != nil {
+			t.Fatal(err)
+		}
+		fi, err := os.Stat(dir)
+		if err != nil {
+			t.Fatal(err)
+		}
+		st := fi.Sys().(*syscall.Stat_t)
+		if mode := st.Mode & 0o7777; mode != 0o2770 || int(st.Gid) != gid {
+			t.Errorf("run %d: folder mode %o group %d, want 2770 and %d", run+1, mode, st.Gid, gid)
+		}
+		fi, err = os.Stat(filepath.Join(dir, "forecasts.csv"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if g := int(fi.Sys().(*syscall.Stat_t).Gid); g != gid {
+			t.Errorf("run %d: forecasts.csv has group %d, want the folder's %d", run+1, g, gid)
+		}
+	}
+}
+
+// TestUserFilesNamedLikeTablesStay: only what a run.json lists is
+// trueup's. A user's history.csv (here the run's own input) in a new
+// output folder stays through a run that writes parquet; a run that would
+// write history.csv over it is refused before any work (Check) and at the
+// write, and the file is untouched.
+func TestUserFilesNamedLikeTablesStay(t *testing.T) {
+	res := quickResult(t)
+	dir := filepath.Join(t.TempDir(), "plan")
+	if err := os.Mkdir(dir, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	mine := filepath.Join(dir, "history.csv")
+	if err := os.WriteFile(mine, []byte("month,sales\n2024-01-01,5\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	parquet := output.Plan{Formats: []string{"parquet", "report"}, Inputs: []string{mine}}
+	if err := output.Check(dir, parquet); err != nil {
+		t.Fatalf("Check with parquet: %v", err)
+	}
+	if _, err := output.Write(dir, res, []string{"parquet"}); err != nil {
+		t.Fatal(err)
+	}
+	if b, err := os.ReadFile(mine); err != nil || string(b) != "month,sales\n2024-01-01,5\n" {
+		t.Fatalf("the user's history.csv after a parquet run: %q, %v", b, err)
+	}
+	checkSums(t, dir, "history.csv")
+	if err := output.Check(dir, output.Plan{Formats: []string{"csv"}}); !inputerr.Is(err) || !strings.Contains(err.Error(), "history.csv") {
+		t.Errorf("Check with csv: %v, want an input error naming history.csv", err)
+	}
+	if err := output.Check(dir, output.Plan{Formats: []string{"parquet"}, Inputs: []string{mine}}); err != nil {
+		t.Errorf("Check of an input in the folder that the run keeps: %v", err)
+	}
+	before := snapshot(t, dir)
+	if _, err := output.Write(dir, res, []string{"csv"}); !inputerr.Is(err) || !strings.Contains(err.Error(), "history.csv") {
+		t.Errorf("Write with csv: %v, want an input error naming history.csv", err)
+	}
+	if after := snapshot(t, dir); len(after) != len(before) || after["history.csv"] != before["history.csv"] {
+		t.Error("a refused write changed the folder")
+	}
+	noStaging(t, dir)
+}
+
+// TestInputOfThePreviousSetIsRefused: an input that the previous set's
+// run.json lists would be replaced by the run, so Check refuses it.
+func TestInputOfThePreviousSetIsRefused(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "plan")
+	if _, err := output.Write(dir, quickResult(t), []string{"csv"}); err != nil {
+		t.Fatal(err)
+	}
+	for _, formats := range [][]string{{"csv"}, {"parquet"}} {
+		err := output.Check(dir, output.Plan{Formats: formats, Inputs: []string{filepath.Join(dir, "history.csv")}})
+		if !inputerr.Is(err) || inputerr.OptionOf(err) != "Out" || !strings.Contains(err.Error(), "replaces") {
+			t.Errorf("formats %v: %v, want an input error: the run replaces its input", formats, err)
+		}
+	}
+}
+
+// meddle is what the test-user-meddles writer does to the output folder
+// while the set is being written, as a user might.
+var meddle func()
+
+func init() {
+	output.Register("test-user-meddles", output.WriterFunc(func(string, *engine.Result) ([]string, error) {
+		meddle()
+		return nil, nil
+	}))
+}
+
+// TestChangesDuringARunStay: files the user creates, replaces or removes
+// in the output folder while a run writes its set, and a subfolder made
+// meanwhile, are as the user left them after the swap.
+func TestChangesDuringARunStay(t *testing.T) {
+	res := quickResult(t)
+	dir := filepath.Join(t.TempDir(), "plan")
+	if _, err := output.Write(dir, res, []string{"parquet"}); err != nil {
+		t.Fatal(err)
+	}
+	for name, text := range map[string]string{"notes.txt": "first draft", "old.txt": "to delete"} {
+		if err := os.WriteFile(filepath.Join(dir, name), []byte(text), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	meddle = func() {
+		must := func(err error) {
+			if err != nil {
+				t.Error(err)
+			}
+		}
+		must(os.WriteFile(filepath.Join(dir, "new.txt"), []byte("written during the run"), 0o644))
+		// An editor's save: a new file renamed over the old one.
+		must(os.WriteFile(filepath.Join(dir, "notes.tmp"), []byte("second draft"), 0o644))
+		must(os.Rename(filepath.Join(dir, "notes.tmp"), filepath.Join(dir, "notes.txt")))
+		must(os.Remove(filepath.Join(dir, "old.txt")))
+		must(os.Mkdir(filepath.Join(dir, "charts"), 0o755))
+		must(os.WriteFile(filepath.Join(dir, "charts", "a.svg"), []byte("<svg/>"), 0o644))
+	}
+	if _, err := output.Write(dir, res, []string{"csv", "test-user-meddles"}); err != nil {
+		t.Fatal(err)
+	}
+	got := snapshotFiles(t, dir)
+	want := map[string]string{"new.txt": "written during the run", "notes.txt": "second draft", "charts/a.svg": "<svg/>"}
+	for name, text := range want {
+		if got[name] != text {
+			t.Errorf("%s holds %q, want %q", name, got[name], text)
+		}
+	}
+	if _, ok := got["old.txt"]; ok {
+		t.Error("old.txt, removed during the run, is back")
+	}
+	if _, ok := got["forecasts.csv"]; !ok {
+		t.Error("the new set is not in place")
+	}
+	noStaging(t, dir)
+}
+
+// TestFileInTheWayDuringARun: a file the user creates during a run under
+// the name of one the run writes cannot stay beside it, so the run is
+// refused and the folder keeps its previous set and the user's file.
+func TestFileInTheWayDuringARun(t *testing.T) {
+	res := quickResult(t)
+	dir := filepath.Join(t.TempDir(), "plan")
+	if _, err := output.Write(dir, res, []string{"parquet"}); err != nil {
+		t.Fatal(err)
+	}
+	meddle = func() {
+		if err := os.WriteFile(filepath.Join(dir, "forecasts.csv"), []byte("mine"), 0o644); err != nil {
+			t.Error(err)
+		}
+	}
+	if _, err := output.Write(dir, res, []string{"csv", "test-user-meddles"}); !inputerr.Is(err) || !strings.Contains(err.Error(), "forecasts.csv") {
+		t.Fatalf("got %v, want an input error naming forecasts.csv", err)
+	}
+	got := snapshot(t, dir)
+	if got["forecasts.csv"] != "mine" {
+		t.Errorf("the user's forecasts.csv holds %q", got["forecasts.csv"])
+	}
+	checkSums(t, dir, "forecasts.csv")
+	noStaging(t, dir)
+}
+
+// snapshotFiles maps every file under dir, by slash-separated path, to its
+// bytes.
+func snapshotFiles(t *testing.T, dir string) map[string]string {
+	t.Helper()
+	out := map[string]string{}
+	err := filepath.WalkDir(dir, func(p string, d os.DirEntry, err error) error {
+		if err != nil || d.IsDir() {
+			return err
+		}
+		b, err := os.ReadFile(p)
+		rel, _ := filepath.Rel(dir, p)
+		out[filepath.ToSlash(rel)] = string(b)
+		return err
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return out
 }
