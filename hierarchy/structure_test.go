@@ -132,3 +132,15 @@ func TestParseNestErrors(t *testing.T) {
 		}
 	}
 }
+
+// TestNestingComparesPathsValueByValue: the parent paths "x/y"+"z" and
+// "x"+"y/z" joined with "/" read the same; store S1 under both is still
+// two parents. Before, the joined paths compared equal and the violation
+// passed.
+func TestNestingComparesPathsValueByValue(t *testing.T) {
+	chains, _ := ParseNest([]string{"region,district,store"})
+	_, err := Build(chains, [][]string{{"x/y", "z", "S1"}, {"x", "y/z", "S1"}})
+	if err == nil || !inputerr.Is(err) || !strings.Contains(err.Error(), `"x/y"/"z"`) || !strings.Contains(err.Error(), `"x"/"y/z"`) {
+		t.Fatalf("got %v, want a nesting violation showing both parent paths", err)
+	}
+}
