@@ -56,6 +56,9 @@ func newNodeTable(path string, t *tableio.Table, attrs []string, want string) (*
 			s := cellString(col, r)
 			code, ok := dict[s]
 			if !ok {
+				if err := tableio.CheckKeyText(s); err != nil {
+					return nil, &inputerr.Error{File: path, Row: r + 1, Column: a, Err: err}
+				}
 				code = int32(len(vals))
 				dict[s] = code
 				vals = append(vals, s)

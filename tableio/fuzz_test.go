@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"math/rand/v2"
 	"os"
+	"path/filepath"
 	"strconv"
 	"testing"
 
@@ -63,14 +64,72 @@ func FuzzReadCSV(f *testing.F) {
 		"period\tstore\tsales\n2024-01-31\tMill Lane\t3\n",
 		"\"period\",\"store\",\"sales\"\n\"2024\",\"a\"\"b\",1e3\n",
 		"period,store,sales\n",
+		"period,store,sales\n2024-01,N\x00,1\n2024-01,N,2\n",
+		"period,store,sales\n2024-01,\"a\tb\",1\n2024-01,\x1b[2J,2\n",
+		"period,store,sales\n2024-01,\"a\rb\",1\n2024-01,\"x\u0085\",2\n",
 	} {
 		f.Add([]byte(s))
 	}
 	f.Fuzz(func(t *testing.T, data []byte) {
-		_, err := readCSV(data, readOpts)
+		r, err := readCSV(data, readOpts)
 		mustBeInputError(t, "readCSV", err)
+		if err == nil {
+			mustHavePrintableKeys(t, r)
+		}
 		_, err = readTableCSV(data)
 		mustBeInputError(t, "readTableCSV", err)
+	})
+}
+
+// mustHavePrintableKeys fails when a read let through a key that
+// CheckKeyText refuses.
+func mustHavePrintableKeys(t *testing.T, r *Rows) {
+	t.Helper()
+	for k, dict := range r.KeyDict {
+		for _, s := range dict {
+			if err := CheckKeyText(s); err != nil {
+				t.Fatalf("column %q: read a key that must be refused: %v", r.KeyNames[k], err)
+			}
+		}
+	}
+}
+
+// FuzzKeyText writes a table whose second key is the fuzzed text in every
+// format and reads it back: the read fails with an input error exactly
+// when CheckKeyText refuses the key (a control character or bytes that
+// are not UTF-8), and otherwise gives the key back unchanged.
+func FuzzKeyText(f *testing.F) {
+	for _, s := range []string{"Harbour Street", "N\x00", "\x1b[31m", "a\tb", "x\u0085", "Caf\xe9", "=1+2", "'-3", "\u2028"} {
+		f.Add(s)
+	}
+	dir := f.TempDir()
+	f.Fuzz(func(t *testing.T, key string) {
+		if key == "" {
+			return // refused as an empty key
+		}
+		refused := CheckKeyText(key) != nil
+		tab := &Table{Columns: []Column{
+			{Name: "period", Type: String, Strings: []string{"2024-01", "2024-01"}},
+			{Name: "store", Type: String, Strings: []string{"Harbour Street", key}},
+			{Name: "sales", Type: Float64, Floats: []float64{1, 2}},
+		}}
+		for _, format := range []Format{CSV, Parquet, Arrow} {
+			path := filepath.Join(dir, "t"+format.Ext())
+			if err := WriteTable(path, tab, format); err != nil {
+				t.Fatal(err)
+			}
+			r, err := Read(path, readOpts)
+			switch {
+			case refused && err == nil:
+				t.Fatalf("%s: key %q was read", format, key)
+			case refused:
+				mustBeInputError(t, string(format), err)
+			case err != nil:
+				t.Fatalf("%s: key %q refused: %v", format, key, err)
+			case r.KeyDict[0][r.KeyCodes[0][1]] != key:
+				t.Fatalf("%s: key %q read back as %q", format, key, r.KeyDict[0][r.KeyCodes[0][1]])
+			}
+		}
 	})
 }
 

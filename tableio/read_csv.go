@@ -20,6 +20,9 @@ import (
 // (see ReadOptions.Comma). With a separator other than ',' a value such as
 // 12,5 is read with a decimal comma, as such exports write it.
 func readCSV(data []byte, opt ReadOptions) (*Rows, error) {
+	// A binary file is told apart early by its first 64 KiB; a NUL (or
+	// any control character) in a key further on is refused by
+	// CheckKeyText on the key's first appearance, wherever it is.
 	if bytes.IndexByte(data[:min(len(data), 1<<16)], 0) >= 0 {
 		return nil, inputerr.New("not a CSV text file (it contains NUL bytes)")
 	}
@@ -80,7 +83,13 @@ func readCSV(data []byte, opt ReadOptions) (*Rows, error) {
 			if s == "" {
 				return nil, &inputerr.Error{Line: line(ki[k]), Column: opt.Keys[k], Msg: fmt.Sprintf("key column %q is empty", opt.Keys[k])}
 			}
+			known := len(enc.dict)
 			enc.codes = append(enc.codes, enc.code(s))
+			if len(enc.dict) > known {
+				if err := CheckKeyText(s); err != nil {
+					return nil, atLine(line(ki[k]), opt.Keys[k], err)
+				}
+			}
 		}
 	}
 	td.finish(opt.TimeKind)
