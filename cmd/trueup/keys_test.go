@@ -1,0 +1,128 @@
+package main
+
+import (
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"trueup/tableio"
+)
+
+// writeRouteCSV writes invented monthly passenger counts by origin and
+// cabin "level" (key columns named like result columns), three years,
+// and returns the path.
+func writeRouteCSV(t *testing.T) string {
+	t.Helper()
+	var b strings.Builder
+	b.WriteString("month,origin,level,passengers\n")
+	for m := 0; m < 36; m++ {
+		for o, origin := range []string{"Port Alder", "Kestrel Field"} {
+			for l, level := range []string{"upper", "main"} {
+				v := 100*float64(1+o+2*l) + 10*float64(m) + 15*math.Sin(float64(m)*math.Pi/6)
+				fmt.Fprintf(&b, "%d-%02d,%s,%s,%.1f\n", 2022+m/12, 1+m%12, origin, level, v)
+			}
+		}
+	}
+	path := filepath.Join(t.TempDir(), "routes.csv")
+	if err := os.WriteFile(path, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	return path
+}
+
+// header returns the column names of a table file.
+func header(t *testing.T, path string) []string {
+	t.Helper()
+	tb, err := tableio.ReadTable(path, "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var names []string
+	for _, c := range tb.Columns {
+		names = append(names, c.Name)
+	}
+	return names
+}
+
+// TestKeyColumnsNamedLikeResultColumns: key columns named "origin" (the
+// backtest's origin column) and "level" (every result table's) are
+// accepted and written as key_origin and key_level by forecast and
+// backtest, and reconcile reads forecast's own tables back under those
+// names. Before, the run fitted everything and then failed writing a
+// table with two columns of one name (exit 1).
+func TestKeyColumnsNamedLikeResultColumns(t *testing.T) {
+	in := writeRouteCSV(t)
+	source := []string{"--input", in, "--time", "month", "--value", "passengers", "--nest", "origin", "--nest", "level",
+		"--family", "drift", "--horizon", "3", "--quiet"}
+	fc := filepath.Join(t.TempDir(), "fc")
+	if code := run(append([]string{"forecast", "--out", fc, "--format", "csv,parquet"}, source...)); code != 0 {
+		t.Fatalf("forecast exited %d", code)
+	}
+	for _, name := range []string{"forecasts.csv", "models.parquet", "residuals.csv", "history.parquet"} {
+		got := strings.Join(header(t, filepath.Join(fc, name)), ",")
+		if !strings.HasPrefix(got, "level,key_origin,key_level,") {
+			t.Errorf("%s: columns %s, want level, key_origin, key_level first", name, got)
+		}
+	}
+	bt := filepath.Join(t.TempDir(), "bt")
+	if code := run(append([]string{"backtest", "--out", bt, "--format", "csv", "--origins", "2"}, source...)); code != 0 {
+		t.Fatalf("backtest exited %d", code)
+	}
+	if got := strings.Join(header(t, filepath.Join(bt, "backtest.csv")), ","); !strings.HasPrefix(got, "level,key_origin,key_level,origin,period,") {
+		t.Errorf("backtest.csv: columns %s", got)
+	}
+	rc := filepath.Join(t.TempDir(), "rc")
+	code := run([]string{"reconcile", "--base", filepath.Join(fc, "forecasts.csv"), "--residuals", filepath.Join(fc, "residuals.csv"),
+		"--nest", "origin", "--nest", "level", "--out", rc, "--format", "csv", "--quiet"})
+	if code != 0 {
+		t.Fatalf("reconcile of forecast's own tables exited %d", code)
+	}
+	want, got := forecastColumn(t, filepath.Join(fc, "forecasts.csv")), forecastColumn(t, filepath.Join(rc, "forecasts.csv"))
+	if len(got) != len(want) || len(got) != 9*3 {
+		t.Fatalf("reconcile wrote %d forecasts, forecast %d (want 27)", len(got), len(want))
+	}
+	for i := range want {
+		if math.Abs(got[i]-want[i]) > 1e-6*math.Abs(want[i]) {
+			t.Errorf("row %d: reconcile %v, forecast %v", i+1, got[i], want[i])
+		}
+	}
+}
+
+// forecastColumn reads the forecast column of a forecasts table.
+func forecastColumn(t *testing.T, path string) []float64 {
+	t.Helper()
+	tb, err := tableio.ReadTable(path, "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range tb.Columns {
+		if c.Name == "forecast" {
+			return c.Floats
+		}
+	}
+	t.Fatalf("%s has no forecast column", path)
+	return nil
+}
+
+// TestKeyColumnsThatCannotBeKeptApart: "origin" is written as key_origin,
+// so a second key column already named key_origin is refused with exit
+// status 2 before any work.
+func TestKeyColumnsThatCannotBeKeptApart(t *testing.T) {
+	in := writeRouteCSV(t)
+	data := strings.Replace(readFile(t, in), "level", "key_origin", 1)
+	if err := os.WriteFile(in, []byte(data), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(t.TempDir(), "fc")
+	code, stderr := runBin(t, "forecast", "--input", in, "--time", "month", "--value", "passengers", "--nest", "origin",
+		"--nest", "key_origin", "--family", "drift", "--horizon", "3", "--quiet", "--out", out)
+	if code != 2 || !strings.Contains(stderr, `"key_origin"`) || !strings.Contains(stderr, "--nest") {
+		t.Errorf("exit %d, stderr %q; want 2 and a message naming key_origin and --nest", code, stderr)
+	}
+	if _, err := os.Stat(out); err == nil {
+		t.Errorf("wrote %s", out)
+	}
+}
