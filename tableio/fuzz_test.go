@@ -97,7 +97,8 @@ func mustHavePrintableKeys(t *testing.T, r *Rows) {
 // FuzzKeyText writes a table whose second key is the fuzzed text in every
 // format and reads it back: the read fails with an input error exactly
 // when CheckKeyText refuses the key (a control character or bytes that
-// are not UTF-8), and otherwise gives the key back unchanged.
+// are not UTF-8), and otherwise Read and ReadTable give the key back
+// unchanged (in CSV, through the quote put before formula-like text).
 func FuzzKeyText(f *testing.F) {
 	for _, s := range []string{"Harbour Street", "N\x00", "\x1b[31m", "a\tb", "x\u0085", "Caf\xe9", "=1+2", "'-3", "\u2028"} {
 		f.Add(s)
@@ -128,6 +129,16 @@ func FuzzKeyText(f *testing.F) {
 				t.Fatalf("%s: key %q refused: %v", format, key, err)
 			case r.KeyDict[0][r.KeyCodes[0][1]] != key:
 				t.Fatalf("%s: key %q read back as %q", format, key, r.KeyDict[0][r.KeyCodes[0][1]])
+			}
+			if refused {
+				continue
+			}
+			back, err := ReadTable(path, "")
+			if err != nil {
+				t.Fatalf("%s: ReadTable: %v", format, err)
+			}
+			if c := back.Columns[1]; c.Type != String || c.Strings[1] != key {
+				t.Fatalf("%s: ReadTable read key %q back as %v %q", format, key, c.Type, c.Strings)
 			}
 		}
 	})

@@ -126,3 +126,78 @@ func TestKeyColumnsThatCannotBeKeptApart(t *testing.T) {
 		t.Errorf("wrote %s", out)
 	}
 }
+
+// TestFormulaLikeKeysInCSV: keys that a spreadsheet would run as formulas
+// are written to CSV after a quote (csv) or as they are (csv-verbatim),
+// and reconcile reads forecast's protected CSV tables back to the same
+// nodes and numbers as its Parquet tables. Before, the keys were written
+// verbatim and there was no csv-verbatim.
+func TestFormulaLikeKeysInCSV(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("month,store,sales\n")
+	stores := []string{"=1+2", "-Unassigned", "@Harbour", "Mill Lane"}
+	for m := 0; m < 30; m++ {
+		for s, store := range stores {
+			fmt.Fprintf(&b, "%d-%02d,%s,%d\n", 2023+m/12, 1+m%12, store, 50+10*s+m)
+		}
+	}
+	in := filepath.Join(t.TempDir(), "stores.csv")
+	if err := os.WriteFile(in, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	source := []string{"--input", in, "--time", "month", "--value", "sales", "--nest", "store", "--family", "drift",
+		"--horizon", "2", "--quiet", "--no-report"}
+	fc := filepath.Join(t.TempDir(), "fc")
+	if code := run(append([]string{"forecast", "--out", fc, "--format", "csv,parquet"}, source...)); code != 0 {
+		t.Fatalf("forecast exited %d", code)
+	}
+	text := readFile(t, filepath.Join(fc, "forecasts.csv"))
+	for _, want := range []string{"\nstore,'=1+2,", "\nstore,'-Unassigned,", "\nstore,'@Harbour,", "\nstore,Mill Lane,"} {
+		if !strings.Contains(text, want) {
+			t.Errorf("forecasts.csv has no line starting %q:\n%s", want[1:], head(text))
+		}
+	}
+	verbatim := filepath.Join(t.TempDir(), "verbatim")
+	if code := run(append([]string{"forecast", "--out", verbatim, "--format", "csv-verbatim"}, source...)); code != 0 {
+		t.Fatalf("forecast --format csv-verbatim exited %d", code)
+	}
+	if text := readFile(t, filepath.Join(verbatim, "forecasts.csv")); !strings.Contains(text, ",=1+2,") || strings.Contains(text, "'") {
+		t.Errorf("csv-verbatim forecasts.csv:\n%s", head(text))
+	}
+	if code := run(append([]string{"forecast", "--out", t.TempDir(), "--format", "csv,csv-verbatim"}, source...)); code != 2 {
+		t.Errorf("--format csv,csv-verbatim exited %d, want 2", code)
+	}
+	// Reconciling the CSV tables gives what reconciling the Parquet ones
+	// gives, keys and numbers.
+	reconcile := func(ext string) (keys []string, values []float64) {
+		out := filepath.Join(t.TempDir(), "rc")
+		code := run([]string{"reconcile", "--base", filepath.Join(fc, "forecasts"+ext), "--residuals", filepath.Join(fc, "residuals"+ext),
+			"--nest", "store", "--out", out, "--format", "parquet", "--quiet", "--no-report"})
+		if code != 0 {
+			t.Fatalf("reconcile of forecasts%s exited %d", ext, code)
+		}
+		tb, err := tableio.ReadTable(filepath.Join(out, "forecasts.parquet"), "")
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, c := range tb.Columns {
+			switch c.Name {
+			case "store":
+				keys = c.Strings
+			case "forecast":
+				values = c.Floats
+			}
+		}
+		return keys, values
+	}
+	csvKeys, csvValues := reconcile(".csv")
+	pqKeys, pqValues := reconcile(".parquet")
+	if strings.Join(csvKeys, "|") != strings.Join(pqKeys, "|") || fmt.Sprint(csvValues) != fmt.Sprint(pqValues) {
+		t.Errorf("reconciled from CSV: %q %v\nfrom Parquet: %q %v", csvKeys, csvValues, pqKeys, pqValues)
+	}
+	for _, s := range stores {
+		if !strings.Contains(strings.Join(csvKeys, "|"), s) {
+			t.Errorf("store %q is not among the reconciled keys %q", s, csvKeys)
+		}
+	}
+}
