@@ -201,3 +201,37 @@ func TestFormulaLikeKeysInCSV(t *testing.T) {
 		}
 	}
 }
+
+// TestUnprintableKeysAreShownEscaped: a key holding a character that does
+// not print as itself (here a right-to-left override, which reorders the
+// text after it on a terminal) is printed quoted with the character
+// escaped, in fit's headings and backtest's tables, never raw. Before,
+// keys were printed as they were.
+func TestUnprintableKeysAreShownEscaped(t *testing.T) {
+	const odd = "Mill\u202eLane"
+	var b strings.Builder
+	b.WriteString("month,store,sales\n")
+	for m := 0; m < 36; m++ {
+		for s, store := range []string{"Harbour Street", odd, "Quay Road"} {
+			fmt.Fprintf(&b, "%d-%02d,%s,%d\n", 2022+m/12, 1+m%12, store, 40+25*s+m%7)
+		}
+	}
+	in := filepath.Join(t.TempDir(), "stores.csv")
+	if err := os.WriteFile(in, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	fit := runOK(t, "fit", "--input", in, "--time", "month", "--value", "sales", "--key", "store", "--family", "drift", "--horizon", "2")
+	bt := runOK(t, "backtest", "--input", in, "--time", "month", "--value", "sales", "--nest", "store", "--family", "drift",
+		"--horizon", "2", "--origins", "2", "--quiet", "--no-report", "--format", "csv", "--out", filepath.Join(t.TempDir(), "bt"))
+	for name, out := range map[string]string{"fit": fit, "backtest": bt} {
+		if strings.Contains(out, "\u202e") {
+			t.Errorf("%s printed the override raw:\n%s", name, out)
+		}
+		if !strings.Contains(out, `Mill\u202eLane"`) {
+			t.Errorf("%s does not show the key escaped:\n%s", name, out)
+		}
+	}
+	if !strings.Contains(fit, `series "Mill\u202eLane": `) || !strings.Contains(fit, "series Harbour Street: ") {
+		t.Errorf("fit headings:\n%s", fit)
+	}
+}
