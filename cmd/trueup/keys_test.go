@@ -235,3 +235,41 @@ func TestUnprintableKeysAreShownEscaped(t *testing.T) {
 		t.Errorf("fit headings:\n%s", fit)
 	}
 }
+
+// TestKeysThatWouldCollideAreRefused: the bottom series ("a\x00b", "c")
+// and ("a", "b\x00c") are two series, but joined with NUL they read as
+// one. Such keys are refused with exit status 2, naming file, column and
+// row and showing the key escaped. Before, Parquet keys were not checked
+// and the run went on with the two series confused.
+func TestKeysThatWouldCollideAreRefused(t *testing.T) {
+	var period, region, store []string
+	var sales []float64
+	for m := 0; m < 30; m++ {
+		for s, key := range [][2]string{{"a\x00b", "c"}, {"a", "b\x00c"}, {"d", "e"}} {
+			period = append(period, fmt.Sprintf("%d-%02d", 2023+m/12, 1+m%12))
+			region, store = append(region, key[0]), append(store, key[1])
+			sales = append(sales, float64(10+10*s+m))
+		}
+	}
+	in := filepath.Join(t.TempDir(), "sales.parquet")
+	tb := &tableio.Table{Columns: []tableio.Column{
+		{Name: "month", Type: tableio.String, Strings: period},
+		{Name: "region", Type: tableio.String, Strings: region},
+		{Name: "store", Type: tableio.String, Strings: store},
+		{Name: "sales", Type: tableio.Float64, Floats: sales},
+	}}
+	if err := tableio.WriteTable(in, tb, tableio.Parquet); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(t.TempDir(), "fc")
+	code, stderr := runBin(t, "forecast", "--input", in, "--time", "month", "--value", "sales", "--nest", "region,store",
+		"--family", "drift", "--horizon", "2", "--quiet", "--out", out)
+	if code != 2 {
+		t.Fatalf("exit %d, want 2; stderr %q", code, stderr)
+	}
+	for _, want := range []string{in, "row 1", `column "region"`, `"a\x00b"`} {
+		if !strings.Contains(stderr, want) {
+			t.Errorf("stderr %q does not say %s", stderr, want)
+		}
+	}
+}
