@@ -157,8 +157,11 @@ func seedFile(f *testing.F, path string) {
 func FuzzReadParquet(f *testing.F) {
 	seedFile(f, "testdata/small.parquet")
 	f.Fuzz(func(t *testing.T, data []byte) {
-		_, err := readParquet(data, readOpts)
+		r, err := readParquet(data, readOpts)
 		mustBeInputError(t, "readParquet", err)
+		if err == nil {
+			mustHavePrintableKeys(t, r)
+		}
 		_, err = readTableParquet(data)
 		mustBeInputError(t, "readTableParquet", err)
 	})
@@ -167,8 +170,11 @@ func FuzzReadParquet(f *testing.F) {
 func FuzzReadArrow(f *testing.F) {
 	seedFile(f, "testdata/small.arrow")
 	f.Fuzz(func(t *testing.T, data []byte) {
-		_, err := readIPC(data, readOpts)
+		r, err := readIPC(data, readOpts)
 		mustBeInputError(t, "readIPC", err)
+		if err == nil {
+			mustHavePrintableKeys(t, r)
+		}
 		_, err = readTableIPC(data)
 		mustBeInputError(t, "readTableIPC", err)
 	})
