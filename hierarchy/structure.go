@@ -157,6 +157,9 @@ func Build(chains []Chain, bottom [][]string) (*Structure, error) {
 	if len(bottom) == 0 {
 		return nil, inputerr.New("no series to forecast")
 	}
+	if err := checkLevelNames(chains); err != nil {
+		return nil, err
+	}
 	// Nesting: within a chain, each value at depth k>0 has one parent path.
 	// Paths are compared value by value, never as joined text, so that a
 	// key holding the joining character cannot pass for another path.

@@ -144,3 +144,23 @@ func TestNestingComparesPathsValueByValue(t *testing.T) {
 		t.Fatalf("got %v, want a nesting violation showing both parent paths", err)
 	}
 }
+
+// TestLevelNamesMustDiffer: a key column named "total", or "a+b" beside
+// the chains a and b, would give two levels one name; before, both levels
+// were written and scored under that one name.
+func TestLevelNamesMustDiffer(t *testing.T) {
+	for _, nest := range [][]string{{"total"}, {"region", "total"}, {"a", "b", "a+b"}} {
+		chains, err := ParseNest(nest)
+		if err != nil {
+			t.Fatal(err)
+		}
+		key := make([]string, len(nest))
+		for i := range key {
+			key[i] = "x"
+		}
+		_, err = Build(chains, [][]string{key})
+		if err == nil || !inputerr.Is(err) || !strings.Contains(err.Error(), "two levels") {
+			t.Errorf("%v: got %v, want an input error about two levels of one name", nest, err)
+		}
+	}
+}
