@@ -71,6 +71,9 @@ func LoadTables(ts Tables) (*BaseSet, error) {
 	for _, ch := range ts.Chains {
 		attrs = append(attrs, ch...)
 	}
+	if err := checkKeyColumns(attrs); err != nil {
+		return nil, err
+	}
 	// The residuals table is read and arranged beside the base table, on
 	// the other core; its errors count only after the base table's.
 	type loaded struct {

@@ -18,6 +18,7 @@ type nodeTable struct {
 	path    string
 	t       *tableio.Table
 	attrs   []string
+	keyCols []string           // the column of each attribute (see keyColumnIn)
 	dicts   []map[string]int32 // per attribute: value → code ("" is code 0)
 	values  [][]string         // per attribute: code → value
 	codes   [][]int32          // per attribute, per row
@@ -36,7 +37,14 @@ func newNodeTable(path string, t *tableio.Table, attrs []string, want string) (*
 	for _, c := range t.Columns {
 		names = append(names, c.Name)
 	}
-	for _, need := range append(append([]string(nil), attrs...), "period", want) {
+	for _, a := range attrs {
+		col, err := keyColumnIn(nt.columns, a, want)
+		if err != nil {
+			return nil, &inputerr.Error{File: path, Column: a, Err: err}
+		}
+		nt.keyCols = append(nt.keyCols, col)
+	}
+	for _, need := range append(append([]string(nil), nt.keyCols...), "period", want) {
 		if _, ok := nt.columns[need]; !ok {
 			return nil, inputerr.New("%s has no column %q (columns: %s)", path, need, strings.Join(names, ", "))
 		}
@@ -47,8 +55,8 @@ func newNodeTable(path string, t *tableio.Table, attrs []string, want string) (*
 	if nt.rows == 0 {
 		return nil, inputerr.New("%s has no rows", path)
 	}
-	for _, a := range attrs {
-		col := t.Columns[nt.columns[a]]
+	for i, a := range attrs {
+		col := t.Columns[nt.columns[nt.keyCols[i]]]
 		dict := map[string]int32{"": 0}
 		vals := []string{""}
 		codes := make([]int32, nt.rows)
@@ -56,6 +64,9 @@ func newNodeTable(path string, t *tableio.Table, attrs []string, want string) (*
 			s := cellString(col, r)
 			code, ok := dict[s]
 			if !ok {
+				if err := tableio.CheckKeyText(s); err != nil {
+					return nil, &inputerr.Error{File: path, Row: r + 1, Column: a, Err: err}
+				}
 				code = int32(len(vals))
 				dict[s] = code
 				vals = append(vals, s)
@@ -81,12 +92,27 @@ func newNodeTable(path string, t *tableio.Table, attrs []string, want string) (*
 // integer column, String otherwise).
 func (nt *nodeTable) keyTypes() []tableio.ColumnType {
 	out := make([]tableio.ColumnType, len(nt.attrs))
-	for a, name := range nt.attrs {
+	for a, name := range nt.keyCols {
 		if nt.t.Columns[nt.columns[name]].Type == tableio.Int64 {
 			out[a] = tableio.Int64
 		}
 	}
 	return out
+}
+
+// keyColumnIn names the column of a table (columns: name → position) that
+// holds key attribute attr: KeyColumn(attr) as trueup writes it when the
+// table has that column, else attr itself, unless attr is a column the
+// table is read for (period, the value column want, base_variance).
+func keyColumnIn(columns map[string]int, attr, want string) (string, error) {
+	prefixed := KeyColumn(attr)
+	if _, ok := columns[prefixed]; ok || prefixed == attr {
+		return prefixed, nil
+	}
+	if attr == "period" || attr == want || attr == "base_variance" {
+		return "", fmt.Errorf("the key column %q must be named %q here, since %q is read as the %s column", attr, prefixed, attr, attr)
+	}
+	return attr, nil
 }
 
 func (nt *nodeTable) has(col string) bool { _, ok := nt.columns[col]; return ok }

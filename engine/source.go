@@ -72,6 +72,9 @@ func Load(src Source) (*Data, error) {
 	for _, c := range src.Chains {
 		keys = append(keys, c...)
 	}
+	if err := checkKeyColumns(keys); err != nil {
+		return nil, err
+	}
 	start := time.Now()
 	rows, err := tableio.Read(src.Path, tableio.ReadOptions{Format: src.Format, Time: src.Time, Value: src.Value, Keys: keys,
 		TimeKind: src.TimeKind, Comma: src.Comma})

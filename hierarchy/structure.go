@@ -6,7 +6,9 @@ package hierarchy
 
 import (
 	"math"
+	"slices"
 	"sort"
+	"strconv"
 	"strings"
 
 	"trueup/inputerr"
@@ -118,6 +120,16 @@ func (s *Structure) Label(i int) string {
 	return strings.Join(parts, " ")
 }
 
+// quotePath shows the values of a key path quoted (Go syntax, so that
+// any character is visible) and joined by "/": "North"/"N01".
+func quotePath(values []string) string {
+	q := make([]string, len(values))
+	for i, v := range values {
+		q[i] = strconv.Quote(v)
+	}
+	return strings.Join(q, "/")
+}
+
 // levelName joins the kept attributes with "+", or "total".
 func levelName(chains []Chain, depth []int) string {
 	var kept []string
@@ -145,17 +157,22 @@ func Build(chains []Chain, bottom [][]string) (*Structure, error) {
 	if len(bottom) == 0 {
 		return nil, inputerr.New("no series to forecast")
 	}
+	if err := checkLevelNames(chains); err != nil {
+		return nil, err
+	}
 	// Nesting: within a chain, each value at depth k>0 has one parent path.
+	// Paths are compared value by value, never as joined text, so that a
+	// key holding the joining character cannot pass for another path.
 	for c, ch := range chains {
 		for k := 1; k < len(ch); k++ {
-			parent := map[string]string{}
+			parent := map[string][]string{}
 			for _, key := range bottom {
 				v := key[start[c]+k]
-				p := strings.Join(key[start[c]:start[c]+k], "/")
-				if prev, ok := parent[v]; ok && prev != p {
+				p := key[start[c] : start[c]+k]
+				if prev, ok := parent[v]; ok && !slices.Equal(prev, p) {
 					return nil, inputerr.New(
-						"nesting violated: %s %q appears under %s %q and under %q; each %s must belong to one %s",
-						ch[k], v, strings.Join(ch[:k], "/"), prev, p, ch[k], strings.Join(ch[:k], "/"))
+						"nesting violated: %s %q appears under %s %s and under %s; each %s must belong to one %s",
+						ch[k], v, strings.Join(ch[:k], "/"), quotePath(prev), quotePath(p), ch[k], strings.Join(ch[:k], "/"))
 				}
 				parent[v] = p
 			}
@@ -169,7 +186,7 @@ func Build(chains []Chain, bottom [][]string) (*Structure, error) {
 	sort.Slice(order, func(a, b int) bool { return lessKey(bottom[order[a]], bottom[order[b]]) })
 	for i := 1; i < len(order); i++ {
 		if equalKey(bottom[order[i-1]], bottom[order[i]]) {
-			return nil, inputerr.New("bottom key %s appears twice", strings.Join(bottom[order[i]], "/"))
+			return nil, inputerr.New("bottom key %s appears twice", quotePath(bottom[order[i]]))
 		}
 	}
 	sorted := make([][]string, len(bottom))

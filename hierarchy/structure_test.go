@@ -132,3 +132,35 @@ func TestParseNestErrors(t *testing.T) {
 		}
 	}
 }
+
+// TestNestingComparesPathsValueByValue: the parent paths "x/y"+"z" and
+// "x"+"y/z" joined with "/" read the same; store S1 under both is still
+// two parents. Before, the joined paths compared equal and the violation
+// passed.
+func TestNestingComparesPathsValueByValue(t *testing.T) {
+	chains, _ := ParseNest([]string{"region,district,store"})
+	_, err := Build(chains, [][]string{{"x/y", "z", "S1"}, {"x", "y/z", "S1"}})
+	if err == nil || !inputerr.Is(err) || !strings.Contains(err.Error(), `"x/y"/"z"`) || !strings.Contains(err.Error(), `"x"/"y/z"`) {
+		t.Fatalf("got %v, want a nesting violation showing both parent paths", err)
+	}
+}
+
+// TestLevelNamesMustDiffer: a key column named "total", or "a+b" beside
+// the chains a and b, would give two levels one name; before, both levels
+// were written and scored under that one name.
+func TestLevelNamesMustDiffer(t *testing.T) {
+	for _, nest := range [][]string{{"total"}, {"region", "total"}, {"a", "b", "a+b"}} {
+		chains, err := ParseNest(nest)
+		if err != nil {
+			t.Fatal(err)
+		}
+		key := make([]string, len(nest))
+		for i := range key {
+			key[i] = "x"
+		}
+		_, err = Build(chains, [][]string{key})
+		if err == nil || !inputerr.Is(err) || !strings.Contains(err.Error(), "two levels") {
+			t.Errorf("%v: got %v, want an input error about two levels of one name", nest, err)
+		}
+	}
+}

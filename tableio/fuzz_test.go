@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"math/rand/v2"
 	"os"
+	"path/filepath"
 	"strconv"
 	"testing"
 
@@ -63,14 +64,83 @@ func FuzzReadCSV(f *testing.F) {
 		"period\tstore\tsales\n2024-01-31\tMill Lane\t3\n",
 		"\"period\",\"store\",\"sales\"\n\"2024\",\"a\"\"b\",1e3\n",
 		"period,store,sales\n",
+		"period,store,sales\n2024-01,N\x00,1\n2024-01,N,2\n",
+		"period,store,sales\n2024-01,\"a\tb\",1\n2024-01,\x1b[2J,2\n",
+		"period,store,sales\n2024-01,\"a\rb\",1\n2024-01,\"x\u0085\",2\n",
 	} {
 		f.Add([]byte(s))
 	}
 	f.Fuzz(func(t *testing.T, data []byte) {
-		_, err := readCSV(data, readOpts)
+		r, err := readCSV(data, readOpts)
 		mustBeInputError(t, "readCSV", err)
+		if err == nil {
+			mustHavePrintableKeys(t, r)
+		}
 		_, err = readTableCSV(data)
 		mustBeInputError(t, "readTableCSV", err)
+	})
+}
+
+// mustHavePrintableKeys fails when a read let through a key that
+// CheckKeyText refuses.
+func mustHavePrintableKeys(t *testing.T, r *Rows) {
+	t.Helper()
+	for k, dict := range r.KeyDict {
+		for _, s := range dict {
+			if err := CheckKeyText(s); err != nil {
+				t.Fatalf("column %q: read a key that must be refused: %v", r.KeyNames[k], err)
+			}
+		}
+	}
+}
+
+// FuzzKeyText writes a table whose second key is the fuzzed text in every
+// format and reads it back: the read fails with an input error exactly
+// when CheckKeyText refuses the key (a control character or bytes that
+// are not UTF-8), and otherwise Read and ReadTable give the key back
+// unchanged (in CSV, through the quote put before formula-like text).
+func FuzzKeyText(f *testing.F) {
+	for _, s := range []string{"Harbour Street", "N\x00", "\x1b[31m", "a\tb", "x\u0085", "Caf\xe9", "=1+2", "'-3", "\u2028"} {
+		f.Add(s)
+	}
+	dir := f.TempDir()
+	f.Fuzz(func(t *testing.T, key string) {
+		if key == "" {
+			return // refused as an empty key
+		}
+		refused := CheckKeyText(key) != nil
+		tab := &Table{Columns: []Column{
+			{Name: "period", Type: String, Strings: []string{"2024-01", "2024-01"}},
+			{Name: "store", Type: String, Strings: []string{"Harbour Street", key}},
+			{Name: "sales", Type: Float64, Floats: []float64{1, 2}},
+		}}
+		for _, format := range []Format{CSV, Parquet, Arrow} {
+			path := filepath.Join(dir, "t"+format.Ext())
+			if err := WriteTable(path, tab, format); err != nil {
+				t.Fatal(err)
+			}
+			r, err := Read(path, readOpts)
+			switch {
+			case refused && err == nil:
+				t.Fatalf("%s: key %q was read", format, key)
+			case refused:
+				mustBeInputError(t, string(format), err)
+			case err != nil:
+				t.Fatalf("%s: key %q refused: %v", format, key, err)
+			case r.KeyDict[0][r.KeyCodes[0][1]] != key:
+				t.Fatalf("%s: key %q read back as %q", format, key, r.KeyDict[0][r.KeyCodes[0][1]])
+			}
+			if refused {
+				continue
+			}
+			back, err := ReadTable(path, "")
+			if err != nil {
+				t.Fatalf("%s: ReadTable: %v", format, err)
+			}
+			if c := back.Columns[1]; c.Type != String || c.Strings[1] != key {
+				t.Fatalf("%s: ReadTable read key %q back as %v %q", format, key, c.Type, c.Strings)
+			}
+		}
 	})
 }
 
@@ -87,8 +157,11 @@ func seedFile(f *testing.F, path string) {
 func FuzzReadParquet(f *testing.F) {
 	seedFile(f, "testdata/small.parquet")
 	f.Fuzz(func(t *testing.T, data []byte) {
-		_, err := readParquet(data, readOpts)
+		r, err := readParquet(data, readOpts)
 		mustBeInputError(t, "readParquet", err)
+		if err == nil {
+			mustHavePrintableKeys(t, r)
+		}
 		_, err = readTableParquet(data)
 		mustBeInputError(t, "readTableParquet", err)
 	})
@@ -97,8 +170,11 @@ func FuzzReadParquet(f *testing.F) {
 func FuzzReadArrow(f *testing.F) {
 	seedFile(f, "testdata/small.arrow")
 	f.Fuzz(func(t *testing.T, data []byte) {
-		_, err := readIPC(data, readOpts)
+		r, err := readIPC(data, readOpts)
 		mustBeInputError(t, "readIPC", err)
+		if err == nil {
+			mustHavePrintableKeys(t, r)
+		}
 		_, err = readTableIPC(data)
 		mustBeInputError(t, "readTableIPC", err)
 	})

@@ -149,6 +149,9 @@ func (c *collector) finish() (*Rows, error) {
 	for k, enc := range c.keys {
 		r.KeyCodes[k], r.KeyDict[k] = enc.codes, enc.dict
 	}
+	if err := checkKeyDicts(r); err != nil {
+		return nil, err
+	}
 	return r, nil
 }
 

@@ -16,10 +16,14 @@ import (
 
 // readCSV reads a CSV file with a header row (RFC 4180 quoting, as
 // encoding/csv reads it; CRLF or LF line ends). A leading UTF-8 byte order
-// mark is skipped. The separator is opt.Comma, or detected from the header
+// mark is skipped. Column names and keys lose the quote WriteTable puts
+// before text a spreadsheet would run as a formula (see csvtext.go). The separator is opt.Comma, or detected from the header
 // (see ReadOptions.Comma). With a separator other than ',' a value such as
 // 12,5 is read with a decimal comma, as such exports write it.
 func readCSV(data []byte, opt ReadOptions) (*Rows, error) {
+	// A binary file is told apart early by its first 64 KiB; a NUL (or
+	// any control character) in a key further on is refused by
+	// CheckKeyText on the key's first appearance, wherever it is.
 	if bytes.IndexByte(data[:min(len(data), 1<<16)], 0) >= 0 {
 		return nil, inputerr.New("not a CSV text file (it contains NUL bytes)")
 	}
@@ -39,7 +43,7 @@ func readCSV(data []byte, opt ReadOptions) (*Rows, error) {
 	}
 	columns := make([]string, len(header))
 	for i, h := range header {
-		columns[i] = strings.TrimSpace(h)
+		columns[i] = unprotectCSV(strings.TrimSpace(h))
 	}
 	ti, vi, ki, err := findColumns(columns, opt)
 	if err != nil {
@@ -76,11 +80,17 @@ func readCSV(data []byte, opt ReadOptions) (*Rows, error) {
 		td.periods = append(td.periods, p)
 		rows.Values = append(rows.Values, v)
 		for k, enc := range keys {
-			s := rec[ki[k]]
+			s := unprotectCSV(rec[ki[k]])
 			if s == "" {
 				return nil, &inputerr.Error{Line: line(ki[k]), Column: opt.Keys[k], Msg: fmt.Sprintf("key column %q is empty", opt.Keys[k])}
 			}
+			known := len(enc.dict)
 			enc.codes = append(enc.codes, enc.code(s))
+			if len(enc.dict) > known {
+				if err := CheckKeyText(s); err != nil {
+					return nil, atLine(line(ki[k]), opt.Keys[k], err)
+				}
+			}
 		}
 	}
 	td.finish(opt.TimeKind)

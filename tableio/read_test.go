@@ -421,7 +421,7 @@ func TestReadBadInput(t *testing.T) {
 		}, opt,
 			[]string{"line 3", `key column "store" is empty`}},
 		{"line counts quoted newlines", func(t *testing.T) string {
-			return writeFile(t, "ql.csv", "period,store,sales\n2024-01,\"A\nB\",1\n2024-01,C,x\n")
+			return writeFile(t, "ql.csv", "period,store,sales,note\n2024-01,A,1,\"two\nlines\"\n2024-01,C,x,\n")
 		}, opt, []string{"line 4", `"x" is not a number`}},
 		{"unparseable period csv", func(t *testing.T) string {
 			return writeFile(t, "p.csv", "period,store,sales\n2024-01,A,1\n2024-13,A,1\n")

@@ -27,6 +27,8 @@ import (
 //
 // CSV has no types: a column is Float64 when every non-empty field parses
 // with strconv.ParseFloat, String otherwise, and empty fields are null.
+// Column names and text cells lose the quote WriteTable puts before text
+// a spreadsheet would run as a formula (see csvtext.go).
 func ReadTable(path string, f Format) (*Table, error) {
 	f, err := formatOf(path, f)
 	if err != nil {
@@ -59,10 +61,15 @@ func readTableCSV(data []byte) (*Table, error) {
 		return nil, inputerr.New("not a CSV text file (it contains NUL bytes)")
 	}
 	data = bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))
-	if t, ok := readTablePlainCSV(data); ok {
-		return t, nil
+	t, ok := readTablePlainCSV(data)
+	if !ok {
+		var err error
+		if t, err = readTableCSVRecords(data); err != nil {
+			return nil, err
+		}
 	}
-	return readTableCSVRecords(data)
+	unprotectTable(t)
+	return t, nil
 }
 
 // readTableCSVRecords is readTableCSV through encoding/csv, for any file.

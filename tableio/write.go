@@ -21,10 +21,28 @@ import (
 // WriteFileAtomic). Null entries and NaN floats become nulls: Parquet and
 // Arrow nulls, empty CSV fields. Parquet output is Snappy-compressed and
 // carries no timestamps, so the same table always gives the same bytes.
+// CSV text that a spreadsheet would run as a formula gets a leading
+// single quote (see csvtext.go; WriteTableWith can turn that off).
 //
 // A table whose columns disagree in length or type is a programmer error,
 // reported as an error before anything is written.
 func WriteTable(path string, t *Table, f Format) error {
+	return WriteTableWith(path, t, f, WriteOptions{})
+}
+
+// WriteOptions are the settings of WriteTableWith; the zero value gives
+// WriteTable.
+type WriteOptions struct {
+	// VerbatimCSV writes CSV text cells and column names exactly as they
+	// are, without the leading quote that keeps a spreadsheet from
+	// running "=...", "+...", "-..." or "@..." as a formula. For programs
+	// that read the text as it is; ReadTable would take the first quote
+	// off a cell that starts with a quote and one of those characters.
+	VerbatimCSV bool
+}
+
+// WriteTableWith is WriteTable with options.
+func WriteTableWith(path string, t *Table, f Format, opt WriteOptions) error {
 	n, err := checkTable(t)
 	if err != nil {
 		return fmt.Errorf("write %s: %w", path, err)
@@ -32,7 +50,11 @@ func WriteTable(path string, t *Table, f Format) error {
 	var write func(io.Writer) error
 	switch f {
 	case CSV:
-		write = func(w io.Writer) error { return writeCSV(w, t, n) }
+		text := protectCSV
+		if opt.VerbatimCSV {
+			text = func(s string) string { return s }
+		}
+		write = func(w io.Writer) error { return writeCSV(w, t, n, text) }
 	case Parquet:
 		write = func(w io.Writer) error { return writeParquet(w, t, n) }
 	case Arrow:
@@ -91,11 +113,13 @@ func (c *Column) isNull(i int) bool {
 	return c.Type == Float64 && math.IsNaN(c.Floats[i])
 }
 
-func writeCSV(w io.Writer, t *Table, n int) error {
+// writeCSV writes t as CSV, passing every column name and text cell
+// through text.
+func writeCSV(w io.Writer, t *Table, n int, text func(string) string) error {
 	cw := csv.NewWriter(w)
 	rec := make([]string, len(t.Columns))
 	for j, c := range t.Columns {
-		rec[j] = c.Name
+		rec[j] = text(c.Name)
 	}
 	if err := cw.Write(rec); err != nil {
 		return err
@@ -108,7 +132,7 @@ func writeCSV(w io.Writer, t *Table, n int) error {
 			case c.isNull(i):
 				rec[j] = ""
 			case c.Type == String:
-				rec[j] = c.Strings[i]
+				rec[j] = text(c.Strings[i])
 			case c.Type == Float64:
 				rec[j] = string(appendCSVFloat(buf[:0], c.Floats[i]))
 			case c.Type == Date:

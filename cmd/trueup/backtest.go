@@ -225,7 +225,7 @@ func printBacktest(w io.Writer, bt *engine.BacktestResult, files []string, asJSO
 	if len(warnings) > 0 {
 		fmt.Fprintln(w, "\nWarnings:")
 		for _, warn := range warnings {
-			fmt.Fprintln(w, "  -", warn)
+			fmt.Fprintln(w, "  -", escapeUnprintable(warn))
 		}
 	}
 	fmt.Fprintln(w, "\nFiles:")
@@ -263,7 +263,7 @@ func printDrivers(w io.Writer, bt *engine.BacktestResult, method string) {
 	var parts []string
 	for _, level := range levels[1 : len(levels)-1] {
 		if d := at.TopDrivers(method, "total", level, 1); len(d) == 1 {
-			parts = append(parts, fmt.Sprintf("%s %s (%.1f%%)", level, strings.TrimPrefix(d[0].Node, level+"="), 100*d[0].Share))
+			parts = append(parts, fmt.Sprintf("%s %s (%.1f%%)", shownKey(level), shownKey(strings.TrimPrefix(d[0].Node, level+"=")), 100*d[0].Share))
 		}
 	}
 	if len(parts) > 0 {

@@ -350,7 +350,7 @@ func (r *fitRun) writeText(w io.Writer, i int, nf *engine.NodeFit) error {
 	}
 	name := "series"
 	if v.key != nil {
-		name += " " + r.keys[i]
+		name += " " + shownKey(r.keys[i])
 	}
 	fmt.Fprintf(w, "%s: %s\n", name, nf.Spec)
 	fmt.Fprintf(w, "  family   %s\n", nf.Family)

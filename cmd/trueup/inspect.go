@@ -73,7 +73,7 @@ Nothing is written.`,
 						fmt.Fprintf(w, "  … and %d more (--json lists all)\n", len(group.spans)-listMax)
 						break
 					}
-					fmt.Fprintf(w, "  %s: %s to %s\n", s.Key, s.First, s.Last)
+					fmt.Fprintf(w, "  %s: %s to %s\n", shownKey(s.Key), s.First, s.Last)
 				}
 			}
 			return nil

@@ -90,9 +90,9 @@ func run(args []string) int {
 		return exitOK
 	}
 	if flag := optionFlags[inputerr.OptionOf(err)]; flag != "" && !strings.Contains(err.Error(), flag) {
-		fmt.Fprintf(os.Stderr, "trueup: %s: %v\n", flag, err)
+		fmt.Fprintf(os.Stderr, "trueup: %s: %s\n", flag, escapeUnprintable(err.Error()))
 	} else {
-		fmt.Fprintln(os.Stderr, "trueup:", err)
+		fmt.Fprintln(os.Stderr, "trueup:", escapeUnprintable(err.Error()))
 	}
 	var ue *usageError
 	// Cobra reports an unknown command as a plain error.

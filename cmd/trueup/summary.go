@@ -93,7 +93,7 @@ func printTail(w io.Writer, res *engine.Result, files []string) {
 	if len(rep.Warnings) > 0 {
 		fmt.Fprintln(w, "\nWarnings:")
 		for _, warn := range rep.Warnings {
-			fmt.Fprintln(w, "  -", warn)
+			fmt.Fprintln(w, "  -", escapeUnprintable(warn))
 		}
 	}
 	fmt.Fprintln(w, "\nFiles:")

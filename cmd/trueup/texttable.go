@@ -17,8 +17,22 @@ func textTable(w io.Writer, header []string, rows [][]string) {
 	indentedTable(w, "", header, rows)
 }
 
-// indentedTable is textTable with every line indented.
+// indentedTable is textTable with every line indented. Cells that do not
+// print as themselves (keys, level names) are shown quoted (shownKey).
 func indentedTable(w io.Writer, indent string, header []string, rows [][]string) {
+	shownRow := func(r []string) []string {
+		out := make([]string, len(r))
+		for c, cell := range r {
+			out[c] = shownKey(cell)
+		}
+		return out
+	}
+	header = shownRow(header)
+	shown := make([][]string, len(rows))
+	for i, r := range rows {
+		shown[i] = shownRow(r)
+	}
+	rows = shown
 	width := make([]int, len(header))
 	for _, r := range append([][]string{header}, rows...) {
 		for c, cell := range r {

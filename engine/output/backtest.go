@@ -134,13 +134,14 @@ func nodeKeys(cols []tableio.Column, st *hierarchy.Structure, i int) {
 }
 
 // emptyKeys returns the level column and one empty column per key
-// attribute, typed as the input's key columns.
+// attribute, typed as the input's key columns and named as keyColumns
+// names them.
 func emptyKeys(st *hierarchy.Structure, types []tableio.ColumnType) []tableio.Column {
 	cols := []tableio.Column{strCol("level")}
 	for a, name := range st.Attrs {
-		c := strCol(name)
+		c := strCol(engine.KeyColumn(name))
 		if a < len(types) && types[a] == tableio.Int64 {
-			c = intCol(name)
+			c = intCol(engine.KeyColumn(name))
 		}
 		c.Null = []bool{}
 		cols = append(cols, c)

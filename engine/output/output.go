@@ -73,7 +73,8 @@ func Formats() []string {
 
 // ParseFormats reads a comma-separated list of format names such as
 // "parquet,csv". Repeated names count once, in order of first mention; an
-// empty list or an unknown name is an input error about option "Formats".
+// empty list, an unknown name, or both "csv" and "csv-verbatim" (which
+// write the same files) is an input error about option "Formats".
 func ParseFormats(s string) ([]string, error) {
 	var out []string
 	seen := map[string]bool{}
@@ -87,6 +88,9 @@ func ParseFormats(s string) ([]string, error) {
 		}
 		seen[name] = true
 		out = append(out, name)
+	}
+	if seen[string(tableio.CSV)] && seen[VerbatimCSV] {
+		return nil, inputerr.ForOption("Formats", "formats %q and %q both write the .csv tables; choose one", tableio.CSV, VerbatimCSV)
 	}
 	if len(out) == 0 {
 		return nil, inputerr.ForOption("Formats", "no output format given (formats: %s)", strings.Join(Formats(), ", "))
@@ -221,7 +225,10 @@ func records(s string, names []string) ([]engine.FileRecord, error) {
 }
 
 // tableWriter writes the result's tables in one table format.
-type tableWriter struct{ format tableio.Format }
+type tableWriter struct {
+	format tableio.Format
+	opt    tableio.WriteOptions
+}
 
 func (t tableWriter) Write(dir string, res *engine.Result) ([]string, error) {
 	return t.WriteTables(dir, res, Tables(res))
@@ -232,7 +239,7 @@ func (t tableWriter) WriteTables(dir string, _ *engine.Result, tables []Table) (
 	var files []string
 	for _, tb := range tables {
 		path := filepath.Join(dir, tb.Name+t.format.Ext())
-		if err := tableio.WriteTable(path, tb.Table, t.format); err != nil {
+		if err := tableio.WriteTableWith(path, tb.Table, t.format, t.opt); err != nil {
 			return files, fmt.Errorf("write %s: %w", path, err)
 		}
 		files = append(files, path)
@@ -240,8 +247,14 @@ func (t tableWriter) WriteTables(dir string, _ *engine.Result, tables []Table) (
 	return files, nil
 }
 
+// VerbatimCSV is the format name of CSV tables whose text is written
+// exactly as it is; "csv" puts a quote before text that a spreadsheet
+// would run as a formula (see tableio.WriteOptions).
+const VerbatimCSV = "csv-verbatim"
+
 func init() {
 	for _, f := range []tableio.Format{tableio.Parquet, tableio.CSV, tableio.Arrow} {
-		Register(string(f), tableWriter{f})
+		Register(string(f), tableWriter{format: f})
 	}
+	Register(VerbatimCSV, tableWriter{format: tableio.CSV, opt: tableio.WriteOptions{VerbatimCSV: true}})
 }

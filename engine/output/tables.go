@@ -34,7 +34,9 @@ func Tables(res *engine.Result) []Table {
 // keyColumns returns one column per key attribute with the node's value,
 // or null where the node aggregates over that attribute; an attribute that
 // was an integer column in the input is written as integers again. repeat
-// says how many consecutive rows each node occupies.
+// says how many consecutive rows each node occupies. A column is named by
+// engine.KeyColumn: "key_origin" for an attribute named like a result
+// column.
 func keyColumns(res *engine.Result, repeat int) []tableio.Column {
 	st := res.Structure
 	cols := make([]tableio.Column, len(st.Attrs)+1)
@@ -43,7 +45,7 @@ func keyColumns(res *engine.Result, repeat int) []tableio.Column {
 	integer := make([]bool, len(st.Attrs))
 	for a, name := range st.Attrs {
 		integer[a] = a < len(res.KeyTypes) && res.KeyTypes[a] == tableio.Int64
-		cols[a+1] = tableio.Column{Name: name, Type: tableio.String, Null: make([]bool, 0, n)}
+		cols[a+1] = tableio.Column{Name: engine.KeyColumn(name), Type: tableio.String, Null: make([]bool, 0, n)}
 		if integer[a] {
 			cols[a+1].Type, cols[a+1].Ints = tableio.Int64, make([]int64, 0, n)
 		} else {

@@ -79,3 +79,32 @@ func TestHistoryAndResidualCheck(t *testing.T) {
 		t.Fatal("no node was tested")
 	}
 }
+
+// TestResultColumnsAreKnown keeps engine.IsResultColumn complete: every
+// column that a table with key columns writes beside them (after level and
+// the key columns) is one it names, so a key column of that name is
+// written under the prefix instead of clashing.
+func TestResultColumnsAreKnown(t *testing.T) {
+	d := smallChain(t)
+	opt := engine.Options{Horizon: 3, Model: families.Spec{Family: "drift"}, Levels: []float64{80, 97.5}}
+	res, err := engine.Forecast(context.Background(), d, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	bt, err := engine.Backtest(context.Background(), d, engine.BacktestOptions{Options: opt, Origins: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	attrs := len(res.Structure.Attrs)
+	for _, tb := range append(output.Tables(res), output.BacktestTables(bt)...) {
+		cols := tb.Table.Columns
+		if cols[0].Name != "level" || len(cols) <= attrs || cols[1].Name != res.Structure.Attrs[0] {
+			continue // no key columns (scores, drivers, ...)
+		}
+		for _, c := range cols[1+attrs:] {
+			if !engine.IsResultColumn(c.Name) {
+				t.Errorf("%s: column %q is not a result column for engine.KeyColumn", tb.Name, c.Name)
+			}
+		}
+	}
+}
