@@ -262,7 +262,7 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	}
 	fits, err := opt.Fitter.Fit(ctx, jobs, opt.Progress)
 	if err != nil {
-		return nil, err
+		return nil, nameFormError(err, st.Label)
 	}
 	stage("fit", start)
 
