@@ -2,7 +2,11 @@ package engine
 
 import (
 	"context"
+	"crypto/sha256"
+	"encoding/hex"
 	"fmt"
+	"io"
+	"os"
 	"time"
 
 	"trueup/hierarchy"
@@ -101,7 +105,11 @@ func LoadTables(ts Tables) (*BaseSet, error) {
 	if err != nil {
 		return nil, err
 	}
-	bs := &BaseSet{Structure: st, Input: InputReport{Path: ts.Base, Rows: base.rows, Columns: columnNames(baseT)},
+	sum, err := fileSHA256(ts.Base)
+	if err != nil {
+		return nil, err
+	}
+	bs := &BaseSet{Structure: st, Input: InputReport{Path: ts.Base, SHA256: sum, Rows: base.rows, Columns: columnNames(baseT)},
 		KeyTypes: base.keyTypes()}
 	nodes := newNodeIndex(st, base.dicts)
 	if bs.Base, bs.Periods, err = base.matrix(nodes, "base", everyPeriod); err != nil {
@@ -285,6 +293,10 @@ func Reconcile(ctx context.Context, bs *BaseSet, opt ReconcileOptions) (*Result,
 	c := &res.Report.Counts
 	c.BottomSeries, c.Nodes, c.Periods, c.Horizon = st.NumBottom(), n, T, h
 	c.Grain = bs.Periods[0].Grain.String()
+	c.SeasonalLag = bs.Periods[0].Grain.SeasonalPeriod()
+	if T > 0 {
+		c.FirstPeriod, c.LastPeriod = first.String(), bs.Periods[0].Next(-1).String()
+	}
 	c.ForecastRange = [2]string{bs.Periods[0].String(), bs.Periods[h-1].String()}
 	for _, l := range st.Levels {
 		c.NodesPerLevel = append(c.NodesPerLevel, LevelCount{Level: l.Name, Nodes: len(l.Nodes)})
@@ -315,4 +327,19 @@ func orNaN(rows [][]float64, n, T int) [][]float64 {
 		out[i] = nanRow(T)
 	}
 	return out
+}
+
+// fileSHA256 is the hex SHA-256 of the file's bytes, for run.json's input
+// record (tableio.Read computes it for a sales table as it reads).
+func fileSHA256(path string) (string, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return "", inputerr.Wrap(path, err)
+	}
+	defer f.Close()
+	h := sha256.New()
+	if _, err := io.Copy(h, f); err != nil {
+		return "", inputerr.Wrap(path, err)
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
 }

@@ -172,7 +172,9 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 		return Solution{}, vr.err
 	}
 	sol := coherent(p.Structure, denseRows(bottom))
-	if errc != nil {
+	if errc != nil && pr.Cov == CovShrink {
+		// Only the shrink covariance is shrunk: with any other the λ
+		// estimated on the way is used nowhere and is not reported.
 		sol.Notes["lambda"] = errc.lambda
 	}
 	sol.Variance = vr.v
