@@ -11,6 +11,7 @@ import (
 
 	"trueup/hierarchy"
 	"trueup/inputerr"
+	"trueup/internal/crash"
 	"trueup/tableio"
 )
 
@@ -84,13 +85,15 @@ func LoadTables(ts Tables) (*BaseSet, error) {
 	resDone := make(chan loaded, 1)
 	if ts.Residuals != "" {
 		go func() {
+			var l loaded
+			defer func() { resDone <- l }()
+			defer crash.Catch(&l.err)
 			rt, err := tableio.ReadTable(ts.Residuals, ts.Format)
 			if err != nil {
-				resDone <- loaded{err: err}
+				l.err = err
 				return
 			}
-			res, err := newNodeTable(ts.Residuals, rt, attrs, "residual")
-			resDone <- loaded{res, err}
+			l.t, l.err = newNodeTable(ts.Residuals, rt, attrs, "residual")
 		}()
 	}
 	baseT, err := tableio.ReadTable(ts.Base, ts.Format)
@@ -200,9 +203,19 @@ func Reconcile(ctx context.Context, bs *BaseSet, opt ReconcileOptions) (*Result,
 	if bs.Residuals != nil {
 		T = len(bs.Residuals[0])
 	}
-	var bottom [][]float64
 	if bs.History != nil {
 		T = max(T, bs.History.Panel.T)
+	}
+	budget, err := memoryBudget()
+	if err != nil {
+		return nil, err
+	}
+	if err := checkRunMemory(budget, n, len(st.Attrs), T, h,
+		bs.Periods[0].Next(-T).String()+" to "+bs.Periods[0].Next(-1).String(), method.Name() == "mint"); err != nil {
+		return nil, err
+	}
+	var bottom [][]float64
+	if bs.History != nil {
 		bottom = make([][]float64, st.NumBottom())
 		for j := range bottom {
 			bottom[j] = nanRow(T)

@@ -55,6 +55,9 @@ type PanelStats struct {
 type PanelOptions struct {
 	Grain         *tableio.Grain // nil: the data's own grain
 	SumDuplicates bool
+	// MemoryBudget, when positive, is the memory in bytes the panel may
+	// take; a larger one is an input error before it is allocated.
+	MemoryBudget int64
 }
 
 // BuildPanel turns input rows into one series per distinct key. Without
@@ -143,6 +146,9 @@ func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
 	// Duplicates at the native grain: an error, or counted when they are
 	// to be summed (whatever grain they are summed into).
 	natMin, natMax := minMax(nat)
+	if err := checkPanelMemory(opt.MemoryBudget, m, tableio.Period{Grain: native, Index: natMin}, tableio.Period{Grain: native, Index: natMax}); err != nil {
+		return nil, err
+	}
 	duplicates := 0
 	{
 		span := natMax - natMin + 1

@@ -7,6 +7,7 @@ import (
 
 	"trueup/hierarchy"
 	"trueup/inputerr"
+	"trueup/internal/crash"
 )
 
 // Covariance names the matrix W whose inverse weights a projection.
@@ -148,8 +149,9 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 	if p.wantVariance() {
 		go func() {
 			var out variances
+			defer func() { vdone <- out }()
+			defer crash.Catch(&out.err)
 			out.v, out.paths, out.err = projectionVariance(&p, g, h)
-			vdone <- out
 		}()
 	} else {
 		vdone <- variances{}
