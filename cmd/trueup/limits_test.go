@@ -27,7 +27,7 @@ import (
 // rows typed in the year 2204 instead of 2024 (a span of 65,872 days,
 // 2024-01-01 to 2204-05-08 as Python 3's datetime counts them, whose
 // T × T Gram matrix alone is 65,872² × 8 bytes = 34.7 GB), a Parquet file
-// whose few hundred kilobytes declare ten million rows, and a CSV file
+// whose 16 kilobytes declare ten million rows, and a CSV file
 // of more lines than the budget holds. Each exits 2 before allocating,
 // saying what was asked and what it would take.
 func TestSmallInputsBeyondTheMemoryExit2(t *testing.T) {
@@ -126,7 +126,7 @@ func TestSmallInputsBeyondTheMemoryExit2(t *testing.T) {
 
 // manyRowsParquet writes a valid Parquet file of n identical rows
 // (period, store, sales) in row groups of 1 Mi rows: dictionary and
-// run-length encoding make it a few hundred kilobytes.
+// run-length encoding make it about 16 kilobytes.
 func manyRowsParquet(t *testing.T, dir string, n int) string {
 	t.Helper()
 	path := filepath.Join(dir, "many.parquet")
