@@ -1,10 +1,12 @@
 package engine
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"strings"
 
+	"trueup/inputerr"
 	"trueup/internal/numeric"
 	"trueup/models"
 	"trueup/models/families"
@@ -16,8 +18,9 @@ import (
 // still fitted, for its in-sample residuals, but forecast as zero with zero
 // variance and a warning. When the family cannot fit the node (too short a
 // history, say), the fallbacks are tried in order and the reason is kept in
-// the warning. The error is non-nil only when the job's model spec is
-// invalid.
+// the warning. A form the user fixed (job.Model.Form) is never replaced:
+// when it cannot be fitted the error is a *FormError. Otherwise the error
+// is non-nil only when the job's model spec is invalid.
 func FitOne(job FitJob) (NodeFit, error) {
 	family, err := job.Model.Resolve()
 	if err != nil {
@@ -62,6 +65,9 @@ func FitOne(job FitJob) (NodeFit, error) {
 		return true
 	}
 	if !tryFit(family) {
+		if job.Model.Form != "" {
+			return NodeFit{}, &FormError{Node: job.Node, Form: job.Model.Form, Reason: strings.Join(reasons, "; ")}
+		}
 		for _, fb := range families.Fallbacks {
 			if fb.Name() != family.Name() && tryFit(fb) {
 				break
@@ -88,6 +94,36 @@ func FitOne(job FitJob) (NodeFit, error) {
 	}
 	nf.Warning = strings.Join(warn, "; ")
 	return nf, nil
+}
+
+// FormError says that a form the user fixed could not be fitted to a
+// node's series. It is an input error (the form does not suit the data);
+// the caller names the node with Named.
+type FormError struct {
+	Node   int    // the job's node index
+	Form   string // the form as the user wrote it
+	Reason string // the family's own reason
+}
+
+func (e *FormError) Error() string {
+	return fmt.Sprintf("model %q cannot be fitted to series %d (%s); a fixed form is not replaced by a simpler one: "+
+		"choose a form the series supports or let the family choose its form", e.Form, e.Node+1, e.Reason)
+}
+
+// Named is the input error a command prints: the node named by its label.
+func (e *FormError) Named(label string) error {
+	return inputerr.ForOption("Model", "model %q cannot be fitted to %s (%s); a fixed form is not replaced by a simpler one: "+
+		"choose a form the series supports or let the family choose its form", e.Form, label, e.Reason)
+}
+
+// nameFormError turns a *FormError in err into an input error naming the
+// node by label(node); other errors are returned as they are.
+func nameFormError(err error, label func(node int) string) error {
+	var fe *FormError
+	if errors.As(err, &fe) {
+		return fe.Named(label(fe.Node))
+	}
+	return err
 }
 
 // ResidualsOnCalendar fills dst (one entry per panel period) with the

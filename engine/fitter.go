@@ -5,6 +5,7 @@ import (
 	"math"
 	"sync"
 
+	"trueup/internal/crash"
 	"trueup/models"
 	"trueup/models/families"
 )
@@ -72,9 +73,15 @@ func (f FitterFunc) Fit(ctx context.Context, jobs []FitJob, progress func(done, 
 
 // Local fits jobs in this process on a pool of goroutines.
 type Local struct {
-	// Workers is the number of jobs fitted in parallel; < 1 means 1.
+	// Workers is the number of jobs fitted in parallel; < 1 means 1. It
+	// is lowered to the number of jobs and to MaxWorkers: each worker is
+	// a goroutine, and a million of them idle would take gigabytes.
 	Workers int
 }
+
+// MaxWorkers is the most workers Local runs: fitting is CPU-bound, so more
+// workers than cores only wait (the largest machines have a few hundred).
+const MaxWorkers = 1024
 
 var _ Fitter = Local{}
 
@@ -89,14 +96,14 @@ func (l Local) Fit(ctx context.Context, jobs []FitJob, progress func(done, total
 	var wg sync.WaitGroup
 	var mu sync.Mutex
 	done := 0
-	workers := max(l.Workers, 1)
+	workers := min(max(l.Workers, 1), max(n, 1), MaxWorkers)
 	var firstErr error
 	for w := 0; w < workers; w++ {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
 			for i := range work {
-				f, err := FitOne(jobs[i])
+				f, err := fitCaught(jobs[i])
 				mu.Lock()
 				if err != nil && firstErr == nil {
 					firstErr = err
@@ -129,6 +136,14 @@ loop:
 		return nil, firstErr
 	}
 	return fits, nil
+}
+
+// fitCaught is FitOne with a panic outside the model families (which
+// safeFit already catches per node) returned as a *crash.Panic, so that it
+// ends the run as an internal error instead of killing the process.
+func fitCaught(job FitJob) (f NodeFit, err error) {
+	defer crash.Catch(&err)
+	return FitOne(job)
 }
 
 // StdError is the base forecast's standard error at step k (0-based).

@@ -2,11 +2,16 @@ package engine
 
 import (
 	"context"
+	"crypto/sha256"
+	"encoding/hex"
 	"fmt"
+	"io"
+	"os"
 	"time"
 
 	"trueup/hierarchy"
 	"trueup/inputerr"
+	"trueup/internal/crash"
 	"trueup/tableio"
 )
 
@@ -83,13 +88,15 @@ func LoadTables(ts Tables) (*BaseSet, error) {
 	resDone := make(chan loaded, 1)
 	if ts.Residuals != "" {
 		go func() {
+			var l loaded
+			defer func() { resDone <- l }()
+			defer crash.Catch(&l.err)
 			rt, err := tableio.ReadTable(ts.Residuals, ts.Format)
 			if err != nil {
-				resDone <- loaded{err: err}
+				l.err = err
 				return
 			}
-			res, err := newNodeTable(ts.Residuals, rt, attrs, "residual")
-			resDone <- loaded{res, err}
+			l.t, l.err = newNodeTable(ts.Residuals, rt, attrs, "residual")
 		}()
 	}
 	baseT, err := tableio.ReadTable(ts.Base, ts.Format)
@@ -104,7 +111,11 @@ func LoadTables(ts Tables) (*BaseSet, error) {
 	if err != nil {
 		return nil, err
 	}
-	bs := &BaseSet{Structure: st, Input: InputReport{Path: ts.Base, Rows: base.rows, Columns: columnNames(baseT)},
+	sum, err := fileSHA256(ts.Base)
+	if err != nil {
+		return nil, err
+	}
+	bs := &BaseSet{Structure: st, Input: InputReport{Path: ts.Base, SHA256: sum, Rows: base.rows, Columns: columnNames(baseT)},
 		KeyTypes: base.keyTypes()}
 	nodes := newNodeIndex(st, base.dicts)
 	if bs.Base, bs.Periods, err = base.matrix(nodes, "base", everyPeriod); err != nil {
@@ -195,9 +206,19 @@ func Reconcile(ctx context.Context, bs *BaseSet, opt ReconcileOptions) (*Result,
 	if bs.Residuals != nil {
 		T = len(bs.Residuals[0])
 	}
-	var bottom [][]float64
 	if bs.History != nil {
 		T = max(T, bs.History.Panel.T)
+	}
+	budget, err := memoryBudget()
+	if err != nil {
+		return nil, err
+	}
+	if err := checkRunMemory(budget, n, len(st.Attrs), T, h,
+		bs.Periods[0].Next(-T).String()+" to "+bs.Periods[0].Next(-1).String(), method.Name() == "mint"); err != nil {
+		return nil, err
+	}
+	var bottom [][]float64
+	if bs.History != nil {
 		bottom = make([][]float64, st.NumBottom())
 		for j := range bottom {
 			bottom[j] = nanRow(T)
@@ -288,6 +309,10 @@ func Reconcile(ctx context.Context, bs *BaseSet, opt ReconcileOptions) (*Result,
 	c := &res.Report.Counts
 	c.BottomSeries, c.Nodes, c.Periods, c.Horizon = st.NumBottom(), n, T, h
 	c.Grain = bs.Periods[0].Grain.String()
+	c.SeasonalLag = bs.Periods[0].Grain.SeasonalPeriod()
+	if T > 0 {
+		c.FirstPeriod, c.LastPeriod = first.String(), bs.Periods[0].Next(-1).String()
+	}
 	c.ForecastRange = [2]string{bs.Periods[0].String(), bs.Periods[h-1].String()}
 	for _, l := range st.Levels {
 		c.NodesPerLevel = append(c.NodesPerLevel, LevelCount{Level: l.Name, Nodes: len(l.Nodes)})
@@ -318,4 +343,19 @@ func orNaN(rows [][]float64, n, T int) [][]float64 {
 		out[i] = nanRow(T)
 	}
 	return out
+}
+
+// fileSHA256 is the hex SHA-256 of the file's bytes, for run.json's input
+// record (tableio.Read computes it for a sales table as it reads).
+func fileSHA256(path string) (string, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return "", inputerr.Wrap(path, err)
+	}
+	defer f.Close()
+	h := sha256.New()
+	if _, err := io.Copy(h, f); err != nil {
+		return "", inputerr.Wrap(path, err)
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
 }

@@ -60,9 +60,7 @@ func Inspect(src Source) (*InspectReport, error) {
 		ZeroValues:     pn.Stats.Zero, NegativeRows: pn.Stats.Negative, GapPeriods: pn.Stats.Gaps,
 		LateStarts: []SeriesSpan{}, EarlyEnds: []SeriesSpan{},
 	}
-	if pn.Grain == pn.Stats.NativeGrain {
-		rep.DuplicateRows = pn.Stats.SummedRows
-	}
+	rep.DuplicateRows = pn.Stats.Duplicates
 	// Spans of every node: the openings and closures show at the
 	// coarsest level where they happen (a store, rather than each of its
 	// categories), so that is the level listed.

@@ -21,7 +21,7 @@ const KeyPrefix = "key_"
 // (forecasts, models, residuals, history, backtest) write beside them.
 var resultColumns = map[string]bool{
 	"level": true, "period": true, "period_start": true, "step": true, "base": true, "base_variance": true,
-	"forecast": true, "residual": true, "value": true,
+	"forecast": true, "residual": true, "value": true, "like_for_like": true,
 	"family": true, "spec": true, "params": true, "aicc": true, "sigma2": true, "n_obs": true, "warning": true,
 	"ljung_box_lags": true, "ljung_box_q": true, "ljung_box_p": true,
 	"origin": true, "method": true, "actual": true, "error": true, "scale": true, "scaled_error": true,

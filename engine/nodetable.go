@@ -46,14 +46,14 @@ func newNodeTable(path string, t *tableio.Table, attrs []string, want string) (*
 	}
 	for _, need := range append(append([]string(nil), nt.keyCols...), "period", want) {
 		if _, ok := nt.columns[need]; !ok {
-			return nil, inputerr.New("%s has no column %q (columns: %s)", path, need, strings.Join(names, ", "))
+			return nil, &inputerr.Error{File: path, Column: need, Msg: fmt.Sprintf("no such column (columns: %s)", strings.Join(names, ", "))}
 		}
 	}
 	if len(t.Columns) > 0 {
 		nt.rows = columnLen(t.Columns[0])
 	}
 	if nt.rows == 0 {
-		return nil, inputerr.New("%s has no rows", path)
+		return nil, &inputerr.Error{File: path, Msg: "no rows"}
 	}
 	for i, a := range attrs {
 		col := t.Columns[nt.columns[nt.keyCols[i]]]
@@ -82,7 +82,7 @@ func newNodeTable(path string, t *tableio.Table, attrs []string, want string) (*
 	for r := range nt.period {
 		nt.period[r] = cellString(pc, r)
 		if nt.period[r] == "" {
-			return nil, inputerr.New("%s row %d: empty period", path, r+2)
+			return nil, nt.rowError(r, "period", "empty period")
 		}
 	}
 	return nt, nil
@@ -178,6 +178,13 @@ func (nt *nodeTable) rowKey(buf []byte, r int) []byte {
 	return buf
 }
 
+// rowError is an input error about data row r (0-based) of the table,
+// with its position fields set: File, Row (data rows count from 1, the
+// header of a CSV file not being a row) and Column when one is at fault.
+func (nt *nodeTable) rowError(r int, column, format string, args ...any) error {
+	return &inputerr.Error{File: nt.path, Row: r + 1, Column: column, Msg: fmt.Sprintf(format, args...)}
+}
+
 // rowLabel names row r's node for messages.
 func (nt *nodeTable) rowLabel(r int) string {
 	var parts []string
@@ -219,13 +226,13 @@ func sortPeriods(path string, labels []string) ([]tableio.Period, error) {
 	for _, l := range labels {
 		p, err := tableio.ParsePeriod(l)
 		if err != nil {
-			return nil, &inputerr.Error{File: path, Msg: fmt.Sprintf("period %q", l), Err: err}
+			return nil, &inputerr.Error{File: path, Column: "period", Msg: fmt.Sprintf("period %q", l), Err: err}
 		}
 		periods[l] = p
 	}
 	for _, l := range labels[1:] {
 		if periods[l].Grain != periods[labels[0]].Grain {
-			return nil, &inputerr.Error{File: path, Msg: fmt.Sprintf("periods %q and %q are of different kinds", labels[0], l)}
+			return nil, &inputerr.Error{File: path, Column: "period", Msg: fmt.Sprintf("periods %q and %q are of different kinds", labels[0], l)}
 		}
 	}
 	sort.Slice(labels, func(a, b int) bool { return periods[labels[a]].Index < periods[labels[b]].Index })
@@ -282,28 +289,28 @@ func (nt *nodeTable) matrix(nodes nodeIndex, col string, mode fillMode) ([][]flo
 	for r := 0; r < nt.rows; r++ {
 		i, ok := nodes.m[string(nt.rowKey(key, r))]
 		if !ok {
-			return nil, nil, inputerr.New("%s row %d: %s is not a node of the structure built from the bottom series of the base forecasts (a key is set below an aggregated one, or the bottom series is not in the base forecasts)", nt.path, r+2, nt.rowLabel(r))
+			return nil, nil, nt.rowError(r, "", "%s is not a node of the structure built from the bottom series of the base forecasts (a key is set below an aggregated one, or the bottom series is not in the base forecasts)", nt.rowLabel(r))
 		}
 		k := pos[nt.period[r]]
 		if seen[i*h+k] {
-			return nil, nil, inputerr.New("%s row %d: %s has a second row for period %s", nt.path, r+2, nt.rowLabel(r), nt.period[r])
+			return nil, nil, nt.rowError(r, "period", "%s has a second row for period %s", nt.rowLabel(r), nt.period[r])
 		}
 		seen[i*h+k] = true
 		v, null, err := cellFloat(vc, r)
 		if err != nil {
-			return nil, nil, inputerr.New("%s row %d column %s: %v", nt.path, r+2, col, err)
+			return nil, nil, nt.rowError(r, col, "%v", err)
 		}
 		if null && mode != everyPeriod {
 			continue
 		}
 		if null || math.IsNaN(v) || math.IsInf(v, 0) {
-			return nil, nil, inputerr.New("%s row %d: %s %s at %s is %s", nt.path, r+2, nt.rowLabel(r), col, nt.period[r], describe(v, null))
+			return nil, nil, nt.rowError(r, col, "%s %s at %s is %s", nt.rowLabel(r), col, nt.period[r], describe(v, null))
 		}
 		out[i][k] = v
 	}
 	for k := 1; k < len(periods); k++ {
 		if periods[k].Index != periods[k-1].Index+1 {
-			return nil, nil, &inputerr.Error{File: nt.path, Msg: fmt.Sprintf("periods %s to %s are missing", periods[k-1].Next(1), periods[k].Next(-1))}
+			return nil, nil, &inputerr.Error{File: nt.path, Column: "period", Msg: fmt.Sprintf("periods %s to %s are missing", periods[k-1].Next(1), periods[k].Next(-1))}
 		}
 	}
 	var missing []string
@@ -319,7 +326,7 @@ func (nt *nodeTable) matrix(nodes nodeIndex, col string, mode fillMode) ([][]flo
 		case count == 0 || mode == everyPeriod && count < h:
 			missing = append(missing, st.Label(i))
 		case mode == sameEnd && last != h-1:
-			return nil, nil, inputerr.New("%s: residual periods differ between nodes: %s ends at %s, others at %s (residuals must all end at the forecast origin)", nt.path, st.Label(i), labels[last], labels[h-1])
+			return nil, nil, &inputerr.Error{File: nt.path, Column: "period", Msg: fmt.Sprintf("residual periods differ between nodes: %s ends at %s, others at %s (residuals must all end at the forecast origin)", st.Label(i), labels[last], labels[h-1])}
 		}
 	}
 	if len(missing) > 0 {
@@ -327,7 +334,7 @@ func (nt *nodeTable) matrix(nodes nodeIndex, col string, mode fillMode) ([][]flo
 		if mode == sameEnd {
 			what = "residuals"
 		}
-		return nil, nil, inputerr.New("%s: %d nodes of the structure lack %s, e.g. %s", nt.path, len(missing), what, strings.Join(missing[:min(5, len(missing))], "; "))
+		return nil, nil, &inputerr.Error{File: nt.path, Msg: fmt.Sprintf("%d nodes of the structure lack %s, e.g. %s", len(missing), what, strings.Join(missing[:min(5, len(missing))], "; "))}
 	}
 	return out, periods, nil
 }

@@ -29,8 +29,12 @@ type Panel struct {
 
 // PanelStats counts what validation found.
 type PanelStats struct {
-	Rows         int
-	SummedRows   int // rows added into another row of the same key and period
+	Rows       int
+	SummedRows int // rows added into another row of the same key and period
+	// Duplicates counts the rows repeating an earlier row's key and
+	// period at the data's own grain (summed with SumDuplicates; without
+	// it the first is an error), whatever grain the panel is built at.
+	Duplicates   int
 	Negative     int // rows with a negative value (returns)
 	Zero         int // rows with a zero value
 	Gaps         int // periods inside a series' span with no row (counted as zero)
@@ -51,6 +55,9 @@ type PanelStats struct {
 type PanelOptions struct {
 	Grain         *tableio.Grain // nil: the data's own grain
 	SumDuplicates bool
+	// MemoryBudget, when positive, is the memory in bytes the panel may
+	// take; a larger one is an input error before it is allocated.
+	MemoryBudget int64
 }
 
 // BuildPanel turns input rows into one series per distinct key. Without
@@ -136,14 +143,23 @@ func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
 	m := len(seriesKey)
 	outlierRows := outliers(rows, sid, m)
 
-	// Duplicates at the native grain.
+	// Duplicates at the native grain: an error, or counted when they are
+	// to be summed (whatever grain they are summed into).
 	natMin, natMax := minMax(nat)
-	if !opt.SumDuplicates {
+	if err := checkPanelMemory(opt.MemoryBudget, m, tableio.Period{Grain: native, Index: natMin}, tableio.Period{Grain: native, Index: natMax}); err != nil {
+		return nil, err
+	}
+	duplicates := 0
+	{
 		span := natMax - natMin + 1
 		seen := make([]uint64, (m*span+63)/64)
 		for i := 0; i < rows.N; i++ {
 			bit := int(sid[i])*span + nat[i] - natMin
 			if seen[bit/64]&(1<<(bit%64)) != 0 {
+				if opt.SumDuplicates {
+					duplicates++
+					continue
+				}
 				p := tableio.Period{Grain: native, Index: nat[i]}
 				msg := fmt.Sprintf("repeats key %s and period %s; ask for duplicates to be summed to add such rows together", keyText(rows, seriesKey[sid[i]]), p)
 				if len(rows.KeyNames) == 0 {
@@ -168,6 +184,7 @@ func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
 		KeyCols: rows.KeyNames,
 	}
 	pn.Stats.Rows = rows.N
+	pn.Stats.Duplicates = duplicates
 	pn.Stats.NativeGrain = native
 	pn.Stats.InferredFrom = how
 	pn.Stats.Partial = partial

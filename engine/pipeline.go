@@ -241,6 +241,14 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	if err != nil {
 		return nil, err
 	}
+	budget, err := memoryBudget()
+	if err != nil {
+		return nil, err
+	}
+	if err := checkRunMemory(budget, len(d.Structure.Nodes), len(d.Structure.Attrs), d.Panel.T, opt.Horizon,
+		d.Panel.Period(0).String()+" to "+d.Panel.Period(d.Panel.T-1).String(), method.Name() == "mint"); err != nil {
+		return nil, err
+	}
 	rep := RunReport{Version: Version, Command: "forecast", Timings: map[string]float64{
 		"read": d.ReadSeconds, "structure": d.StructureSeconds}}
 	stage := func(name string, start time.Time) { rep.Timings[name] += time.Since(start).Seconds() }
@@ -262,7 +270,7 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	}
 	fits, err := opt.Fitter.Fit(ctx, jobs, opt.Progress)
 	if err != nil {
-		return nil, err
+		return nil, nameFormError(err, st.Label)
 	}
 	stage("fit", start)
 

@@ -75,9 +75,13 @@ func Load(src Source) (*Data, error) {
 	if err := checkKeyColumns(keys); err != nil {
 		return nil, err
 	}
+	budget, err := memoryBudget()
+	if err != nil {
+		return nil, err
+	}
 	start := time.Now()
 	rows, err := tableio.Read(src.Path, tableio.ReadOptions{Format: src.Format, Time: src.Time, Value: src.Value, Keys: keys,
-		TimeKind: src.TimeKind, Comma: src.Comma})
+		TimeKind: src.TimeKind, Comma: src.Comma, MemoryBudget: budget})
 	if err != nil {
 		return nil, err
 	}
@@ -95,14 +99,23 @@ func Load(src Source) (*Data, error) {
 // arrange builds the panel, the structure and the bottom series of d from
 // rows.
 func (d *Data) arrange(rows *tableio.Rows, src Source) error {
-	var err error
-	if d.Panel, err = BuildPanel(rows, PanelOptions{Grain: src.Grain, SumDuplicates: src.SumDuplicates}); err != nil {
+	budget, err := memoryBudget()
+	if err != nil {
+		return err
+	}
+	if d.Panel, err = BuildPanel(rows, PanelOptions{Grain: src.Grain, SumDuplicates: src.SumDuplicates, MemoryBudget: budget}); err != nil {
 		return err
 	}
 	if len(src.Chains) == 0 {
 		d.Bottom = d.Panel.Values
 	} else {
+		if err := checkStructureMemory(budget, src.Chains, len(d.Panel.Keys)); err != nil {
+			return err
+		}
 		if d.Structure, err = hierarchy.Build(src.Chains, d.Panel.Keys); err != nil {
+			return err
+		}
+		if err := checkHistoryMemory(budget, len(d.Structure.Nodes), d.Panel.T); err != nil {
 			return err
 		}
 		d.Bottom = make([][]float64, len(d.Panel.Keys))

@@ -3,9 +3,10 @@ package reconcile
 import (
 	"fmt"
 	"math"
-	"sync"
 
 	"gonum.org/v1/gonum/mat"
+
+	"trueup/internal/crash"
 )
 
 // qpProblem is the non-negative projection written in the bottom
@@ -52,11 +53,9 @@ func nonnegative(g projector, base *mat.Dense) (*mat.Dense, error) {
 	const workers = 2
 	errs := make([]error, len(todo))
 	cols := make([][]float64, len(todo))
-	var wg sync.WaitGroup
+	var grp crash.Group
 	for w := 0; w < workers && w < len(todo); w++ {
-		wg.Add(1)
-		go func(w int) {
-			defer wg.Done()
+		grp.Go(func() {
 			qp, err := g.qp()
 			for t := w; t < len(todo); t += workers {
 				if err != nil {
@@ -69,9 +68,9 @@ func nonnegative(g projector, base *mat.Dense) (*mat.Dense, error) {
 					errs[t] = fmt.Errorf("non-negative reconciliation, step %d: %w", k+1, errs[t])
 				}
 			}
-		}(w)
+		})
 	}
-	wg.Wait()
+	grp.Wait()
 	for t, k := range todo {
 		if errs[t] != nil {
 			return nil, errs[t]

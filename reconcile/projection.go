@@ -7,6 +7,7 @@ import (
 
 	"trueup/hierarchy"
 	"trueup/inputerr"
+	"trueup/internal/crash"
 )
 
 // Covariance names the matrix W whose inverse weights a projection.
@@ -148,8 +149,9 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 	if p.wantVariance() {
 		go func() {
 			var out variances
+			defer func() { vdone <- out }()
+			defer crash.Catch(&out.err)
 			out.v, out.paths, out.err = projectionVariance(&p, g, h)
-			vdone <- out
 		}()
 	} else {
 		vdone <- variances{}
@@ -172,7 +174,9 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 		return Solution{}, vr.err
 	}
 	sol := coherent(p.Structure, denseRows(bottom))
-	if errc != nil {
+	if errc != nil && pr.Cov == CovShrink {
+		// Only the shrink covariance is shrunk: with any other the λ
+		// estimated on the way is used nowhere and is not reported.
 		sol.Notes["lambda"] = errc.lambda
 	}
 	sol.Variance = vr.v

@@ -3,12 +3,12 @@ package reconcile
 import (
 	"math"
 	"strings"
-	"sync"
 
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 
 	"trueup/hierarchy"
+	"trueup/internal/crash"
 )
 
 // factor represents G·W·Gᵀ (m × m) for the variance computation:
@@ -172,11 +172,9 @@ func factorVariance(st *hierarchy.Structure, c [][]float64, f *factor) [][]float
 		}
 	}
 	const workers = 2
-	var wg sync.WaitGroup
+	var g crash.Group
 	for w := 0; w < workers; w++ {
-		wg.Add(1)
-		go func(w int) {
-			defer wg.Done()
+		g.Go(func() {
 			buf := make([]float64, n*2*chunk)
 			var mom [4][]float64
 			for q := range mom {
@@ -185,9 +183,9 @@ func factorVariance(st *hierarchy.Structure, c [][]float64, f *factor) [][]float
 			for k := w; k < h; k += workers {
 				one(k, buf, mom)
 			}
-		}(w)
+		})
 	}
-	wg.Wait()
+	g.Wait()
 	return out
 }
 

@@ -28,6 +28,11 @@ type ReadOptions struct {
 	// from the header line, taking the most frequent of ',', ';' and tab
 	// outside quotes (',' when there is none).
 	Comma rune
+	// MemoryBudget, when positive, is the memory in bytes the rows may
+	// take: a file holding (or, for Parquet, declaring) more rows than
+	// that holds is an input error before they are read
+	// (internal/membudget). Zero checks nothing.
+	MemoryBudget int64
 }
 
 // Rows is the input table reduced to the columns trueup uses. Key columns

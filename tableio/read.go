@@ -8,6 +8,7 @@ import (
 	"strings"
 
 	"trueup/inputerr"
+	"trueup/internal/membudget"
 )
 
 // Read loads the long sales table at path: one row per period and key
@@ -312,4 +313,18 @@ func (t *timeDecoder) finish(kind TimeKind) {
 		t.periods[i] = Period{Year, p.Index - 1970}
 	}
 	t.grain = Year
+}
+
+// rowBytes is the least memory one row takes once read: its period (16
+// bytes), its value (8) and a 4-byte code per key column.
+func rowBytes(keys int) int64 { return 24 + 4*int64(keys) }
+
+// checkRowMemory refuses n rows (what says where the count comes from)
+// that would not fit in opt.MemoryBudget.
+func checkRowMemory(opt ReadOptions, n int64, what string) error {
+	need := membudget.Mul(n, rowBytes(len(opt.Keys)))
+	if err := membudget.Check(opt.MemoryBudget, fmt.Sprintf("reading the %d rows %s", n, what), need); err != nil {
+		return &inputerr.Error{Err: err}
+	}
+	return nil
 }

@@ -50,6 +50,9 @@ func readCSV(data []byte, opt ReadOptions) (*Rows, error) {
 		return nil, err
 	}
 	n := bytes.Count(data, []byte{'\n'})
+	if err := checkRowMemory(opt, int64(n), "of the file"); err != nil {
+		return nil, err
+	}
 	rows := newRows(columns, opt, n)
 	keys := make([]*keyEncoder, len(ki))
 	for k := range keys {

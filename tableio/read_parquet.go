@@ -362,6 +362,12 @@ func readParquet(data []byte, opt ReadOptions) (*Rows, error) {
 	if n < 0 {
 		return nil, inputerr.New("not a readable Parquet file (it claims %d rows)", n)
 	}
+	// Repetitive columns compress to almost nothing, so a small file can
+	// rightly declare a hundred million rows: the count is checked
+	// against the memory they would take, before any is read.
+	if err := checkRowMemory(opt, n, "the file declares"); err != nil {
+		return nil, err
+	}
 	// The row count only sizes the buffers: a damaged footer may claim
 	// more rows than memory holds, and a real file rarely holds more rows
 	// than bytes, so the hint is capped by the file's size.

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"context"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -55,11 +56,14 @@ form by AICc; seasonal-naive, drift and last are the benchmarks. When a family c
 simpler benchmarks are tried in turn and the warning says so.
 
 --model fixes the form and implies its family:
-  ARIMA(p,d,q)(P,D,Q) m=12 + drift    seasonal ARIMA; "m=" (default: --period
-                                      or the data's grain), "+ mean" and
-                                      "+ drift" are optional
+  ARIMA(p,d,q)(P,D,Q) m=12            seasonal ARIMA; "m=" (default: --period
+                                      or the data's grain) is optional
+  ARIMA(0,0,1)(0,1,1) m=12 + drift    "+ mean" (d+D = 0) or "+ drift"
+                                      (d+D = 1) adds a constant
   ETS(M,Ad,M)                         exponential smoothing, written
                                       error, trend, seasonality
+A fixed form is never swapped for a benchmark: it fits, or fit exits with
+status 2 naming the series and why.
 Signs: AR polynomial 1 − φ1B − …, MA polynomial 1 + θ1B + ….
 --transform log or boxcox (λ by Guerrero's method) fits on that scale;
 forecasts and bounds are always on the scale of the data.
@@ -152,6 +156,14 @@ func runFit(ctx context.Context, w io.Writer, fl *fitFlags) error {
 		}
 	}
 	fits, err := engine.Local{Workers: fl.workers}.Fit(ctx, jobs, nil)
+	var fe *engine.FormError
+	if errors.As(err, &fe) {
+		name := "the series"
+		if fl.key != "" {
+			name = fmt.Sprintf("series %s=%q", fl.key, run.keys[fe.Node])
+		}
+		return fe.Named(name)
+	}
 	if err != nil {
 		return err
 	}

@@ -286,3 +286,39 @@ func TestFitErrors(t *testing.T) {
 		}
 	}
 }
+
+// TestFixedFormFitsOrExits2 checks that a form the user fixed is never
+// swapped for seasonal naive: a constant on a twice-differenced form
+// (which no series can take: the constant would be a quadratic trend,
+// common practice) and a form too long for the series exit 2 saying
+// why, and the help's own "m=12 + drift" template, written with d+D = 1,
+// fits as written.
+func TestFixedFormFitsOrExits2(t *testing.T) {
+	path := writeAirCSV(t, false)
+	base := []string{"fit", "--input", path, "--time", "month", "--value", "sales", "--key", "store", "--horizon", "3"}
+	for _, c := range []struct {
+		extra []string
+		want  string
+	}{
+		{[]string{"--model", "ARIMA(2,1,1)(1,1,1)", "--constant"}, "--constant: model \"ARIMA(2,1,1)(1,1,1)\" differences d+D = 2 times"},
+		{[]string{"--model", "ARIMA(0,1,1)(0,1,1) m=12 + drift"}, "--model: model \"ARIMA(0,1,1)(0,1,1) m=12 + drift\" differences d+D = 2 times"},
+		{[]string{"--model", "ARIMA(0,1,1)(0,1,1) m=60"}, `cannot be fitted to series store="south"`},
+	} {
+		args := append(append([]string{}, base...), c.extra...)
+		stderr := captureStderr(t, func() {
+			if code := run(args); code != exitInput {
+				t.Errorf("%v: exit %d, want %d", c.extra, code, exitInput)
+			}
+		})
+		if !strings.Contains(stderr, c.want) {
+			t.Errorf("%v: message %q does not say %q", c.extra, stderr, c.want)
+		}
+	}
+	recs := fitRecords(t, append(append([]string{}, base...), "--model", "ARIMA(0,0,1)(0,1,1) m=12 + drift", "--json")...)
+	for _, r := range recs {
+		model := r["model"].(map[string]any)
+		if w, _ := r["warning"].(string); model["family"] != "arima" || strings.Contains(w, "fell back") {
+			t.Errorf("series %v: fitted %v with warning %q, want the fixed ARIMA form", r["series"], model, r["warning"])
+		}
+	}
+}

@@ -12,8 +12,11 @@ import (
 	"sync"
 	"syscall"
 
+	"github.com/spf13/cobra"
+
 	"trueup/engine/output"
 	"trueup/inputerr"
+	"trueup/internal/crash"
 	"trueup/tableio"
 )
 
@@ -81,13 +84,27 @@ var optionFlags = map[string]string{
 }
 
 // run executes the command line and maps errors to exit statuses: input and
-// usage errors exit 2, anything else 1.
+// usage errors exit 2, anything else 1. A panic (a bug), in this goroutine
+// or carried from another one as a *crash.Panic, exits 1 with one line.
 func run(args []string) int {
-	root := newRootCmd()
+	return execute(newRootCmd(), args)
+}
+
+// execute runs root on args and returns the exit status (see run).
+func execute(root *cobra.Command, args []string) (code int) {
+	defer func() {
+		if r := recover(); r != nil {
+			code = crashed(crash.From(r))
+		}
+	}()
 	root.SetArgs(args)
 	err := root.Execute()
 	if err == nil {
 		return exitOK
+	}
+	var p *crash.Panic
+	if errors.As(err, &p) {
+		return crashed(p)
 	}
 	if flag := optionFlags[inputerr.OptionOf(err)]; flag != "" && !strings.Contains(err.Error(), flag) {
 		fmt.Fprintf(os.Stderr, "trueup: %s: %s\n", flag, escapeUnprintable(err.Error()))
@@ -98,6 +115,21 @@ func run(args []string) int {
 	// Cobra reports an unknown command as a plain error.
 	if inputerr.Is(err) || errors.As(err, &ue) || strings.HasPrefix(err.Error(), "unknown command") {
 		return exitInput
+	}
+	return exitOther
+}
+
+// debugEnv names the environment variable that, set to 1, adds the stack
+// of a crash to its message.
+const debugEnv = "TRUEUP_DEBUG"
+
+// crashed prints a bug's one-line message, with its stack under
+// TRUEUP_DEBUG=1, and returns exit status 1.
+func crashed(p *crash.Panic) int {
+	fmt.Fprintf(os.Stderr, "trueup: internal error (a bug in trueup, not a problem with your input): %v. "+
+		"Please report it with the command line; %s=1 adds where it happened.\n", p.Value, debugEnv)
+	if os.Getenv(debugEnv) == "1" {
+		os.Stderr.Write(p.Stack)
 	}
 	return exitOther
 }

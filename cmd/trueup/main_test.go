@@ -2,6 +2,7 @@ package main
 
 import (
 	"encoding/json"
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
@@ -318,6 +319,46 @@ func TestInspectReportsOpeningsAndClosures(t *testing.T) {
 	for _, want := range []string{`duplicate rows \(same key and period\) +1\n`, `negative values +1\n`, `zero values +1\n`} {
 		if !regexp.MustCompile(want).MatchString(out.String()) {
 			t.Errorf("inspect output lacks %q:\n%s", want, out.String())
+		}
+	}
+}
+
+// TestInspectCountsDuplicatesAtACoarserGrain: a day repeated in a daily
+// table is a duplicate whatever grain the days are summed into, so
+// inspect --grain week reports the one forecast --grain week refuses.
+func TestInspectCountsDuplicatesAtACoarserGrain(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("day,store,sales\n")
+	for d := 1; d <= 28; d++ {
+		fmt.Fprintf(&b, "2024-01-%02d,A,%d\n", d, 10+d%7)
+	}
+	b.WriteString("2024-01-09,A,4\n") // the repeated day
+	path := writeFile(t, t.TempDir(), "days.csv", b.String())
+	for _, grain := range [][]string{nil, {"--grain", "week"}} {
+		var out strings.Builder
+		root := newRootCmd()
+		root.SetOut(&out)
+		root.SetArgs(append([]string{"inspect", "--json", "--input", path, "--time", "day", "--nest", "store"}, grain...))
+		if err := root.Execute(); err != nil {
+			t.Fatal(err)
+		}
+		var rep struct {
+			Duplicates int `json:"duplicate_rows"`
+		}
+		if err := json.Unmarshal([]byte(out.String()), &rep); err != nil {
+			t.Fatal(err)
+		}
+		if rep.Duplicates != 1 {
+			t.Errorf("inspect %v: %d duplicate rows, want 1", grain, rep.Duplicates)
+		}
+		args := append([]string{"forecast", "--quiet", "--input", path, "--time", "day", "--nest", "store", "--out", filepath.Join(t.TempDir(), "out")}, grain...)
+		stderr := captureStderr(t, func() {
+			if code := run(args); code != exitInput {
+				t.Errorf("forecast %v: exit %d, want %d", grain, code, exitInput)
+			}
+		})
+		if !strings.Contains(stderr, "--sum-duplicates") {
+			t.Errorf("forecast %v: %q does not name --sum-duplicates", grain, stderr)
 		}
 	}
 }

@@ -1,7 +1,11 @@
 package main
 
 import (
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
 	"fmt"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
@@ -208,4 +212,82 @@ func cellString(c tableio.Column, r int) string {
 		return ""
 	}
 	return c.Strings[r]
+}
+
+// TestReconcileRunRecordAndLambda checks reconcile's run.json: the base
+// table's SHA-256 (against Go's crypto/sha256 on the file's bytes), the
+// history's first and last period (12 months of residuals, 2025-01 to
+// 2025-12) and the seasonal period of months (12); and that the shrinkage
+// λ is reported, in run.json and the summary, for --cov shrink only: with
+// variance scaling (as with sample, the same code path) nothing is shrunk.
+func TestReconcileRunRecordAndLambda(t *testing.T) {
+	dir := t.TempDir()
+	base := baseCSV(t, dir, -1, nil)
+	res := residualCSV(t, dir, false)
+	bytes, err := os.ReadFile(base)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sum := sha256.Sum256(bytes)
+	for _, cov := range []string{"shrink", "variance"} {
+		out := filepath.Join(dir, cov)
+		var code int
+		stdout := captureStdout(t, func() {
+			code = run([]string{"reconcile", "--base", base, "--residuals", res, "--nest", "region,store", "--cov", cov, "--out", out, "--format", "csv", "--no-report"})
+		})
+		if code != 0 {
+			t.Fatalf("%s exited %d", cov, code)
+		}
+		raw, err := os.ReadFile(filepath.Join(out, "run.json"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		var rec struct {
+			Input struct {
+				SHA256 string `json:"sha256"`
+			} `json:"input"`
+			Counts struct {
+				First    string `json:"first_period"`
+				Last     string `json:"last_period"`
+				Seasonal int    `json:"seasonal_period"`
+			} `json:"counts"`
+			Reconcile struct {
+				Notes map[string]float64 `json:"notes"`
+			} `json:"reconcile"`
+		}
+		if err := json.Unmarshal(raw, &rec); err != nil {
+			t.Fatal(err)
+		}
+		if rec.Input.SHA256 != hex.EncodeToString(sum[:]) {
+			t.Errorf("%s: input sha256 %q, want %x", cov, rec.Input.SHA256, sum)
+		}
+		if rec.Counts.First != "2025-01" || rec.Counts.Last != "2025-12" || rec.Counts.Seasonal != 12 {
+			t.Errorf("%s: history %q to %q, seasonal period %d; want 2025-01 to 2025-12, 12", cov, rec.Counts.First, rec.Counts.Last, rec.Counts.Seasonal)
+		}
+		_, noted := rec.Reconcile.Notes["lambda"]
+		printed := strings.Contains(stdout, "λ")
+		if want := cov == "shrink"; noted != want || printed != want {
+			t.Errorf("--cov %s: λ in run.json %v, in the summary %v; want %v", cov, noted, printed, want)
+		}
+	}
+}
+
+// captureStdout runs f with os.Stdout redirected and returns what it wrote.
+func captureStdout(t *testing.T, f func()) string {
+	t.Helper()
+	r, w, err := os.Pipe()
+	if err != nil {
+		t.Fatal(err)
+	}
+	done := make(chan []byte)
+	go func() {
+		b, _ := io.ReadAll(r)
+		done <- b
+	}()
+	old := os.Stdout
+	os.Stdout = w
+	f()
+	os.Stdout = old
+	w.Close()
+	return string(<-done)
 }

@@ -163,19 +163,27 @@ func ResidualTable(res *engine.Result) *tableio.Table {
 }
 
 // HistoryTable has one row per node and history period: level, key
-// columns, period, period_start and value, the node's history as it was
-// fitted (the aggregate of its members that existed; null outside the
-// node's span).
+// columns, period, period_start, value and like_for_like. value is the
+// sum of the node's bottom series that existed in the period (null when
+// none did), so every aggregate row is the sum of its children's rows,
+// closed stores included. like_for_like is the series the node's model
+// was fitted on (engine.Result.History): for an aggregate with closed
+// members, the sum of its still-trading members only; otherwise value.
 func HistoryTable(res *engine.Result) *tableio.Table {
 	T := res.Calendar.T
 	n := len(res.History)
 	cols := keyColumns(res, T)
 	period, periodStart := periodColumns(res, 0, T)
+	// The bottom rows of the fitted history are the bottom series
+	// themselves (a closed series is fitted on its own span).
+	coherent := res.Structure.S.Aggregate(res.History[res.Structure.BottomOffset():])
 	value := tableio.Column{Name: "value", Type: tableio.Float64, Floats: make([]float64, 0, n*T)}
-	for _, h := range res.History {
-		value.Floats = append(value.Floats, h[:T]...)
+	fitted := tableio.Column{Name: "like_for_like", Type: tableio.Float64, Floats: make([]float64, 0, n*T)}
+	for i, h := range res.History {
+		value.Floats = append(value.Floats, coherent[i][:T]...)
+		fitted.Floats = append(fitted.Floats, h[:T]...)
 	}
-	return &tableio.Table{Columns: append(cols, period, periodStart, value)}
+	return &tableio.Table{Columns: append(cols, period, periodStart, value, fitted)}
 }
 
 // ModelTable has one row per node: the chosen family, its spec, its

@@ -3,6 +3,7 @@ package output_test
 import (
 	"context"
 	"math"
+	"path/filepath"
 	"testing"
 
 	"trueup/engine"
@@ -23,8 +24,8 @@ func columnOf(t *testing.T, tb *tableio.Table, name string) *tableio.Column {
 	return nil
 }
 
-// TestHistoryAndResidualCheck checks the history table against the
-// result's histories, and the models table's Ljung–Box columns against
+// TestHistoryAndResidualCheck checks the history table's like_for_like
+// column against the result's histories (what each node was fitted on), and the models table's Ljung–Box columns against
 // numeric.LjungBox run on the residuals table's finite residuals of each
 // node (the statistic itself is checked against statsmodels in
 // internal/numeric).
@@ -39,7 +40,7 @@ func TestHistoryAndResidualCheck(t *testing.T) {
 		tables[tb.Name] = tb.Table
 	}
 	T := res.Calendar.T
-	value := columnOf(t, tables["history"], "value")
+	value := columnOf(t, tables["history"], "like_for_like")
 	period := columnOf(t, tables["history"], "period")
 	for i, h := range res.History {
 		for k := 0; k < T; k++ {
@@ -107,4 +108,81 @@ func TestResultColumnsAreKnown(t *testing.T) {
 			}
 		}
 	}
+}
+
+// TestHistoryTotalsAreTheSumOfTheirParts writes a forecast of a chain
+// whose stores close inside the history, reads history.parquet back and
+// checks that every aggregate row's value is the sum of the values of
+// the bottom rows under it (null where none existed), to 1e-9 relative:
+// the history a finance user reads adds up, as the forecasts do
+// (coherence, Hyndman & Athanasopoulos, Forecasting: Principles and
+// Practice, 3rd ed., §11.1).
+func TestHistoryTotalsAreTheSumOfTheirParts(t *testing.T) {
+	d := smallChain(t)
+	if d.Panel.Stats.EarlyEnds == 0 {
+		t.Fatal("the test chain has no closed store")
+	}
+	res, err := engine.Forecast(context.Background(), d, engine.Options{Model: families.Spec{Family: "seasonal-naive"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := filepath.Join(t.TempDir(), "out")
+	if _, err := output.Write(dir, res, []string{"parquet"}); err != nil {
+		t.Fatal(err)
+	}
+	tb, err := tableio.ReadTable(filepath.Join(dir, "history.parquet"), tableio.Parquet)
+	if err != nil {
+		t.Fatal(err)
+	}
+	level, value, period := columnOf(t, tb, "level"), columnOf(t, tb, "value"), columnOf(t, tb, "period")
+	attrs := res.Structure.Attrs
+	keys := make([]*tableio.Column, len(attrs))
+	for a, name := range attrs {
+		keys[a] = columnOf(t, tb, name)
+	}
+	bottomLevel := res.Structure.LevelNames()[len(res.Structure.Levels)-1]
+	type cell struct{ key, period string }
+	under := func(r int, bottom int) bool { // bottom row r2 lies under aggregate row r
+		for a := range keys {
+			if !null(keys[a], r) && keys[a].Strings[r] != keys[a].Strings[bottom] {
+				return false
+			}
+		}
+		return true
+	}
+	var bottoms []int
+	for r := range level.Strings {
+		if level.Strings[r] == bottomLevel {
+			bottoms = append(bottoms, r)
+		}
+	}
+	checked, differs := 0, 0
+	lfl := columnOf(t, tb, "like_for_like")
+	for r := range level.Strings {
+		if level.Strings[r] == bottomLevel {
+			continue
+		}
+		sum, any := 0.0, false
+		for _, b := range bottoms {
+			if period.Strings[b] == period.Strings[r] && under(r, b) && !null(value, b) {
+				sum += value.Floats[b]
+				any = true
+			}
+		}
+		if got := value.Floats[r]; !any && !null(value, r) || any && (null(value, r) || math.Abs(got-sum) > 1e-9*math.Max(1, math.Abs(sum))) {
+			t.Fatalf("%s row %d, period %s: value %v (null %v), its bottom rows sum to %v", level.Strings[r], r, period.Strings[r], got, null(value, r), sum)
+		}
+		if !null(lfl, r) && lfl.Floats[r] != value.Floats[r] {
+			differs++
+		}
+		checked++
+	}
+	if checked == 0 || differs == 0 {
+		t.Fatalf("%d aggregate rows checked, %d where like-for-like differs: the closure rule is not exercised", checked, differs)
+	}
+}
+
+// null reports whether cell r of c is null (a NaN read back counts).
+func null(c *tableio.Column, r int) bool {
+	return c.Null != nil && c.Null[r] || c.Type == tableio.Float64 && math.IsNaN(c.Floats[r])
 }

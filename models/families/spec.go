@@ -99,6 +99,17 @@ func resolveARIMA(form string, kind transform.Kind, constant bool) (models.Famil
 		return nil, inputerr.ForOption("Transform", "model %q is already on the log scale; it cannot also take a Box-Cox transform", form)
 	}
 	sp.Log = sp.Log || logged
+	if (sp.Constant || constant) && sp.D+sp.SD > 1 {
+		// Checked here, before any data is read: every series would fail
+		// it, and a fixed form is never swapped for another one.
+		opt, what := "Model", "its \"+ drift\""
+		if constant && !sp.Constant {
+			opt, what = "Constant", "a constant"
+		}
+		return nil, inputerr.ForOption(opt, "model %q differences d+D = %d times; %s needs d+D ≤ 1 "+
+			"(a mean at d+D = 0, a drift at d+D = 1): drop it or a difference, e.g. ARIMA(%d,%d,%d)(%d,%d,%d) + drift",
+			form, sp.D+sp.SD, what, sp.P, max(1-sp.SD, 0), sp.Q, sp.SP, min(sp.SD, 1), sp.SQ)
+	}
 	sp.Constant = sp.Constant || constant
 	return withTransform(arima.Fixed{Spec: sp}, nonLog(kind)), nil
 }
