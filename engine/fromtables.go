@@ -103,7 +103,7 @@ func LoadTables(ts Tables) (*BaseSet, error) {
 	}
 	bs := &BaseSet{Structure: st, Input: InputReport{Path: ts.Base, Rows: base.rows, Columns: columnNames(baseT)},
 		KeyTypes: base.keyTypes()}
-	nodes := newNodeIndex(st, base.dicts)
+	nodes := newNodeIndex(st, base)
 	if bs.Base, bs.Periods, err = base.matrix(nodes, "base", everyPeriod); err != nil {
 		return nil, err
 	}
