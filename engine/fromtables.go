@@ -281,7 +281,7 @@ func Reconcile(ctx context.Context, bs *BaseSet, opt ReconcileOptions) (*Result,
 		Options:  map[string]any{"method": rc.Method, "cov": rc.Cov, "at": rc.At, "nonnegative": nonneg, "levels": opt.Levels},
 		Timings:  map[string]float64{"read": bs.ReadSeconds, "reconcile": time.Since(start).Seconds()},
 		Warnings: append([]string{}, warnings...), Models: map[string]int{},
-		Reconcile: ReconcileReport{Method: method.Name(), Notes: sol.Notes}}
+		Reconcile: reconcileReport(method.Name(), sol.Notes)}
 	c := &res.Report.Counts
 	c.BottomSeries, c.Nodes, c.Periods, c.Horizon = st.NumBottom(), n, T, h
 	c.Grain = bs.Periods[0].Grain.String()

@@ -208,7 +208,10 @@ func (r Reconciliation) method() (reconcile.Method, Reconciliation, error) {
 	if r.Method == "" {
 		r.Method = DefaultMethod
 	}
-	if r.Method == "mint" && r.Cov == "" {
+	if name, cov, at, ok := reconcile.ParseLabel(r.Method); ok && name != r.Method && r.Cov == "" && r.At == "" {
+		r.Method, r.Cov, r.At = name, cov, at // a label such as mint-variance
+	}
+	if info, ok := reconcile.LookupMethod(r.Method); ok && info.Param == reconcile.CovParam && r.Cov == "" {
 		r.Cov = string(reconcile.CovShrink)
 	}
 	if r.Origins != 0 {
@@ -287,7 +290,8 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 // non-negativity on for mint when the option leaves it automatic.
 func reconcileOpen(method reconcile.Method, rc Reconciliation, prob reconcile.Problem, noNegative bool,
 	trading *openPart, st *hierarchy.Structure, h int) (reconcile.Solution, bool, error) {
-	nonneg := method.Name() == "mint" && noNegative
+	info, _ := reconcile.LookupMethod(method.Name())
+	nonneg := info.NonNegativeDefault && noNegative
 	if rc.Nonnegative != nil {
 		nonneg = *rc.Nonnegative
 	}

@@ -154,7 +154,7 @@ func (t TopDown) Reconcile(p Problem) (Solution, error) {
 		return Solution{}, err
 	}
 	if p.Nonnegative {
-		return Solution{}, inputerr.ForOption("Nonnegative", "non-negative reconciliation applies to the mint method only (%s keeps the sign of the total)", t.Name())
+		return Solution{}, inputerr.ForOption("Nonnegative", "non-negative reconciliation applies to %s only (%s keeps the sign of the total)", nonNegativeOnly(), t.Name())
 	}
 	var prop [][]float64
 	switch t.Proportions {
@@ -336,7 +336,7 @@ func (mo MiddleOut) Reconcile(p Problem) (Solution, error) {
 		return Solution{}, err
 	}
 	if p.Nonnegative {
-		return Solution{}, inputerr.ForOption("Nonnegative", "non-negative reconciliation applies to the mint method only")
+		return Solution{}, inputerr.ForOption("Nonnegative", "non-negative reconciliation applies to %s only", nonNegativeOnly())
 	}
 	l, ok := p.Structure.LevelByName(mo.Level)
 	if !ok {
