@@ -75,8 +75,11 @@ func compareSetting(name string) (Reconciliation, error) {
 		return Reconciliation{}, nil
 	}
 	method, cov, at, ok := reconcile.ParseLabel(name)
-	if !ok || reconcile.Label(method, cov, at) != name {
+	if !ok {
 		return Reconciliation{}, inputerr.ForOption("Compare", "unknown method %q to compare (use %s)", name, CompareNames())
+	}
+	if full := reconcile.Label(method, cov, at); full != name {
+		return Reconciliation{}, inputerr.ForOption("Compare", "method %q to compare needs its covariance or level, as in %s (use %s)", name, strings.Replace(full, "@", "@LEVEL", 1), CompareNames())
 	}
 	rc := Reconciliation{Method: method, Cov: cov, At: at}
 	if at != "" {
