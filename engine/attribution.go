@@ -3,9 +3,6 @@ package engine
 import (
 	"math"
 	"sort"
-	"strings"
-
-	"trueup/hierarchy"
 )
 
 // Error attribution. Reconciled forecasts are coherent and so are the
@@ -55,14 +52,14 @@ type Contribution struct {
 
 // Driver is node Node's part in the error of aggregate Ancestor.
 type Driver struct {
-	Method                 string
-	AncestorLevel, Level   string
-	Ancestor, Node         string // labels such as "region=North store=N01"
-	AbsError, NetError     float64
-	Share                  float64 // AbsError over the sum of AbsError of the level's nodes under Ancestor
-	Rank                   int     // 1 = the largest absolute error
-	ancestorIdx, levelIdx  int
-	ancestorKey, driverKey string
+	Method                string
+	AncestorLevel, Level  string
+	Ancestor, Node        string // labels such as "region=North store=N01"
+	AbsError, NetError    float64
+	Share                 float64 // AbsError over the sum of AbsError of the level's nodes under Ancestor
+	Rank                  int     // 1 = the largest absolute error
+	ancestorIdx, levelIdx int
+	ancestor, driver      int // node indices in the whole history's structure
 }
 
 // NodeScore is a node's accuracy under one method over every origin and
@@ -76,7 +73,7 @@ type NodeScore struct {
 	// reconciliation helped); NaN without base.
 	Change   float64 `json:"change_from_base"`
 	levelIdx int
-	key      string
+	node     int // node index in the whole history's structure
 }
 
 // Incoherence is base − Σ children's base of one aggregate and split.
@@ -89,109 +86,25 @@ type Incoherence struct {
 	ParentLevelNm string
 }
 
-// splits returns, per node, its children grouped by the children's level
-// (one group per chain along which the node can be split), levels in
-// structure order.
-func splits(st *hierarchy.Structure) [][][]int {
-	index := make(map[string]int, len(st.Nodes))
-	for i, n := range st.Nodes {
-		index[strings.Join(n.Key, "\x00")] = i
-	}
-	start := make([]int, len(st.Chains))
-	off := 0
-	for c, ch := range st.Chains {
-		start[c] = off
-		off += len(ch)
-	}
-	byLevel := make([]map[int][]int, len(st.Nodes))
-	for j, n := range st.Nodes {
-		depth := st.Levels[n.Level].Depth
-		for c, d := range depth {
-			if d == 0 {
-				continue
-			}
-			key := append([]string(nil), n.Key...)
-			key[start[c]+d-1] = ""
-			p := index[strings.Join(key, "\x00")]
-			if byLevel[p] == nil {
-				byLevel[p] = map[int][]int{}
-			}
-			byLevel[p][n.Level] = append(byLevel[p][n.Level], j)
-		}
-	}
-	out := make([][][]int, len(st.Nodes))
-	for p, m := range byLevel {
-		for l := range st.Levels {
-			if ch := m[l]; ch != nil {
-				out[p] = append(out[p], ch)
-			}
-		}
-	}
-	return out
-}
-
-// ancestors returns the keys of every proper ancestor of a node (every
-// coarser truncation of its key), with their level indices.
-func ancestors(st *hierarchy.Structure, node hierarchy.Node) (keys []string, levels []int) {
-	start := make([]int, len(st.Chains))
-	off := 0
-	for c, ch := range st.Chains {
-		start[c] = off
-		off += len(ch)
-	}
-	depth := st.Levels[node.Level].Depth
-	for l, lv := range st.Levels {
-		below, same := true, true
-		for c := range depth {
-			if lv.Depth[c] > depth[c] {
-				below = false
-			}
-			if lv.Depth[c] != depth[c] {
-				same = false
-			}
-		}
-		if !below || same {
-			continue
-		}
-		key := make([]string, len(node.Key))
-		for c, d := range lv.Depth {
-			copy(key[start[c]:start[c]+d], node.Key[start[c]:start[c]+d])
-		}
-		keys = append(keys, strings.Join(key, "\x00"))
-		levels = append(levels, l)
-	}
-	return keys, levels
-}
-
-func labelOf(st *hierarchy.Structure, key string) string {
-	parts := strings.Split(key, "\x00")
-	var out []string
-	for a, v := range parts {
-		if v != "" {
-			out = append(out, st.Attrs[a]+"="+v)
-		}
-	}
-	if len(out) == 0 {
-		return "total"
-	}
-	return strings.Join(out, " ")
-}
-
 func attribute(res *BacktestResult) *Attribution {
 	at := &Attribution{}
 	h := res.Horizon
 	full := res.Structure
-	levelIdx := map[string]int{}
-	for l, lv := range full.Levels {
-		levelIdx[lv.Name] = l
+	// Nodes are matched across origins by their index in the whole
+	// history's structure (every origin's structure is part of it).
+	type dkey struct {
+		method    string
+		anc, node int
 	}
-	type dkey struct{ method, anc, node string }
 	type dsum struct {
 		abs, net      float64
 		ancLevel, lev int
 	}
 	drivers := map[dkey]*dsum{}
-	type nkey struct{ method, node string }
+	type nkey struct {
+		method string
+		node   int
+	}
 	type nsum struct {
 		ase   float64
 		n     int
@@ -200,10 +113,17 @@ func attribute(res *BacktestResult) *Attribution {
 	nodes := map[nkey]*nsum{}
 	for o, org := range res.Origins {
 		st := org.Structure
-		sp := splits(st)
+		toFull := make([]int, len(st.Nodes))
+		for i, node := range st.Nodes {
+			f, ok := full.Lookup(node.Key)
+			if !ok {
+				panic("engine: an origin's node is missing from the whole history's structure")
+			}
+			toFull[i] = f
+		}
 		for _, m := range res.Methods {
 			for i, node := range st.Nodes {
-				key := strings.Join(node.Key, "\x00")
+				key := toFull[i]
 				if org.Scored(i) {
 					ns := nodes[nkey{m, key}]
 					if ns == nil {
@@ -219,24 +139,25 @@ func attribute(res *BacktestResult) *Attribution {
 					continue
 				}
 				if i > 0 {
-					ak, al := ancestors(st, node)
+					ancestors := st.Ancestors(i)
 					abs, net := 0.0, 0.0
 					for k := 0; k < h; k++ {
 						e := org.Error(m, i, k)
 						abs += math.Abs(e)
 						net += e
 					}
-					for a := range ak {
-						d := drivers[dkey{m, ak[a], key}]
+					for _, a := range ancestors {
+						d := drivers[dkey{m, toFull[a], key}]
 						if d == nil {
-							d = &dsum{ancLevel: al[a], lev: node.Level}
-							drivers[dkey{m, ak[a], key}] = d
+							d = &dsum{ancLevel: st.Nodes[a].Level, lev: node.Level}
+							drivers[dkey{m, toFull[a], key}] = d
 						}
 						d.abs += abs
 						d.net += net
 					}
 				}
-				for _, children := range sp[i] {
+				for _, split := range st.Splits(i) {
+					children := split.Nodes
 					for k := 0; k < h; k++ {
 						ep := org.Error(m, i, k)
 						sumAbs := 0.0
@@ -263,14 +184,15 @@ func attribute(res *BacktestResult) *Attribution {
 		if base := org.Results[BaseMethod]; base != nil {
 			f := base.Solution.Forecast
 			for i := range st.Nodes {
-				for _, children := range sp[i] {
+				for _, split := range st.Splits(i) {
+					children := split.Nodes
 					for k := 0; k < h; k++ {
 						sum := 0.0
 						for _, c := range children {
 							sum += f[c][k]
 						}
 						at.Incoherence = append(at.Incoherence, Incoherence{Origin: o, Step: k + 1, Parent: i,
-							SplitLevel: st.Nodes[children[0]].Level, Base: f[i][k], Sum: sum,
+							SplitLevel: split.Level, Base: f[i][k], Sum: sum,
 							ScaledAbs: math.Abs(f[i][k]-sum) / org.ScaleMAE[i]})
 					}
 				}
@@ -280,14 +202,14 @@ func attribute(res *BacktestResult) *Attribution {
 
 	// Rank drivers per method, ancestor and level.
 	type group struct {
-		method, anc string
-		level       int
+		method     string
+		anc, level int
 	}
 	for k, d := range drivers {
 		at.Drivers = append(at.Drivers, Driver{Method: k.method, AncestorLevel: full.Levels[d.ancLevel].Name,
-			Level: full.Levels[d.lev].Name, Ancestor: labelOf(full, k.anc), Node: labelOf(full, k.node),
+			Level: full.Levels[d.lev].Name, Ancestor: full.Label(k.anc), Node: full.Label(k.node),
 			AbsError: d.abs, NetError: d.net, ancestorIdx: d.ancLevel, levelIdx: d.lev,
-			ancestorKey: k.anc, driverKey: k.node})
+			ancestor: k.anc, driver: k.node})
 	}
 	order := map[string]int{}
 	for i, m := range res.Methods {
@@ -300,25 +222,25 @@ func attribute(res *BacktestResult) *Attribution {
 			return order[a.Method] < order[b.Method]
 		case a.ancestorIdx != b.ancestorIdx:
 			return a.ancestorIdx < b.ancestorIdx
-		case a.ancestorKey != b.ancestorKey:
-			return a.ancestorKey < b.ancestorKey
+		case a.ancestor != b.ancestor:
+			return a.ancestor < b.ancestor
 		case a.levelIdx != b.levelIdx:
 			return a.levelIdx < b.levelIdx
 		case a.AbsError != b.AbsError:
 			return a.AbsError > b.AbsError
 		}
-		return a.driverKey < b.driverKey
+		return a.driver < b.driver
 	})
 	// Ranks and shares, summing in the sorted order so that the bytes do
 	// not depend on map order.
 	totals := map[group]float64{}
 	for i := range at.Drivers {
 		d := &at.Drivers[i]
-		totals[group{d.Method, d.ancestorKey, d.levelIdx}] += d.AbsError
+		totals[group{d.Method, d.ancestor, d.levelIdx}] += d.AbsError
 		d.Rank = 1
 		if i > 0 {
 			p := at.Drivers[i-1]
-			if p.Method == d.Method && p.ancestorKey == d.ancestorKey && p.levelIdx == d.levelIdx {
+			if p.Method == d.Method && p.ancestor == d.ancestor && p.levelIdx == d.levelIdx {
 				d.Rank = p.Rank + 1
 			}
 		}
@@ -326,15 +248,15 @@ func attribute(res *BacktestResult) *Attribution {
 	for i := range at.Drivers {
 		d := &at.Drivers[i]
 		d.Share = math.NaN()
-		if t := totals[group{d.Method, d.ancestorKey, d.levelIdx}]; t > 0 {
+		if t := totals[group{d.Method, d.ancestor, d.levelIdx}]; t > 0 {
 			d.Share = d.AbsError / t
 		}
 	}
 
 	// Node scores and the change from base.
 	for k, ns := range nodes {
-		s := NodeScore{Method: k.method, Level: full.Levels[ns.level].Name, Node: labelOf(full, k.node),
-			MASE: ns.ase / float64(ns.n), Change: math.NaN(), levelIdx: ns.level, key: k.node}
+		s := NodeScore{Method: k.method, Level: full.Levels[ns.level].Name, Node: full.Label(k.node),
+			MASE: ns.ase / float64(ns.n), Change: math.NaN(), levelIdx: ns.level, node: k.node}
 		if b := nodes[nkey{BaseMethod, k.node}]; b != nil && k.method != BaseMethod {
 			s.Change = s.MASE - b.ase/float64(b.n)
 		}
@@ -348,7 +270,7 @@ func attribute(res *BacktestResult) *Attribution {
 		case a.levelIdx != b.levelIdx:
 			return a.levelIdx < b.levelIdx
 		}
-		return a.key < b.key
+		return a.node < b.node
 	})
 	return at
 }

@@ -50,34 +50,46 @@ var DefaultCompare = []string{"base", "bottom-up", "mint-shrink", "mint-variance
 // BaseMethod names the unreconciled base forecasts among compared methods.
 const BaseMethod = "base"
 
-// CompareNames describes the method names Compare accepts.
+// CompareNames describes the method names Compare accepts: base and the
+// label (reconcile.Label) of every method of reconcile.Methods.
 func CompareNames() string {
-	return "base, bottom-up, top-down-hist, top-down-avg, top-down-fcst, middle-out@LEVEL, mint-COV (COV: " +
-		strings.Join(reconcile.CovNames(), ", ") + ")"
-}
-
-// compareSetting maps a compared method's name to reconciliation settings.
-func compareSetting(name string) (Reconciliation, error) {
-	switch {
-	case name == BaseMethod:
-		return Reconciliation{}, nil
-	case strings.HasPrefix(name, "mint-"):
-		rc := Reconciliation{Method: "mint", Cov: strings.TrimPrefix(name, "mint-")}
-		if _, _, err := rc.method(); err != nil {
-			return rc, inputerr.ForOption("Compare", "method %q: %v", name, err)
-		}
-		return rc, nil
-	case strings.HasPrefix(name, "middle-out@"):
-		// The level is checked against the structure when the method runs.
-		return Reconciliation{Method: "middle-out", At: strings.TrimPrefix(name, "middle-out@")}, nil
-	case name == "mint" || name == "middle-out":
-	default:
-		rc := Reconciliation{Method: name}
-		if _, _, err := rc.method(); err == nil {
-			return rc, nil
+	names := []string{BaseMethod}
+	for _, m := range reconcile.Methods() {
+		switch m.Param {
+		case reconcile.CovParam:
+			names = append(names, reconcile.Label(m.Name, "COV", ""))
+		case reconcile.LevelParam:
+			names = append(names, reconcile.Label(m.Name, "", "LEVEL"))
+		default:
+			names = append(names, m.Name)
 		}
 	}
-	return Reconciliation{}, inputerr.ForOption("Compare", "unknown method %q to compare (use %s)", name, CompareNames())
+	return strings.Join(names, ", ") + " (COV: " + strings.Join(reconcile.CovNames(), ", ") + ")"
+}
+
+// compareSetting maps a compared method's label to reconciliation
+// settings. Only the full label is accepted ("mint-shrink", not "mint"),
+// so that one method is not compared under two names.
+func compareSetting(name string) (Reconciliation, error) {
+	if name == BaseMethod {
+		return Reconciliation{}, nil
+	}
+	method, cov, at, ok := reconcile.ParseLabel(name)
+	if !ok {
+		return Reconciliation{}, inputerr.ForOption("Compare", "unknown method %q to compare (use %s)", name, CompareNames())
+	}
+	if full := reconcile.Label(method, cov, at); full != name {
+		return Reconciliation{}, inputerr.ForOption("Compare", "method %q to compare needs its covariance or level, as in %s (use %s)", name, strings.Replace(full, "@", "@LEVEL", 1), CompareNames())
+	}
+	rc := Reconciliation{Method: method, Cov: cov, At: at}
+	if at != "" {
+		// The level is checked against the structure when the method runs.
+		return rc, nil
+	}
+	if _, _, err := rc.method(); err != nil {
+		return rc, inputerr.ForOption("Compare", "method %q: %v", name, err)
+	}
+	return rc, nil
 }
 
 // SkippedMethod is a compared method that could not run, and why.
@@ -329,7 +341,7 @@ func Backtest(ctx context.Context, d *Data, bo BacktestOptions) (*BacktestResult
 			}
 		}
 		if first == nil { // only base asked, or every method skipped
-			r, err := run(Reconciliation{Method: "bottom-up"})
+			r, err := run(Reconciliation{Method: reconcile.BottomUp{}.Name()})
 			if err != nil {
 				return nil, err
 			}

@@ -2,7 +2,6 @@ package engine
 
 import (
 	"math"
-	"strings"
 
 	"trueup/hierarchy"
 	"trueup/reconcile"
@@ -81,33 +80,15 @@ type openPart struct {
 // openStructure builds the reconciliation structure without the closed
 // bottom series. With no closures it is the full structure itself.
 func openStructure(full *hierarchy.Structure, closed []bool) (*openPart, error) {
-	off := full.BottomOffset()
-	var keys [][]string
+	open := make([]bool, len(closed))
 	for j, c := range closed {
-		if !c {
-			keys = append(keys, full.Nodes[off+j].Key)
-		}
+		open[j] = !c
 	}
-	if len(keys) == len(closed) {
-		id := make([]int, len(full.Nodes))
-		for i := range id {
-			id[i] = i
-		}
-		return &openPart{st: full, toFull: id}, nil
-	}
-	st, err := hierarchy.Build(full.Chains, keys)
+	st, toFull, err := full.Sub(open)
 	if err != nil {
 		return nil, err
 	}
-	index := make(map[string]int, len(full.Nodes))
-	for i, n := range full.Nodes {
-		index[strings.Join(n.Key, "\x00")] = i
-	}
-	op := &openPart{st: st, toFull: make([]int, len(st.Nodes))}
-	for i, n := range st.Nodes {
-		op.toFull[i] = index[strings.Join(n.Key, "\x00")]
-	}
-	return op, nil
+	return &openPart{st: st, toFull: toFull}, nil
 }
 
 // rows selects the full-structure rows of the open structure's nodes.

@@ -117,7 +117,7 @@ func LoadTables(ts Tables) (*BaseSet, error) {
 	}
 	bs := &BaseSet{Structure: st, Input: InputReport{Path: ts.Base, SHA256: sum, Rows: base.rows, Columns: columnNames(baseT)},
 		KeyTypes: base.keyTypes()}
-	nodes := newNodeIndex(st, base.dicts)
+	nodes := newNodeIndex(st, base)
 	if bs.Base, bs.Periods, err = base.matrix(nodes, "base", everyPeriod); err != nil {
 		return nil, err
 	}
@@ -214,7 +214,7 @@ func Reconcile(ctx context.Context, bs *BaseSet, opt ReconcileOptions) (*Result,
 		return nil, err
 	}
 	if err := checkRunMemory(budget, n, len(st.Attrs), T, h,
-		bs.Periods[0].Next(-T).String()+" to "+bs.Periods[0].Next(-1).String(), method.Name() == "mint"); err != nil {
+		bs.Periods[0].Next(-T).String()+" to "+bs.Periods[0].Next(-1).String(), isProjection(method)); err != nil {
 		return nil, err
 	}
 	var bottom [][]float64
@@ -305,7 +305,7 @@ func Reconcile(ctx context.Context, bs *BaseSet, opt ReconcileOptions) (*Result,
 		Options:  map[string]any{"method": rc.Method, "cov": rc.Cov, "at": rc.At, "nonnegative": nonneg, "levels": opt.Levels},
 		Timings:  map[string]float64{"read": bs.ReadSeconds, "reconcile": time.Since(start).Seconds()},
 		Warnings: append([]string{}, warnings...), Models: map[string]int{},
-		Reconcile: ReconcileReport{Method: method.Name(), Notes: sol.Notes}}
+		Reconcile: reconcileReport(method.Name(), sol.Notes)}
 	c := &res.Report.Counts
 	c.BottomSeries, c.Nodes, c.Periods, c.Horizon = st.NumBottom(), n, T, h
 	c.Grain = bs.Periods[0].Grain.String()

@@ -6,6 +6,7 @@ import (
 	"trueup/hierarchy"
 	"trueup/inputerr"
 	"trueup/internal/membudget"
+	"trueup/reconcile"
 	"trueup/tableio"
 )
 
@@ -88,8 +89,8 @@ func checkHistoryMemory(budget int64, n, T int) error {
 // the fitting: the histories,
 // residuals and forecasts (8 bytes per node and period, several copies),
 // the output tables (one row per node and history or forecast period,
-// with a key per attribute) and, for mint, the T × T Gram matrix of the
-// shrinkage estimate.
+// with a key per attribute) and, for a projection (mint), the T × T Gram
+// matrix of the shrinkage estimate.
 func checkRunMemory(budget int64, n, attrs, T, h int, span string, mint bool) error {
 	N, TT, H := int64(n), int64(T), int64(h)
 	need := membudget.Add(
@@ -100,4 +101,11 @@ func checkRunMemory(budget int64, n, attrs, T, h int, span string, mint bool) er
 		need = membudget.Add(need, membudget.Mul(TT, TT, 8))
 	}
 	return checkMemory(budget, fmt.Sprintf("a run of %d nodes over %d history periods (%s) and %d ahead", n, T, span, h), need)
+}
+
+// isProjection reports whether method is a projection (mint), the methods
+// whose covariance estimate holds a T × T matrix.
+func isProjection(method reconcile.Method) bool {
+	_, ok := method.(reconcile.Projection)
+	return ok
 }

@@ -200,21 +200,30 @@ func (nt *nodeTable) rowLabel(r int) string {
 }
 
 // nodeIndex maps packed key codes (in the base table's dictionaries) to
-// node indices.
+// node indices, −1 for a key that is not a node.
 type nodeIndex struct {
 	st *hierarchy.Structure
 	m  map[string]int
 }
 
-func newNodeIndex(st *hierarchy.Structure, dicts []map[string]int32) nodeIndex {
+// newNodeIndex looks up each distinct key of table nt in the structure.
+func newNodeIndex(st *hierarchy.Structure, nt *nodeTable) nodeIndex {
 	idx := nodeIndex{st: st, m: make(map[string]int, len(st.Nodes))}
-	buf := make([]byte, 4*len(st.Attrs))
-	for i, node := range st.Nodes {
-		for a, v := range node.Key {
-			c := dicts[a][v]
-			buf[4*a], buf[4*a+1], buf[4*a+2], buf[4*a+3] = byte(c), byte(c>>8), byte(c>>16), byte(c>>24)
+	buf := make([]byte, 4*len(nt.attrs))
+	key := make([]string, len(nt.attrs))
+	for r := 0; r < nt.rows; r++ {
+		packed := nt.rowKey(buf, r)
+		if _, done := idx.m[string(packed)]; done {
+			continue
 		}
-		idx.m[string(buf)] = i
+		for a := range nt.attrs {
+			key[a] = nt.values[a][nt.codes[a][r]]
+		}
+		i, ok := st.Lookup(key)
+		if !ok {
+			i = -1
+		}
+		idx.m[string(packed)] = i
 	}
 	return idx
 }
@@ -288,7 +297,7 @@ func (nt *nodeTable) matrix(nodes nodeIndex, col string, mode fillMode) ([][]flo
 	key := make([]byte, 4*len(nt.attrs))
 	for r := 0; r < nt.rows; r++ {
 		i, ok := nodes.m[string(nt.rowKey(key, r))]
-		if !ok {
+		if !ok || i < 0 {
 			return nil, nil, nt.rowError(r, "", "%s is not a node of the structure built from the bottom series of the base forecasts (a key is set below an aggregated one, or the bottom series is not in the base forecasts)", nt.rowLabel(r))
 		}
 		k := pos[nt.period[r]]

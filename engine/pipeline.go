@@ -208,7 +208,10 @@ func (r Reconciliation) method() (reconcile.Method, Reconciliation, error) {
 	if r.Method == "" {
 		r.Method = DefaultMethod
 	}
-	if r.Method == "mint" && r.Cov == "" {
+	if name, cov, at, ok := reconcile.ParseLabel(r.Method); ok && name != r.Method && r.Cov == "" && r.At == "" {
+		r.Method, r.Cov, r.At = name, cov, at // a label such as mint-variance
+	}
+	if info, ok := reconcile.LookupMethod(r.Method); ok && info.Param == reconcile.CovParam && r.Cov == "" {
 		r.Cov = string(reconcile.CovShrink)
 	}
 	if r.Origins != 0 {
@@ -246,7 +249,7 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 		return nil, err
 	}
 	if err := checkRunMemory(budget, len(d.Structure.Nodes), len(d.Structure.Attrs), d.Panel.T, opt.Horizon,
-		d.Panel.Period(0).String()+" to "+d.Panel.Period(d.Panel.T-1).String(), method.Name() == "mint"); err != nil {
+		d.Panel.Period(0).String()+" to "+d.Panel.Period(d.Panel.T-1).String(), isProjection(method)); err != nil {
 		return nil, err
 	}
 	rep := RunReport{Version: Version, Command: "forecast", Timings: map[string]float64{
@@ -295,7 +298,8 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 // non-negativity on for mint when the option leaves it automatic.
 func reconcileOpen(method reconcile.Method, rc Reconciliation, prob reconcile.Problem, noNegative bool,
 	trading *openPart, st *hierarchy.Structure, h int) (reconcile.Solution, bool, error) {
-	nonneg := method.Name() == "mint" && noNegative
+	info, _ := reconcile.LookupMethod(method.Name())
+	nonneg := info.NonNegativeDefault && noNegative
 	if rc.Nonnegative != nil {
 		nonneg = *rc.Nonnegative
 	}

@@ -5,6 +5,7 @@ import (
 	"sort"
 
 	"trueup/models/families"
+	"trueup/reconcile"
 )
 
 // RunReport is the content of run.json: what was read, with which options,
@@ -70,10 +71,20 @@ type LevelCount struct {
 
 // ReconcileReport describes the reconciliation.
 type ReconcileReport struct {
-	Method string             `json:"method"`
-	Notes  map[string]float64 `json:"notes,omitempty"`
+	Method string `json:"method"`
+	// Explanation says what the method does, for the report's readers
+	// (reconcile.MethodInfo.Explanation).
+	Explanation string             `json:"explanation"`
+	Notes       map[string]float64 `json:"notes,omitempty"`
 	// Auto records the backtest behind an automatic choice of method.
 	Auto *AutoChoice `json:"automatic_choice,omitempty"`
+}
+
+// reconcileReport describes the method named method, as the table of
+// methods explains it.
+func reconcileReport(method string, notes map[string]float64) ReconcileReport {
+	info, _ := reconcile.LookupMethod(method)
+	return ReconcileReport{Method: method, Explanation: info.Explanation, Notes: notes}
 }
 
 // optionsReport records the options as resolved, defaults filled in.
@@ -123,7 +134,7 @@ func (r *RunReport) fill(d *Data, opt Options, rc Reconciliation, res *Result, m
 			warned++
 		}
 	}
-	r.Reconcile = ReconcileReport{Method: method, Notes: sol.Notes}
+	r.Reconcile = reconcileReport(method, sol.Notes)
 	r.Warnings = []string{}
 	if pn.Stats.Negative > 0 {
 		r.Warnings = append(r.Warnings, fmt.Sprintf("%d rows have negative values (returns?); they were kept", pn.Stats.Negative))

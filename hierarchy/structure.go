@@ -5,6 +5,7 @@
 package hierarchy
 
 import (
+	"fmt"
 	"math"
 	"slices"
 	"sort"
@@ -63,7 +64,9 @@ type Node struct {
 
 // Structure is the full grouped structure. Nodes are ordered by level
 // (coarsest first, so the total is node 0) and by key within a level; the
-// bottom level comes last and its order matches the columns of S.
+// bottom level comes last and its order matches the columns of S. The
+// navigation between nodes (Lookup, NodeAt, Splits, Ancestors, Sub) is in
+// navigation.go.
 type Structure struct {
 	Chains []Chain
 	Attrs  []string // all attributes, chain by chain, coarse to fine
@@ -71,14 +74,17 @@ type Structure struct {
 	Nodes  []Node
 	S      *SumMatrix
 
-	bottomIndex map[string]int // joined bottom key → bottom position
+	nav navigation
 }
 
 // BottomIndex returns the position (0..m−1) of the bottom series with the
 // given key (one value per attribute of Attrs).
 func (s *Structure) BottomIndex(key []string) (int, bool) {
-	j, ok := s.bottomIndex[strings.Join(key, "\x00")]
-	return j, ok
+	i, ok := s.Lookup(key)
+	if !ok || i < s.BottomOffset() {
+		return -1, false
+	}
+	return i - s.BottomOffset(), true
 }
 
 // NumBottom is m, the number of bottom series.
@@ -178,20 +184,37 @@ func Build(chains []Chain, bottom [][]string) (*Structure, error) {
 			}
 		}
 	}
-	// Sort bottom keys so node order is deterministic whatever the input order.
+	for j, key := range bottom {
+		if len(key) != len(attrs) {
+			panic(fmt.Sprintf("hierarchy: bottom key %d has %d values for %d attributes", j, len(key), len(attrs)))
+		}
+		for a, v := range key {
+			if v == "" {
+				return nil, inputerr.New("bottom key %s has an empty %s (an empty value marks a node that adds that column up)", strings.Join(key, "/"), attrs[a])
+			}
+		}
+	}
+	in := newInterner(attrs, bottom)
+	// Sort bottom keys so node order is deterministic whatever the input
+	// order. Codes are in the order of the values, so comparing codes
+	// compares keys.
+	codes := make([][]int32, len(bottom))
+	for j, key := range bottom {
+		codes[j] = in.codes(key)
+	}
 	order := make([]int, len(bottom))
 	for i := range order {
 		order[i] = i
 	}
-	sort.Slice(order, func(a, b int) bool { return lessKey(bottom[order[a]], bottom[order[b]]) })
+	sort.Slice(order, func(a, b int) bool { return lessCodes(codes[order[a]], codes[order[b]]) })
 	for i := 1; i < len(order); i++ {
-		if equalKey(bottom[order[i-1]], bottom[order[i]]) {
+		if equalCodes(codes[order[i-1]], codes[order[i]]) {
 			return nil, inputerr.New("bottom key %s appears twice", quotePath(bottom[order[i]]))
 		}
 	}
-	sorted := make([][]string, len(bottom))
+	sorted := make([][]int32, len(bottom))
 	for i, o := range order {
-		sorted[i] = bottom[o]
+		sorted[i] = codes[o]
 	}
 	m := len(sorted)
 
@@ -222,44 +245,54 @@ func Build(chains []Chain, bottom [][]string) (*Structure, error) {
 	})
 
 	st := &Structure{Chains: chains, Attrs: attrs}
+	st.nav = navigation{dict: in.dict,
+		index: make(map[string]int, m), nodeAt: make([][]int32, len(depths))}
 	var members [][]int
+	buf := make([]byte, 4*len(attrs))
 	for li, depth := range depths {
 		lv := Level{Name: levelName(chains, depth), Depth: depth}
-		groups := map[string]int{}
-		var keys [][]string
+		groups := map[string]int32{}
+		var keys [][]int32
 		var mem [][]int
+		groupOf := make([]int32, m)
 		for j, key := range sorted {
-			nk := make([]string, len(attrs))
+			nk := make([]int32, len(attrs))
 			for c, d := range depth {
 				copy(nk[start[c]:start[c]+d], key[start[c]:start[c]+d])
 			}
-			id := strings.Join(nk, "\x00")
-			g, ok := groups[id]
+			id := packCodes(buf, nk)
+			g, ok := groups[string(id)]
 			if !ok {
-				g = len(keys)
-				groups[id] = g
+				g = int32(len(keys))
+				groups[string(id)] = g
 				keys = append(keys, nk)
 				mem = append(mem, nil)
 			}
 			mem[g] = append(mem[g], j)
+			groupOf[j] = g
 		}
 		idx := make([]int, len(keys))
 		for i := range idx {
 			idx[i] = i
 		}
-		sort.Slice(idx, func(a, b int) bool { return lessKey(keys[idx[a]], keys[idx[b]]) })
+		sort.Slice(idx, func(a, b int) bool { return lessCodes(keys[idx[a]], keys[idx[b]]) })
+		nodeOfGroup := make([]int32, len(keys))
 		for _, g := range idx {
-			lv.Nodes = append(lv.Nodes, len(st.Nodes))
-			st.Nodes = append(st.Nodes, Node{Level: li, Key: keys[g]})
+			i := len(st.Nodes)
+			nodeOfGroup[g] = int32(i)
+			lv.Nodes = append(lv.Nodes, i)
+			st.Nodes = append(st.Nodes, Node{Level: li, Key: in.key(keys[g])})
+			st.nav.index[string(packCodes(buf, keys[g]))] = i
 			members = append(members, mem[g])
 		}
+		for j, g := range groupOf {
+			groupOf[j] = nodeOfGroup[g]
+		}
+		st.nav.nodeAt[li] = groupOf
 		st.Levels = append(st.Levels, lv)
 	}
 	st.S = NewSumMatrix(m, members)
-	st.bottomIndex = make(map[string]int, m)
-	for j, key := range sorted {
-		st.bottomIndex[strings.Join(key, "\x00")] = j
-	}
+	st.nav.splits = newSplits(st)
 	return st, nil
 }
 
@@ -271,7 +304,7 @@ func sum(xs []int) int {
 	return t
 }
 
-func lessKey(a, b []string) bool {
+func lessCodes(a, b []int32) bool {
 	for i := range a {
 		if a[i] != b[i] {
 			return a[i] < b[i]
@@ -280,7 +313,7 @@ func lessKey(a, b []string) bool {
 	return false
 }
 
-func equalKey(a, b []string) bool {
+func equalCodes(a, b []int32) bool {
 	for i := range a {
 		if a[i] != b[i] {
 			return false

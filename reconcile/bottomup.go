@@ -25,7 +25,7 @@ func (BottomUp) Reconcile(p Problem) (Solution, error) {
 		return Solution{}, err
 	}
 	if p.Nonnegative {
-		return Solution{}, inputerr.ForOption("Nonnegative", "non-negative reconciliation applies to the mint method only (bottom-up keeps the bottom base forecasts)")
+		return Solution{}, inputerr.ForOption("Nonnegative", "non-negative reconciliation applies to %s only (bottom-up keeps the bottom base forecasts)", nonNegativeOnly())
 	}
 	st := p.Structure
 	prop := newRows(m, h)

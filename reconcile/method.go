@@ -12,7 +12,6 @@ package reconcile
 import (
 	"fmt"
 	"math"
-	"strings"
 
 	"trueup/hierarchy"
 	"trueup/inputerr"
@@ -111,50 +110,6 @@ type Method interface {
 	// Name is the name ByName selects it by.
 	Name() string
 	Reconcile(p Problem) (Solution, error)
-}
-
-// MethodNames lists the method names ByName accepts, in the order help
-// text lists them.
-func MethodNames() []string {
-	return []string{"bottom-up", "top-down-hist", "top-down-avg", "top-down-fcst", "middle-out", "mint"}
-}
-
-// ByName returns the method named method, with covariance estimator cov
-// and middle-out level at. cov
-// applies to mint only (empty means shrink) and at to middle-out only
-// (where it is required); giving either with another method is an error.
-func ByName(method, cov, at string) (Method, error) {
-	if at != "" && method != "middle-out" {
-		return nil, inputerr.ForOption("At", "a level to reconcile from (%q) applies to the middle-out method only", at)
-	}
-	if cov != "" && method != "mint" {
-		return nil, inputerr.ForOption("Cov", "a covariance estimator (%q) applies to the mint method only", cov)
-	}
-	switch method {
-	case "bottom-up":
-		return BottomUp{}, nil
-	case "top-down-hist":
-		return TopDown{Proportions: HistoricalProportions}, nil
-	case "top-down-avg":
-		return TopDown{Proportions: ProportionsOfAverages}, nil
-	case "top-down-fcst":
-		return TopDown{Proportions: ForecastProportions}, nil
-	case "middle-out":
-		if at == "" {
-			return nil, inputerr.ForOption("At", "the middle-out method needs the level to reconcile from (a level name such as region+category)")
-		}
-		return MiddleOut{Level: at}, nil
-	case "mint":
-		if cov == "" {
-			cov = string(CovShrink)
-		}
-		c := Covariance(cov)
-		if !c.valid() {
-			return nil, inputerr.ForOption("Cov", "unknown covariance estimator %q (use %s)", cov, strings.Join(CovNames(), ", "))
-		}
-		return Projection{Cov: c}, nil
-	}
-	return nil, inputerr.ForOption("Method", "unknown reconciliation method %q (use %s)", method, strings.Join(MethodNames(), ", "))
 }
 
 // maxResidual bounds residual magnitudes so that sums of squares and

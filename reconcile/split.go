@@ -19,54 +19,15 @@ type splitPlan struct {
 	of    []int // of[j] is the position in mid of bottom j's node
 }
 
-// chainStarts returns the offset of each chain in Structure.Attrs.
-func chainStarts(st *hierarchy.Structure) []int {
-	start := make([]int, len(st.Chains))
-	off := 0
-	for c, ch := range st.Chains {
-		start[c] = off
-		off += len(ch)
-	}
-	return start
-}
-
-// truncKey is key with every chain c cut to depth[c] attributes, joined
-// into a map key.
-func truncKey(st *hierarchy.Structure, start []int, key []string, depth []int) string {
-	parts := make([]string, len(key))
-	for c, d := range depth {
-		copy(parts[start[c]:start[c]+d], key[start[c]:start[c]+d])
-	}
-	return strings.Join(parts, "\x00")
-}
-
-// levelMap returns, for every bottom series, the index in Nodes of its
-// node at level l.
-func levelMap(st *hierarchy.Structure, l int) []int {
-	start := chainStarts(st)
-	lv := st.Levels[l]
-	pos := make(map[string]int, len(lv.Nodes))
-	for _, i := range lv.Nodes {
-		pos[truncKey(st, start, st.Nodes[i].Key, lv.Depth)] = i
-	}
-	off := st.BottomOffset()
-	out := make([]int, st.NumBottom())
-	for j := range out {
-		out[j] = pos[truncKey(st, start, st.Nodes[off+j].Key, lv.Depth)]
-	}
-	return out
-}
-
 func newSplitPlan(st *hierarchy.Structure, level int) *splitPlan {
 	lv := st.Levels[level]
 	at := make(map[int]int, len(lv.Nodes))
 	for k, i := range lv.Nodes {
 		at[i] = k
 	}
-	nodeOf := levelMap(st, level)
-	of := make([]int, len(nodeOf))
-	for j, i := range nodeOf {
-		of[j] = at[i]
+	of := make([]int, st.NumBottom())
+	for j := range of {
+		of[j] = at[st.NodeAt(level, j)]
 	}
 	return &splitPlan{level: level, mid: lv.Nodes, of: of}
 }
@@ -193,7 +154,7 @@ func (t TopDown) Reconcile(p Problem) (Solution, error) {
 		return Solution{}, err
 	}
 	if p.Nonnegative {
-		return Solution{}, inputerr.ForOption("Nonnegative", "non-negative reconciliation applies to the mint method only (%s keeps the sign of the total)", t.Name())
+		return Solution{}, inputerr.ForOption("Nonnegative", "non-negative reconciliation applies to %s only (%s keeps the sign of the total)", nonNegativeOnly(), t.Name())
 	}
 	var prop [][]float64
 	switch t.Proportions {
@@ -311,11 +272,8 @@ func forecastProportions(p *Problem, l, h int) ([][]float64, error) {
 	for q := depth[chain]; q <= len(st.Chains[chain]); q++ {
 		d := append([]int(nil), depth...)
 		d[chain] = q
-		path = append(path, levelWithDepth(st, d))
-	}
-	nodeAt := make([][]int, len(path))
-	for q, lv := range path {
-		nodeAt[q] = levelMap(st, lv)
+		lv, _ := st.LevelWithDepth(d)
+		path = append(path, lv)
 	}
 	sums := make(map[int]float64)
 	kids := make(map[int]map[int]bool)
@@ -324,7 +282,7 @@ func forecastProportions(p *Problem, l, h int) ([][]float64, error) {
 			clear(sums)
 			clear(kids)
 			for j := 0; j < m; j++ {
-				par, kid := nodeAt[q][j], nodeAt[q+1][j]
+				par, kid := st.NodeAt(path[q], j), st.NodeAt(path[q+1], j)
 				if kids[par] == nil {
 					kids[par] = map[int]bool{}
 				}
@@ -334,7 +292,7 @@ func forecastProportions(p *Problem, l, h int) ([][]float64, error) {
 				}
 			}
 			for j := 0; j < m; j++ {
-				par, kid := nodeAt[q][j], nodeAt[q+1][j]
+				par, kid := st.NodeAt(path[q], j), st.NodeAt(path[q+1], j)
 				if s := sums[par]; s != 0 && !math.IsInf(p.Base[kid][k]/s, 0) {
 					prop[j][k] *= p.Base[kid][k] / s
 				} else {
@@ -346,21 +304,6 @@ func forecastProportions(p *Problem, l, h int) ([][]float64, error) {
 	return prop, nil
 }
 
-// levelWithDepth finds the level with the given depth vector; every depth
-// vector within the chains' lengths has one.
-func levelWithDepth(st *hierarchy.Structure, d []int) int {
-	for i, lv := range st.Levels {
-		same := true
-		for c := range d {
-			same = same && lv.Depth[c] == d[c]
-		}
-		if same {
-			return i
-		}
-	}
-	panic("reconcile: no level with the requested depths")
-}
-
 // exampleSplitLevel names a level at which middle-out is defined on a
 // grouped structure: every chain at full depth but the last one at 0.
 func exampleSplitLevel(st *hierarchy.Structure) string {
@@ -369,7 +312,8 @@ func exampleSplitLevel(st *hierarchy.Structure) string {
 		d[c] = len(st.Chains[c])
 	}
 	d[len(d)-1] = 0
-	return st.Levels[levelWithDepth(st, d)].Name
+	l, _ := st.LevelWithDepth(d)
+	return st.Levels[l].Name
 }
 
 // MiddleOut keeps the base forecasts of a named level, adds them up for
@@ -392,7 +336,7 @@ func (mo MiddleOut) Reconcile(p Problem) (Solution, error) {
 		return Solution{}, err
 	}
 	if p.Nonnegative {
-		return Solution{}, inputerr.ForOption("Nonnegative", "non-negative reconciliation applies to the mint method only")
+		return Solution{}, inputerr.ForOption("Nonnegative", "non-negative reconciliation applies to %s only", nonNegativeOnly())
 	}
 	l, ok := p.Structure.LevelByName(mo.Level)
 	if !ok {

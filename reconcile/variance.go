@@ -2,7 +2,6 @@ package reconcile
 
 import (
 	"math"
-	"strings"
 
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
@@ -38,32 +37,26 @@ type sumPlan struct {
 }
 
 func newSumPlan(st *hierarchy.Structure) *sumPlan {
-	start := chainStarts(st)
-	index := make(map[string]int, len(st.Nodes))
-	for i, nd := range st.Nodes {
-		index[strings.Join(nd.Key, "\x00")] = i
-	}
 	pl := &sumPlan{children: make([][]int, len(st.Nodes))}
 	for l := len(st.Levels) - 1; l >= 0; l-- {
 		lv := st.Levels[l]
-		child, best := -1, 0
-		for c, d := range lv.Depth {
-			if d == len(st.Chains[c]) {
-				continue
-			}
-			dd := append([]int(nil), lv.Depth...)
-			dd[c]++
-			cl := levelWithDepth(st, dd)
-			if child < 0 || len(st.Levels[cl].Nodes) < best {
-				child, best = cl, len(st.Levels[cl].Nodes)
-			}
-		}
-		if child < 0 {
+		splits := st.Splits(lv.Nodes[0])
+		if len(splits) == 0 {
 			continue // the bottom level
 		}
-		for _, ch := range st.Levels[child].Nodes {
-			parent := index[truncKey(st, start, st.Nodes[ch].Key, lv.Depth)]
-			pl.children[parent] = append(pl.children[parent], ch)
+		best := splits[0]
+		for _, sp := range splits[1:] {
+			size, bestSize := len(st.Levels[sp.Level].Nodes), len(st.Levels[best.Level].Nodes)
+			if size < bestSize || size == bestSize && sp.Chain < best.Chain {
+				best = sp
+			}
+		}
+		for _, a := range lv.Nodes {
+			for _, sp := range st.Splits(a) {
+				if sp.Chain == best.Chain {
+					pl.children[a] = sp.Nodes
+				}
+			}
 		}
 		pl.order = append(pl.order, lv.Nodes...)
 	}

@@ -10,6 +10,7 @@ import (
 
 	"gonum.org/v1/gonum/stat/distuv"
 
+	"trueup/hierarchy"
 	"trueup/internal/numeric"
 	"trueup/tableio"
 )
@@ -91,12 +92,12 @@ type Table struct {
 	Rows    [][]any  `json:"rows"`
 }
 
-// nodeIndex finds rows of a table by node: the level and key columns
-// joined.
+// nodeIndex finds rows of a table by node: the level and key columns,
+// identified by hierarchy.KeyID (which no value can make collide).
 type nodeIndex map[string]int
 
 func nodeKey(level string, key []string) string {
-	return level + "\x00" + strings.Join(key, "\x00")
+	return hierarchy.KeyID(append([]string{level}, key...)...)
 }
 
 // column finds a column by name.

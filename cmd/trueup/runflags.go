@@ -40,12 +40,38 @@ type reconcileFlags struct {
 
 func (f *reconcileFlags) register(cmd *cobra.Command) {
 	fl := cmd.Flags()
-	fl.StringVar(&f.method, "method", engine.DefaultMethod, "reconciliation: "+strings.Join(reconcile.MethodNames(), ", "))
-	fl.StringVar(&f.cov, "cov", "", "covariance for mint: "+strings.Join(reconcile.CovNames(), ", ")+" (default shrink)")
-	fl.StringVar(&f.at, "at", "", "level to reconcile from with middle-out, e.g. region+category")
-	fl.BoolVar(&f.nonnegative, "nonnegative", false, "keep reconciled bottom-level forecasts at or above zero\n(default: on for mint when the history has no negative value; --nonnegative=false turns it off)")
+	fl.StringVar(&f.method, "method", engine.DefaultMethod, methodHelp(false))
+	fl.StringVar(&f.cov, "cov", "", "covariance for "+methodsWhere(func(m reconcile.MethodInfo) bool { return m.Param == reconcile.CovParam })+": "+strings.Join(reconcile.CovNames(), ", ")+" (default shrink)")
+	fl.StringVar(&f.at, "at", "", "level to reconcile from with "+methodsWhere(func(m reconcile.MethodInfo) bool { return m.Param == reconcile.LevelParam })+", e.g. region+category")
+	fl.BoolVar(&f.nonnegative, "nonnegative", false, "keep reconciled bottom-level forecasts at or above zero\n(default: on for "+methodsWhere(func(m reconcile.MethodInfo) bool { return m.NonNegativeDefault })+" when the history has no negative value; --nonnegative=false turns it off)")
 	fl.IntVar(&f.paths, "paths", reconcile.DefaultPaths, fmt.Sprintf("above %d nodes, mint's interval widths are exact while at most this many nodes have residuals that start late, partly from this many sample paths above (more: slower, closer)", reconcile.DenseMaxNodes))
 	groupFlags(cmd, "Reconciliation", "method", "cov", "at", "nonnegative", "paths")
+}
+
+// methodHelp lists the reconciliation methods of reconcile.Methods with
+// their help, and the automatic choice where the command offers it.
+func methodHelp(auto bool) string {
+	var b strings.Builder
+	b.WriteString("reconciliation method:")
+	for _, m := range reconcile.Methods() {
+		fmt.Fprintf(&b, "\n  %s: %s", m.Name, m.Help)
+	}
+	if auto {
+		fmt.Fprintf(&b, "\n  %s: the best of a short backtest (see trueup backtest and --origins)", engine.AutoMethod)
+	}
+	b.WriteString("\n(a backtest's label such as mint-variance or middle-out@region is accepted too)")
+	return b.String()
+}
+
+// methodsWhere names the methods of reconcile.Methods that keep accepts.
+func methodsWhere(keep func(reconcile.MethodInfo) bool) string {
+	var names []string
+	for _, m := range reconcile.Methods() {
+		if keep(m) {
+			names = append(names, m.Name)
+		}
+	}
+	return strings.Join(names, ", ")
 }
 
 func (f *reconcileFlags) options(cmd *cobra.Command) engine.Reconciliation {
@@ -89,7 +115,7 @@ func (f *runFlags) register(cmd *cobra.Command, defaultOut string) {
 	f.registerModel(cmd)
 	f.reconcileFlags.register(cmd)
 	fl := cmd.Flags()
-	fl.Lookup("method").Usage += ", or auto: the best of a short backtest (see trueup backtest)"
+	fl.Lookup("method").Usage = methodHelp(true)
 	fl.IntVar(&f.origins, "origins", engine.AutoOrigins, "with --method auto: backtest origins the method is chosen at")
 	groupFlags(cmd, "Reconciliation", "origins")
 	f.hasOrigins = true

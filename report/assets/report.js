@@ -159,15 +159,9 @@
   if (run.models) fact("Models chosen", Object.entries(run.models).sort().map(([k, v]) => `${k} ${v}`).join(", ") + (opts.family ? ` (family option: ${opts.family})` : ""));
   if (run.reconcile) {
     const notes = Object.entries(run.reconcile.notes || {}).map(([k, v]) => `${k} ${nf2.format(v)}`).join(", ");
-    const whys = {
-      "mint": "MinT combines every level's forecast, weighting each by how reliable its errors have been, so that totals equal the sum of their parts",
-      "bottom-up": "the forecasts of the finest level are added up, so every total is the sum of its parts",
-      "top-down-hist": "the total's forecast is split down by each node's share of the history",
-      "top-down-avg": "the total's forecast is split down by each node's average share of the history",
-      "top-down-fcst": "the total's forecast is split down by each node's share of the forecasts",
-      "middle-out": "one level's forecasts are added up above it and split down below it",
-    };
-    const why = whys[run.reconcile.method] || "the method named in the run's options";
+    // The explanation comes from run.json, which takes it from the one
+    // table of methods (reconcile.Methods).
+    const why = run.reconcile.explanation || "the method named in the run's options";
     fact("Reconciliation", `${run.reconcile.method}${opts.cov ? " (covariance " + opts.cov + ")" : ""}${opts.nonnegative ? ", non-negative" : ""}: ${why}${notes ? "; " + notes : ""}`);
   }
   if (run.warnings && run.warnings.length) fact("Warnings", el("ul", {}, ...run.warnings.map(w => el("li", { class: "warning" }, w))));
