@@ -113,14 +113,7 @@ func attribute(res *BacktestResult) *Attribution {
 	nodes := map[nkey]*nsum{}
 	for o, org := range res.Origins {
 		st := org.Structure
-		toFull := make([]int, len(st.Nodes))
-		for i, node := range st.Nodes {
-			f, ok := full.Lookup(node.Key)
-			if !ok {
-				panic("engine: an origin's node is missing from the whole history's structure")
-			}
-			toFull[i] = f
-		}
+		toFull := st.IndexIn(full)
 		for _, m := range res.Methods {
 			for i, node := range st.Nodes {
 				key := toFull[i]

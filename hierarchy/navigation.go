@@ -200,15 +200,23 @@ func (s *Structure) Sub(keep []bool) (*Structure, []int, error) {
 	if err != nil {
 		return nil, nil, err
 	}
-	toFull := make([]int, len(sub.Nodes))
-	for i, n := range sub.Nodes {
-		f, ok := s.Lookup(n.Key)
+	return sub, sub.IndexIn(s), nil
+}
+
+// IndexIn returns, for each node of s, the index of the same node in
+// whole, a structure over the same chains whose bottom series include
+// those of s (a sub-structure, or an origin's structure within the whole
+// history's). A node of s missing from whole is a programmer error.
+func (s *Structure) IndexIn(whole *Structure) []int {
+	id := make([]int, len(s.Nodes))
+	for i, n := range s.Nodes {
+		f, ok := whole.Lookup(n.Key)
 		if !ok {
-			panic("hierarchy: a node of a sub-structure is missing from the structure")
+			panic("hierarchy: a node is missing from the structure it lies within")
 		}
-		toFull[i] = f
+		id[i] = f
 	}
-	return sub, toFull, nil
+	return id
 }
 
 // newSplits finds the children of every node along every chain: the
