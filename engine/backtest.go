@@ -369,6 +369,7 @@ func Backtest(ctx context.Context, d *Data, bo BacktestOptions) (*BacktestResult
 	res.Attribution = attribute(res)
 	rep.Timings["score"] = time.Since(start).Seconds()
 	rep.fill(res, opt, K, every)
+	rep.Warnings = append(d.Panel.Stats.InputNotes(), rep.Warnings...)
 	res.Report = rep
 	return res, nil
 }

@@ -151,6 +151,9 @@ func LoadTables(ts Tables) (*BaseSet, error) {
 	if ts.History.Path != "" {
 		h := ts.History
 		h.Chains = ts.Chains
+		// The base forecasts fix the origin: the history's last period
+		// is not set aside as partial.
+		h.KeepLastPeriod = true
 		if bs.History, err = Load(h); err != nil {
 			return nil, err
 		}

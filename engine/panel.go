@@ -51,6 +51,23 @@ type PanelStats struct {
 	// SetAside says why the input's last period was left out as partial
 	// (see partialLast), "" when it was not.
 	SetAside string
+	// Notes says how the periods were read where that is not plain from
+	// the file (tableio.Rows.Notes).
+	Notes []string
+}
+
+// InputNotes lists what a user must know about how the input was read:
+// the period reader's notes, the cut and the partial last period set
+// aside. Commands print them with the input checks and the warnings.
+func (s PanelStats) InputNotes() []string {
+	out := append([]string{}, s.Notes...)
+	if s.Until != "" {
+		out = append(out, s.Until)
+	}
+	if s.SetAside != "" {
+		out = append(out, s.SetAside)
+	}
+	return out
 }
 
 // PanelOptions controls BuildPanel.
@@ -192,6 +209,7 @@ func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
 	pn.Stats.InferredFrom = how
 	pn.Stats.Partial = partial
 	pn.Stats.Outliers = outlierRows
+	pn.Stats.Notes = rows.Notes
 	vals := make([][]float64, m)
 	has := make([][]bool, m)
 	backing := make([]float64, m*T)

@@ -60,6 +60,9 @@ Nothing is written.`,
 			for _, p := range rep.PartialPeriods {
 				fmt.Fprintf(w, "partial period: %s\n", p)
 			}
+			for _, note := range rep.InputNotes {
+				fmt.Fprintf(w, "input note: %s\n", note)
+			}
 			for _, group := range []struct {
 				title string
 				spans []engine.SeriesSpan
