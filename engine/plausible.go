@@ -87,19 +87,24 @@ func checkLonePeriods(rows *tableio.Rows, nat []int, g tableio.Grain, sid []int3
 	}
 	runOf := func(p int) int { return sort.Search(len(runStart), func(k int) bool { return runStart[k] > p }) - 1 }
 	rowsIn := make([]int, len(runStart))
-	perSeries := make([]map[int32]int, len(runStart))
-	for k := range perSeries {
-		perSeries[k] = map[int32]int{}
-	}
-	for i, p := range nat {
-		k := runOf(p)
-		rowsIn[k]++
-		perSeries[k][sid[i]]++
+	for _, p := range nat {
+		rowsIn[runOf(p)]++
 	}
 	main := 0
 	for k := range rowsIn {
 		if rowsIn[k] > rowsIn[main] {
 			main = k
+		}
+	}
+	// Rows per series are counted outside the main run only, which holds
+	// nearly all rows of a large table.
+	perSeries := make([]map[int32]int, len(runStart))
+	for k := range perSeries {
+		perSeries[k] = map[int32]int{}
+	}
+	for i, p := range nat {
+		if p < runStart[main] || p > runEnd[main] {
+			perSeries[runOf(p)][sid[i]]++
 		}
 	}
 	for k := range runStart {
@@ -154,40 +159,42 @@ func checkSeriesGrains(rows *tableio.Rows, sid []int32, keys [][]int32) error {
 	if rows.Periods[0].Grain != tableio.Day {
 		return nil
 	}
+	// Per series: its first two distinct dates, whether it has a third,
+	// and whether some date is not the first (last) of its month.
 	type seen struct {
-		dates             map[int]bool
+		d1, d2, n         int
 		notFirst, notLast bool
-		example           int
 	}
 	per := make([]seen, len(keys))
 	edge := map[int][2]bool{} // day → first of month, last of month
+	var lastDay int
+	var lastEdge [2]bool
 	for i, p := range rows.Periods {
 		s := &per[sid[i]]
-		if s.dates == nil {
-			s.dates = map[int]bool{}
+		switch {
+		case s.n == 0:
+			s.d1, s.n = p.Index, 1
+		case s.n == 1 && p.Index != s.d1:
+			s.d2, s.n = p.Index, 2
+		case s.n == 2 && p.Index != s.d1 && p.Index != s.d2:
+			s.n = 3
 		}
-		if s.dates[p.Index] {
-			continue
-		}
-		s.dates[p.Index] = true
-		e, ok := edge[p.Index]
-		if !ok {
-			d := p.Start()
-			e = [2]bool{d.Day() == 1, d.AddDate(0, 0, 1).Day() == 1}
-			edge[p.Index] = e
-		}
-		if !e[0] || !e[1] {
-			if !e[0] && !e[1] && !s.notFirst && !s.notLast {
-				s.example = p.Index
+		if i == 0 || p.Index != lastDay {
+			e, ok := edge[p.Index]
+			if !ok {
+				d := p.Start()
+				e = [2]bool{d.Day() == 1, d.AddDate(0, 0, 1).Day() == 1}
+				edge[p.Index] = e
 			}
-			s.notFirst = s.notFirst || !e[0]
-			s.notLast = s.notLast || !e[1]
+			lastDay, lastEdge = p.Index, e
 		}
+		s.notFirst = s.notFirst || !lastEdge[0]
+		s.notLast = s.notLast || !lastEdge[1]
 	}
 	var monthly, finer []int
 	for k, s := range per {
 		switch {
-		case len(s.dates) < 3:
+		case s.n < 3:
 		case !s.notFirst || !s.notLast:
 			monthly = append(monthly, k)
 		default:
