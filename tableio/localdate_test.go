@@ -143,3 +143,52 @@ func TestColumnPeriodsForms(t *testing.T) {
 		t.Errorf("empty period: got %v, want an input error at row 2", err)
 	}
 }
+
+// A table read by ReadTable gives ColumnPeriods the periods Read gives,
+// for timestamps in UTC holding local midnights, timestamps with a zone,
+// and wall-clock timestamps without one (which stay as written, even at
+// 23:00).
+func TestReadTablePeriodsMatchRead(t *testing.T) {
+	berlin, err := time.LoadLocation("Europe/Berlin")
+	if err != nil {
+		t.Skip("no time zone database:", err)
+	}
+	stamps := localMidnights(berlin, 4)
+	for _, tz := range []string{"UTC", "Europe/Berlin", ""} {
+		b := array.NewTimestampBuilder(mem, &arrow.TimestampType{Unit: arrow.Millisecond, TimeZone: tz})
+		for _, s := range stamps {
+			if tz == "" { // wall clock: 23:00 on the day before, as written
+				s = time.Date(s.Year(), s.Month(), s.Day(), 0, 0, 0, 0, time.UTC).Add(-time.Hour)
+			}
+			b.Append(arrow.Timestamp(s.UnixMilli()))
+		}
+		ts := b.NewArray()
+		for _, f := range []Format{Parquet, Arrow} {
+			path := filepath.Join(t.TempDir(), "t"+f.Ext())
+			rec := batch(col{"when", ts}, col{"v", floats(1, 2, 3, 4)})
+			if f == Parquet {
+				writeParquetBatches(t, path, 1<<20, rec)
+			} else {
+				writeIPCBatches(t, path, rec)
+			}
+			r, err := Read(path, ReadOptions{Time: "when", Value: "v"})
+			if err != nil {
+				t.Fatal(err)
+			}
+			tb, err := ReadTable(path, f)
+			if err != nil {
+				t.Fatal(err)
+			}
+			got, _, err := ColumnPeriods(tb.Columns[0], TimeAuto)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !reflect.DeepEqual(periodsOf(got), periodsOf(r.Periods)) {
+				t.Errorf("zone %q, %s: ReadTable gives %v, Read %v", tz, f, periodsOf(got), periodsOf(r.Periods))
+			}
+			if want := "2024-01-01"; tz != "" && periodsOf(got)[0] != want {
+				t.Errorf("zone %q, %s: first period %s, want %s", tz, f, periodsOf(got)[0], want)
+			}
+		}
+	}
+}
