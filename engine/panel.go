@@ -287,8 +287,11 @@ func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
 func buildUntil(rows *tableio.Rows, opt PanelOptions, nat []int, native tableio.Grain) (*Panel, error) {
 	until := *opt.Until
 	if (until.Grain == tableio.Index) != (native == tableio.Index) {
-		return nil, &inputerr.Error{File: rows.Path, Option: "Until",
-			Msg: fmt.Sprintf("%s is a %s but the table's periods are %ss", until, until.Grain, native)}
+		msg := fmt.Sprintf("%s is a step number, but the table's periods are %ss", until, native)
+		if native == tableio.Index {
+			msg = fmt.Sprintf("%s is a %s, but the table's periods are step numbers", until, until.Grain)
+		}
+		return nil, &inputerr.Error{File: rows.Path, Option: "Until", Msg: msg}
 	}
 	var last int
 	switch {
@@ -321,7 +324,11 @@ func buildUntil(rows *tableio.Rows, opt PanelOptions, nat []int, native tableio.
 	if err != nil {
 		return nil, err
 	}
-	pn.Stats.Until = fmt.Sprintf("input cut after %s: %d of %d rows used", until, len(keep), rows.N)
+	cut := tableio.Period{Grain: native, Index: last}
+	pn.Stats.Until = fmt.Sprintf("input cut after %s: %d of %d rows used", cut, len(keep), rows.N)
+	if cut.String() != until.String() {
+		pn.Stats.Until = fmt.Sprintf("input cut after %s (asked: %s): %d of %d rows used", cut, until, len(keep), rows.N)
+	}
 	return pn, nil
 }
 
