@@ -381,6 +381,7 @@ func Backtest(ctx context.Context, d *Data, bo BacktestOptions) (*BacktestResult
 	res.Attribution = attribute(res)
 	rep.Timings["score"] = time.Since(start).Seconds()
 	rep.fill(res, opt, K, every)
+	rep.Warnings = append(d.Panel.Stats.InputNotes(), rep.Warnings...)
 	res.Report = rep
 	return res, nil
 }
@@ -451,22 +452,15 @@ func (d *Data) Cut(periods int) (*Data, error) {
 			keep = append(keep, i)
 		}
 	}
-	sub := &tableio.Rows{Path: rows.Path, SHA256: rows.SHA256, Columns: rows.Columns, N: len(keep),
-		Periods: make([]tableio.Period, len(keep)), Values: make([]float64, len(keep)),
-		KeyNames: rows.KeyNames, KeyCodes: make([][]int32, len(rows.KeyCodes)), KeyDict: rows.KeyDict, KeyTypes: rows.KeyTypes}
-	for c := range sub.KeyCodes {
-		sub.KeyCodes[c] = make([]int32, len(keep))
-	}
-	for r, i := range keep {
-		sub.Periods[r], sub.Values[r] = rows.Periods[i], rows.Values[i]
-		for c := range sub.KeyCodes {
-			sub.KeyCodes[c][r] = rows.KeyCodes[c][i]
-		}
-	}
+	sub := subRows(rows, keep)
 	in := d.Input
 	in.Rows = len(keep)
-	nd := &Data{Input: in, KeyTypes: d.KeyTypes, rows: sub, src: d.src}
-	if err := nd.arrange(sub, d.src); err != nil {
+	// The origin is chosen: its last period is not set aside as partial,
+	// and the rows are already cut.
+	src := d.src
+	src.KeepLastPeriod, src.Until = true, nil
+	nd := &Data{Input: in, KeyTypes: d.KeyTypes, rows: sub, src: src}
+	if err := nd.arrange(sub, src); err != nil {
 		return nil, err
 	}
 	return nd, nil

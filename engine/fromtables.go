@@ -117,6 +117,30 @@ func LoadTables(ts Tables) (*BaseSet, error) {
 	}
 	bs := &BaseSet{Structure: st, Input: InputReport{Path: ts.Base, SHA256: sum, Rows: base.rows, Columns: columnNames(baseT)},
 		KeyTypes: base.keyTypes()}
+	var res *nodeTable
+	if ts.Residuals != "" {
+		r := <-resDone
+		if r.err != nil {
+			return nil, r.err
+		}
+		res = r.t
+	}
+	// The base and residual periods are read as history is, and their
+	// grain found from both together: a single base period dated
+	// 2036-01-01 is a month when the residuals are dated a month apart.
+	g, err := tablesGrain(base, res)
+	if err != nil {
+		return nil, err
+	}
+	for _, nt := range []*nodeTable{base, res} {
+		if nt == nil {
+			continue
+		}
+		if err := nt.atGrain(g); err != nil {
+			return nil, err
+		}
+		bs.Warnings = append(bs.Warnings, nt.notes...)
+	}
 	nodes := newNodeIndex(st, base)
 	if bs.Base, bs.Periods, err = base.matrix(nodes, "base", everyPeriod); err != nil {
 		return nil, err
@@ -126,12 +150,7 @@ func LoadTables(ts Tables) (*BaseSet, error) {
 			return nil, err
 		}
 	}
-	if ts.Residuals != "" {
-		r := <-resDone
-		if r.err != nil {
-			return nil, r.err
-		}
-		res := r.t
+	if res != nil {
 		if err := res.remap(base.dicts); err != nil {
 			return nil, err
 		}
@@ -146,6 +165,9 @@ func LoadTables(ts Tables) (*BaseSet, error) {
 	if ts.History.Path != "" {
 		h := ts.History
 		h.Chains = ts.Chains
+		// The base forecasts fix the origin: the history's last period
+		// is not set aside as partial.
+		h.KeepLastPeriod = true
 		if bs.History, err = Load(h); err != nil {
 			return nil, err
 		}

@@ -24,6 +24,10 @@ type InspectReport struct {
 	// PartialPeriods names a first or last period only partly covered by
 	// the input's finer periods (with --grain).
 	PartialPeriods []string `json:"partial_periods"`
+	// InputNotes says how the periods were read where that is not plain
+	// (timestamps read as local dates), where the input was cut, and the
+	// partial last period set aside (see PanelStats.InputNotes).
+	InputNotes []string `json:"input_notes"`
 	// LateStarts and EarlyEnds list the nodes starting after the first
 	// period (openings) or ending before the last (closures), at the
 	// coarsest level that has any.
@@ -57,6 +61,7 @@ func Inspect(src Source) (*InspectReport, error) {
 		GrainFrom: pn.Stats.InferredFrom, FirstPeriod: pn.Period(0).String(), LastPeriod: pn.Period(pn.T - 1).String(),
 		Periods: pn.T, BottomSeries: st.NumBottom(), Nodes: len(st.Nodes),
 		PartialPeriods: append([]string{}, pn.Stats.Partial...),
+		InputNotes:     pn.Stats.InputNotes(),
 		ZeroValues:     pn.Stats.Zero, NegativeRows: pn.Stats.Negative, GapPeriods: pn.Stats.Gaps,
 		LateStarts: []SeriesSpan{}, EarlyEnds: []SeriesSpan{},
 	}

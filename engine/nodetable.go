@@ -22,7 +22,10 @@ type nodeTable struct {
 	dicts   []map[string]int32 // per attribute: value → code ("" is code 0)
 	values  [][]string         // per attribute: code → value
 	codes   [][]int32          // per attribute, per row
-	period  []string
+	// period holds each row's period: as read (days for dates) until
+	// atGrain puts them at the tables' grain.
+	period  []tableio.Period
+	notes   []string // how the periods were read (see tableio.ColumnPeriods)
 	rows    int
 	columns map[string]int
 }
@@ -77,15 +80,43 @@ func newNodeTable(path string, t *tableio.Table, attrs []string, want string) (*
 		nt.values = append(nt.values, vals)
 		nt.codes = append(nt.codes, codes)
 	}
-	pc := t.Columns[nt.columns["period"]]
-	nt.period = make([]string, nt.rows)
-	for r := range nt.period {
-		nt.period[r] = cellString(pc, r)
-		if nt.period[r] == "" {
-			return nil, nt.rowError(r, "period", "empty period")
+	// Periods go through the reader history goes through, so that every
+	// form a sales table may use (labels, dates, timestamps) reads here.
+	var err error
+	if nt.period, nt.notes, err = tableio.ColumnPeriods(t.Columns[nt.columns["period"]], tableio.TimeAuto); err != nil {
+		if e, ok := err.(*inputerr.Error); ok {
+			e.File = path
 		}
+		return nil, err
 	}
 	return nt, nil
+}
+
+// atGrain puts the periods at grain g, the grain found over all the
+// tables read together (see tablesGrain).
+func (nt *nodeTable) atGrain(g tableio.Grain) error {
+	for r, p := range nt.period {
+		q, err := p.Coarsen(g)
+		if err != nil {
+			return &inputerr.Error{File: nt.path, Row: r + 1, Column: "period", Err: err}
+		}
+		nt.period[r] = q
+	}
+	return nil
+}
+
+// tablesGrain finds the grain of the periods of the tables read together
+// (base forecasts and residuals) as the grain of a sales table is found
+// (see periodGrain): first-of-month dates a month apart are months.
+func tablesGrain(tables ...*nodeTable) (tableio.Grain, error) {
+	var all []tableio.Period
+	for _, nt := range tables {
+		if nt != nil {
+			all = append(all, nt.period...)
+		}
+	}
+	g, _, err := periodGrain(tables[0].path, all)
+	return g, err
 }
 
 // keyTypes returns the column type of each key attribute (Int64 for an
@@ -228,28 +259,19 @@ func newNodeIndex(st *hierarchy.Structure, nt *nodeTable) nodeIndex {
 	return idx
 }
 
-// sortPeriods orders period labels by time and returns their periods. Every
-// label must be a period tableio.ParsePeriod reads, all of one grain.
-func sortPeriods(path string, labels []string) ([]tableio.Period, error) {
-	periods := make(map[string]tableio.Period, len(labels))
-	for _, l := range labels {
-		p, err := tableio.ParsePeriod(l)
-		if err != nil {
-			return nil, &inputerr.Error{File: path, Column: "period", Msg: fmt.Sprintf("period %q", l), Err: err}
-		}
-		periods[l] = p
-	}
-	for _, l := range labels[1:] {
-		if periods[l].Grain != periods[labels[0]].Grain {
-			return nil, &inputerr.Error{File: path, Column: "period", Msg: fmt.Sprintf("periods %q and %q are of different kinds", labels[0], l)}
+// sortPeriods returns the distinct periods in time order. Every period
+// is of one grain (see atGrain).
+func sortPeriods(all []tableio.Period) []tableio.Period {
+	seen := map[tableio.Period]bool{}
+	var out []tableio.Period
+	for _, p := range all {
+		if !seen[p] {
+			seen[p] = true
+			out = append(out, p)
 		}
 	}
-	sort.Slice(labels, func(a, b int) bool { return periods[labels[a]].Index < periods[labels[b]].Index })
-	out := make([]tableio.Period, len(labels))
-	for k, l := range labels {
-		out[k] = periods[l]
-	}
-	return out, nil
+	sort.Slice(out, func(a, b int) bool { return out[a].Index < out[b].Index })
+	return out
 }
 
 // fillMode says which rows a table must have.
@@ -268,22 +290,12 @@ const (
 // matrix arranges column col as nodes × periods (sorted) under mode.
 func (nt *nodeTable) matrix(nodes nodeIndex, col string, mode fillMode) ([][]float64, []tableio.Period, error) {
 	st := nodes.st
-	pos := map[string]int{}
-	var labels []string
-	for _, l := range nt.period {
-		if _, ok := pos[l]; !ok {
-			pos[l] = 0
-			labels = append(labels, l)
-		}
+	periods := sortPeriods(nt.period)
+	pos := make(map[tableio.Period]int, len(periods))
+	for k, p := range periods {
+		pos[p] = k
 	}
-	periods, err := sortPeriods(nt.path, labels)
-	if err != nil {
-		return nil, nil, err
-	}
-	for k, l := range labels {
-		pos[l] = k
-	}
-	n, h := len(st.Nodes), len(labels)
+	n, h := len(st.Nodes), len(periods)
 	out := make([][]float64, n)
 	buf := make([]float64, n*h)
 	for i := range buf {
@@ -335,7 +347,7 @@ func (nt *nodeTable) matrix(nodes nodeIndex, col string, mode fillMode) ([][]flo
 		case count == 0 || mode == everyPeriod && count < h:
 			missing = append(missing, st.Label(i))
 		case mode == sameEnd && last != h-1:
-			return nil, nil, &inputerr.Error{File: nt.path, Column: "period", Msg: fmt.Sprintf("residual periods differ between nodes: %s ends at %s, others at %s (residuals must all end at the forecast origin)", st.Label(i), labels[last], labels[h-1])}
+			return nil, nil, &inputerr.Error{File: nt.path, Column: "period", Msg: fmt.Sprintf("residual periods differ between nodes: %s ends at %s, others at %s (residuals must all end at the forecast origin)", st.Label(i), periods[last], periods[h-1])}
 		}
 	}
 	if len(missing) > 0 {

@@ -49,6 +49,29 @@ type PanelStats struct {
 	// Outliers names the rows whose value is a huge outlier in its series
 	// (likely a typing error), one message each.
 	Outliers []string
+	// Until says where the input was cut (PanelOptions.Until), "" when
+	// it was not.
+	Until string
+	// SetAside says why the input's last period was left out as partial
+	// (see partialLast), "" when it was not.
+	SetAside string
+	// Notes says how the periods were read where that is not plain from
+	// the file (tableio.Rows.Notes).
+	Notes []string
+}
+
+// InputNotes lists what a user must know about how the input was read:
+// the period reader's notes, the cut and the partial last period set
+// aside. Commands print them with the input checks and the warnings.
+func (s PanelStats) InputNotes() []string {
+	out := append([]string{}, s.Notes...)
+	if s.Until != "" {
+		out = append(out, s.Until)
+	}
+	if s.SetAside != "" {
+		out = append(out, s.SetAside)
+	}
+	return out
 }
 
 // PanelOptions controls BuildPanel.
@@ -58,6 +81,12 @@ type PanelOptions struct {
 	// MemoryBudget, when positive, is the memory in bytes the panel may
 	// take; a larger one is an input error before it is allocated.
 	MemoryBudget int64
+	// Until, when non-nil, cuts the input after this period: rows of
+	// later periods are left out before anything else is done with them.
+	Until *tableio.Period
+	// KeepLastPeriod keeps a last period that looks partial (see
+	// partialLast) instead of setting it aside.
+	KeepLastPeriod bool
 }
 
 // BuildPanel turns input rows into one series per distinct key. Without
@@ -103,8 +132,8 @@ func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
 		nat[i] = lastNat.Index
 		tgt[i] = lastTgt.Index
 	}
-	if err := checkLonePeriods(rows, nat, native); err != nil {
-		return nil, err
+	if opt.Until != nil {
+		return buildUntil(rows, opt, nat, native)
 	}
 
 	// Combine key codes into one series id per row.
@@ -141,6 +170,14 @@ func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
 		sid[i] = lastID
 	}
 	m := len(seriesKey)
+	if err := checkLonePeriods(rows, nat, native, sid, m); err != nil {
+		return nil, err
+	}
+	if opt.Grain == nil || *opt.Grain < tableio.Month {
+		if err := checkSeriesGrains(rows, sid, seriesKey); err != nil {
+			return nil, err
+		}
+	}
 	outlierRows := outliers(rows, sid, m)
 
 	// Duplicates at the native grain: an error, or counted when they are
@@ -189,6 +226,7 @@ func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
 	pn.Stats.InferredFrom = how
 	pn.Stats.Partial = partial
 	pn.Stats.Outliers = outlierRows
+	pn.Stats.Notes = rows.Notes
 	vals := make([][]float64, m)
 	has := make([][]bool, m)
 	backing := make([]float64, m*T)
@@ -246,7 +284,107 @@ func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
 		pn.Keys[s] = key
 	}
 	pn.Values = vals
+	if !opt.KeepLastPeriod {
+		calendar := ""
+		if target != native && len(partial) > 0 && strings.HasPrefix(partial[len(partial)-1], pn.Period(T-1).String()+" ") && T > 1 {
+			calendar = partial[len(partial)-1]
+		}
+		if why := partialLast(has, vals, calendar, target.SeasonalPeriod()); why != "" {
+			return setAside(rows, opt, tgt, tMax, why)
+		}
+	}
 	return pn, nil
+}
+
+// buildUntil builds the panel of the rows at or before opt.Until. nat
+// holds each row's period at the native grain. A period finer than the
+// native grain is first placed in its native period (2024-06-01 in
+// monthly data is June); a coarser one keeps the native periods that end
+// by its end (2024-06 in daily data keeps the days to 30 June).
+func buildUntil(rows *tableio.Rows, opt PanelOptions, nat []int, native tableio.Grain) (*Panel, error) {
+	until := *opt.Until
+	if (until.Grain == tableio.Index) != (native == tableio.Index) {
+		msg := fmt.Sprintf("%s is a step number, but the table's periods are %ss", until, native)
+		if native == tableio.Index {
+			msg = fmt.Sprintf("%s is a %s, but the table's periods are step numbers", until, until.Grain)
+		}
+		return nil, &inputerr.Error{File: rows.Path, Option: "Until", Msg: msg}
+	}
+	var last int
+	switch {
+	case until.Grain == tableio.Week && native > tableio.Week:
+		return nil, &inputerr.Error{File: rows.Path, Option: "Until",
+			Msg: fmt.Sprintf("a week cannot end %s periods (it can span two); give a %s", native, native)}
+	case until.Grain <= native:
+		p, err := until.Coarsen(native)
+		if err != nil {
+			return nil, &inputerr.Error{File: rows.Path, Option: "Until", Err: err}
+		}
+		last = p.Index
+	default: // a coarser period: native periods ending by its end
+		last = tableio.FromDate(until.Next(1).Start(), native).Index - 1
+	}
+	keep := make([]int, 0, len(nat))
+	for i, p := range nat {
+		if p <= last {
+			keep = append(keep, i)
+		}
+	}
+	if len(keep) == 0 {
+		lo, _ := minMax(nat)
+		return nil, &inputerr.Error{File: rows.Path, Option: "Until",
+			Msg: fmt.Sprintf("no row is at or before %s; the table starts at %s", until, tableio.Period{Grain: native, Index: lo})}
+	}
+	sub := opt
+	sub.Until = nil
+	pn, err := BuildPanel(subRows(rows, keep), sub)
+	if err != nil {
+		return nil, err
+	}
+	cut := tableio.Period{Grain: native, Index: last}
+	pn.Stats.Until = fmt.Sprintf("input cut after %s: %d of %d rows used", cut, len(keep), rows.N)
+	if cut.String() != until.String() {
+		pn.Stats.Until = fmt.Sprintf("input cut after %s (asked: %s): %d of %d rows used", cut, until, len(keep), rows.N)
+	}
+	return pn, nil
+}
+
+// setAside builds the panel again without the last period tMax (at the
+// target grain; tgt holds each row's target period), why being the reason.
+func setAside(rows *tableio.Rows, opt PanelOptions, tgt []int, tMax int, why string) (*Panel, error) {
+	keep := make([]int, 0, len(tgt))
+	for i, t := range tgt {
+		if t < tMax {
+			keep = append(keep, i)
+		}
+	}
+	sub := opt
+	sub.KeepLastPeriod = true
+	pn, err := BuildPanel(subRows(rows, keep), sub)
+	if err != nil {
+		return nil, err
+	}
+	last := tableio.Period{Grain: pn.Grain, Index: tMax}
+	pn.Stats.SetAside = fmt.Sprintf("last period %s looks partial: %s; it was set aside, so the forecast starts at %s and no series is taken as closed on its account",
+		last, why, last)
+	return pn, nil
+}
+
+// subRows returns the rows of rows at the positions keep, in order.
+func subRows(rows *tableio.Rows, keep []int) *tableio.Rows {
+	sub := &tableio.Rows{Path: rows.Path, SHA256: rows.SHA256, Columns: rows.Columns, Notes: rows.Notes, N: len(keep),
+		Periods: make([]tableio.Period, len(keep)), Values: make([]float64, len(keep)),
+		KeyNames: rows.KeyNames, KeyCodes: make([][]int32, len(rows.KeyCodes)), KeyDict: rows.KeyDict, KeyTypes: rows.KeyTypes}
+	for c := range sub.KeyCodes {
+		sub.KeyCodes[c] = make([]int32, len(keep))
+	}
+	for r, i := range keep {
+		sub.Periods[r], sub.Values[r] = rows.Periods[i], rows.Values[i]
+		for c := range sub.KeyCodes {
+			sub.KeyCodes[c][r] = rows.KeyCodes[c][i]
+		}
+	}
+	return sub
 }
 
 // partialEdges reports the first and last target periods that the input's
@@ -285,10 +423,16 @@ func (p *Panel) Period(t int) tableio.Period { return p.First.Next(t) }
 // 2024-01-01 and 2024-01-31 in one file) the grain is ambiguous and the
 // caller is asked to state it.
 func nativeGrain(rows *tableio.Rows) (tableio.Grain, string, error) {
-	g := rows.Periods[0].Grain
-	for i, p := range rows.Periods {
+	return periodGrain(rows.Path, rows.Periods)
+}
+
+// periodGrain is nativeGrain for the periods of any table (path names it
+// in messages): sales history, base forecasts and residuals alike.
+func periodGrain(path string, periods []tableio.Period) (tableio.Grain, string, error) {
+	g := periods[0].Grain
+	for i, p := range periods {
 		if p.Grain != g {
-			return 0, "", &inputerr.Error{File: rows.Path, Row: i + 1,
+			return 0, "", &inputerr.Error{File: path, Row: i + 1,
 				Msg: fmt.Sprintf("period %s is a %s but row 1's is a %s; use one form throughout", p, p.Grain, g)}
 		}
 	}
@@ -296,7 +440,7 @@ func nativeGrain(rows *tableio.Rows) (tableio.Grain, string, error) {
 		return g, "period labels", nil
 	}
 	seen := map[int]bool{}
-	for _, p := range rows.Periods {
+	for _, p := range periods {
 		seen[p.Index] = true
 	}
 	days := make([]int, 0, len(seen))
@@ -325,7 +469,7 @@ func nativeGrain(rows *tableio.Rows) (tableio.Grain, string, error) {
 	case gap >= 365 && gap <= 366:
 		grain, how = tableio.Year, "dates about a year apart"
 	default:
-		return 0, "", &inputerr.Error{File: rows.Path, Option: "Grain",
+		return 0, "", &inputerr.Error{File: path, Option: "Grain",
 			Msg: fmt.Sprintf("dates are %d days apart at the closest; cannot tell the grain, state it", gap)}
 	}
 	// Distinct dates must be distinct periods: 2024-01-01 and 2024-01-31
@@ -334,7 +478,7 @@ func nativeGrain(rows *tableio.Rows) (tableio.Grain, string, error) {
 	for i := 1; i < len(days); i++ {
 		p := tableio.FromDate(tableio.Period{Grain: tableio.Day, Index: days[i]}.Start(), grain)
 		if p == prev {
-			return 0, "", &inputerr.Error{File: rows.Path, Option: "Grain",
+			return 0, "", &inputerr.Error{File: path, Option: "Grain",
 				Msg: fmt.Sprintf("dates %s and %s are %s apart at the closest but fall in the same %s (%s); cannot tell the grain, state it",
 					tableio.Period{Grain: tableio.Day, Index: days[i-1]}, tableio.Period{Grain: tableio.Day, Index: days[i]}, grain, grain, p)}
 		}

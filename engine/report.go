@@ -139,6 +139,7 @@ func (r *RunReport) fill(d *Data, opt Options, rc Reconciliation, res *Result, m
 	if pn.Stats.Negative > 0 {
 		r.Warnings = append(r.Warnings, fmt.Sprintf("%d rows have negative values (returns?); they were kept", pn.Stats.Negative))
 	}
+	r.Warnings = append(r.Warnings, pn.Stats.InputNotes()...)
 	r.Warnings = append(r.Warnings, pn.Stats.Outliers...)
 	for _, p := range pn.Stats.Partial {
 		r.Warnings = append(r.Warnings, "partial period: "+p+"; its total understates a full period (trim the input to whole periods)")

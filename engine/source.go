@@ -36,6 +36,16 @@ type Source struct {
 	// Comma is the field separator of a CSV file; 0 detects it from the
 	// header line (',', ';' or tab).
 	Comma rune
+	// Until, when non-nil, cuts the history after this period (any form
+	// tableio.ParsePeriod reads: 2001-06, 2001-06-30, a timestamp, a
+	// year); later rows are left out before anything else is checked.
+	Until *tableio.Period
+	// KeepLastPeriod keeps a last period that looks partial (far fewer
+	// series reporting than in the periods before, far below the usual
+	// total, or fewer days or months than its grain holds). By default it
+	// is set aside with a warning, so that the series missing from it are
+	// not taken as closed and forecast as zero.
+	KeepLastPeriod bool
 }
 
 // Data is a source read, checked and arranged: the bottom series on one
@@ -103,7 +113,8 @@ func (d *Data) arrange(rows *tableio.Rows, src Source) error {
 	if err != nil {
 		return err
 	}
-	if d.Panel, err = BuildPanel(rows, PanelOptions{Grain: src.Grain, SumDuplicates: src.SumDuplicates, MemoryBudget: budget}); err != nil {
+	if d.Panel, err = BuildPanel(rows, PanelOptions{Grain: src.Grain, SumDuplicates: src.SumDuplicates,
+		MemoryBudget: budget, Until: src.Until, KeepLastPeriod: src.KeepLastPeriod}); err != nil {
 		return err
 	}
 	if len(src.Chains) == 0 {

@@ -45,7 +45,11 @@ type Rows struct {
 	// Periods holds each row's period at the grain the data carries
 	// (Day for calendar dates and timestamps).
 	Periods []Period
-	Values  []float64
+	// Notes says how the periods were read where that is not plain from
+	// the file, such as timestamps read as local dates; shown with the
+	// input checks.
+	Notes  []string
+	Values []float64
 	// KeyNames equals ReadOptions.Keys; KeyCodes[k][row] indexes KeyDict[k].
 	KeyNames []string
 	KeyCodes [][]int32

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"os"
 	"strings"
+	"time"
 
 	"trueup/inputerr"
 	"trueup/internal/membudget"
@@ -247,6 +248,9 @@ type timeDecoder struct {
 	dictOf  any
 	dictMap []Period
 	dictOK  []bool
+
+	clock utcClock // UTC times of day, to find local midnights (see finish)
+	note  string   // what finish did to the periods, for the input checks
 }
 
 // parse reads a period label.
@@ -260,6 +264,11 @@ func (t *timeDecoder) parse(s string) (Period, error) {
 	}
 	if bare && !yearLike(strings.TrimSpace(s), p.Index) {
 		t.notYears = true
+	}
+	if sec, ok := utcSecondOfDay(s); ok {
+		t.clock.instant(p.Index, sec)
+	} else {
+		t.clock.other()
 	}
 	if err := t.checkGrain(p); err != nil {
 		return Period{}, err
@@ -304,15 +313,61 @@ func (t *timeDecoder) checkGrain(p Period) error {
 }
 
 // finish decides what a column of bare integers holds (see TimeKind) and
-// turns the steps into years when they are years.
-func (t *timeDecoder) finish(kind TimeKind) {
-	if t.grain != Index || kind == TimeSteps || (kind == TimeAuto && t.notYears) {
-		return
+// turns the steps into years when they are years. A column of integers
+// that look like spreadsheet serial dates is refused rather than read as a
+// step index (see serialDates). A column of instants that are all local
+// midnights east of UTC is read as the local dates (see utcClock).
+func (t *timeDecoder) finish(kind TimeKind) error {
+	if t.grain == Day {
+		if shift, note := t.clock.localMidnights(); shift != 0 {
+			for i := range t.periods {
+				t.periods[i].Index += shift
+			}
+			t.note = note
+		}
+		return nil
+	}
+	if t.grain != Index || kind == TimeSteps {
+		return nil
+	}
+	if kind == TimeAuto && t.notYears {
+		return serialDates(t.periods)
 	}
 	for i, p := range t.periods {
 		t.periods[i] = Period{Year, p.Index - 1970}
 	}
 	t.grain = Year
+	return nil
+}
+
+// Spreadsheet programs count dates in days from 1899-12-30, so 2024-03-01
+// is stored as 45352; a date column exported as plain numbers looks like
+// this. serialFrom and serialTo bound the serial numbers taken for dates:
+// 1960-01-01 to 2099-12-31.
+const (
+	serialFrom = 21916
+	serialTo   = 73050
+)
+
+// serialDates refuses a column of step numbers that all fall in the range
+// of spreadsheet serial dates from 1960 to 2099: read as a step index they
+// would give a forecast without a calendar, silently. A true step index
+// says so with TimeKind TimeSteps.
+func serialDates(periods []Period) error {
+	lo, hi := periods[0].Index, periods[0].Index
+	for _, p := range periods {
+		lo, hi = min(lo, p.Index), max(hi, p.Index)
+	}
+	if lo < serialFrom || hi > serialTo {
+		return nil
+	}
+	day := func(n int) string {
+		return time.Date(1899, 12, 30, 0, 0, 0, 0, time.UTC).AddDate(0, 0, n).Format("2006-01-02")
+	}
+	return &inputerr.Error{Option: "TimeKind", Msg: fmt.Sprintf(
+		"periods run from %d to %d, which look like spreadsheet serial dates (%d is %s, %d is %s, counting days from 1899-12-30); "+
+			"export the column as dates, or read the numbers as steps if they are step numbers",
+		lo, hi, lo, day(lo), hi, day(hi))}
 }
 
 // rowBytes is the least memory one row takes once read: its period (16

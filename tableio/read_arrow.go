@@ -140,8 +140,13 @@ func (c *collector) add(rec arrow.RecordBatch) error {
 
 func (c *collector) finish() (*Rows, error) {
 	r := c.rows
-	c.td.finish(c.opt.TimeKind)
+	if err := c.td.finish(c.opt.TimeKind); err != nil {
+		return nil, columnErr(c.opt.Time, err)
+	}
 	r.Periods = c.td.periods
+	if c.td.note != "" {
+		r.Notes = append(r.Notes, c.td.note)
+	}
 	r.N = len(r.Values)
 	if r.N == 0 {
 		return nil, inputerr.New("no data rows")
@@ -178,6 +183,7 @@ func (c *collector) addTimes(a arrow.Array, row0 int) error {
 	start := len(td.periods)
 	switch a := a.(type) {
 	case *array.Date32:
+		td.clock.other()
 		for i, v := range a.Date32Values() {
 			if nulls && a.IsNull(i) {
 				return nullErr(i)
@@ -185,6 +191,7 @@ func (c *collector) addTimes(a arrow.Array, row0 int) error {
 			td.periods = append(td.periods, Period{Day, int(v)})
 		}
 	case *array.Date64:
+		td.clock.other()
 		for i, v := range a.Date64Values() {
 			if nulls && a.IsNull(i) {
 				return nullErr(i)
@@ -201,13 +208,23 @@ func (c *collector) addTimes(a arrow.Array, row0 int) error {
 		if err != nil {
 			return inputerr.New("period column %q: %v", name, err)
 		}
+		// A zone of UTC makes instants; no zone makes wall-clock times,
+		// taken as written.
+		instants := loc == nil && ts.TimeZone != ""
+		if !instants {
+			td.clock.other()
+		}
 		for i, v := range a.TimestampValues() {
 			if nulls && a.IsNull(i) {
 				return nullErr(i)
 			}
 			raw := int64(v)
 			if loc == nil {
-				td.periods = append(td.periods, Period{Day, floorDiv(int(raw), int(perSec*86400))})
+				day := floorDiv(int(raw), int(perSec*86400))
+				td.periods = append(td.periods, Period{Day, day})
+				if instants {
+					td.clock.instant(day, secondOfDay(int(raw)-day*int(perSec*86400), int(perSec)))
+				}
 				continue
 			}
 			if !c.haveRaw || raw != c.lastRaw {

@@ -96,8 +96,13 @@ func readCSV(data []byte, opt ReadOptions) (*Rows, error) {
 			}
 		}
 	}
-	td.finish(opt.TimeKind)
+	if err := td.finish(opt.TimeKind); err != nil {
+		return nil, columnErr(opt.Time, err)
+	}
 	rows.Periods = td.periods
+	if td.note != "" {
+		rows.Notes = append(rows.Notes, td.note)
+	}
 	rows.N = len(rows.Values)
 	if rows.N == 0 {
 		return nil, inputerr.New("no data rows (the file has only a header)")
@@ -214,4 +219,14 @@ func rowErr(row int, column, format string, args ...any) error {
 // atRow places err at a data row and column of a Parquet or Arrow file.
 func atRow(row int, column string, err error) error {
 	return &inputerr.Error{Row: row, Column: column, Err: err}
+}
+
+// columnErr places an input error about a whole column at that column,
+// keeping the option it names.
+func columnErr(column string, err error) error {
+	if e, ok := err.(*inputerr.Error); ok && e.Column == "" {
+		e.Column = column
+		return e
+	}
+	return err
 }

@@ -56,6 +56,7 @@ type pqColumn struct {
 	scale  int32          // decimal scale
 	perDay int64          // timestamp units per day
 	zone   *time.Location // timestamp zone from the stored Arrow schema; nil: UTC
+	utc    bool           // timestamp adjusted to UTC (an instant, not a local date-time)
 }
 
 // isInt reports whether the column holds integers (not dates or decimals).
@@ -91,7 +92,7 @@ func (c *pqColumn) classify() {
 		return
 	case schema.TimestampLogicalType:
 		if phys == parquet.Types.Int64 {
-			c.kind = pqTimestamp
+			c.kind, c.utc = pqTimestamp, lt.IsAdjustedToUTC()
 			c.perDay = map[schema.TimeUnitType]int64{
 				schema.TimeUnitMillis: 86400e3, schema.TimeUnitMicros: 86400e6, schema.TimeUnitNanos: 86400e9,
 			}[lt.TimeUnit()]
@@ -508,6 +509,7 @@ func readParquetTimes(pf *pqFile, g int, c *pqColumn, row0 int, td *timeDecoder)
 	}
 	switch c.kind {
 	case pqDate:
+		td.clock.other()
 		return scanDense(pf, g, c, row0, &b.int32s, "period", func(v []int32, _ int) error {
 			for _, d := range v {
 				td.periods = append(td.periods, Period{Day, int(d)})
@@ -521,10 +523,19 @@ func readParquetTimes(pf *pqFile, g int, c *pqColumn, row0 int, td *timeDecoder)
 		var last int64
 		var lastP Period
 		have := false
+		instants := c.zone == nil && c.utc
+		if !instants {
+			td.clock.other()
+		}
+		perSec := int(c.perDay / 86400)
 		return scanDense(pf, g, c, row0, &b.int64s, "period", func(v []int64, _ int) error {
 			for _, t := range v {
 				if c.zone == nil {
-					td.periods = append(td.periods, Period{Day, floorDiv(int(t), int(c.perDay))})
+					day := floorDiv(int(t), int(c.perDay))
+					td.periods = append(td.periods, Period{Day, day})
+					if instants {
+						td.clock.instant(day, secondOfDay(int(t)-day*int(c.perDay), perSec))
+					}
 					continue
 				}
 				if !have || t != last {
@@ -540,7 +551,10 @@ func readParquetTimes(pf *pqFile, g int, c *pqColumn, row0 int, td *timeDecoder)
 	case pqInt96:
 		return scanDense(pf, g, c, row0, &b.int96s, "period", func(v []parquet.Int96, _ int) error {
 			for _, t := range v {
-				td.periods = append(td.periods, FromDate(t.ToTime().UTC(), Day))
+				u := t.ToTime().UTC()
+				p := FromDate(u, Day)
+				td.periods = append(td.periods, p)
+				td.clock.instant(p.Index, secondOfDay(int(u.Sub(u.Truncate(24*time.Hour))), int(time.Second)))
 			}
 			return nil
 		})

@@ -280,6 +280,17 @@ func readTablePlainCSV(data []byte) (*Table, bool) {
 	return t, true
 }
 
+// timestampText writes a timestamp as RFC 3339 text: with its zone when
+// it is an instant, and without one when it is a local date-time (a
+// Parquet timestamp not adjusted to UTC, an Arrow timestamp without a
+// zone), so that the period reader dates both as Read does.
+func timestampText(t time.Time, instant bool) string {
+	if instant {
+		return t.Format(time.RFC3339Nano)
+	}
+	return t.Format("2006-01-02T15:04:05.999999999")
+}
+
 // orUTC is loc, or UTC when loc is nil.
 func orUTC(loc *time.Location) *time.Location {
 	if loc == nil {
@@ -392,7 +403,7 @@ func readParquetColumn(pf *pqFile, pc *pqColumn, c *Column, n int) error {
 				return each(def, rows, func(k int) error {
 					sec := int64(floorDiv(int(v[k]), int(perSec)))
 					t := time.Unix(sec, (v[k]-sec*perSec)*(1e9/perSec)).In(orUTC(pc.zone))
-					c.Strings = append(c.Strings, t.Format(time.RFC3339Nano))
+					c.Strings = append(c.Strings, timestampText(t, pc.zone != nil || pc.utc))
 					return nil
 				})
 			})
@@ -633,8 +644,12 @@ func (c *Column) appendCell(a arrow.Array, k int, in *interner) error {
 	case *array.Date64:
 		c.Ints = append(c.Ints, int64(floorDiv(int(a.Value(k)), msPerDay)))
 	case *array.Timestamp:
-		unit := a.DataType().(*arrow.TimestampType).Unit
-		c.Strings = append(c.Strings, a.Value(k).ToTime(unit).Format(time.RFC3339Nano))
+		ts := a.DataType().(*arrow.TimestampType)
+		loc, err := zone(ts.TimeZone)
+		if err != nil {
+			return err
+		}
+		c.Strings = append(c.Strings, timestampText(a.Value(k).ToTime(ts.Unit).In(orUTC(loc)), ts.TimeZone != ""))
 	case stringValuer:
 		// A copy (in.str): the value may point into a decoder buffer.
 		c.Strings = append(c.Strings, in.str(a.Value(k)))

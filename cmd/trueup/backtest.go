@@ -90,6 +90,7 @@ scores, the recommendation and the drivers (unless --no-report).`,
 			if err != nil {
 				return err
 			}
+			printInputNotes(cmd.ErrOrStderr(), data)
 			bt, err := engine.Backtest(context.Background(), data, engine.BacktestOptions{Options: opt,
 				Origins: origins, Every: every, Compare: methods})
 			if err != nil {

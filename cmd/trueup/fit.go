@@ -79,7 +79,7 @@ series, model, estimates, fit_quality, forecast, residuals and warning.`,
       --model "ARIMA(0,1,1)(0,1,1)" --transform log --horizon 12 --levels 80,95`,
 		Args: noArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
-			return runFit(cmd.Context(), cmd.OutOrStdout(), &fl)
+			return runFit(cmd.Context(), cmd.OutOrStdout(), cmd.ErrOrStderr(), &fl)
 		},
 	}
 	fl.src.registerInput(cmd)
@@ -105,7 +105,7 @@ type fitRun struct {
 	levels []float64
 }
 
-func runFit(ctx context.Context, w io.Writer, fl *fitFlags) error {
+func runFit(ctx context.Context, w, errw io.Writer, fl *fitFlags) error {
 	switch {
 	case fl.horizon < 0:
 		return &usageError{fmt.Errorf("--horizon must be at least 1, got %d", fl.horizon)}
@@ -133,6 +133,7 @@ func runFit(ctx context.Context, w io.Writer, fl *fitFlags) error {
 	if err != nil {
 		return err
 	}
+	printInputNotes(errw, data)
 	if err := (engine.Options{Period: fl.period, Horizon: fl.horizon}).Supported(data.Panel.T, data.Panel.Grain.SeasonalPeriod()); err != nil {
 		return err
 	}

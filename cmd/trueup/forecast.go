@@ -2,7 +2,6 @@ package main
 
 import (
 	"context"
-	"fmt"
 
 	"github.com/spf13/cobra"
 
@@ -71,10 +70,9 @@ func runForecast(cmd *cobra.Command, src engine.Source, rf *runFlags) error {
 	if err != nil {
 		return err
 	}
-	// Implausible values are shown before the fitting, which may be long.
-	for _, w := range data.Panel.Stats.Outliers {
-		fmt.Fprintln(cmd.ErrOrStderr(), "trueup: warning:", w)
-	}
+	// How the input was read, and implausible values, are shown before
+	// the fitting, which may be long.
+	printInputNotes(cmd.ErrOrStderr(), data)
 	res, err := engine.Forecast(context.Background(), data, opt)
 	if err != nil {
 		return err

@@ -22,7 +22,9 @@ func newInspectCmd() *cobra.Command {
 		Long: `Reads the sales table as forecast would and reports rows, series per level,
 the period range, gaps, zeros, duplicate key-and-period rows, negative
 values, and the series that start late (openings) or stop early (closures).
-Nothing is written.`,
+Input notes say how the periods were read where that is not plain from the
+file (timestamps read as local dates), where --until cut the input, and a
+partial last period set aside. Nothing is written.`,
 		Example: `  trueup inspect --input sales.parquet --time month --value sales \
       --nest region,store --nest category`,
 		Args: noArgs,
@@ -59,6 +61,9 @@ Nothing is written.`,
 			})
 			for _, p := range rep.PartialPeriods {
 				fmt.Fprintf(w, "partial period: %s\n", p)
+			}
+			for _, note := range rep.InputNotes {
+				fmt.Fprintf(w, "input note: %s\n", note)
 			}
 			for _, group := range []struct {
 				title string

@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"io"
 
 	"github.com/spf13/cobra"
 
@@ -20,6 +21,8 @@ type sourceFlags struct {
 	sumDuplicates bool
 	integerTime   string
 	separator     string
+	until         string
+	keepLast      bool
 }
 
 // register adds the input flags and --nest.
@@ -41,7 +44,26 @@ func (f *sourceFlags) registerInput(cmd *cobra.Command) {
 	fl.BoolVar(&f.sumDuplicates, "sum-duplicates", false, "add up rows with the same key and period instead of refusing them")
 	fl.StringVar(&f.integerTime, "integer-time", "auto", "read whole-number periods as years or steps (auto: four-digit numbers 1800-2200 are years)")
 	fl.StringVar(&f.separator, "separator", "", `CSV field separator: ",", ";", "|" or "tab" (default: detected from the header line)`)
-	groupFlags(cmd, "Input", "input", "input-format", "time", "value", "grain", "sum-duplicates", "integer-time", "separator")
+	fl.StringVar(&f.until, "until", "", "use the history up to this period only, e.g. 2001-06, 2001-06-30 or a timestamp")
+	fl.BoolVar(&f.keepLast, "keep-last-period", false, "keep a last period that looks partial (by default it is set aside with a warning)")
+	groupFlags(cmd, "Input", "input", "input-format", "time", "value", "grain", "sum-duplicates", "integer-time", "separator",
+		"until", "keep-last-period")
+}
+
+// printInputNotes prints how the input was read where that is not plain
+// (see engine.PanelStats.InputNotes) and the rows that look mistyped, as
+// warnings on w before any fitting, which may be long.
+func printInputNotes(w io.Writer, data *engine.Data) {
+	st := data.Panel.Stats
+	for _, n := range st.Notes {
+		fmt.Fprintln(w, "trueup: note:", n)
+	}
+	if st.SetAside != "" {
+		fmt.Fprintf(w, "trueup: WARNING: %s (--keep-last-period keeps it; --until PERIOD cuts the input elsewhere)\n", st.SetAside)
+	}
+	for _, o := range st.Outliers {
+		fmt.Fprintln(w, "trueup: warning:", o)
+	}
 }
 
 // source returns the engine source the flags describe. needKeys says
@@ -51,7 +73,14 @@ func (f *sourceFlags) source(needKeys bool) (engine.Source, error) {
 		return engine.Source{}, &usageError{errMissing("--input")}
 	}
 	src := engine.Source{Path: f.input, Format: tableio.Format(f.format), Time: f.time, Value: f.value,
-		SumDuplicates: f.sumDuplicates}
+		SumDuplicates: f.sumDuplicates, KeepLastPeriod: f.keepLast}
+	if f.until != "" {
+		p, err := tableio.ParsePeriod(f.until)
+		if err != nil {
+			return src, &usageError{fmt.Errorf("--until: %w", err)}
+		}
+		src.Until = &p
+	}
 	if needKeys || len(f.nest) > 0 {
 		chains, err := hierarchy.ParseNest(f.nest)
 		if err != nil {
