@@ -52,6 +52,10 @@ type Options struct {
 	Fitter Fitter
 	// Progress, when non-nil, is called after every node fit.
 	Progress func(done, total int)
+	// PlanGrains are calendar grains coarser than the data's (Quarter,
+	// Year; Month for weekly or daily data) by which the result also
+	// carries every node's totals (Result.Plans). Nil means none.
+	PlanGrains []tableio.Grain
 }
 
 // Reconciliation names a reconciliation method and its settings.
@@ -111,6 +115,9 @@ type Result struct {
 	Nonnegative bool
 	// Horizon is the number of forecast periods.
 	Horizon int
+	// Plans holds the totals by plan period when Options.PlanGrains
+	// asked for them, nil otherwise.
+	Plans *Plans
 	// KeyTypes gives the type of each key attribute's column in the input
 	// (in Structure.Attrs order): tableio.Int64 for an integer column,
 	// whose values the writers give their integer type back.
@@ -240,6 +247,9 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	if err != nil {
 		return nil, err
 	}
+	if err := checkPlanGrains(opt.PlanGrains, d.Panel.Grain); err != nil {
+		return nil, err
+	}
 	method, rc, err := opt.Reconcile.method()
 	if err != nil {
 		return nil, err
@@ -287,6 +297,11 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 
 	res := &Result{Structure: st, Calendar: Calendar{First: d.Panel.First, T: d.Panel.T}, History: history,
 		Fits: fits, Solution: sol, Levels: opt.Levels, Nonnegative: nonneg, Horizon: opt.Horizon, KeyTypes: d.KeyTypes}
+	if len(opt.PlanGrains) > 0 {
+		start = time.Now()
+		res.Plans = res.plans(opt.PlanGrains)
+		stage("plans", start)
+	}
 	rep.fill(d, opt, rc, res, method.Name())
 	res.Report = rep
 	return res, nil
