@@ -26,7 +26,7 @@ var resultColumns = map[string]bool{
 	"ljung_box_lags": true, "ljung_box_q": true, "ljung_box_p": true,
 	"origin": true, "method": true, "actual": true, "error": true, "scale": true, "scaled_error": true,
 	"scaled_squared_error": true,
-	"grain": true, "total": true, "periods_actual": true, "periods_forecast": true, "variance": true,
+	"grain":                true, "total": true, "periods_actual": true, "periods_forecast": true, "variance": true,
 }
 
 // levelColumn matches the result columns named after an interval level
