@@ -240,14 +240,14 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	if err := opt.Supported(d.Panel.T, d.Panel.Grain.SeasonalPeriod()); err != nil {
 		return nil, err
 	}
+	if err := checkPlanGrains(opt.PlanGrains, d.Panel.Grain); err != nil {
+		return nil, err
+	}
 	if opt.Reconcile.Method == AutoMethod {
 		return forecastAuto(ctx, d, opt)
 	}
 	opt, err := opt.resolve(d.Panel.Grain.SeasonalPeriod())
 	if err != nil {
-		return nil, err
-	}
-	if err := checkPlanGrains(opt.PlanGrains, d.Panel.Grain); err != nil {
 		return nil, err
 	}
 	method, rc, err := opt.Reconcile.method()
