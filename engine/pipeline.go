@@ -287,8 +287,20 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	}
 	stage("fit", start)
 
+	var coarse []reconcile.TemporalBase
+	if info, _ := reconcile.LookupMethod(method.Name()); info.Temporal {
+		start = time.Now()
+		if coarse, err = fitTemporal(ctx, opt, history); err != nil {
+			return nil, nameFormError(err, st.Label)
+		}
+		stage("fit", start)
+	}
+
 	start = time.Now()
 	prob := problem(trading.st, trading.rows(history), trading.fits(fits), d.Panel.T)
+	for _, tb := range coarse {
+		prob.Temporal = append(prob.Temporal, reconcile.TemporalBase{Every: tb.Every, Base: trading.rows(tb.Base)})
+	}
 	sol, nonneg, err := reconcileOpen(method, rc, prob, d.Panel.Stats.Negative == 0, trading, st, opt.Horizon)
 	if err != nil {
 		return nil, err
