@@ -36,7 +36,7 @@ func chooseMethod(ctx context.Context, d *Data, opt Options) (Reconciliation, *A
 		k = AutoOrigins
 	}
 	bo := opt
-	bo.Progress = nil
+	bo.Progress, bo.PlanGrains = nil, nil // the choice scores months
 	bt, err := Backtest(ctx, d, BacktestOptions{Options: bo, Origins: k})
 	if err != nil {
 		return rc, nil, err

@@ -299,20 +299,30 @@ func Backtest(ctx context.Context, d *Data, bo BacktestOptions) (*BacktestResult
 		}
 		rep.Timings["structure"] += time.Since(start).Seconds()
 
-		// One fit per origin, shared by every method.
-		var fits []NodeFit
+		// One fit per origin and grain, shared by every method: the
+		// single-period fits, and the fits of the series summed over
+		// quarters and seasons for the temporal methods (told apart by
+		// their jobs' period, horizon and length).
+		cache := map[[3]int][]NodeFit{}
 		var fitSeconds float64
 		fitter := FitterFunc(func(ctx context.Context, jobs []FitJob, _ func(int, int)) ([]NodeFit, error) {
-			if fits != nil {
-				return fits, nil
+			var key [3]int
+			if len(jobs) > 0 {
+				key = [3]int{jobs[0].Period, jobs[0].Horizon, len(jobs[0].Series)}
+			}
+			if f, ok := cache[key]; ok {
+				return f, nil
 			}
 			start := time.Now()
 			var p func(int, int)
-			if progress != nil {
+			if progress != nil && len(cache) == 0 {
 				p = func(done, total int) { progress(o*total+done, K*total) }
 			}
 			f, err := opt.Fitter.Fit(ctx, jobs, p)
-			fits, fitSeconds = f, time.Since(start).Seconds()
+			if err == nil {
+				cache[key] = f
+			}
+			fitSeconds += time.Since(start).Seconds()
 			return f, err
 		})
 		run := func(rc Reconciliation) (*Result, error) {

@@ -12,6 +12,7 @@ import (
 	"trueup/hierarchy"
 	"trueup/inputerr"
 	"trueup/internal/crash"
+	"trueup/reconcile"
 	"trueup/tableio"
 )
 
@@ -217,6 +218,9 @@ func Reconcile(ctx context.Context, bs *BaseSet, opt ReconcileOptions) (*Result,
 	method, rc, err := opt.Reconcile.method()
 	if err != nil {
 		return nil, err
+	}
+	if info, _ := reconcile.LookupMethod(method.Name()); info.Temporal {
+		return nil, inputerr.ForOption("Method", "the %s method fits every node again by quarter and year, which needs the models; it runs in forecast and backtest, not on base forecasts given as a table", method.Name())
 	}
 	if err := ctx.Err(); err != nil {
 		return nil, err

@@ -18,7 +18,7 @@ import (
 const KeyPrefix = "key_"
 
 // resultColumns are the columns that the tables holding key columns
-// (forecasts, models, residuals, history, backtest) write beside them.
+// (forecasts, plans, models, residuals, history, backtest) write beside them.
 var resultColumns = map[string]bool{
 	"level": true, "period": true, "period_start": true, "step": true, "base": true, "base_variance": true,
 	"forecast": true, "residual": true, "value": true, "like_for_like": true,
@@ -26,6 +26,7 @@ var resultColumns = map[string]bool{
 	"ljung_box_lags": true, "ljung_box_q": true, "ljung_box_p": true,
 	"origin": true, "method": true, "actual": true, "error": true, "scale": true, "scaled_error": true,
 	"scaled_squared_error": true,
+	"grain":                true, "total": true, "periods_actual": true, "periods_forecast": true, "variance": true,
 }
 
 // levelColumn matches the result columns named after an interval level

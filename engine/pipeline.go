@@ -52,6 +52,10 @@ type Options struct {
 	Fitter Fitter
 	// Progress, when non-nil, is called after every node fit.
 	Progress func(done, total int)
+	// PlanGrains are calendar grains coarser than the data's (Quarter,
+	// Year; Month for weekly or daily data) by which the result also
+	// carries every node's totals (Result.Plans). Nil means none.
+	PlanGrains []tableio.Grain
 }
 
 // Reconciliation names a reconciliation method and its settings.
@@ -111,6 +115,9 @@ type Result struct {
 	Nonnegative bool
 	// Horizon is the number of forecast periods.
 	Horizon int
+	// Plans holds the totals by plan period when Options.PlanGrains
+	// asked for them, nil otherwise.
+	Plans *Plans
 	// KeyTypes gives the type of each key attribute's column in the input
 	// (in Structure.Attrs order): tableio.Int64 for an integer column,
 	// whose values the writers give their integer type back.
@@ -233,6 +240,9 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	if err := opt.Supported(d.Panel.T, d.Panel.Grain.SeasonalPeriod()); err != nil {
 		return nil, err
 	}
+	if err := checkPlanGrains(opt.PlanGrains, d.Panel.Grain); err != nil {
+		return nil, err
+	}
 	if opt.Reconcile.Method == AutoMethod {
 		return forecastAuto(ctx, d, opt)
 	}
@@ -277,8 +287,20 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	}
 	stage("fit", start)
 
+	var coarse []reconcile.TemporalBase
+	if info, _ := reconcile.LookupMethod(method.Name()); info.Temporal {
+		start = time.Now()
+		if coarse, err = fitTemporal(ctx, opt, history); err != nil {
+			return nil, nameFormError(err, st.Label)
+		}
+		stage("fit", start)
+	}
+
 	start = time.Now()
 	prob := problem(trading.st, trading.rows(history), trading.fits(fits), d.Panel.T)
+	for _, tb := range coarse {
+		prob.Temporal = append(prob.Temporal, reconcile.TemporalBase{Every: tb.Every, Base: trading.rows(tb.Base)})
+	}
 	sol, nonneg, err := reconcileOpen(method, rc, prob, d.Panel.Stats.Negative == 0, trading, st, opt.Horizon)
 	if err != nil {
 		return nil, err
@@ -287,6 +309,11 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 
 	res := &Result{Structure: st, Calendar: Calendar{First: d.Panel.First, T: d.Panel.T}, History: history,
 		Fits: fits, Solution: sol, Levels: opt.Levels, Nonnegative: nonneg, Horizon: opt.Horizon, KeyTypes: d.KeyTypes}
+	if len(opt.PlanGrains) > 0 {
+		start = time.Now()
+		res.Plans = res.plans(opt.PlanGrains)
+		stage("plans", start)
+	}
 	rep.fill(d, opt, rc, res, method.Name())
 	res.Report = rep
 	return res, nil

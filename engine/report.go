@@ -107,6 +107,13 @@ func (r *RunReport) fill(d *Data, opt Options, rc Reconciliation, res *Result, m
 	pn, st, fits, sol := d.Panel, res.Structure, res.Fits, res.Solution
 	r.Input = d.Input
 	r.Options = optionsReport(opt, rc, res.Nonnegative)
+	if len(opt.PlanGrains) > 0 {
+		names := make([]string, len(opt.PlanGrains))
+		for i, g := range opt.PlanGrains {
+			names[i] = g.String()
+		}
+		r.Options["plan_grains"] = names
+	}
 	c := CountsReport{
 		BottomSeries: st.NumBottom(), Nodes: len(st.Nodes), Periods: pn.T,
 		FirstPeriod: pn.Period(0).String(), LastPeriod: pn.Period(pn.T - 1).String(),
@@ -152,6 +159,11 @@ func (r *RunReport) fill(d *Data, opt Options, rc Reconciliation, res *Result, m
 	}
 	if warned > 0 {
 		r.Warnings = append(r.Warnings, fmt.Sprintf("%d nodes have a model warning; see the warning column of the models table", warned))
+	}
+	if res.Plans != nil {
+		for _, l := range res.Plans.LeftOut {
+			r.Warnings = append(r.Warnings, "plan period left out: "+l)
+		}
 	}
 }
 

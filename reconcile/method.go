@@ -32,6 +32,10 @@ type Problem struct {
 	// History holds the observed node series, n × T, NaN before a node
 	// existed. Used by the top-down methods. May be nil.
 	History [][]float64
+	// Temporal holds base forecasts of every node at coarser temporal
+	// grains (TemporalFactors of the seasonal period), for the methods
+	// whose MethodInfo.Temporal is set. Nil otherwise.
+	Temporal []TemporalBase
 
 	// Nonnegative asks the projection methods for non-negative bottom
 	// forecasts (see Projection). Other methods refuse it.

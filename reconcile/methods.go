@@ -39,6 +39,10 @@ type MethodInfo struct {
 	// negative). The methods that support Problem.Nonnegative have it; the
 	// others refuse Problem.Nonnegative (nonNegativeOnly).
 	NonNegativeDefault bool
+	// Temporal says whether the method needs Problem.Temporal: base
+	// forecasts of the series summed over quarters and whole seasons,
+	// which the caller fits beside the single-period ones.
+	Temporal bool
 
 	build func(cov Covariance, at string) Method
 }
@@ -64,6 +68,9 @@ var methods = []MethodInfo{
 	{Name: "mint", Param: CovParam, NonNegativeDefault: true, Help: "combine every level's forecasts, weighted by how reliable their errors have been (MinT)",
 		Explanation: "MinT combines every level's forecast, weighting each by how reliable its errors have been, so that totals equal the sum of their parts",
 		build:       func(cov Covariance, _ string) Method { return Projection{Cov: cov} }},
+	{Name: "temporal", NonNegativeDefault: true, Temporal: true, Help: "also forecast each node by quarter and by year, combine across time (temporal hierarchy), then MinT",
+		Explanation: "each node is also forecast by quarter and by year; those forecasts are combined with the monthly ones so that months add up to quarters and years, and MinT then makes totals equal the sum of their parts",
+		build:       func(Covariance, string) Method { return Temporal{} }},
 }
 
 // Methods returns the table of reconciliation methods, in the order help

@@ -50,6 +50,9 @@ func TestMethodTable(t *testing.T) {
 		m, _ := ByName(info.Name, "", at)
 		q := p
 		q.Nonnegative = true
+		if info.Temporal {
+			q.Temporal = []TemporalBase{summedOver(p.Base, len(p.Base[0]))}
+		}
 		_, err := m.Reconcile(q)
 		if supported := err == nil; supported != info.NonNegativeDefault {
 			t.Errorf("%s: NonNegativeDefault %v, but reconciling with Nonnegative gives %v", info.Name, info.NonNegativeDefault, err)
@@ -72,4 +75,20 @@ func TestByNameRefusals(t *testing.T) {
 			t.Errorf("ByName%q = %v, want an input error", bad, err)
 		}
 	}
+}
+
+// summedOver gives every node's base forecasts summed over blocks of k
+// steps, as a temporal method's coarser forecasts.
+func summedOver(base [][]float64, k int) TemporalBase {
+	tb := TemporalBase{Every: k, Base: make([][]float64, len(base))}
+	for i, b := range base {
+		for start := 0; start < len(b); start += k {
+			sum := 0.0
+			for _, v := range b[start:min(start+k, len(b))] {
+				sum += v
+			}
+			tb.Base[i] = append(tb.Base[i], sum)
+		}
+	}
+	return tb
 }

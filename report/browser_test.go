@@ -7,6 +7,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"sync"
 	"testing"
@@ -212,6 +213,21 @@ func TestReportInBrowser(t *testing.T) {
 		if len(band[0]) != len(want) || len(band[1]) != len(want) || math.Abs(band[0][k]-hi) > tol || math.Abs(band[1][k]-lo) > tol {
 			t.Fatalf("node %d step %d: %v%% band drawn as %v, want [%v, %v]", node, k+1, widest, band, lo, hi)
 		}
+	}
+	// The node's plan totals: one row per plan period, the year's total
+	// as the summary prints it.
+	planRows := eval(`document.querySelectorAll("#node-check table")[1].rows.length`)
+	if int(planRows) != len(res.Plans.Periods)+1 {
+		t.Errorf("the node's plan table has %v rows, want %d periods and a header", planRows, len(res.Plans.Periods))
+	}
+	last := len(res.Plans.Periods) - 1
+	yearText, err := chromedp.Run(ctx, chromedp.Evaluate[string](fmt.Sprintf(`document.querySelectorAll("#node-check table")[1].rows[%d].cells[3].textContent`, last+1)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	year := res.Plans.Actual[node][last] + res.Plans.Forecast[node][last]
+	if got := strings.ReplaceAll(yearText, ",", ""); got != strconv.FormatFloat(math.Round(year), 'f', 0, 64) {
+		t.Errorf("node %d: %s total shown as %q, want %.0f", node, res.Plans.Periods[last].Period, yearText, year)
 	}
 	if err := chromedp.Do(ctx, chromedp.ScrollIntoView(chromedp.CSS("#explorer"))); err != nil {
 		t.Fatal(err)

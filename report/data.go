@@ -46,6 +46,7 @@ type Meta struct {
 	Failing     []int     `json:"failing"`            // nodes whose residuals fail Ljung–Box, by p-value
 	FailP       float64   `json:"fail_p"`             // the significance level of Failing
 	Accuracy    []Table   `json:"accuracy,omitempty"` // backtest tables, when present
+	Plans       *Plans    `json:"plans,omitempty"`    // plan totals, when the run made them
 }
 
 // Level is one level of the structure with its nodes, largest first.
@@ -319,6 +320,11 @@ func build(in *Input) (*Data, error) {
 	}
 	if t := in.Tables["models"]; t != nil {
 		if err := addModels(m, t, attrs, idx); err != nil {
+			return nil, err
+		}
+	}
+	if t := in.Tables["plans"]; t != nil {
+		if err := addPlans(m, t, attrs, idx); err != nil {
 			return nil, err
 		}
 	}

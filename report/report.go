@@ -43,7 +43,7 @@ import (
 const FileName = "report.html"
 
 // resultTables are the tables of a forecast run the report reads.
-var resultTables = []string{"forecasts", "models", "residuals", "history"}
+var resultTables = []string{"forecasts", "plans", "models", "residuals", "history"}
 
 // Input is what a report is made from: run.json as a JSON object, the
 // run's tables by name (forecasts is required) and any accuracy tables.

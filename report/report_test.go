@@ -25,8 +25,8 @@ import (
 )
 
 // forecastDemo runs the demo chain (an invented retail chain) through the
-// engine with the given model spec: the zero spec is the demo's own
-// automatic choice.
+// engine with the given model spec, with plan totals by quarter and
+// year: the zero spec is the demo's own automatic choice.
 func forecastDemo(t testing.TB, spec families.Spec) *engine.Result {
 	t.Helper()
 	path := filepath.Join(t.TempDir(), "demo_sales.parquet")
@@ -38,7 +38,8 @@ func forecastDemo(t testing.TB, spec families.Spec) *engine.Result {
 	if err != nil {
 		t.Fatal(err)
 	}
-	res, err := engine.Forecast(context.Background(), data, engine.Options{Model: spec, Fitter: engine.Local{Workers: 2}})
+	res, err := engine.Forecast(context.Background(), data, engine.Options{Model: spec, Fitter: engine.Local{Workers: 2},
+		PlanGrains: []tableio.Grain{tableio.Quarter, tableio.Year}})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -395,5 +396,58 @@ func TestAccuracyTablesShownWhenPresent(t *testing.T) {
 	}
 	if !strings.Contains(buf.String(), "trueup backtest report") {
 		t.Fatal("the backtest's report is not titled as such")
+	}
+}
+
+// TestPlanTotalsEmbedded checks the plan totals the report carries
+// against the result's own (engine.Result.Plans and PlanBounds), to the
+// cent, from the run and from its folder read back as CSV.
+func TestPlanTotalsEmbedded(t *testing.T) {
+	res := forecastDemo(t, families.Spec{Family: "drift"})
+	fromRes, err := FromResult(res, "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	if _, err := output.Write(dir, res, []string{"csv"}); err != nil {
+		t.Fatal(err)
+	}
+	fromDir, err := FromDir(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	T := res.Calendar.T
+	for _, in := range []*Input{fromRes, fromDir} {
+		d, err := build(in)
+		if err != nil {
+			t.Fatal(err)
+		}
+		p := d.Meta.Plans
+		if p == nil || len(p.Periods) != len(res.Plans.Periods) || len(p.Nodes) != len(res.Structure.Nodes) {
+			t.Fatalf("plans embedded: %+v", p)
+		}
+		near := func(got *float64, want float64) bool {
+			return got != nil && math.Abs(*got-want) <= 0.005+1e-12*math.Abs(want)
+		}
+		for k, pp := range res.Plans.Periods {
+			if p.Periods[k] != pp.Period.String() || p.PeriodsActual[k] != pp.ActualPeriods(T) || p.PeriodsForecast[k] != pp.ForecastPeriods(T) {
+				t.Errorf("plan period %d: %s %d+%d", k, p.Periods[k], p.PeriodsActual[k], p.PeriodsForecast[k])
+			}
+		}
+		// Nodes are in the forecasts table's order, which is the structure's.
+		for i := range res.Structure.Nodes {
+			for k := range res.Plans.Periods {
+				nd := p.Nodes[i]
+				if !near(nd.Actual[k], res.Plans.Actual[i][k]) || !near(nd.Forecast[k], res.Plans.Forecast[i][k]) {
+					t.Fatalf("node %d period %d: %v %v, want %v %v", i, k, *nd.Actual[k], *nd.Forecast[k], res.Plans.Actual[i][k], res.Plans.Forecast[i][k])
+				}
+				for l, lv := range res.Levels {
+					lo, hi := res.PlanBounds(i, k, lv)
+					if p.Intervals[l] != engine.LevelLabel(lv) || !near(nd.Lower[l][k], lo) || !near(nd.Upper[l][k], hi) {
+						t.Fatalf("node %d period %d %v%%: [%v, %v], want [%v, %v]", i, k, lv, *nd.Lower[l][k], *nd.Upper[l][k], lo, hi)
+					}
+				}
+			}
+		}
 	}
 }

@@ -10,7 +10,7 @@
 // share a persistent chain-wide shock (AR(1) in logs) and single-period
 // promotions (fixtures/generate.go).
 //
-// Run from the repository root: go run ./bench/coverage [-origins 12] [-demo]
+// Run from the repository root: go run ./bench/coverage [-origins 12] [-demo] [-compare base,mint-shrink,temporal]
 package main
 
 import (
@@ -31,6 +31,7 @@ import (
 func main() {
 	origins := flag.Int("origins", 12, "forecast origins, one month apart")
 	demo := flag.Bool("demo", false, "also measure the built-in demo chain")
+	compare := flag.String("compare", "", "methods to compare, comma-separated (default: the backtest's)")
 	flag.Parse()
 	dir, err := os.MkdirTemp("", "trueup-coverage")
 	if err != nil {
@@ -42,14 +43,14 @@ func main() {
 		fail(err)
 	}
 	measure("Texas home sales by city (R ggplot2 txhousing, 26 cities)", engine.Source{
-		Path: path, Time: "period", Value: "sales", Chains: []hierarchy.Chain{{"city"}}}, *origins)
+		Path: path, Time: "period", Value: "sales", Chains: []hierarchy.Chain{{"city"}}}, *origins, *compare)
 	if *demo {
 		path := filepath.Join(dir, "demo.parquet")
 		if err := os.WriteFile(path, fixtures.DemoMonthlyParquet, 0o644); err != nil {
 			fail(err)
 		}
 		measure("built-in demo chain (invented)", engine.Source{
-			Path: path, Time: "period", Value: "sales", Chains: fixtures.DemoChains()}, *origins)
+			Path: path, Time: "period", Value: "sales", Chains: fixtures.DemoChains()}, *origins, *compare)
 	}
 }
 
@@ -77,14 +78,18 @@ func writeTexasCities(dir string) (string, error) {
 }
 
 // measure backtests one source and prints its table.
-func measure(title string, src engine.Source, origins int) {
+func measure(title string, src engine.Source, origins int, compare string) {
 	start := time.Now()
 	data, err := engine.Load(src)
 	if err != nil {
 		fail(err)
 	}
+	var methods []string
+	if compare != "" {
+		methods = strings.Split(compare, ",")
+	}
 	bt, err := engine.Backtest(context.Background(), data, engine.BacktestOptions{
-		Options: engine.Options{Horizon: 12}, Origins: origins})
+		Options: engine.Options{Horizon: 12, Fitter: engine.Local{Workers: 2}}, Origins: origins, Compare: methods})
 	if err != nil {
 		fail(err)
 	}

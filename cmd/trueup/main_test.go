@@ -188,6 +188,8 @@ func TestBadInputs(t *testing.T) {
 		{"level twice", []string{"--input", goodCSV, "--levels", "80,80"}, "", "--levels"},
 		{"horizon beyond the history", []string{"--input", goodCSV, "--horizon", "10000"}, "", "--horizon: a horizon of 10000"},
 		{"period beyond the history", []string{"--input", goodCSV, "--period", "3"}, "", "supports a period of at most 2"},
+		{"plan grain no coarser than the data", []string{"--input", goodCSV, "--plan-grain", "quarter,month"}, "", "--plan-grain: the data is by month"},
+		{"unknown plan grain", []string{"--input", goodCSV, "--plan-grain", "fortnight"}, "", "--plan-grain: \"fortnight\""},
 		{"out is a file", []string{"--input", goodCSV, "--out", goodCSV}, "", "--out: " + goodCSV + ": is a file"},
 	}
 	for i, c := range cases {

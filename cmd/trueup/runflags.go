@@ -15,6 +15,7 @@ import (
 	"trueup/engine/output"
 	"trueup/models/families"
 	"trueup/reconcile"
+	"trueup/tableio"
 )
 
 // runFlags are the flags shared by forecast and demo.
@@ -26,6 +27,8 @@ type runFlags struct {
 	levels  string
 	workers int
 	origins int // backtest origins behind --method auto
+	// planGrain is --plan-grain (forecast, demo): grains of plan totals.
+	planGrain string
 	// hasOrigins says whether --origins is this command's (forecast, demo).
 	hasOrigins bool
 	outputFlags
@@ -120,6 +123,25 @@ func (f *runFlags) register(cmd *cobra.Command, defaultOut string) {
 	groupFlags(cmd, "Reconciliation", "origins")
 	f.hasOrigins = true
 	f.outputFlags.register(cmd, defaultOut)
+	fl.StringVar(&f.planGrain, "plan-grain", "", "also write every node's totals by these coarser grains, comma-separated:\nquarter, year (month for weekly or daily data); a week counts in the month of its Thursday.\nA period begun before the origin adds the actuals past to the forecasts (the plans table)")
+	groupFlags(cmd, "Output", "plan-grain")
+}
+
+// planGrains reads --plan-grain: calendar grain names, comma-separated.
+// Whether each is coarser than the data's grain is the engine's check.
+func (f *runFlags) planGrains() ([]tableio.Grain, error) {
+	if strings.TrimSpace(f.planGrain) == "" {
+		return nil, nil
+	}
+	var out []tableio.Grain
+	for _, part := range strings.Split(f.planGrain, ",") {
+		g, err := tableio.ParseGrain(strings.TrimSpace(part))
+		if err != nil || g == tableio.Index || g == tableio.Day {
+			return nil, &usageError{fmt.Errorf("--plan-grain: %q is not a plan grain (use week, month, quarter or year)", strings.TrimSpace(part))}
+		}
+		out = append(out, g)
+	}
+	return out, nil
 }
 
 // registerModel registers the model flags only (period, horizon, family,
@@ -158,6 +180,9 @@ func (f *runFlags) options(cmd *cobra.Command) (engine.Options, error) {
 		Reconcile: f.reconcileFlags.options(cmd),
 		Levels:    levels,
 		Fitter:    engine.Local{Workers: f.workers},
+	}
+	if opt.PlanGrains, err = f.planGrains(); err != nil {
+		return engine.Options{}, err
 	}
 	if f.hasOrigins && cmd.Flags().Changed("origins") {
 		if f.origins < 1 {

@@ -90,6 +90,7 @@ func printTail(w io.Writer, res *engine.Result, files []string) {
 		fmt.Fprintf(w, "\nReconciliation: %s.\n", strings.Join(notes, ", "))
 	}
 	printTotal(w, res)
+	printTotalPlans(w, res)
 	if len(rep.Warnings) > 0 {
 		fmt.Fprintln(w, "\nWarnings:")
 		for _, warn := range rep.Warnings {
@@ -138,6 +139,44 @@ func printTotal(w io.Writer, res *engine.Result) {
 	if h > totalRows {
 		fmt.Fprintf(w, "(%d more periods in the forecasts table)\n", h-totalRows)
 	}
+}
+
+// printTotalPlans shows the total's plan totals, when the run made them:
+// the actuals already past and the forecast of the rest, with the total's
+// narrowest interval.
+func printTotalPlans(w io.Writer, res *engine.Result) {
+	p := res.Plans
+	if p == nil || len(p.Periods) == 0 {
+		return
+	}
+	T := res.Calendar.T
+	level := math.NaN()
+	if p.Variance != nil && len(res.Levels) > 0 {
+		level = res.Levels[0]
+		for _, l := range res.Levels {
+			level = math.Min(level, l)
+		}
+	}
+	header := []string{"period", "actual", "forecast", "total", res.Report.Counts.Grain + "s actual+forecast"}
+	lab := strconv.FormatFloat(level, 'f', -1, 64)
+	if !math.IsNaN(level) {
+		header = append(header, "lower "+lab+"%", "upper "+lab+"%")
+		fmt.Fprintf(w, "\nTotal by plan period with its %s%% interval (actuals to %s, then forecasts):\n", lab, res.Calendar.Period(T-1))
+	} else {
+		fmt.Fprintf(w, "\nTotal by plan period (actuals to %s, then forecasts):\n", res.Calendar.Period(T-1))
+	}
+	var rows [][]string
+	for k, pp := range p.Periods {
+		a, f := p.Actual[0][k], p.Forecast[0][k]
+		row := []string{pp.Period.String(), grouped(a), grouped(f), grouped(a + f),
+			fmt.Sprintf("%d+%d", pp.ActualPeriods(T), pp.ForecastPeriods(T))}
+		if !math.IsNaN(level) {
+			lo, hi := res.PlanBounds(0, k, level)
+			row = append(row, grouped(lo), grouped(hi))
+		}
+		rows = append(rows, row)
+	}
+	textTable(w, header, rows)
 }
 
 // grouped formats x rounded to a whole number with thousands separators,

@@ -39,7 +39,8 @@ func TestSameBytesWhateverTheWorkers(t *testing.T) {
 	d := smallChain(t)
 	var outputs [][]byte
 	for _, workers := range []int{1, 3} {
-		res, err := engine.Forecast(context.Background(), d, engine.Options{Horizon: 6, Fitter: engine.Local{Workers: workers}})
+		res, err := engine.Forecast(context.Background(), d, engine.Options{Horizon: 6, Fitter: engine.Local{Workers: workers},
+			PlanGrains: []tableio.Grain{tableio.Quarter, tableio.Year}})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -48,7 +49,7 @@ func TestSameBytesWhateverTheWorkers(t *testing.T) {
 			t.Fatal(err)
 		}
 		var all []byte
-		for _, name := range []string{"forecasts", "models", "residuals"} {
+		for _, name := range []string{"forecasts", "plans", "models", "residuals"} {
 			for _, ext := range []string{".parquet", ".csv", ".arrow"} {
 				b, err := os.ReadFile(filepath.Join(out, name+ext))
 				if err != nil {

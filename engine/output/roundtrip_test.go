@@ -5,17 +5,20 @@ import (
 	"fmt"
 	"math"
 	"path/filepath"
+	"strings"
 	"testing"
 
 	"trueup/engine"
 	"trueup/engine/output"
 	"trueup/fixtures"
+	"trueup/inputerr"
+	"trueup/models/families"
 	"trueup/reconcile"
 )
 
 // TestReconcileForecastTablesRoundTrip reconciles forecast's own tables
 // (forecasts, residuals and the input history) with every method and
-// covariance, and checks that the result is forecast's: the same
+// covariance (but the temporal ones, which fit the nodes again), and checks that the result is forecast's: the same
 // forecasts and variances, hence bounds, the same non-negativity and the
 // same shrinkage λ. The chain has stores that close inside the history,
 // so the closed-store rule is exercised on both paths.
@@ -38,6 +41,11 @@ func TestReconcileForecastTablesRoundTrip(t *testing.T) {
 	})
 	var settings []engine.Reconciliation
 	for _, m := range reconcile.MethodNames() {
+		if info, _ := reconcile.LookupMethod(m); info.Temporal {
+			// It fits every node by quarter and year itself: from given
+			// base forecasts it refuses (TestTemporalNeedsTheModels).
+			continue
+		}
 		switch m {
 		case "mint":
 			for _, c := range reconcile.CovNames() {
@@ -118,4 +126,33 @@ func close(a, b float64) bool {
 		return math.IsNaN(a) && math.IsNaN(b)
 	}
 	return math.Abs(a-b) <= 1e-9*math.Max(1, math.Max(math.Abs(a), math.Abs(b)))
+}
+
+// TestTemporalNeedsTheModels: reconciling given base forecasts with a
+// temporal method is refused, naming the option and saying where it
+// runs, since it must fit every node again by quarter and year.
+func TestTemporalNeedsTheModels(t *testing.T) {
+	d := smallChain(t)
+	res, err := engine.Forecast(context.Background(), d, engine.Options{Horizon: 6, Model: families.Spec{Family: "drift"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	if _, err := output.Write(dir, res, []string{"parquet"}); err != nil {
+		t.Fatal(err)
+	}
+	bs, err := engine.LoadTables(engine.Tables{Base: filepath.Join(dir, "forecasts.parquet"),
+		Residuals: filepath.Join(dir, "residuals.parquet"), Chains: fixtures.DemoChains()})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, info := range reconcile.Methods() {
+		if !info.Temporal {
+			continue
+		}
+		_, err := engine.Reconcile(context.Background(), bs, engine.ReconcileOptions{Reconcile: engine.Reconciliation{Method: info.Name}})
+		if !inputerr.Is(err) || inputerr.OptionOf(err) != "Method" || !strings.Contains(err.Error(), "runs in forecast and backtest") {
+			t.Errorf("%s from tables: %v", info.Name, err)
+		}
+	}
 }

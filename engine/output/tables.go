@@ -17,11 +17,15 @@ type Table struct {
 	Table *tableio.Table
 }
 
-// Tables returns the tables of a result: forecasts always; models,
-// residuals and history when the result holds fitted models (a forecast
-// run, not a reconciliation of given base forecasts).
+// Tables returns the tables of a result: forecasts always; plans when the
+// result holds plan totals; models, residuals and history when the result
+// holds fitted models (a forecast run, not a reconciliation of given base
+// forecasts).
 func Tables(res *engine.Result) []Table {
 	out := []Table{{"forecasts", ForecastTable(res)}}
+	if res.Plans != nil {
+		out = append(out, Table{"plans", PlanTable(res)})
+	}
 	for _, f := range res.Fits {
 		if f.Fitted {
 			return append(out, Table{"models", ModelTable(res)}, Table{"residuals", ResidualTable(res)},

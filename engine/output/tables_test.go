@@ -88,7 +88,9 @@ func TestHistoryAndResidualCheck(t *testing.T) {
 func TestResultColumnsAreKnown(t *testing.T) {
 	d := smallChain(t)
 	opt := engine.Options{Horizon: 3, Model: families.Spec{Family: "drift"}, Levels: []float64{80, 97.5}}
-	res, err := engine.Forecast(context.Background(), d, opt)
+	withPlans := opt
+	withPlans.PlanGrains = []tableio.Grain{tableio.Quarter}
+	res, err := engine.Forecast(context.Background(), d, withPlans)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -255,6 +255,21 @@
       }, [x, vals.slice(0, len), x.map(() => bound), x.map(() => -bound)]);
     }
 
+    // planTable shows node i's totals by plan period (the plans table):
+    // actuals already past plus the forecasts of the rest.
+    function planTable(i) {
+      const p = meta.plans, nd = p.nodes[i], num = v => v == null ? "–" : fmt(v);
+      const head = el("tr", {}, ...["period", "actual", "forecast", "total", ...p.intervals.map(l => l + "% interval")].map((c, j) => el("th", { class: j ? "num" : "" }, c)));
+      const rows = p.periods.map((label, k) => {
+        const a = nd.a[k], f = nd.f[k];
+        const cells = [label, `${num(a)} (${p.periods_actual[k]})`, `${num(f)} (${p.periods_forecast[k]})`, a == null || f == null ? "–" : fmt(a + f)];
+        p.intervals.forEach((_, l) => cells.push(`${num(nd.lo[l][k])} – ${num(nd.hi[l][k])}`));
+        return el("tr", {}, ...cells.map((c, j) => el("td", { class: j ? "num" : "" }, c)));
+      });
+      return [el("h3", {}, "Plan totals"), el("div", { class: "scroll" }, el("table", {}, head, ...rows)),
+        el("p", { class: "note" }, "Actuals of the periods already past plus the reconciled forecasts of the rest (the number of periods of each in brackets); the interval is the total's, from the forecast part.")];
+    }
+
     function select(i, scroll) {
       const start = performance.now();
       const nd = meta.nodes[i];
@@ -284,6 +299,7 @@
         ...(params ? [el("details", {}, el("summary", {}, "All parameters (JSON)"), el("pre", { class: "scroll" }, JSON.stringify(params, null, 1)))] : []));
       const check = model;
       document.getElementById("node-check").replaceChildren(el("h3", {}, "Forecasts"), el("div", { class: "scroll" }, el("table", {}, head, ...fcRows)));
+      if (meta.plans) document.getElementById("node-check").append(...planTable(i));
       check.append(el("h3", {}, "Ljung–Box test of the residuals"));
       if (nd.lb_p == null) check.append(el("p", { class: "note" }, "Not run: too few residuals."));
       else {
