@@ -181,7 +181,7 @@ func finites(xs []float64) []any {
 // compute.
 func (s Score) MarshalJSON() ([]byte, error) {
 	return json.Marshal(map[string]any{"level": s.Level, "method": s.Method, "step": s.Step, "count": s.Count,
-		"mase": finite(s.MASE), "rmsse": finite(s.RMSSE), "bias": finite(s.Bias),
+		"mase": finite(s.MASE), "rmsse": finite(s.RMSSE), "bias": finite(s.Bias), "crps": finite(s.CRPS),
 		"coverage": finites(s.Coverage), "interval_score": finites(s.IntervalScore)})
 }
 
@@ -189,7 +189,8 @@ func (s Score) MarshalJSON() ([]byte, error) {
 // compute.
 func (h Headline) MarshalJSON() ([]byte, error) {
 	return json.Marshal(map[string]any{"method": h.Method, "mase": finite(h.MASE), "rmsse": finite(h.RMSSE),
-		"bias": finite(h.Bias), "coverage": finites(h.Coverage), "interval_score": finites(h.IntervalScore)})
+		"bias": finite(h.Bias), "crps": finite(h.CRPS), "coverage": finites(h.Coverage), "interval_score": finites(h.IntervalScore),
+		"energy_score": finite(h.EnergyScore), "energy_score_by_step": finites(h.EnergyByStep)})
 }
 
 // MarshalJSON writes the recommendation; the comparison with base is

@@ -52,6 +52,10 @@ type Options struct {
 	Fitter Fitter
 	// Progress, when non-nil, is called after every node fit.
 	Progress func(done, total int)
+
+	// joint keeps the joint distribution of the errors in the result's
+	// Solution.Joint (the backtest scores the joint forecast with it).
+	joint bool
 }
 
 // Reconciliation names a reconciliation method and its settings.
@@ -279,6 +283,7 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 
 	start = time.Now()
 	prob := problem(trading.st, trading.rows(history), trading.fits(fits), d.Panel.T)
+	prob.Joint = opt.joint
 	sol, nonneg, err := reconcileOpen(method, rc, prob, d.Panel.Stats.Negative == 0, trading, st, opt.Horizon)
 	if err != nil {
 		return nil, err
