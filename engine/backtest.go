@@ -159,6 +159,9 @@ type BacktestResult struct {
 	Headline []Headline
 	// Recommendation is the coherent method with the best headline MASE.
 	Recommendation Recommendation
+	// Calibration compares, per method, its intervals with and without
+	// conformal calibration at the later origins (see CalibrationCheck).
+	Calibration []CalibrationCheck
 	// Attribution holds the error attribution (see attribution.go).
 	Attribution *Attribution
 	Report      BacktestReport
@@ -397,6 +400,7 @@ func Backtest(ctx context.Context, d *Data, bo BacktestOptions) (*BacktestResult
 	}
 	start := time.Now()
 	res.score()
+	res.checkCalibration()
 	res.recommend()
 	res.Attribution = attribute(res)
 	rep.Timings["score"] = time.Since(start).Seconds()

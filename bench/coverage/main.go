@@ -177,6 +177,22 @@ func measure(title string, src engine.Source, origins int) {
 		}
 	}
 	fmt.Println()
+	fmt.Printf("Conformal calibration (engine.CalibrationCheck), origins 2–%d, each calibrated from the errors known before it; inside 80%% / 95%%, uncalibrated → calibrated:\n\n", origins)
+	fmt.Println("| method | level | all steps | int. score 80% | 95% | by horizon group, calibrated | helps |")
+	fmt.Println("|---|---|---|---|---|---|---|")
+	for _, c := range bt.Calibration {
+		for _, l := range c.Levels {
+			var hz []string
+			for g := range l.CalibratedByHorizon {
+				hz = append(hz, fmt.Sprintf("%.0f/%.0f→%.0f/%.0f", 100*l.CoverageByHorizon[g][0], 100*l.CoverageByHorizon[g][1],
+					100*l.CalibratedByHorizon[g][0], 100*l.CalibratedByHorizon[g][1]))
+			}
+			fmt.Printf("| %s | %s | %.0f%% / %.0f%% → %.0f%% / %.0f%% | %.2f → %.2f | %.2f → %.2f | %s | %v |\n", c.Method, l.Level,
+				100*l.Coverage[0], 100*l.Coverage[1], 100*l.CalibratedCoverage[0], 100*l.CalibratedCoverage[1],
+				l.IntervalScore[0], l.CalibratedInterval[0], l.IntervalScore[1], l.CalibratedInterval[1], strings.Join(hz, " "), c.Helps)
+		}
+	}
+	fmt.Println()
 	fmt.Print("Energy score of the joint forecast (scaled):")
 	for _, h := range bt.Headline {
 		fmt.Printf(" %s %.2f;", h.Method, h.EnergyScore)
