@@ -239,3 +239,57 @@ func TestBacktestDistributionScores(t *testing.T) {
 		}
 	}
 }
+
+// TestForecastCalibration: a forecast asked to calibrate records the
+// backtest's check and applies factors only when it says they helped;
+// Bounds then widen or narrow z·sd by the factor of the node's level,
+// step group and interval level, and stay centred on the forecast.
+func TestForecastCalibration(t *testing.T) {
+	d := chain(t, 4)
+	opt := engine.Options{Model: families.Spec{Family: "drift"}, Horizon: 6, Fitter: engine.Local{Workers: 2},
+		Reconcile: engine.Reconciliation{Method: "bottom-up", Calibrate: 4}}
+	res, err := engine.Forecast(context.Background(), d, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rec := res.Report.Reconcile.Calibration
+	if rec == nil || rec.Origins != 4 || rec.Check.Method != "bottom-up" || rec.Check.Origins != 2 {
+		t.Fatalf("calibration record %+v", rec)
+	}
+	if rec.Applied != rec.Check.Helps || (res.Calibration != nil) != rec.Applied {
+		t.Fatalf("applied %v, helps %v, factors %v", rec.Applied, rec.Check.Helps, res.Calibration != nil)
+	}
+	plain := *res
+	plain.Calibration = nil
+	cal := &engine.Calibration{Levels: res.Structure.LevelNames(), Groups: [][2]int{{1, 3}, {4, 6}}, Intervals: []float64{80, 95}}
+	for range cal.Levels {
+		cal.Factor = append(cal.Factor, [][]float64{{2, 1}, {0.5, 1}})
+	}
+	res.Calibration = cal
+	for i := range res.Structure.Nodes {
+		for k := 0; k < 6; k++ {
+			want := 2.0
+			if k >= 3 {
+				want = 0.5
+			}
+			lo, hi := res.Bounds(i, k, 80)
+			plo, phi := plain.Bounds(i, k, 80)
+			f := res.Solution.Forecast[i][k]
+			if res.Nonnegative || plo <= 0 {
+				continue // a clamped lower bound does not scale
+			}
+			if math.Abs((hi-lo)-want*(phi-plo)) > 1e-9*(phi-plo) || math.Abs((hi+lo)/2-f) > 1e-9*math.Abs(f) {
+				t.Fatalf("node %d step %d: [%v, %v], uncalibrated [%v, %v], factor %v", i, k+1, lo, hi, plo, phi, want)
+			}
+			lo, hi = res.Bounds(i, k, 95)
+			plo, phi = plain.Bounds(i, k, 95)
+			if lo != plo || hi != phi {
+				t.Fatalf("node %d step %d: 95%% interval [%v, %v] with factor 1, uncalibrated [%v, %v]", i, k+1, lo, hi, plo, phi)
+			}
+		}
+	}
+	opt.Reconcile.Calibrate = -1
+	if _, err := engine.Forecast(context.Background(), d, opt); err == nil || !strings.Contains(err.Error(), "calibration origins") {
+		t.Errorf("negative calibration origins: %v", err)
+	}
+}

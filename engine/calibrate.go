@@ -1,10 +1,13 @@
 package engine
 
 import (
+	"context"
+	"errors"
 	"math"
 	"slices"
 
 	"trueup/accuracy"
+	"trueup/inputerr"
 )
 
 // Interval calibration from backtest errors: split conformal prediction
@@ -21,10 +24,10 @@ import (
 
 // CalibrationMin is the fewest past errors a factor is estimated from: a
 // horizon group with fewer takes the level's factor over all steps, and a
-// level with fewer keeps factor 1 (uncalibrated). At 20 errors the 95%
-// factor is the largest score (common practice: conformal needs
-// n ≥ L/(100 − L) scores for level L).
-const CalibrationMin = 20
+// level with fewer keeps factor 1 (uncalibrated). Below 19 errors the
+// 95% factor is the largest score (conformal needs n ≥ L/(100 − L)
+// scores for level L to have a finite quantile; Lei et al. 2018, §2.2).
+const CalibrationMin = 10
 
 // horizonGroups splits steps 1…h into three groups of about equal length
 // (1–4, 5–8, 9–12 for h = 12), as [first, last] steps.
@@ -151,24 +154,25 @@ func (c *Calibration) factor(level string, k, q int) float64 {
 }
 
 // CalibrationCheck compares one method's intervals with and without
-// calibration at the backtest's later origins: at each origin from the
-// second on, factors are estimated from the errors of earlier origins
-// whose target periods fall before it (what a forecast at that origin
-// could have known), and applied to it.
+// calibration at the backtest's later origins: at each origin of the
+// second half (from the second when there are two or three), factors are
+// estimated from the errors of earlier origins whose target periods fall
+// before it (what a forecast at that origin could have known), and
+// applied to it.
 type CalibrationCheck struct {
 	Method string `json:"method"`
-	// Origins is the number of origins scored (all but the first).
+	// Origins is the number of origins scored (the later half).
 	Origins int `json:"origins"`
 	// Levels holds, per node level, the coverage and the interval score
 	// (over the scale) per interval level, uncalibrated and calibrated,
 	// over those origins and all steps.
 	Levels []CalibrationLevel `json:"levels"`
 	// Helps says whether calibration brought the coverage nearer to
-	// nominal (the mean over node levels and interval levels of
-	// |coverage − nominal| is lower) without raising the mean interval
-	// score (over node levels) at any interval level, which is a proper
-	// score (Gneiting & Raftery 2007, §6.2): the test Options.Calibrate
-	// applies.
+	// nominal where it is furthest (the largest |coverage − nominal| over
+	// node levels and interval levels is smaller) without raising the
+	// mean interval score (over node levels) at any interval level, a
+	// proper score (Gneiting & Raftery 2007, §6.2): the test
+	// Reconciliation.Calibrate applies.
 	Helps bool `json:"helps"`
 }
 
@@ -219,7 +223,8 @@ func (res *BacktestResult) checkCalibration() {
 	levels := res.Structure.LevelNames()
 	L := len(res.Levels)
 	for _, m := range res.Methods {
-		chk := CalibrationCheck{Method: m, Origins: len(res.Origins) - 1}
+		first := max(1, len(res.Origins)/2)
+		chk := CalibrationCheck{Method: m, Origins: len(res.Origins) - first}
 		type acc struct {
 			n                  float64
 			cov, ccov, is, cis []float64
@@ -234,7 +239,7 @@ func (res *BacktestResult) checkCalibration() {
 			}
 		}
 		sums := map[string]*acc{}
-		for o := 1; o < len(res.Origins); o++ {
+		for o := first; o < len(res.Origins); o++ {
 			org := res.Origins[o]
 			c := newCalScores(levels, res.Horizon)
 			res.collectScores(c, m, 0, o, org.Periods)
@@ -280,7 +285,8 @@ func (res *BacktestResult) checkCalibration() {
 			}
 		}
 		helps := len(sums) > 0
-		meanErr, meanCErr, meanIS, meanCIS := make([]float64, L), make([]float64, L), make([]float64, L), make([]float64, L)
+		var worst, cworst float64
+		meanIS, meanCIS := make([]float64, L), make([]float64, L)
 		for _, level := range levels {
 			a := sums[level]
 			if a == nil {
@@ -299,25 +305,67 @@ func (res *BacktestResult) checkCalibration() {
 				row.Coverage[q], row.CalibratedCoverage[q] = a.cov[q]/a.n, a.ccov[q]/a.n
 				row.IntervalScore[q], row.CalibratedInterval[q] = a.is[q]/a.n, a.cis[q]/a.n
 				nominal := res.Levels[q] / 100
-				meanErr[q] += math.Abs(row.Coverage[q]-nominal) / float64(len(sums))
-				meanCErr[q] += math.Abs(row.CalibratedCoverage[q]-nominal) / float64(len(sums))
+				worst = math.Max(worst, math.Abs(row.Coverage[q]-nominal))
+				cworst = math.Max(cworst, math.Abs(row.CalibratedCoverage[q]-nominal))
 				meanIS[q] += row.IntervalScore[q] / float64(len(sums))
 				meanCIS[q] += row.CalibratedInterval[q] / float64(len(sums))
 			}
 			chk.Levels = append(chk.Levels, row)
 		}
-		var covErr, covCErr float64
 		for q := range res.Levels {
-			covErr += meanErr[q]
-			covCErr += meanCErr[q]
 			if !(meanCIS[q] <= meanIS[q]) {
 				helps = false
 			}
 		}
-		if !(covCErr < covErr) {
+		if !(cworst < worst) {
 			helps = false
 		}
 		chk.Helps = helps
 		res.Calibration = append(res.Calibration, chk)
 	}
+}
+
+// CalibrationRecord is how a forecast run calibrated its intervals
+// (Reconciliation.Calibrate), kept in run.json.
+type CalibrationRecord struct {
+	// Origins is the number of backtest origins behind it.
+	Origins int `json:"origins"`
+	// Applied says whether the factors were applied: only when Check
+	// says calibration helped at the backtest's later origins.
+	Applied bool             `json:"applied"`
+	Check   CalibrationCheck `json:"check"`
+	// Calibration holds the factors applied, from the errors of every
+	// origin (nil when not applied).
+	Calibration *Calibration `json:"calibration,omitempty"`
+}
+
+// calibrate runs a backtest of the run's method (label) at k origins on
+// the same data and options and, when its CalibrationCheck says
+// calibration helps, sets res.Calibration from the errors of all k
+// origins (every one of them known at the run's last period). A
+// forecast with calibration costs about k + 1 forecasts.
+func calibrate(ctx context.Context, d *Data, opt Options, res *Result, label string, k int) error {
+	bo := opt
+	bo.Progress, bo.Reconcile = nil, Reconciliation{}
+	bt, err := Backtest(ctx, d, BacktestOptions{Options: bo, Origins: k, Compare: []string{label}})
+	var ie *inputerr.Error
+	if inputerr.OptionOf(err) == "Origins" && errors.As(err, &ie) {
+		return inputerr.ForOption("Calibrate", "calibrating intervals from %d backtest origins: %s", k, ie.Msg)
+	}
+	if err != nil {
+		return err
+	}
+	rec := &CalibrationRecord{Origins: k}
+	if len(bt.Calibration) == 1 {
+		rec.Check = bt.Calibration[0]
+		rec.Applied = rec.Check.Helps
+	}
+	if rec.Applied {
+		c := newCalScores(bt.Structure.LevelNames(), bt.Horizon)
+		bt.collectScores(c, label, 0, len(bt.Origins), math.MaxInt)
+		rec.Calibration = c.fit(bt.Levels)
+		res.Calibration = rec.Calibration
+	}
+	res.Report.Reconcile.Calibration = rec
+	return nil
 }

@@ -196,6 +196,9 @@ func Reconcile(ctx context.Context, bs *BaseSet, opt ReconcileOptions) (*Result,
 	if err != nil {
 		return nil, err
 	}
+	if rc.Calibrate != 0 {
+		return nil, inputerr.ForOption("Calibrate", "calibrating intervals needs a backtest, which needs the sales history and the models: use forecast")
+	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}

@@ -177,7 +177,7 @@ func measure(title string, src engine.Source, origins int) {
 		}
 	}
 	fmt.Println()
-	fmt.Printf("Conformal calibration (engine.CalibrationCheck), origins 2–%d, each calibrated from the errors known before it; inside 80%% / 95%%, uncalibrated → calibrated:\n\n", origins)
+	fmt.Printf("Conformal calibration (engine.CalibrationCheck), origins %d–%d, each calibrated from the errors known before it; inside 80%% / 95%%, uncalibrated → calibrated:\n\n", origins-bt.Calibration[0].Origins+1, origins)
 	fmt.Println("| method | level | all steps | int. score 80% | 95% | by horizon group, calibrated | helps |")
 	fmt.Println("|---|---|---|---|---|---|---|")
 	for _, c := range bt.Calibration {
