@@ -22,6 +22,9 @@ type BacktestReport struct {
 	Headline       []Headline     `json:"headline"`
 	LevelScores    []Score        `json:"level_scores"`
 	Recommendation Recommendation `json:"recommendation"`
+	// Calibration is, per method, the check of conformal interval
+	// calibration at the later origins (see CalibrationCheck).
+	Calibration []CalibrationCheck `json:"interval_calibration_check"`
 	// Incoherence is, per level, the mean over aggregates, splits,
 	// origins and steps of |base − Σ children's base| over the
 	// aggregate's scale.
@@ -99,6 +102,10 @@ func (r *BacktestReport) fill(res *BacktestResult, opt Options, origins, every i
 		if counts[l] > 0 {
 			r.Incoherence = append(r.Incoherence, LevelIncoherence{Level: lv.Name, Mean: sums[l] / float64(counts[l])})
 		}
+	}
+	r.Calibration = res.Calibration
+	if r.Calibration == nil {
+		r.Calibration = []CalibrationCheck{}
 	}
 	r.Cancellation = cancellation(res)
 	r.Helped, r.Hurt = res.Attribution.Effects(res.Recommendation.Method, 5)

@@ -187,6 +187,19 @@ func printBacktest(w io.Writer, bt *engine.BacktestResult, files []string, asJSO
 	textTable(w, header, rows)
 	fmt.Fprintln(w, "CRPS scores each node's whole predictive distribution, the energy score the joint one of all nodes; both over the scale, lower is better.")
 	printCoverageByLevel(w, bt)
+	if len(bt.Calibration) > 0 {
+		c := bt.Calibration[0]
+		fmt.Fprintf(w, "\nConformal calibration of the intervals, checked at the last %d origins with factors from the errors known before each (forecast --calibrate applies it only where it helps):\n", c.Origins)
+		var rows [][]string
+		for _, c := range bt.Calibration {
+			verdict := "does not help"
+			if c.Helps {
+				verdict = "helps"
+			}
+			rows = append(rows, []string{c.Method, verdict})
+		}
+		textTable(w, []string{"method", "calibration"}, rows)
+	}
 
 	rec := bt.Recommendation
 	if rec.Method != "" {
