@@ -168,10 +168,10 @@ type CalibrationCheck struct {
 	// over those origins and all steps.
 	Levels []CalibrationLevel `json:"levels"`
 	// Helps says whether calibration brought the coverage nearer to
-	// nominal where it is furthest (the largest |coverage − nominal| over
-	// node levels and interval levels is smaller) without raising the
-	// mean interval score (over node levels) at any interval level, a
-	// proper score (Gneiting & Raftery 2007, §6.2): the test
+	// nominal (the mean of |coverage − nominal| over node levels and
+	// interval levels is lower, and its largest is no higher) without
+	// raising the mean interval score (over node levels) at any interval
+	// level, a proper score (Gneiting & Raftery 2007, §6.2): the test
 	// Reconciliation.Calibrate applies.
 	Helps bool `json:"helps"`
 }
@@ -285,7 +285,7 @@ func (res *BacktestResult) checkCalibration() {
 			}
 		}
 		helps := len(sums) > 0
-		var worst, cworst float64
+		var worst, cworst, meanErr, meanCErr float64
 		meanIS, meanCIS := make([]float64, L), make([]float64, L)
 		for _, level := range levels {
 			a := sums[level]
@@ -305,8 +305,10 @@ func (res *BacktestResult) checkCalibration() {
 				row.Coverage[q], row.CalibratedCoverage[q] = a.cov[q]/a.n, a.ccov[q]/a.n
 				row.IntervalScore[q], row.CalibratedInterval[q] = a.is[q]/a.n, a.cis[q]/a.n
 				nominal := res.Levels[q] / 100
-				worst = math.Max(worst, math.Abs(row.Coverage[q]-nominal))
-				cworst = math.Max(cworst, math.Abs(row.CalibratedCoverage[q]-nominal))
+				e, ce := math.Abs(row.Coverage[q]-nominal), math.Abs(row.CalibratedCoverage[q]-nominal)
+				worst, cworst = math.Max(worst, e), math.Max(cworst, ce)
+				meanErr += e
+				meanCErr += ce
 				meanIS[q] += row.IntervalScore[q] / float64(len(sums))
 				meanCIS[q] += row.CalibratedInterval[q] / float64(len(sums))
 			}
@@ -317,7 +319,7 @@ func (res *BacktestResult) checkCalibration() {
 				helps = false
 			}
 		}
-		if !(cworst < worst) {
+		if !(meanCErr < meanErr) || !(cworst <= worst) {
 			helps = false
 		}
 		chk.Helps = helps

@@ -1,10 +1,17 @@
 package engine
 
 import (
+	"context"
 	"math"
 	"math/rand/v2"
+	"path/filepath"
 	"slices"
 	"testing"
+
+	"gonum.org/v1/gonum/floats"
+
+	"trueup/fixtures"
+	"trueup/models/families"
 )
 
 // TestConformalFactor: the factor of level L is the ⌈(n+1)·L/100⌉-th
@@ -69,5 +76,41 @@ func TestCalibrationFindsTheScale(t *testing.T) {
 	}
 	if f := cal.factor("unknown", 0, 0); f != 1 {
 		t.Errorf("an unknown level has factor %v", f)
+	}
+}
+
+// TestCalibrationCheckHelpsNarrowIntervals: with every variance of one
+// method divided by 100 (intervals a tenth as wide as the model says),
+// calibration at the later origins brings coverage back towards nominal
+// and the check says it helps.
+func TestCalibrationCheckHelpsNarrowIntervals(t *testing.T) {
+	input := filepath.Join(t.TempDir(), "small.parquet")
+	if err := fixtures.WriteSmall(input, 4); err != nil {
+		t.Fatal(err)
+	}
+	d, err := Load(Source{Path: input, Time: fixtures.DemoTimeColumn, Value: fixtures.DemoValueColumn, Chains: fixtures.DemoChains()})
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := Backtest(context.Background(), d, BacktestOptions{
+		Options: Options{Model: families.Spec{Family: "drift"}, Horizon: 4, Fitter: Local{Workers: 2}},
+		Origins: 8, Compare: []string{"bottom-up"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, org := range res.Origins {
+		for _, row := range org.Results["bottom-up"].Solution.Variance {
+			floats.Scale(0.01, row)
+		}
+	}
+	res.checkCalibration()
+	chk := res.Calibration[0]
+	if !chk.Helps || chk.Origins != 4 {
+		t.Fatalf("check %+v", chk)
+	}
+	for _, l := range chk.Levels {
+		if !(l.CalibratedCoverage[0] > l.Coverage[0]+0.2) {
+			t.Errorf("%s: 80%% coverage %v → %v", l.Level, l.Coverage[0], l.CalibratedCoverage[0])
+		}
 	}
 }
