@@ -119,6 +119,9 @@ type BacktestOrigin struct {
 	// ScaleMAE and ScaleMSE are each node's in-sample seasonal naive
 	// scales at the origin (accuracy.Scale on the history as fitted).
 	ScaleMAE, ScaleMSE []float64
+	// Energy holds, per method with a joint distribution, the energy
+	// score of its joint forecast at each step (see scoreEnergy).
+	Energy map[string][]float64
 
 	fits []NodeFit // the fits every method shares
 }
@@ -383,6 +386,11 @@ func Backtest(ctx context.Context, d *Data, bo BacktestOptions) (*BacktestResult
 		for i := range org.ScaleMAE {
 			org.ScaleMAE[i], org.ScaleMSE[i], _ = accuracy.Scale(first.History[i], opt.Period)
 		}
+		for position, m := range methods {
+			if org.Results[m] != nil {
+				org.scoreEnergy(m, o, position, h)
+			}
+		}
 		res.Origins = append(res.Origins, org)
 	}
 	for _, m := range methods {
@@ -390,6 +398,7 @@ func Backtest(ctx context.Context, d *Data, bo BacktestOptions) (*BacktestResult
 			res.Skipped = append(res.Skipped, SkippedMethod{Method: m, Reason: reason})
 			for _, org := range res.Origins {
 				delete(org.Results, m)
+				delete(org.Energy, m)
 			}
 			continue
 		}

@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"slices"
 	"strings"
 
 	"trueup/accuracy"
@@ -157,51 +156,21 @@ func nodeCRPS(r *Result, i, k int, a float64) float64 {
 // of the spread term (common practice: a few hundred draws).
 const EnergyDraws = 200
 
-// energy returns method's energy score (accuracy.EnergyScore) of the
-// joint forecast of every scored node, each node's values divided by its
-// scale as in the other scores (so that the total does not outweigh
-// everything), averaged over origins: over all steps, and per step. The
-// draws come from the result's joint Gaussian (reconcile.Joint), seeded
-// by origin and method position so that the same backtest gives the same
-// scores. NaN where the method has no joint distribution.
+// energy returns method's energy score averaged over the origins that
+// have one (BacktestOrigin.Energy): over all steps, and per step. NaN
+// (nil) where none has.
 func (res *BacktestResult) energy(method string) (float64, []float64) {
 	h := res.Horizon
 	byStep := make([]float64, h)
-	mi := slices.Index(res.Methods, method)
 	count := 0
-	for o, org := range res.Origins {
-		r := org.Results[method]
-		joint := r.Solution.Joint
-		if joint == nil {
-			return math.NaN(), nil
-		}
-		var scored []int
-		for i := range org.Structure.Nodes {
-			if org.Scored(i) {
-				scored = append(scored, i)
-			}
-		}
-		if len(scored) == 0 {
+	for _, org := range res.Origins {
+		es := org.Energy[method]
+		if es == nil {
 			continue
 		}
 		count++
-		rng := rand.New(rand.NewPCG(uint64(o), uint64(mi)))
-		d := len(scored)
-		draws := make([]float64, EnergyDraws*d)
-		e := make([]float64, joint.Nodes())
-		y := make([]float64, d)
-		for k := 0; k < h; k++ {
-			for s := 0; s < EnergyDraws; s++ {
-				joint.Draw(e, k, rng)
-				x := draws[s*d : (s+1)*d]
-				for q, i := range scored {
-					x[q] = (r.Solution.Forecast[i][k] + e[i]) / org.ScaleMAE[i]
-				}
-			}
-			for q, i := range scored {
-				y[q] = org.Actual[i][k] / org.ScaleMAE[i]
-			}
-			byStep[k] += accuracy.EnergyScore(draws, y)
+		for k, v := range es {
+			byStep[k] += v
 		}
 	}
 	if count == 0 {
@@ -213,6 +182,56 @@ func (res *BacktestResult) energy(method string) (float64, []float64) {
 		all += byStep[k] / float64(h)
 	}
 	return all, byStep
+}
+
+// scoreEnergy sets o.Energy[method] to the energy score
+// (accuracy.EnergyScore) of the method's joint forecast of every scored
+// node at each step, each node's values divided by its scale as in the
+// other scores (so that the total does not outweigh everything), from
+// EnergyDraws draws of the result's joint Gaussian (reconcile.Joint)
+// seeded by origin and method position, so that the same backtest gives
+// the same scores. It then drops the joint distribution, so that a
+// backtest holds one origin's at a time. Nothing is set without a joint
+// distribution or a scored node.
+func (o *BacktestOrigin) scoreEnergy(method string, origin, position, h int) {
+	r := o.Results[method]
+	joint := r.Solution.Joint
+	r.Solution.Joint = nil
+	if joint == nil {
+		return
+	}
+	var scored []int
+	for i := range o.Structure.Nodes {
+		if o.Scored(i) {
+			scored = append(scored, i)
+		}
+	}
+	if len(scored) == 0 {
+		return
+	}
+	rng := rand.New(rand.NewPCG(uint64(origin), uint64(position)))
+	d := len(scored)
+	draws := make([]float64, EnergyDraws*d)
+	e := make([]float64, joint.Nodes())
+	y := make([]float64, d)
+	out := make([]float64, h)
+	for k := 0; k < h; k++ {
+		for s := 0; s < EnergyDraws; s++ {
+			joint.Draw(e, k, rng)
+			x := draws[s*d : (s+1)*d]
+			for q, i := range scored {
+				x[q] = (r.Solution.Forecast[i][k] + e[i]) / o.ScaleMAE[i]
+			}
+		}
+		for q, i := range scored {
+			y[q] = o.Actual[i][k] / o.ScaleMAE[i]
+		}
+		out[k] = accuracy.EnergyScore(draws, y)
+	}
+	if o.Energy == nil {
+		o.Energy = map[string][]float64{}
+	}
+	o.Energy[method] = out
 }
 
 // intervalScore is accuracy.IntervalScore, NaN when the bounds are.
