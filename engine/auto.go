@@ -46,7 +46,7 @@ func chooseMethod(ctx context.Context, d *Data, opt Options) (Reconciliation, *A
 	if err != nil {
 		return rc, nil, err
 	}
-	chosen.Nonnegative, chosen.Paths = rc.Nonnegative, rc.Paths
+	chosen.Nonnegative, chosen.Paths, chosen.Calibrate = rc.Nonnegative, rc.Paths, rc.Calibrate
 	return chosen, &AutoChoice{Method: rec.Method, Origins: k, Reason: rec.Reason, Headline: bt.Headline, Skipped: bt.Skipped}, nil
 }
 

@@ -119,6 +119,9 @@ type BacktestOrigin struct {
 	// ScaleMAE and ScaleMSE are each node's in-sample seasonal naive
 	// scales at the origin (accuracy.Scale on the history as fitted).
 	ScaleMAE, ScaleMSE []float64
+	// Energy holds, per method with a joint distribution, the energy
+	// score of its joint forecast at each step (see scoreEnergy).
+	Energy map[string][]float64
 
 	fits []NodeFit // the fits every method shares
 }
@@ -159,6 +162,9 @@ type BacktestResult struct {
 	Headline []Headline
 	// Recommendation is the coherent method with the best headline MASE.
 	Recommendation Recommendation
+	// Calibration compares, per method, its intervals with and without
+	// conformal calibration at the later origins (see CalibrationCheck).
+	Calibration []CalibrationCheck
 	// Attribution holds the error attribution (see attribution.go).
 	Attribution *Attribution
 	Report      BacktestReport
@@ -180,6 +186,12 @@ type Score struct {
 	MASE  float64 `json:"mase"`
 	RMSSE float64 `json:"rmsse"`
 	Bias  float64 `json:"bias"`
+	// CRPS is the mean continuous ranked probability score of the
+	// Gaussian predictive distribution N(forecast, variance) the
+	// intervals come from (accuracy.CRPSGaussian), divided by the scale:
+	// it judges the whole distribution, not one interval, and equals the
+	// MASE for a distribution with no spread. Lower is better.
+	CRPS float64 `json:"crps"`
 	// Coverage and IntervalScore per interval level (in the order of
 	// BacktestResult.Levels): the share of actuals inside the interval,
 	// and the mean interval score (Gneiting & Raftery 2007, eq. 43)
@@ -195,8 +207,18 @@ type Headline struct {
 	MASE          float64   `json:"mase"`
 	RMSSE         float64   `json:"rmsse"`
 	Bias          float64   `json:"bias"`
+	CRPS          float64   `json:"crps"`
 	Coverage      []float64 `json:"coverage"`
 	IntervalScore []float64 `json:"interval_score"`
+	// EnergyScore is the energy score of the joint forecast of every
+	// scored node (Gneiting & Raftery 2007, eq. 22; accuracy.EnergyScore
+	// from EnergyDraws draws of the method's joint Gaussian), each node
+	// divided by its scale, averaged over origins and steps; EnergyByStep
+	// per step. It rewards getting the co-movement of nodes right, which
+	// per-node scores cannot see. Lower is better; NaN (nil) without a
+	// joint distribution.
+	EnergyScore  float64   `json:"energy_score"`
+	EnergyByStep []float64 `json:"energy_score_by_step"`
 }
 
 // Recommendation names the best coherent method by headline MASE.
@@ -327,7 +349,7 @@ func Backtest(ctx context.Context, d *Data, bo BacktestOptions) (*BacktestResult
 		})
 		run := func(rc Reconciliation) (*Result, error) {
 			ro := opt
-			ro.Reconcile, ro.Fitter, ro.Progress = rc, fitter, nil
+			ro.Reconcile, ro.Fitter, ro.Progress, ro.joint = rc, fitter, nil, true
 			return Forecast(ctx, cd, ro)
 		}
 		org := &BacktestOrigin{Periods: cut, Start: d.Panel.Period(cut), Results: map[string]*Result{}}
@@ -358,7 +380,11 @@ func Backtest(ctx context.Context, d *Data, bo BacktestOptions) (*BacktestResult
 			first = r
 		}
 		if slices.Contains(methods, BaseMethod) {
-			org.Results[BaseMethod] = baseResult(first)
+			base, err := baseResult(first)
+			if err != nil {
+				return nil, err
+			}
+			org.Results[BaseMethod] = base
 		}
 		rep.Timings["fit"] += fitSeconds
 		rep.Timings["reconcile"] += time.Since(start).Seconds() - fitSeconds
@@ -370,6 +396,11 @@ func Backtest(ctx context.Context, d *Data, bo BacktestOptions) (*BacktestResult
 		for i := range org.ScaleMAE {
 			org.ScaleMAE[i], org.ScaleMSE[i], _ = accuracy.Scale(first.History[i], opt.Period)
 		}
+		for position, m := range methods {
+			if org.Results[m] != nil {
+				org.scoreEnergy(m, o, position, h)
+			}
+		}
 		res.Origins = append(res.Origins, org)
 	}
 	for _, m := range methods {
@@ -377,6 +408,7 @@ func Backtest(ctx context.Context, d *Data, bo BacktestOptions) (*BacktestResult
 			res.Skipped = append(res.Skipped, SkippedMethod{Method: m, Reason: reason})
 			for _, org := range res.Origins {
 				delete(org.Results, m)
+				delete(org.Energy, m)
 			}
 			continue
 		}
@@ -387,6 +419,7 @@ func Backtest(ctx context.Context, d *Data, bo BacktestOptions) (*BacktestResult
 	}
 	start := time.Now()
 	res.score()
+	res.checkCalibration()
 	res.recommend()
 	res.Attribution = attribute(res)
 	rep.Timings["score"] = time.Since(start).Seconds()
@@ -397,16 +430,22 @@ func Backtest(ctx context.Context, d *Data, bo BacktestOptions) (*BacktestResult
 }
 
 // baseResult is r with the base forecasts and their variances as its
-// solution: the unreconciled forecasts, scored like any method.
-func baseResult(r *Result) *Result {
+// solution: the unreconciled forecasts, scored like any method, with the
+// joint distribution of their errors (reconcile.BaseJoint).
+func baseResult(r *Result) (*Result, error) {
 	b := *r
 	n := len(r.Fits)
 	b.Solution = reconcile.Solution{Forecast: make([][]float64, n), Variance: make([][]float64, n)}
 	for i, f := range r.Fits {
 		b.Solution.Forecast[i], b.Solution.Variance[i] = f.Mean, f.Variance
 	}
+	joint, err := reconcile.BaseJoint(problem(r.Structure, r.History, r.Fits, r.Calendar.T))
+	if err != nil {
+		return nil, err
+	}
+	b.Solution.Joint = joint
 	b.Nonnegative = false
-	return &b
+	return &b, nil
 }
 
 // actuals returns the actual value of every node of st over the h periods

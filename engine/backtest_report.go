@@ -22,6 +22,9 @@ type BacktestReport struct {
 	Headline       []Headline     `json:"headline"`
 	LevelScores    []Score        `json:"level_scores"`
 	Recommendation Recommendation `json:"recommendation"`
+	// Calibration is, per method, the check of conformal interval
+	// calibration at the later origins (see CalibrationCheck).
+	Calibration []CalibrationCheck `json:"interval_calibration_check"`
 	// Incoherence is, per level, the mean over aggregates, splits,
 	// origins and steps of |base − Σ children's base| over the
 	// aggregate's scale.
@@ -99,6 +102,10 @@ func (r *BacktestReport) fill(res *BacktestResult, opt Options, origins, every i
 		if counts[l] > 0 {
 			r.Incoherence = append(r.Incoherence, LevelIncoherence{Level: lv.Name, Mean: sums[l] / float64(counts[l])})
 		}
+	}
+	r.Calibration = res.Calibration
+	if r.Calibration == nil {
+		r.Calibration = []CalibrationCheck{}
 	}
 	r.Cancellation = cancellation(res)
 	r.Helped, r.Hurt = res.Attribution.Effects(res.Recommendation.Method, 5)
@@ -181,7 +188,7 @@ func finites(xs []float64) []any {
 // compute.
 func (s Score) MarshalJSON() ([]byte, error) {
 	return json.Marshal(map[string]any{"level": s.Level, "method": s.Method, "step": s.Step, "count": s.Count,
-		"mase": finite(s.MASE), "rmsse": finite(s.RMSSE), "bias": finite(s.Bias),
+		"mase": finite(s.MASE), "rmsse": finite(s.RMSSE), "bias": finite(s.Bias), "crps": finite(s.CRPS),
 		"coverage": finites(s.Coverage), "interval_score": finites(s.IntervalScore)})
 }
 
@@ -189,7 +196,8 @@ func (s Score) MarshalJSON() ([]byte, error) {
 // compute.
 func (h Headline) MarshalJSON() ([]byte, error) {
 	return json.Marshal(map[string]any{"method": h.Method, "mase": finite(h.MASE), "rmsse": finite(h.RMSSE),
-		"bias": finite(h.Bias), "coverage": finites(h.Coverage), "interval_score": finites(h.IntervalScore)})
+		"bias": finite(h.Bias), "crps": finite(h.CRPS), "coverage": finites(h.Coverage), "interval_score": finites(h.IntervalScore),
+		"energy_score": finite(h.EnergyScore), "energy_score_by_step": finites(h.EnergyByStep)})
 }
 
 // MarshalJSON writes the recommendation; the comparison with base is

@@ -3,6 +3,7 @@ package engine
 import (
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"strings"
 
 	"trueup/accuracy"
@@ -10,12 +11,12 @@ import (
 
 // scoreSum accumulates one Score.
 type scoreSum struct {
-	n                    int
-	ase, rmsse, bias     float64
-	coverage, intervalSc []float64
+	n                      int
+	ase, rmsse, bias, crps float64
+	coverage, intervalSc   []float64
 }
 
-func (s *scoreSum) add(ase, rmsse, bias float64, cov, is []float64) {
+func (s *scoreSum) add(ase, rmsse, bias, crps float64, cov, is []float64) {
 	if s.coverage == nil {
 		s.coverage, s.intervalSc = make([]float64, len(cov)), make([]float64, len(is))
 	}
@@ -23,6 +24,7 @@ func (s *scoreSum) add(ase, rmsse, bias float64, cov, is []float64) {
 	s.ase += ase
 	s.rmsse += rmsse
 	s.bias += bias
+	s.crps += crps
 	for l := range cov {
 		s.coverage[l] += cov[l]
 		s.intervalSc[l] += is[l]
@@ -35,7 +37,8 @@ func (s *scoreSum) add(ase, rmsse, bias float64, cov, is []float64) {
 // averages q, RMSSE averages, over node-origin pairs, √(mean over steps of
 // (a − f)²/s₂) with s₂ the seasonal naive MSE (at a single step, |a − f|/√s₂).
 // Coverage averages 1{lo ≤ a ≤ hi}; the interval score (Gneiting & Raftery
-// 2007, eq. 43) is divided by s.
+// 2007, eq. 43) and the CRPS of the Gaussian N(f, variance) are divided
+// by s. The energy score of the joint forecast is in energy.
 func (res *BacktestResult) score() {
 	h, L := res.Horizon, len(res.Levels)
 	type key struct {
@@ -63,7 +66,7 @@ func (res *BacktestResult) score() {
 				}
 				level := st.Levels[node.Level].Name
 				s1, s2 := org.ScaleMAE[i], org.ScaleMSE[i]
-				var sumASE, sumBias, sumSq float64
+				var sumASE, sumBias, sumSq, sumCRPS float64
 				for l := range allCov {
 					allCov[l], allIS[l] = 0, 0
 				}
@@ -80,13 +83,15 @@ func (res *BacktestResult) score() {
 						allCov[l] += cov[l] / float64(h)
 						allIS[l] += is[l] / float64(h)
 					}
-					get(key{m, level, k + 1}).add(math.Abs(e)/s1, math.Abs(e)/math.Sqrt(s2), e/s1, cov, is)
+					crps := nodeCRPS(r, i, k, a) / s1
+					get(key{m, level, k + 1}).add(math.Abs(e)/s1, math.Abs(e)/math.Sqrt(s2), e/s1, crps, cov, is)
+					sumCRPS += crps
 					sumASE += math.Abs(e) / s1
 					sumBias += e / s1
 					sumSq += e * e / s2
 				}
 				fh := float64(h)
-				get(key{m, level, 0}).add(sumASE/fh, math.Sqrt(sumSq/fh), sumBias/fh, allCov, allIS)
+				get(key{m, level, 0}).add(sumASE/fh, math.Sqrt(sumSq/fh), sumBias/fh, sumCRPS/fh, allCov, allIS)
 			}
 		}
 	}
@@ -103,7 +108,7 @@ func (res *BacktestResult) score() {
 				}
 				n := float64(s.n)
 				sc := Score{Level: level, Method: m, Step: step, Count: s.n, MASE: s.ase / n, RMSSE: s.rmsse / n,
-					Bias: s.bias / n, Coverage: make([]float64, L), IntervalScore: make([]float64, L)}
+					Bias: s.bias / n, CRPS: s.crps / n, Coverage: make([]float64, L), IntervalScore: make([]float64, L)}
 				for l := 0; l < L; l++ {
 					sc.Coverage[l], sc.IntervalScore[l] = s.coverage[l]/n, s.intervalSc[l]/n
 				}
@@ -113,6 +118,7 @@ func (res *BacktestResult) score() {
 					hl.MASE += sc.MASE
 					hl.RMSSE += sc.RMSSE
 					hl.Bias += sc.Bias
+					hl.CRPS += sc.CRPS
 					for l := 0; l < L; l++ {
 						hl.Coverage[l] += sc.Coverage[l]
 						hl.IntervalScore[l] += sc.IntervalScore[l]
@@ -122,16 +128,110 @@ func (res *BacktestResult) score() {
 		}
 		if nl > 0 {
 			f := float64(nl)
-			hl.MASE, hl.RMSSE, hl.Bias = hl.MASE/f, hl.RMSSE/f, hl.Bias/f
+			hl.MASE, hl.RMSSE, hl.Bias, hl.CRPS = hl.MASE/f, hl.RMSSE/f, hl.Bias/f, hl.CRPS/f
 			for l := 0; l < L; l++ {
 				hl.Coverage[l] /= f
 				hl.IntervalScore[l] /= f
 			}
 		} else {
-			hl.MASE, hl.RMSSE, hl.Bias = math.NaN(), math.NaN(), math.NaN()
+			hl.MASE, hl.RMSSE, hl.Bias, hl.CRPS = math.NaN(), math.NaN(), math.NaN(), math.NaN()
 		}
+		hl.EnergyScore, hl.EnergyByStep = res.energy(m)
 		res.Headline = append(res.Headline, hl)
 	}
+}
+
+// nodeCRPS is the CRPS of node i's Gaussian predictive distribution
+// N(forecast, variance) at step k for the actual a (accuracy.CRPSGaussian),
+// NaN without variances.
+func nodeCRPS(r *Result, i, k int, a float64) float64 {
+	if r.Solution.Variance == nil {
+		return math.NaN()
+	}
+	return accuracy.CRPSGaussian(r.Solution.Forecast[i][k], math.Sqrt(math.Max(r.Solution.Variance[i][k], 0)), a)
+}
+
+// EnergyDraws is the number of draws of the joint distribution behind
+// each energy score: its sampling error, relative, is about 1/√EnergyDraws
+// of the spread term (common practice: a few hundred draws).
+const EnergyDraws = 200
+
+// energy returns method's energy score averaged over the origins that
+// have one (BacktestOrigin.Energy): over all steps, and per step. NaN
+// (nil) where none has.
+func (res *BacktestResult) energy(method string) (float64, []float64) {
+	h := res.Horizon
+	byStep := make([]float64, h)
+	count := 0
+	for _, org := range res.Origins {
+		es := org.Energy[method]
+		if es == nil {
+			continue
+		}
+		count++
+		for k, v := range es {
+			byStep[k] += v
+		}
+	}
+	if count == 0 {
+		return math.NaN(), nil
+	}
+	var all float64
+	for k := range byStep {
+		byStep[k] /= float64(count)
+		all += byStep[k] / float64(h)
+	}
+	return all, byStep
+}
+
+// scoreEnergy sets o.Energy[method] to the energy score
+// (accuracy.EnergyScore) of the method's joint forecast of every scored
+// node at each step, each node's values divided by its scale as in the
+// other scores (so that the total does not outweigh everything), from
+// EnergyDraws draws of the result's joint Gaussian (reconcile.Joint)
+// seeded by origin and method position, so that the same backtest gives
+// the same scores. It then drops the joint distribution, so that a
+// backtest holds one origin's at a time. Nothing is set without a joint
+// distribution or a scored node.
+func (o *BacktestOrigin) scoreEnergy(method string, origin, position, h int) {
+	r := o.Results[method]
+	joint := r.Solution.Joint
+	r.Solution.Joint = nil
+	if joint == nil {
+		return
+	}
+	var scored []int
+	for i := range o.Structure.Nodes {
+		if o.Scored(i) {
+			scored = append(scored, i)
+		}
+	}
+	if len(scored) == 0 {
+		return
+	}
+	rng := rand.New(rand.NewPCG(uint64(origin), uint64(position)))
+	d := len(scored)
+	draws := make([]float64, EnergyDraws*d)
+	e := make([]float64, joint.Nodes())
+	y := make([]float64, d)
+	out := make([]float64, h)
+	for k := 0; k < h; k++ {
+		for s := 0; s < EnergyDraws; s++ {
+			joint.Draw(e, k, rng)
+			x := draws[s*d : (s+1)*d]
+			for q, i := range scored {
+				x[q] = (r.Solution.Forecast[i][k] + e[i]) / o.ScaleMAE[i]
+			}
+		}
+		for q, i := range scored {
+			y[q] = o.Actual[i][k] / o.ScaleMAE[i]
+		}
+		out[k] = accuracy.EnergyScore(draws, y)
+	}
+	if o.Energy == nil {
+		o.Energy = map[string][]float64{}
+	}
+	o.Energy[method] = out
 }
 
 // intervalScore is accuracy.IntervalScore, NaN when the bounds are.

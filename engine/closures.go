@@ -117,6 +117,9 @@ func (op *openPart) expand(full *hierarchy.Structure, sol reconcile.Solution, h 
 	if sol.Variance != nil {
 		out.Variance = zeros(n, h)
 	}
+	if sol.Joint != nil {
+		out.Joint = sol.Joint.Expand(op.toFull, n)
+	}
 	off := full.BottomOffset()
 	for i, f := range op.toFull {
 		copy(out.Forecast[f], sol.Forecast[i])

@@ -222,6 +222,9 @@ func Reconcile(ctx context.Context, bs *BaseSet, opt ReconcileOptions) (*Result,
 	if info, _ := reconcile.LookupMethod(method.Name()); info.Temporal {
 		return nil, inputerr.ForOption("Method", "the %s method fits every node again by quarter and year, which needs the models; it runs in forecast and backtest, not on base forecasts given as a table", method.Name())
 	}
+	if rc.Calibrate != 0 {
+		return nil, inputerr.ForOption("Calibrate", "calibrating intervals needs a backtest, which needs the sales history and the models: use forecast")
+	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}

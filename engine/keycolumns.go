@@ -25,8 +25,8 @@ var resultColumns = map[string]bool{
 	"family": true, "spec": true, "params": true, "aicc": true, "sigma2": true, "n_obs": true, "warning": true,
 	"ljung_box_lags": true, "ljung_box_q": true, "ljung_box_p": true,
 	"origin": true, "method": true, "actual": true, "error": true, "scale": true, "scaled_error": true,
-	"scaled_squared_error": true,
-	"grain":                true, "total": true, "periods_actual": true, "periods_forecast": true, "variance": true,
+	"scaled_squared_error": true, "crps": true,
+	"grain": true, "total": true, "periods_actual": true, "periods_forecast": true, "variance": true,
 }
 
 // levelColumn matches the result columns named after an interval level

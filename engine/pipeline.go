@@ -18,6 +18,7 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"slices"
 	"time"
 
 	"gonum.org/v1/gonum/stat/distuv"
@@ -56,6 +57,10 @@ type Options struct {
 	// Year; Month for weekly or daily data) by which the result also
 	// carries every node's totals (Result.Plans). Nil means none.
 	PlanGrains []tableio.Grain
+
+	// joint keeps the joint distribution of the errors in the result's
+	// Solution.Joint (the backtest scores the joint forecast with it).
+	joint bool
 }
 
 // Reconciliation names a reconciliation method and its settings.
@@ -78,6 +83,13 @@ type Reconciliation struct {
 	// nodes have residuals that start late, and partly estimated from
 	// Paths seeded sample paths above; 0 means reconcile.DefaultPaths.
 	Paths int
+	// Calibrate, when positive, calibrates the intervals from a backtest
+	// of the method at Calibrate origins (split conformal per node level,
+	// horizon group and interval level; see Calibration), applied only
+	// when the backtest shows that calibration helped at its later
+	// origins (CalibrationCheck.Helps). It costs about Calibrate more
+	// forecasts. 0 leaves the intervals as the model variances give them.
+	Calibrate int
 	// Origins is the number of backtest origins behind Method "auto"
 	// (AutoMethod: the method is chosen by a short backtest of the
 	// DefaultCompare methods); 0 means AutoOrigins. Other methods refuse
@@ -118,6 +130,9 @@ type Result struct {
 	// Plans holds the totals by plan period when Options.PlanGrains
 	// asked for them, nil otherwise.
 	Plans *Plans
+	// Calibration holds the interval factors Bounds applies (see
+	// Reconciliation.Calibrate); nil: none.
+	Calibration *Calibration
 	// KeyTypes gives the type of each key attribute's column in the input
 	// (in Structure.Attrs order): tableio.Int64 for an integer column,
 	// whose values the writers give their integer type back.
@@ -227,6 +242,9 @@ func (r Reconciliation) method() (reconcile.Method, Reconciliation, error) {
 	if r.Paths < 0 {
 		return nil, r, inputerr.ForOption("Paths", "the number of sample paths must be at least 1, got %d", r.Paths)
 	}
+	if r.Calibrate < 0 {
+		return nil, r, inputerr.ForOption("Calibrate", "the number of calibration origins must be at least 1, got %d", r.Calibrate)
+	}
 	m, err := reconcile.ByName(r.Method, r.Cov, r.At)
 	return m, r, err
 }
@@ -301,6 +319,7 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	for _, tb := range coarse {
 		prob.Temporal = append(prob.Temporal, reconcile.TemporalBase{Every: tb.Every, Base: trading.rows(tb.Base)})
 	}
+	prob.Joint = opt.joint
 	sol, nonneg, err := reconcileOpen(method, rc, prob, d.Panel.Stats.Negative == 0, trading, st, opt.Horizon)
 	if err != nil {
 		return nil, err
@@ -316,6 +335,13 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	}
 	rep.fill(d, opt, rc, res, method.Name())
 	res.Report = rep
+	if rc.Calibrate > 0 {
+		start := time.Now()
+		if err := calibrate(ctx, d, opt, res, reconcile.Label(rc.Method, rc.Cov, rc.At), rc.Calibrate); err != nil {
+			return nil, err
+		}
+		res.Report.Timings["calibrate"] = time.Since(start).Seconds()
+	}
 	return res, nil
 }
 
@@ -366,9 +392,17 @@ func Quantile(level float64) float64 {
 // (0-based) for a level in percent: the Gaussian forecast ± z·sd with sd
 // from the coherent variance. Under non-negative reconciliation a lower
 // bound below zero is raised to zero (values below zero cannot occur, so
-// coverage is unchanged). Without variances both bounds are NaN.
+// coverage is unchanged). Without variances both bounds are NaN. With a
+// calibration (Result.Calibration) z is multiplied by the factor of the
+// node's level, the step's horizon group and the interval level.
 func (r *Result) Bounds(i, k int, level float64) (lo, hi float64) {
-	return r.bounds(i, k, Quantile(level))
+	z := Quantile(level)
+	if c := r.Calibration; c != nil {
+		if q := slices.Index(c.Intervals, level); q >= 0 {
+			z *= c.factor(r.Structure.Levels[r.Structure.Nodes[i].Level].Name, k, q)
+		}
+	}
+	return r.bounds(i, k, z)
 }
 
 func (r *Result) bounds(i, k int, z float64) (lo, hi float64) {

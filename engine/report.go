@@ -78,6 +78,9 @@ type ReconcileReport struct {
 	Notes       map[string]float64 `json:"notes,omitempty"`
 	// Auto records the backtest behind an automatic choice of method.
 	Auto *AutoChoice `json:"automatic_choice,omitempty"`
+	// Calibration records the calibration of the intervals, when asked
+	// for (Reconciliation.Calibrate).
+	Calibration *CalibrationRecord `json:"interval_calibration,omitempty"`
 }
 
 // reconcileReport describes the method named method, as the table of

@@ -52,6 +52,10 @@ type Problem struct {
 	Paths int
 	// Seed seeds those paths (any fixed value gives identical output).
 	Seed uint64
+	// Joint asks for the joint distribution of the errors in
+	// Solution.Joint (for scoring the joint forecast; it keeps a factor
+	// of m × rank floats alive with the solution).
+	Joint bool
 }
 
 // Solver selects the linear algebra of the projection methods.
@@ -104,6 +108,9 @@ type Solution struct {
 	// projections (S·C_h·G·W·Gᵀ·C_h·Sᵀ, bottom c_h). When every c_hi is 1
 	// this is exactly S·G·W·Gᵀ·Sᵀ. Intervals are forecast ± z·√Variance.
 	Variance [][]float64
+	// Joint is the joint Gaussian distribution behind Variance, set when
+	// Problem.Joint asks for it and the variances exist.
+	Joint *Joint
 	// Notes records method facts worth keeping in run.json (such as the
 	// shrinkage intensity λ), keyed by name.
 	Notes map[string]float64

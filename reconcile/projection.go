@@ -142,6 +142,7 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 	// a goroutine of their own, beside the forecasts.
 	type variances struct {
 		v     [][]float64
+		joint *Joint
 		paths int
 		err   error
 	}
@@ -151,7 +152,7 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 			var out variances
 			defer func() { vdone <- out }()
 			defer crash.Catch(&out.err)
-			out.v, out.paths, out.err = projectionVariance(&p, g, h)
+			out.v, out.joint, out.paths, out.err = projectionVariance(&p, g, h)
 		}()
 	} else {
 		vdone <- variances{}
@@ -179,7 +180,7 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 		// estimated on the way is used nowhere and is not reported.
 		sol.Notes["lambda"] = errc.lambda
 	}
-	sol.Variance = vr.v
+	sol.Variance, sol.Joint = vr.v, vr.joint
 	if vr.paths > 0 {
 		sol.Notes["variance_paths"] = float64(vr.paths)
 	}
@@ -190,16 +191,16 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 }
 
 // projectionVariance returns the reconciled variances of a projection
-// (see Solution.Variance) and the number of sample paths behind them (0
-// when exact).
-func projectionVariance(p *Problem, g projector, h int) ([][]float64, int, error) {
+// (see Solution.Variance), their joint distribution when p.Joint asks for
+// it, and the number of sample paths behind them (0 when exact).
+func projectionVariance(p *Problem, g projector, h int) ([][]float64, *Joint, int, error) {
 	vc, err := p.varianceCov()
 	if err != nil {
-		return nil, 0, err
+		return nil, nil, 0, err
 	}
 	f, err := g.errorFactor(vc, p.Paths, p.Seed)
 	if err != nil {
-		return nil, 0, err
+		return nil, nil, 0, err
 	}
 	off := p.Structure.BottomOffset()
 	bidx := make([]int, p.Structure.NumBottom())
@@ -210,7 +211,12 @@ func projectionVariance(p *Problem, g projector, h int) ([][]float64, int, error
 	if f.ctrl != nil {
 		_, paths = f.ctrl.Dims()
 	}
-	return factorVariance(p.Structure, growth(p, vc, bidx, h), f), paths, nil
+	c := growth(p, vc, bidx, h)
+	var joint *Joint
+	if p.Joint {
+		joint = projectionJoint(p.Structure, f, c)
+	}
+	return factorVariance(p.Structure, c, f), joint, paths, nil
 }
 
 // projector applies G for one choice of W. Its methods may be called

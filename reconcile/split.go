@@ -51,7 +51,11 @@ func (sp *splitPlan) solve(p *Problem, prop [][]float64, h int) (Solution, error
 	if err != nil {
 		return Solution{}, err
 	}
-	sol.Variance = sp.variance(p.Structure, w, growth(p, w, sp.mid, h), prop, h)
+	c := growth(p, w, sp.mid, h)
+	sol.Variance = sp.variance(p.Structure, w, c, prop, h)
+	if p.Joint {
+		sol.Joint = sp.joint(p.Structure, w, c, prop, h)
+	}
 	return sol, nil
 }
 

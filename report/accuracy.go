@@ -9,8 +9,8 @@ import (
 // accuracyTables names the backtest's tables the report shows when an
 // output folder has them; this is the one place the report knows their
 // names and columns. scores has level (null: the mean over levels),
-// method, step (null: all steps), mase, rmsse, bias and coverage_L per
-// interval level L; drivers has method, ancestor_level, ancestor, level,
+// method, step (null: all steps), mase, rmsse, bias, crps, coverage_L per
+// interval level L and energy_score (headline rows only); drivers has method, ancestor_level, ancestor, level,
 // node, rank, abs_error, net_error and share. The page draws both (see
 // report.js, "Accuracy"); the recommendation comes from the backtest's
 // run.json. Any other table named here would be shown as a plain table.

@@ -264,6 +264,13 @@ func TestReportInBrowser(t *testing.T) {
 	if charts := eval(`document.getElementById("accuracy").hidden ? -1 : document.querySelectorAll("#accuracy .uplot").length`); charts != 3 {
 		t.Errorf("the accuracy section has %v charts, want 3 (MASE by level, coverage, drivers of the total)", charts)
 	}
+	// The scores table carries the CRPS and the energy score, and the
+	// coverage of each interval is tabled by level (the folder's 0.61,
+	// 3.2 and mint's 76% at region).
+	if ok := eval(`(() => { const txt = [...document.querySelectorAll("#accuracy table")].map(t => t.innerText).join("\n");
+		return +(txt.includes("0.61") && txt.includes("3.20") && /region\s+76%\s+91%/.test(txt)); })()`); ok != 1 {
+		t.Errorf("the accuracy tables lack the CRPS, the energy score or coverage by level")
+	}
 	if err := chromedp.Do(ctx, chromedp.ScrollIntoView(chromedp.CSS("#accuracy"))); err != nil {
 		t.Fatal(err)
 	}

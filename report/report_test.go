@@ -325,6 +325,8 @@ func accuracyFolder(t testing.TB, dir string) {
 		{Name: "bias", Type: tableio.Float64, Floats: []float64{-10, 20, -30, 40, -5, 6, nan}},
 		{Name: "coverage_80", Type: tableio.Float64, Floats: []float64{0.78, 0.7, 0.8, 0.72, 0.76, 0.68, 1}},
 		{Name: "coverage_95", Type: tableio.Float64, Floats: []float64{0.93, 0.88, 0.95, 0.9, 0.91, 0.86, 1}},
+		{Name: "crps", Type: tableio.Float64, Floats: []float64{0.61, 0.66, 0.52, 0.55, 0.7, 0.77, 0.4}},
+		{Name: "energy_score", Type: tableio.Float64, Floats: []float64{3.2, 3.5, nan, nan, nan, nan, nan}},
 	}}
 	var rank []int64
 	var anc, node []string

@@ -1,19 +1,32 @@
 // Command coverage measures how often reconciled prediction intervals
-// contain what happened, on a public hierarchy: the monthly home sales of
-// the 26 Texas cities with complete data in R's ggplot2 txhousing table
-// (exported by fixtures/reference/accuracy/export.R) and their total, a
-// two-level structure of 27 nodes. It runs trueup's rolling-origin
-// backtest (engine.Backtest: the automatic model choice at every node, the
-// default compared methods, horizon 12) and prints, per method and level,
-// the MASE and the share of actuals inside the 80% and 95% intervals. With
-// -demo it does the same on the built-in invented demo chain, whose stores
-// share a persistent chain-wide shock (AR(1) in logs) and single-period
-// promotions (fixtures/generate.go).
+// contain what happened, by level and by horizon, on three hierarchies:
 //
-// Run from the repository root: go run ./bench/coverage [-origins 12] [-demo] [-compare base,mint-shrink,temporal]
+//   - texas: the monthly home sales of the 26 Texas cities with complete
+//     data in R's ggplot2 txhousing table (exported by
+//     fixtures/reference/accuracy/export.R) and their total, 27 nodes;
+//   - employment: US employees on nonfarm payrolls by industry, monthly
+//     2006–2015, seasonally adjusted (the us-employment table of Debian's
+//     python3-vega-datasets, exported by
+//     fixtures/reference/coverage/export_employment.py), 15 industries in
+//     3 sectors and the total, 19 nodes;
+//   - demo: the built-in invented demo chain, whose stores share a
+//     persistent chain-wide shock (AR(1) in logs) and single-period
+//     promotions (fixtures/generate.go), 306 nodes.
+//
+// It runs trueup's rolling-origin backtest (engine.Backtest: the automatic
+// model choice at every node, the default compared methods, horizon 12)
+// and prints, per method and level, the MASE, the CRPS, the 80% interval
+// score and the share of actuals inside the 80% and 95% intervals over
+// all steps, then the coverage by horizon (steps 1–3, 4–6, 7–12), and
+// each method's energy score.
+//
+// Run from the repository root:
+//
+//	go run ./bench/coverage [-origins 12] [-sets texas,employment,demo] [-compare base,mint-shrink,temporal]
 package main
 
 import (
+	"bytes"
 	"context"
 	"flag"
 	"fmt"
@@ -30,7 +43,7 @@ import (
 
 func main() {
 	origins := flag.Int("origins", 12, "forecast origins, one month apart")
-	demo := flag.Bool("demo", false, "also measure the built-in demo chain")
+	sets := flag.String("sets", "texas,employment,demo", "hierarchies to measure, comma-separated: texas, employment, demo")
 	compare := flag.String("compare", "", "methods to compare, comma-separated (default: the backtest's)")
 	flag.Parse()
 	dir, err := os.MkdirTemp("", "trueup-coverage")
@@ -38,19 +51,32 @@ func main() {
 		fail(err)
 	}
 	defer os.RemoveAll(dir)
-	path, err := writeTexasCities(dir)
-	if err != nil {
-		fail(err)
-	}
-	measure("Texas home sales by city (R ggplot2 txhousing, 26 cities)", engine.Source{
-		Path: path, Time: "period", Value: "sales", Chains: []hierarchy.Chain{{"city"}}}, *origins, *compare)
-	if *demo {
-		path := filepath.Join(dir, "demo.parquet")
-		if err := os.WriteFile(path, fixtures.DemoMonthlyParquet, 0o644); err != nil {
-			fail(err)
+	for _, set := range strings.Split(*sets, ",") {
+		switch set {
+		case "texas":
+			path, err := writeTexasCities(dir)
+			if err != nil {
+				fail(err)
+			}
+			measure("Texas home sales by city (R ggplot2 txhousing, 26 cities)", engine.Source{
+				Path: path, Time: "period", Value: "sales", Chains: []hierarchy.Chain{{"city"}}}, *origins, *compare)
+		case "employment":
+			path, err := writeEmployment(dir)
+			if err != nil {
+				fail(err)
+			}
+			measure("US employment by sector and industry (vega_datasets us-employment, 15 industries)", engine.Source{
+				Path: path, Time: "period", Value: "employed", Chains: []hierarchy.Chain{{"sector", "industry"}}}, *origins, *compare)
+		case "demo":
+			path := filepath.Join(dir, "demo.parquet")
+			if err := os.WriteFile(path, fixtures.DemoMonthlyParquet, 0o644); err != nil {
+				fail(err)
+			}
+			measure("built-in demo chain (invented)", engine.Source{
+				Path: path, Time: "period", Value: "sales", Chains: fixtures.DemoChains()}, *origins, *compare)
+		default:
+			fail(fmt.Errorf("unknown set %q (use texas, employment, demo)", set))
 		}
-		measure("built-in demo chain (invented)", engine.Source{
-			Path: path, Time: "period", Value: "sales", Chains: fixtures.DemoChains()}, *origins, *compare)
 	}
 }
 
@@ -77,7 +103,24 @@ func writeTexasCities(dir string) (string, error) {
 	return path, os.WriteFile(path, []byte(b.String()), 0o644)
 }
 
-// measure backtests one source and prints its table.
+// writeEmployment writes the employment table without its provenance
+// comment line.
+func writeEmployment(dir string) (string, error) {
+	data, err := reference.File("coverage/us_employment.csv")
+	if err != nil {
+		return "", err
+	}
+	for bytes.HasPrefix(data, []byte("#")) {
+		data = data[bytes.IndexByte(data, '\n')+1:]
+	}
+	path := filepath.Join(dir, "us_employment.csv")
+	return path, os.WriteFile(path, data, 0o644)
+}
+
+// horizons are the groups of steps the coverage by horizon is shown for.
+var horizons = [][2]int{{1, 3}, {4, 6}, {7, 12}}
+
+// measure backtests one source and prints its tables.
 func measure(title string, src engine.Source, origins int, compare string) {
 	start := time.Now()
 	data, err := engine.Load(src)
@@ -93,21 +136,73 @@ func measure(title string, src engine.Source, origins int, compare string) {
 	if err != nil {
 		fail(err)
 	}
-	fmt.Printf("%s, %d origins, horizon 12\n\n", title, origins)
-	fmt.Println("| method | level | MASE | inside 80% | inside 95% |")
-	fmt.Println("|---|---|---|---|---|")
+	fmt.Printf("### %s, %d origins, horizon 12\n\n", title, origins)
+	fmt.Println("All steps:")
+	fmt.Println()
+	fmt.Println("| method | level | MASE | CRPS | int. score 80% | inside 80% | inside 95% |")
+	fmt.Println("|---|---|---|---|---|---|---|")
 	for _, m := range bt.Methods {
 		for _, s := range bt.Scores {
 			if s.Method != m || s.Step != 0 {
 				continue
 			}
-			fmt.Printf("| %s | %s | %.3f |", m, s.Level, s.MASE)
+			fmt.Printf("| %s | %s | %.3f | %.3f | %.2f |", m, s.Level, s.MASE, s.CRPS, s.IntervalScore[0])
 			for l := range bt.Levels {
 				fmt.Printf(" %.0f%% |", 100*s.Coverage[l])
 			}
 			fmt.Println()
 		}
 	}
+	fmt.Println()
+	fmt.Println("Inside the 80% / 95% intervals by horizon (steps):")
+	fmt.Println()
+	fmt.Print("| method | level |")
+	for _, g := range horizons {
+		fmt.Printf(" %d–%d |", g[0], g[1])
+	}
+	fmt.Println()
+	fmt.Println("|---|---|" + strings.Repeat("---|", len(horizons)))
+	for _, m := range bt.Methods {
+		for _, level := range bt.Structure.LevelNames() {
+			fmt.Printf("| %s | %s |", m, level)
+			for _, g := range horizons {
+				var n float64
+				cov := make([]float64, len(bt.Levels))
+				for _, s := range bt.Scores {
+					if s.Method == m && s.Level == level && s.Step >= g[0] && s.Step <= g[1] {
+						n += float64(s.Count)
+						for l := range cov {
+							cov[l] += float64(s.Count) * s.Coverage[l]
+						}
+					}
+				}
+				fmt.Printf(" %.0f%% / %.0f%% |", 100*cov[0]/n, 100*cov[1]/n)
+			}
+			fmt.Println()
+		}
+	}
+	fmt.Println()
+	fmt.Printf("Conformal calibration (engine.CalibrationCheck), origins %d–%d, each calibrated from the errors known before it; inside 80%% / 95%%, uncalibrated → calibrated:\n\n", origins-bt.Calibration[0].Origins+1, origins)
+	fmt.Println("| method | level | all steps | int. score 80% | 95% | by horizon group, calibrated | helps |")
+	fmt.Println("|---|---|---|---|---|---|---|")
+	for _, c := range bt.Calibration {
+		for _, l := range c.Levels {
+			var hz []string
+			for g := range l.CalibratedByHorizon {
+				hz = append(hz, fmt.Sprintf("%.0f/%.0f→%.0f/%.0f", 100*l.CoverageByHorizon[g][0], 100*l.CoverageByHorizon[g][1],
+					100*l.CalibratedByHorizon[g][0], 100*l.CalibratedByHorizon[g][1]))
+			}
+			fmt.Printf("| %s | %s | %.0f%% / %.0f%% → %.0f%% / %.0f%% | %.2f → %.2f | %.2f → %.2f | %s | %v |\n", c.Method, l.Level,
+				100*l.Coverage[0], 100*l.Coverage[1], 100*l.CalibratedCoverage[0], 100*l.CalibratedCoverage[1],
+				l.IntervalScore[0], l.CalibratedInterval[0], l.IntervalScore[1], l.CalibratedInterval[1], strings.Join(hz, " "), c.Helps)
+		}
+	}
+	fmt.Println()
+	fmt.Print("Energy score of the joint forecast (scaled):")
+	for _, h := range bt.Headline {
+		fmt.Printf(" %s %.2f;", h.Method, h.EnergyScore)
+	}
+	fmt.Println()
 	fmt.Println()
 	fmt.Fprintf(os.Stderr, "%s: %.1f s\n", title, time.Since(start).Seconds())
 }

@@ -172,6 +172,7 @@ func printBacktest(w io.Writer, bt *engine.BacktestResult, files []string, asJSO
 	for _, l := range bt.Levels {
 		header = append(header, "int. score "+engine.LevelLabel(l)+"%")
 	}
+	header = append(header, "CRPS", "energy")
 	rows = nil
 	for _, h := range bt.Headline {
 		row := []string{h.Method, fmt.Sprintf("%.3f", h.MASE), fmt.Sprintf("%.3f", h.RMSSE), fmt.Sprintf("%.3f", h.Bias)}
@@ -181,9 +182,25 @@ func printBacktest(w io.Writer, bt *engine.BacktestResult, files []string, asJSO
 		for _, s := range h.IntervalScore {
 			row = append(row, fmt.Sprintf("%.2f", s))
 		}
+		row = append(row, fmt.Sprintf("%.3f", h.CRPS), fmt.Sprintf("%.2f", h.EnergyScore))
 		rows = append(rows, row)
 	}
 	textTable(w, header, rows)
+	fmt.Fprintln(w, "CRPS scores each node's whole predictive distribution, the energy score the joint one of all nodes; both over the scale, lower is better.")
+	printCoverageByLevel(w, bt)
+	if len(bt.Calibration) > 0 {
+		c := bt.Calibration[0]
+		fmt.Fprintf(w, "\nConformal calibration of the intervals, checked at the last %d origins with factors from the errors known before each (forecast --calibrate applies it only where it helps):\n", c.Origins)
+		var rows [][]string
+		for _, c := range bt.Calibration {
+			verdict := "does not help"
+			if c.Helps {
+				verdict = "helps"
+			}
+			rows = append(rows, []string{c.Method, verdict})
+		}
+		textTable(w, []string{"method", "calibration"}, rows)
+	}
 
 	rec := bt.Recommendation
 	if rec.Method != "" {
@@ -235,6 +252,30 @@ func printBacktest(w io.Writer, bt *engine.BacktestResult, files []string, asJSO
 	}
 	fmt.Fprintln(w, "\nScores describe these origins only; the next periods may behave differently.")
 	return nil
+}
+
+// printCoverageByLevel prints, per level, the coverage of each method's
+// intervals at every level of the run (all steps), the check that
+// intervals hold their nominal level where each reader looks.
+func printCoverageByLevel(w io.Writer, bt *engine.BacktestResult) {
+	for l, lv := range bt.Levels {
+		fmt.Fprintf(w, "\nShare of actuals inside the %s%% intervals by level (all steps):\n", engine.LevelLabel(lv))
+		header := append([]string{"level"}, bt.Methods...)
+		var rows [][]string
+		for _, level := range bt.Structure.LevelNames() {
+			row := []string{level}
+			for _, m := range bt.Methods {
+				s, ok := bt.LevelScore(level, m)
+				if !ok || l >= len(s.Coverage) {
+					row = append(row, "")
+					continue
+				}
+				row = append(row, fmt.Sprintf("%.1f%%", 100*s.Coverage[l]))
+			}
+			rows = append(rows, row)
+		}
+		textTable(w, header, rows)
+	}
 }
 
 // driverRows is how many drivers of the total the summary shows.

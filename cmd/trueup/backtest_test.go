@@ -83,3 +83,44 @@ func TestForecastMethodAuto(t *testing.T) {
 		t.Errorf("--origins without --method auto: exit %d, want 2", code)
 	}
 }
+
+// TestForecastCalibrate: --calibrate records the backtest's check in
+// run.json; fewer than two origins, or more than the history holds, exit
+// 2 and write nothing.
+func TestForecastCalibrate(t *testing.T) {
+	in := smallInput(t)
+	args := []string{"forecast", "--input", in, "--nest", "region,store", "--nest", "category", "--family", "drift",
+		"--horizon", "4", "--quiet", "--method", "bottom-up"}
+	out := t.TempDir()
+	if code := run(append(args, "--calibrate", "3", "--out", out)); code != 0 {
+		t.Fatalf("forecast --calibrate exited %d", code)
+	}
+	var rep struct {
+		Reconcile struct {
+			Calibration *struct {
+				Origins int
+				Applied bool
+				Check   struct{ Method string }
+			} `json:"interval_calibration"`
+		}
+	}
+	data, err := os.ReadFile(filepath.Join(out, "run.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(data, &rep); err != nil {
+		t.Fatal(err)
+	}
+	if c := rep.Reconcile.Calibration; c == nil || c.Origins != 3 || c.Check.Method != "bottom-up" {
+		t.Errorf("run.json calibration %+v", c)
+	}
+	for _, bad := range []string{"1", "-2", "40"} {
+		dir := filepath.Join(t.TempDir(), "bad")
+		if code := run(append(args, "--calibrate", bad, "--out", dir)); code != 2 {
+			t.Errorf("--calibrate %s: exit %d, want 2", bad, code)
+		}
+		if _, err := os.Stat(dir); err == nil {
+			t.Errorf("--calibrate %s: wrote %s", bad, dir)
+		}
+	}
+}

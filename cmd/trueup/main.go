@@ -79,7 +79,7 @@ var optionFlags = map[string]string{
 	"Constant": "--constant", "Method": "--method", "Cov": "--cov", "At": "--at",
 	"Nonnegative": "--nonnegative", "Paths": "--paths", "History": "--history",
 	"Formats": "--format", "Out": "--out", "SumDuplicates": "--sum-duplicates", "Grain": "--grain",
-	"Origins": "--origins", "Every": "--every", "Compare": "--compare",
+	"Origins": "--origins", "Every": "--every", "Compare": "--compare", "Calibrate": "--calibrate",
 	"From": "--from", "Until": "--until", "TimeKind": "--integer-time", "PlanGrains": "--plan-grain",
 }
 

@@ -29,6 +29,9 @@ type runFlags struct {
 	origins int // backtest origins behind --method auto
 	// planGrain is --plan-grain (forecast, demo): grains of plan totals.
 	planGrain string
+	// calibrate is the number of backtest origins the intervals are
+	// calibrated from (0: none).
+	calibrate int
 	// hasOrigins says whether --origins is this command's (forecast, demo).
 	hasOrigins bool
 	outputFlags
@@ -120,7 +123,8 @@ func (f *runFlags) register(cmd *cobra.Command, defaultOut string) {
 	fl := cmd.Flags()
 	fl.Lookup("method").Usage = methodHelp(true)
 	fl.IntVar(&f.origins, "origins", engine.AutoOrigins, "with --method auto: backtest origins the method is chosen at")
-	groupFlags(cmd, "Reconciliation", "origins")
+	fl.IntVar(&f.calibrate, "calibrate", 0, "calibrate the intervals from a backtest at this many origins, applied only if it helped at the backtest's later origins (costs as many extra fits; 0: off)")
+	groupFlags(cmd, "Reconciliation", "origins", "calibrate")
 	f.hasOrigins = true
 	f.outputFlags.register(cmd, defaultOut)
 	fl.StringVar(&f.planGrain, "plan-grain", "", "also write every node's totals by these coarser grains, comma-separated:\nquarter, year (month for weekly or daily data); a week counts in the month of its Thursday.\nA period begun before the origin adds the actuals past to the forecasts (the plans table)")
@@ -183,6 +187,12 @@ func (f *runFlags) options(cmd *cobra.Command) (engine.Options, error) {
 	}
 	if opt.PlanGrains, err = f.planGrains(); err != nil {
 		return engine.Options{}, err
+	}
+	if f.hasOrigins && f.calibrate != 0 {
+		if f.calibrate < 2 {
+			return engine.Options{}, &usageError{fmt.Errorf("--calibrate needs at least 2 origins (factors from the earlier, checked at the later), got %d", f.calibrate)}
+		}
+		opt.Reconcile.Calibrate = f.calibrate
 	}
 	if f.hasOrigins && cmd.Flags().Changed("origins") {
 		if f.origins < 1 {

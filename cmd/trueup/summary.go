@@ -40,6 +40,13 @@ func printSummary(w io.Writer, res *engine.Result, files []string, asJSON bool) 
 	if a := rep.Reconcile.Auto; a != nil {
 		fmt.Fprintf(w, "Method chosen by a backtest at %d origins: %s (%s).\n", a.Origins, a.Method, a.Reason)
 	}
+	if c := rep.Reconcile.Calibration; c != nil {
+		if c.Applied {
+			fmt.Fprintf(w, "Intervals calibrated from a backtest at %d origins (it brought coverage nearer to nominal at its later origins; factors in run.json).\n", c.Origins)
+		} else {
+			fmt.Fprintf(w, "Intervals not calibrated: at the later origins of a backtest at %d origins calibration did not help (see run.json); the model intervals are kept.\n", c.Origins)
+		}
+	}
 	fmt.Fprintln(w)
 	var levels, fams [][]string
 	for _, l := range rep.LevelCounts() {

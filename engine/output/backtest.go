@@ -87,10 +87,13 @@ func WriteBacktest(dir string, bt *engine.BacktestResult, formats []string, rend
 //     mean of its absolute value the MASE), scaled_squared_error (error²
 //     over the seasonal naive MSE, behind the RMSSE), the interval bounds
 //     piL_lower, piL_upper, inside_L (1 when the actual lies in the
-//     interval) and interval_score_L (over the scale);
+//     interval), interval_score_L (over the scale) and crps (the CRPS of
+//     the Gaussian predictive distribution, over the scale);
 //   - scores: level, method, step (null: all steps), count, mase, rmsse,
-//     bias, and coverage_L and interval_score_L per interval level; rows
-//     with a null level are the headline (mean over levels);
+//     bias, crps, and coverage_L and interval_score_L per interval level,
+//     and energy_score (the joint forecast's, see engine.Headline); rows
+//     with a null level are the headline (mean over levels), the only rows
+//     with an energy score (null elsewhere: it scores all levels at once);
 //   - contributions: per coherent method, origin, step, aggregate and
 //     child, the child's error and its share of the split's absolute
 //     error, the parent's error and the cancellation;
@@ -154,7 +157,7 @@ func backtestTable(bt *engine.BacktestResult) *tableio.Table {
 	origin, period, step, method := strCol("origin"), strCol("period"), intCol("step"), strCol("method")
 	start := tableio.Column{Name: "period_start", Type: tableio.Date, Null: []bool{}}
 	actual, forecast, errc, scale := fltCol("actual"), fltCol("forecast"), fltCol("error"), fltCol("scale")
-	scaled, squared := fltCol("scaled_error"), fltCol("scaled_squared_error")
+	scaled, squared, crps := fltCol("scaled_error"), fltCol("scaled_squared_error"), fltCol("crps")
 	bounds := make([]tableio.Column, 2*len(bt.Levels))
 	inside := make([]tableio.Column, len(bt.Levels))
 	score := make([]tableio.Column, len(bt.Levels))
@@ -195,6 +198,11 @@ func backtestTable(bt *engine.BacktestResult) *tableio.Table {
 					scale.Floats = append(scale.Floats, s)
 					scaled.Floats = append(scaled.Floats, (a-f)/s)
 					squared.Floats = append(squared.Floats, (a-f)*(a-f)/s2)
+					sd := nan
+					if r.Solution.Variance != nil {
+						sd = math.Sqrt(math.Max(r.Solution.Variance[i][k], 0))
+					}
+					crps.Floats = append(crps.Floats, accuracy.CRPSGaussian(f, sd, a)/s)
 					for l, lv := range bt.Levels {
 						lo, hi := r.Bounds(i, k, lv)
 						bounds[2*l].Floats = append(bounds[2*l].Floats, lo)
@@ -214,19 +222,20 @@ func backtestTable(bt *engine.BacktestResult) *tableio.Table {
 	cols := append(keys, origin, period, start, step, method, actual, forecast, errc, scale, scaled, squared)
 	cols = append(cols, bounds...)
 	cols = append(cols, inside...)
-	return &tableio.Table{Columns: append(cols, score...)}
+	cols = append(cols, score...)
+	return &tableio.Table{Columns: append(cols, crps)}
 }
 
 func scoresTable(bt *engine.BacktestResult) *tableio.Table {
 	level, method, step, count := strCol("level"), strCol("method"), intCol("step"), intCol("count")
 	level.Null, step.Null = []bool{}, []bool{}
-	mase, rmsse, bias := fltCol("mase"), fltCol("rmsse"), fltCol("bias")
+	mase, rmsse, bias, crps, energy := fltCol("mase"), fltCol("rmsse"), fltCol("bias"), fltCol("crps"), fltCol("energy_score")
 	cov := make([]tableio.Column, len(bt.Levels))
 	is := make([]tableio.Column, len(bt.Levels))
 	for l, lv := range bt.Levels {
 		cov[l], is[l] = fltCol("coverage_"+engine.LevelLabel(lv)), fltCol("interval_score_"+engine.LevelLabel(lv))
 	}
-	add := func(lv string, m string, st, n int, ma, rm, bi float64, c, s []float64) {
+	add := func(lv string, m string, st, n int, ma, rm, bi, cr, es float64, c, s []float64) {
 		level.Strings = append(level.Strings, lv)
 		level.Null = append(level.Null, lv == "")
 		method.Strings = append(method.Strings, m)
@@ -236,21 +245,24 @@ func scoresTable(bt *engine.BacktestResult) *tableio.Table {
 		mase.Floats = append(mase.Floats, ma)
 		rmsse.Floats = append(rmsse.Floats, rm)
 		bias.Floats = append(bias.Floats, bi)
+		crps.Floats = append(crps.Floats, cr)
+		energy.Floats = append(energy.Floats, es)
 		for l := range cov {
 			cov[l].Floats = append(cov[l].Floats, c[l])
 			is[l].Floats = append(is[l].Floats, s[l])
 		}
 	}
 	for _, h := range bt.Headline {
-		add("", h.Method, 0, 0, h.MASE, h.RMSSE, h.Bias, h.Coverage, h.IntervalScore)
+		add("", h.Method, 0, 0, h.MASE, h.RMSSE, h.Bias, h.CRPS, h.EnergyScore, h.Coverage, h.IntervalScore)
 	}
 	for _, s := range bt.Scores {
-		add(s.Level, s.Method, s.Step, s.Count, s.MASE, s.RMSSE, s.Bias, s.Coverage, s.IntervalScore)
+		add(s.Level, s.Method, s.Step, s.Count, s.MASE, s.RMSSE, s.Bias, s.CRPS, nan, s.Coverage, s.IntervalScore)
 	}
-	cols := []tableio.Column{level, method, step, count, mase, rmsse, bias}
+	cols := []tableio.Column{level, method, step, count, mase, rmsse, bias, crps}
 	for l := range cov {
 		cols = append(cols, cov[l], is[l])
 	}
+	cols = append(cols, energy)
 	return &tableio.Table{Columns: cols}
 }
 

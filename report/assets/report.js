@@ -398,8 +398,15 @@
       const levels = [...new Set(byLevel.map(r => r.level))];
       const covCols = acc.scores.columns.filter(c => /^coverage_/.test(c));
       box.append(el("h3", {}, "Scores by method (mean over levels)"),
-        htmlTable(["method", "MASE", "RMSSE", "bias", ...covCols.map(c => `${c.slice(9)}% interval coverage`)],
-          head.map(r => [r.method, num(r.mase), num(r.rmsse), num(r.bias), ...covCols.map(c => pct(r[c]))])));
+        htmlTable(["method", "MASE", "RMSSE", "bias", ...covCols.map(c => `${c.slice(9)}% interval coverage`), "CRPS", "energy score"],
+          head.map(r => [r.method, num(r.mase), num(r.rmsse), num(r.bias), ...covCols.map(c => pct(r[c])), num(r.crps), num(r.energy_score)])),
+        el("p", { class: "note" }, "CRPS scores each node's whole forecast distribution and the energy score the joint forecast of all nodes, both over the node's scale; lower is better. A method whose intervals hold their level with a lower CRPS gives the more useful ranges."));
+      if (covCols.length && levels.length) {
+        box.append(el("h3", {}, "Interval coverage by level"),
+          el("p", { class: "note" }, "The share of actual values inside each interval at each level, over all steps and origins; nominal is the interval's level."),
+          htmlTable(["level", ...methods.flatMap(m => covCols.map(c => `${m} ${c.slice(9)}%`))],
+            levels.map(lv => [lv, ...methods.flatMap(m => covCols.map(c => pct(byLevel.find(r => r.level === lv && r.method === m)?.[c])))])));
+      }
       const at = (lv, m, col) => { const r = byLevel.find(r => r.level === lv && r.method === m); return r ? r[col] ?? null : null; };
       if (levels.length) {
         const t1 = el("div", { class: "chart" });
