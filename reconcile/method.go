@@ -48,6 +48,10 @@ type Problem struct {
 	Paths int
 	// Seed seeds those paths (any fixed value gives identical output).
 	Seed uint64
+	// Locks fix the reconciled forecasts of some nodes at some steps
+	// (see Lock); the projection reconciles the other nodes around them.
+	// Other methods refuse locks.
+	Locks []Lock
 }
 
 // Solver selects the linear algebra of the projection methods.
@@ -103,6 +107,10 @@ type Solution struct {
 	// Notes records method facts worth keeping in run.json (such as the
 	// shrinkage intensity λ), keyed by name.
 	Notes map[string]float64
+	// Unlocked holds, when the problem has locks, the forecasts the same
+	// method gives without them (n × h), so that what the locks moved
+	// can be shown; nil otherwise.
+	Unlocked [][]float64
 }
 
 // Method is one reconciliation method.

@@ -26,18 +26,36 @@ type qpProblem interface {
 }
 
 // nonnegative returns, column by column, the minimizer of the
-// non-negative projection. A column whose unconstrained solution is
+// non-negative projection, and with locks (nil for none) also the
+// minimizer without them, for Solution.Unlocked (nil without locks). A
+// column whose unconstrained solution (moved onto the step's locks) is
 // already non-negative is returned unchanged. Otherwise it runs block
 // principal pivoting (activeSet) on the quadratic form, started from the
 // free set of the unconstrained solution's positive entries; each step
-// solves the projection restricted to the free bottom series, so the
-// answer is exact to solver precision and satisfies the optimality
-// conditions P·b − q ≥ 0 where b = 0.
-func nonnegative(g projector, base *mat.Dense) (*mat.Dense, error) {
+// solves the projection restricted to the free bottom series (and to the
+// locks), so the answer is exact to solver precision and satisfies the
+// optimality conditions.
+func nonnegative(g projector, base *mat.Dense, locks *lockPlan) (bottom, unlocked *mat.Dense, err error) {
 	unc, err := g.apply(base, solveTol)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
+	if locks == nil {
+		bottom, err = nonnegativeFrom(g, base, unc, nil)
+		return bottom, nil, err
+	}
+	locked := mat.DenseCopyOf(unc)
+	locks.apply(locked)
+	if unlocked, err = nonnegativeFrom(g, base, unc, nil); err != nil {
+		return nil, nil, err
+	}
+	bottom, err = nonnegativeFrom(g, base, locked, locks)
+	return bottom, unlocked, err
+}
+
+// nonnegativeFrom runs activeSet on the columns of the unconstrained
+// solution unc that have a negative entry and replaces them (in place).
+func nonnegativeFrom(g projector, base, unc *mat.Dense, locks *lockPlan) (*mat.Dense, error) {
 	m, h := unc.Dims()
 	var todo []int
 	for k := 0; k < h; k++ {
@@ -63,7 +81,7 @@ func nonnegative(g projector, base *mat.Dense) (*mat.Dense, error) {
 					continue
 				}
 				k := todo[t]
-				cols[t], errs[t] = activeSet(qp, mat.Col(nil, k, base), mat.Col(nil, k, unc))
+				cols[t], errs[t] = activeSet(qp, mat.Col(nil, k, base), mat.Col(nil, k, unc), locks.equalities(k))
 				if errs[t] != nil {
 					errs[t] = fmt.Errorf("non-negative reconciliation, step %d: %w", k+1, errs[t])
 				}
@@ -95,7 +113,12 @@ func nonnegative(g projector, base *mat.Dense) (*mat.Dense, error) {
 // backup rule), which guarantees termination because P is positive
 // definite. The answer is exact to solver precision; entries of b below
 // zero by rounding are set to 0.
-func activeSet(qp qpProblem, y, start []float64) ([]float64, error) {
+//
+// With locks (eq, nil for none) each restricted solve also meets the
+// locks C·b = c (equalities.solve) and the multiplier of a bound variable
+// is w = P·b − q + Cᵀμ, μ the locks' multipliers: the optimality
+// conditions of the problem with both kinds of constraint.
+func activeSet(qp qpProblem, y, start []float64, eq *equalities) ([]float64, error) {
 	m := len(start)
 	q := qp.linear(y)
 	scale := 0.0
@@ -116,8 +139,21 @@ func activeSet(qp qpProblem, y, start []float64) ([]float64, error) {
 		if err != nil {
 			return nil, err
 		}
+		var mu []float64
+		if eq != nil {
+			var freed bool
+			if s, mu, freed, err = eq.solve(qp, free, s); err != nil {
+				return nil, err
+			}
+			if freed {
+				continue // a lock had no free series left: some were freed
+			}
+		}
 		x = s
 		qp.mul(w, x)
+		if eq != nil {
+			eq.addMultipliers(w, mu)
+		}
 		xscale := 0.0
 		for j := range x {
 			if free[j] {

@@ -129,6 +129,16 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 			solver = SolverDense
 		}
 	}
+	if len(p.Locks) > 0 {
+		if err := checkLocks(&p, n, h); err != nil {
+			return Solution{}, err
+		}
+		if p.Nonnegative {
+			if err := checkNonnegativeLocks(p.Structure, p.Locks); err != nil {
+				return Solution{}, err
+			}
+		}
+	}
 	var g projector
 	if solver == SolverDense {
 		g, err = newDenseProjector(p.Structure, wg)
@@ -137,6 +147,12 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 	}
 	if err != nil {
 		return Solution{}, err
+	}
+	var locks *lockPlan
+	if len(p.Locks) > 0 {
+		if locks, err = newLockPlan(&p, g, wg, h); err != nil {
+			return Solution{}, err
+		}
 	}
 	// The variances need only G, not the forecasts: they are solved in
 	// a goroutine of their own, beside the forecasts.
@@ -151,7 +167,7 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 			var out variances
 			defer func() { vdone <- out }()
 			defer crash.Catch(&out.err)
-			out.v, out.paths, out.err = projectionVariance(&p, g, h)
+			out.v, out.paths, out.err = projectionVariance(&p, g, h, locks)
 		}()
 	} else {
 		vdone <- variances{}
@@ -160,11 +176,12 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 	for i, row := range p.Base {
 		base.SetRow(i, row)
 	}
-	var bottom *mat.Dense
+	var bottom, unlocked *mat.Dense
 	if p.Nonnegative {
-		bottom, err = nonnegative(g, base)
-	} else {
-		bottom, err = g.apply(base, solveTol)
+		bottom, unlocked, err = nonnegative(g, base, locks)
+	} else if bottom, err = g.apply(base, solveTol); err == nil && locks != nil {
+		unlocked = mat.DenseCopyOf(bottom)
+		locks.apply(bottom)
 	}
 	vr := <-vdone
 	if err != nil {
@@ -174,6 +191,10 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 		return Solution{}, vr.err
 	}
 	sol := coherent(p.Structure, denseRows(bottom))
+	if locks != nil {
+		sol.Unlocked = coherent(p.Structure, denseRows(unlocked)).Forecast
+		exactLocks(&sol, p.Structure, p.Locks)
+	}
 	if errc != nil && pr.Cov == CovShrink {
 		// Only the shrink covariance is shrunk: with any other the λ
 		// estimated on the way is used nowhere and is not reported.
@@ -192,7 +213,7 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 // projectionVariance returns the reconciled variances of a projection
 // (see Solution.Variance) and the number of sample paths behind them (0
 // when exact).
-func projectionVariance(p *Problem, g projector, h int) ([][]float64, int, error) {
+func projectionVariance(p *Problem, g projector, h int, locks *lockPlan) ([][]float64, int, error) {
 	vc, err := p.varianceCov()
 	if err != nil {
 		return nil, 0, err
@@ -210,7 +231,7 @@ func projectionVariance(p *Problem, g projector, h int) ([][]float64, int, error
 	if f.ctrl != nil {
 		_, paths = f.ctrl.Dims()
 	}
-	return factorVariance(p.Structure, growth(p, vc, bidx, h), f), paths, nil
+	return factorVariance(p.Structure, growth(p, vc, bidx, h), f, locks), paths, nil
 }
 
 // projector applies G for one choice of W. Its methods may be called

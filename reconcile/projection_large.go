@@ -481,12 +481,10 @@ type largeQP struct {
 	t2 []float64      // n scratch
 	t3 []float64      // n scratch
 	// warm keeps the constraint-form solution of the last restricted
-	// solve and the forecast column it was for: the next solve of the
-	// same column starts from it.
-	warm struct {
-		y []float64
-		x []float64
-	}
+	// solve of each right-hand side (the forecast column, and the
+	// columns of W of the locked nodes), by its first element's address:
+	// the next solve of the same column starts from it.
+	warm map[*float64][]float64
 }
 
 // winv sets dst = W⁻¹·v (n-vectors).
@@ -626,8 +624,8 @@ func (q *largeQP) solveFree(free []bool, _, y, _ []float64) ([]float64, error) {
 		}
 	}
 	x := make([]float64, k+m)
-	if len(q.warm.y) > 0 && &q.warm.y[0] == &y[0] {
-		copy(x, q.warm.x)
+	if prev, ok := q.warm[&y[0]]; ok {
+		copy(x, prev)
 		bound(x)
 	}
 	res := make([]float64, k+m)
@@ -658,7 +656,10 @@ func (q *largeQP) solveFree(free []bool, _, y, _ []float64) ([]float64, error) {
 			}
 		}
 	}
-	q.warm.y, q.warm.x = y, x
+	if q.warm == nil {
+		q.warm = map[*float64][]float64{}
+	}
+	q.warm[&y[0]] = x
 	// Bottom rows of ỹ = y − W·V·x.
 	lp.ucMul(vn, x[:k], 1)
 	for j, f := range free {

@@ -1,0 +1,513 @@
+package reconcile
+
+import (
+	"fmt"
+	"math"
+	"sort"
+	"strings"
+
+	"gonum.org/v1/gonum/mat"
+
+	"trueup/hierarchy"
+	"trueup/inputerr"
+)
+
+// Lock fixes the reconciled forecast of one node at one forecast step:
+// a finance target for the total, a category manager's number, a known
+// closure as zero. The projection then reconciles every other node
+// around the locked ones.
+type Lock struct {
+	// Node is the index of the node in Problem.Structure.Nodes.
+	Node int
+	// Step is the forecast step, 0-based.
+	Step int
+	// Value is what the node's reconciled forecast must be.
+	Value float64
+}
+
+// Locked forecasts are the MinT projection with immutable forecasts
+// (Zhang et al. 2023, "Optimal forecast reconciliation with immutable
+// forecasts", European Journal of Operational Research; cited from
+// memory): among the coherent forecasts S·b whose locked nodes take their
+// values (C·b = c, C the rows of S of the locked nodes), the one closest
+// to the base forecasts in the W⁻¹ metric. It is the equality-constrained
+// generalised least squares solution, whose closed form is the restricted
+// least squares estimator (common linear algebra):
+//
+//	b̃_c = b̃ − P⁻¹Cᵀ·(C·P⁻¹·Cᵀ)⁻¹·(C·b̃ − c),  P = SᵀW⁻¹S,  b̃ = G·ŷ
+//
+// P⁻¹Cᵀ needs no inverse of P: P⁻¹Sᵀ = G·W, so its columns are G applied
+// to the columns of W at the locked nodes, one more right-hand side per
+// locked node for the solver that computed b̃ (dense or large-n). C·P⁻¹·Cᵀ
+// is as small as the number of locks of one step. The reconciled error is
+// M·G·e with M = I − P⁻¹Cᵀ(CP⁻¹Cᵀ)⁻¹C: locked nodes have zero variance
+// (C·M = 0), every other node the variance of the constrained projection.
+
+// lockPlan holds what the locks of a problem need, shared by every step.
+type lockPlan struct {
+	st    *hierarchy.Structure
+	nodes []int      // distinct locked nodes, ascending
+	z     *mat.Dense // m × len(nodes): P⁻¹Cᵀ = G·W·E
+	a     *mat.Dense // len(nodes) square: C·P⁻¹·Cᵀ
+	steps []*stepLocks
+	wcols [][]float64 // per locked node: W·e_i (n-vector)
+}
+
+// stepLocks are the independent locks of one step, ready to apply.
+type stepLocks struct {
+	cols   []int // columns of lockPlan.z
+	nodes  []int // the locked nodes (all of the step, implied ones too)
+	values []float64
+	chol   mat.Cholesky // of C_k·P⁻¹·C_kᵀ for cols
+}
+
+// checkLocks refuses locks that name no node or step, repeat a node and
+// step, or are not finite numbers.
+func checkLocks(p *Problem, n, h int) error {
+	seen := map[[2]int]bool{}
+	for _, l := range p.Locks {
+		if l.Node < 0 || l.Node >= n {
+			return fmt.Errorf("reconcile: lock of node %d, but the structure has %d nodes", l.Node, n)
+		}
+		if l.Step < 0 || l.Step >= h {
+			return inputerr.New("a lock of %s is at step %d, outside the %d forecast steps", p.Structure.Label(l.Node), l.Step+1, h)
+		}
+		if math.IsNaN(l.Value) || math.IsInf(l.Value, 0) {
+			return inputerr.New("the lock of %s at step %d is %v; a lock must be a number", p.Structure.Label(l.Node), l.Step+1, l.Value)
+		}
+		if seen[[2]int{l.Node, l.Step}] {
+			return inputerr.New("%s is locked twice at step %d", p.Structure.Label(l.Node), l.Step+1)
+		}
+		seen[[2]int{l.Node, l.Step}] = true
+	}
+	return nil
+}
+
+// newLockPlan computes P⁻¹Cᵀ and C·P⁻¹·Cᵀ for the locked nodes and, per
+// step, the independent locks. Locks implied by others (a parent locked
+// to exactly the sum of its locked children) are kept out of the solve;
+// locks that contradict others are an input error naming them.
+func newLockPlan(p *Problem, g projector, w *errCov, h int) (*lockPlan, error) {
+	st := p.Structure
+	n, _ := st.S.Dims()
+	lp := &lockPlan{st: st, steps: make([]*stepLocks, h)}
+	col := map[int]int{}
+	for _, l := range p.Locks {
+		if _, ok := col[l.Node]; !ok {
+			col[l.Node] = 0
+			lp.nodes = append(lp.nodes, l.Node)
+		}
+	}
+	sort.Ints(lp.nodes)
+	for c, i := range lp.nodes {
+		col[i] = c
+	}
+	L := len(lp.nodes)
+	rhs := mat.NewDense(n, L, nil)
+	lp.wcols = make([][]float64, L)
+	for c, i := range lp.nodes {
+		wc := wColumn(w, i)
+		lp.wcols[c] = wc
+		rhs.SetCol(c, wc)
+	}
+	z, err := g.apply(rhs, solveTol)
+	if err != nil {
+		return nil, err
+	}
+	lp.z = z
+	lp.a = mat.NewDense(L, L, nil)
+	for r, i := range lp.nodes {
+		for c := 0; c < L; c++ {
+			var s float64
+			for _, j := range st.S.Row(i) {
+				s += z.At(j, c)
+			}
+			lp.a.Set(r, c, s)
+		}
+	}
+	for r := 0; r < L; r++ { // symmetric in exact arithmetic
+		for c := r + 1; c < L; c++ {
+			v := 0.5 * (lp.a.At(r, c) + lp.a.At(c, r))
+			lp.a.Set(r, c, v)
+			lp.a.Set(c, r, v)
+		}
+	}
+	byStep := make([][]Lock, h)
+	for _, l := range p.Locks {
+		byStep[l.Step] = append(byStep[l.Step], l)
+	}
+	for k, ls := range byStep {
+		if len(ls) == 0 {
+			continue
+		}
+		// Finest first: a parent's lock is then the one found implied
+		// by (or contradicting) its children's, as people read it.
+		sort.Slice(ls, func(a, b int) bool { return ls[a].Node > ls[b].Node })
+		s, err := lp.independent(ls, col, k)
+		if err != nil {
+			return nil, err
+		}
+		lp.steps[k] = s
+	}
+	return lp, nil
+}
+
+// wColumn returns column i of W = diag(Δ) + U·Uᵀ.
+func wColumn(w *errCov, i int) []float64 {
+	out := make([]float64, w.n)
+	out[i] = w.Delta[i]
+	if T := w.rank(); T > 0 {
+		ui := w.U[i*T : (i+1)*T]
+		for r := range out {
+			var s float64
+			for t, x := range w.U[r*T : (r+1)*T] {
+				s += x * ui[t]
+			}
+			out[r] += s
+		}
+	}
+	return out
+}
+
+// dependentTol is the share of a lock's own C·P⁻¹·Cᵀ entry below which
+// what the earlier locks of its step leave of it counts as zero: the
+// lock's row of S is then a combination of theirs.
+const dependentTol = 1e-9
+
+// independent picks the locks of one step whose rows of S are linearly
+// independent, adding them one at a time (a Cholesky factor grown row by
+// row: the Schur complement of a new lock is what the earlier ones leave
+// of it). A dependent lock must equal the combination of the earlier
+// values its row is; otherwise the locks contradict each other.
+func (lp *lockPlan) independent(ls []Lock, col map[int]int, k int) (*stepLocks, error) {
+	s := &stepLocks{}
+	var kept []Lock
+	for _, l := range ls {
+		s.nodes = append(s.nodes, l.Node)
+		c := col[l.Node]
+		q := len(s.cols)
+		if q > 0 {
+			sub := mat.NewSymDense(q, nil)
+			av := mat.NewVecDense(q, nil)
+			for a := 0; a < q; a++ {
+				av.SetVec(a, lp.a.At(s.cols[a], c))
+				for b := a; b < q; b++ {
+					sub.SetSym(a, b, lp.a.At(s.cols[a], s.cols[b]))
+				}
+			}
+			var ch mat.Cholesky
+			if !ch.Factorize(sub) {
+				return nil, fmt.Errorf("reconcile: locks at step %d: C·P⁻¹·Cᵀ not positive definite", k+1)
+			}
+			var alpha mat.VecDense
+			if err := ch.SolveVecTo(&alpha, av); err != nil {
+				return nil, fmt.Errorf("reconcile: locks at step %d: %w", k+1, err)
+			}
+			schur := lp.a.At(c, c) - mat.Dot(av, &alpha)
+			if schur <= dependentTol*lp.a.At(c, c) {
+				implied := 0.0
+				var names []string
+				scale := math.Abs(l.Value)
+				for a := 0; a < q; a++ {
+					f := alpha.AtVec(a)
+					implied += f * kept[a].Value
+					scale = math.Max(scale, math.Abs(f*kept[a].Value))
+					if math.Abs(f) > 1e-6 {
+						names = append(names, fmt.Sprintf("%s (%s)", lp.st.Label(kept[a].Node), fmtValue(kept[a].Value)))
+					}
+				}
+				if math.Abs(implied-l.Value) > 1e-9*math.Max(1, scale) {
+					return nil, inputerr.New("the locks at step %d contradict each other: %s is locked to %s, but the locks of %s fix it at %s",
+						k+1, lp.st.Label(l.Node), fmtValue(l.Value), strings.Join(names, ", "), fmtValue(implied))
+				}
+				continue // implied by the others: already holds
+			}
+		}
+		s.cols = append(s.cols, c)
+		kept = append(kept, l)
+		s.values = append(s.values, l.Value)
+	}
+	q := len(s.cols)
+	sub := mat.NewSymDense(q, nil)
+	for a := 0; a < q; a++ {
+		for b := a; b < q; b++ {
+			sub.SetSym(a, b, lp.a.At(s.cols[a], s.cols[b]))
+		}
+	}
+	if !s.chol.Factorize(sub) {
+		return nil, fmt.Errorf("reconcile: locks at step %d: C·P⁻¹·Cᵀ not positive definite", k+1)
+	}
+	return s, nil
+}
+
+func fmtValue(v float64) string { return fmt.Sprintf("%.6g", v) }
+
+// apply moves the bottom forecasts of every step with locks onto them:
+// b ← b − Z_k·A_k⁻¹·(C_k·b − c_k), in place (bottom is m × h).
+func (lp *lockPlan) apply(bottom *mat.Dense) {
+	m, _ := bottom.Dims()
+	b := make([]float64, m)
+	for k, s := range lp.steps {
+		if s == nil {
+			continue
+		}
+		mat.Col(b, k, bottom)
+		r := mat.NewVecDense(len(s.cols), nil)
+		for a, c := range s.cols {
+			var v float64
+			for _, j := range lp.st.S.Row(lp.nodes[c]) {
+				v += b[j]
+			}
+			r.SetVec(a, v-s.values[a])
+		}
+		lp.correct(s, b, r)
+		bottom.SetCol(k, b)
+	}
+}
+
+// correct sets b ← b − Z_k·A_k⁻¹·r for the step's locks.
+func (lp *lockPlan) correct(s *stepLocks, b []float64, r *mat.VecDense) {
+	var x mat.VecDense
+	if err := s.chol.SolveVecTo(&x, r); err != nil {
+		panic("reconcile: lock solve: " + err.Error())
+	}
+	raw := lp.z.RawMatrix()
+	for j := range b {
+		row := raw.Data[j*raw.Stride:]
+		var d float64
+		for a, c := range s.cols {
+			d += row[c] * x.AtVec(a)
+		}
+		b[j] -= d
+	}
+}
+
+// correctRows applies M_k to the first cols columns of the bottom rows of
+// buf (n rows of width w, aggregates already summed): each column v of
+// bottom rows becomes v − Z_k·A_k⁻¹·(C_k·v), C_k·v read off the locked
+// nodes' summed rows. The caller sums the aggregates again.
+func (lp *lockPlan) correctRows(s *stepLocks, buf []float64, w, cols, off int) {
+	q := len(s.cols)
+	r := mat.NewDense(q, cols, nil)
+	for a, c := range s.cols {
+		i := lp.nodes[c]
+		for t := 0; t < cols; t++ {
+			r.Set(a, t, buf[i*w+t])
+		}
+	}
+	var x mat.Dense
+	if err := s.chol.SolveTo(&x, r); err != nil {
+		panic("reconcile: lock solve: " + err.Error())
+	}
+	m, _ := lp.z.Dims()
+	raw := lp.z.RawMatrix()
+	for j := 0; j < m; j++ {
+		zr := raw.Data[j*raw.Stride:]
+		dst := buf[(off+j)*w:]
+		for a, c := range s.cols {
+			f := zr[c]
+			if f == 0 {
+				continue
+			}
+			for t := 0; t < cols; t++ {
+				dst[t] -= f * x.At(a, t)
+			}
+		}
+	}
+}
+
+// checkNonnegativeLocks refuses locks that non-negative bottom forecasts
+// cannot meet: a node locked below zero, or below what its locked
+// descendants add up to. The least a node can be is its lock, or else the
+// largest, over the ways its children split it, of the sum of the least
+// its children can be (zero for an unlocked bottom series).
+func checkNonnegativeLocks(st *hierarchy.Structure, locks []Lock) error {
+	byStep := map[int][]Lock{}
+	for _, l := range locks {
+		byStep[l.Step] = append(byStep[l.Step], l)
+	}
+	steps := make([]int, 0, len(byStep))
+	for k := range byStep {
+		steps = append(steps, k)
+	}
+	sort.Ints(steps)
+	n := len(st.Nodes)
+	least := make([]float64, n)
+	why := make([][]int, n) // locked nodes behind least
+	locked := make([]bool, n)
+	value := make([]float64, n)
+	for _, k := range steps {
+		clear(locked)
+		for _, l := range byStep[k] {
+			if l.Value < 0 {
+				return inputerr.New("%s is locked to %s at step %d, below zero, but the forecasts are non-negative (turn non-negativity off to allow it)",
+					st.Label(l.Node), fmtValue(l.Value), k+1)
+			}
+			locked[l.Node], value[l.Node] = true, l.Value
+		}
+		for lv := len(st.Levels) - 1; lv >= 0; lv-- {
+			for _, i := range st.Levels[lv].Nodes {
+				best, bestWhy := 0.0, []int(nil)
+				for _, sp := range st.Splits(i) {
+					var s float64
+					var w []int
+					for _, c := range sp.Nodes {
+						s += least[c]
+						w = append(w, why[c]...)
+					}
+					if s > best {
+						best, bestWhy = s, w
+					}
+				}
+				if locked[i] {
+					if best > value[i]*(1+1e-9)+1e-9 {
+						var names []string
+						for _, c := range bestWhy[:min(len(bestWhy), 5)] {
+							names = append(names, fmt.Sprintf("%s (%s)", st.Label(c), fmtValue(value[c])))
+						}
+						more := ""
+						if len(bestWhy) > 5 {
+							more = fmt.Sprintf(" and %d more", len(bestWhy)-5)
+						}
+						return inputerr.New("the locks at step %d contradict each other: %s is locked to %s, below the %s its locked parts %s%s add up to with non-negative forecasts",
+							k+1, st.Label(i), fmtValue(value[i]), fmtValue(best), strings.Join(names, ", "), more)
+					}
+					least[i], why[i] = value[i], []int{i}
+				} else {
+					least[i], why[i] = best, bestWhy
+				}
+			}
+		}
+	}
+	return nil
+}
+
+// exactLocks writes every lock's value into the solution as given: the
+// projection meets it to rounding (a relative 1e-15 or so), and a target
+// of 1,000,000 should read 1,000,000, not 999,999.9999999998. Coherence
+// holds to the same rounding.
+func exactLocks(sol *Solution, st *hierarchy.Structure, locks []Lock) {
+	off := st.BottomOffset()
+	for _, l := range locks {
+		sol.Forecast[l.Node][l.Step] = l.Value
+		if l.Node >= off {
+			sol.Bottom[l.Node-off][l.Step] = l.Value
+		}
+	}
+}
+
+// equalities are the independent locks of one step as equality
+// constraints of the non-negative problem (see activeSet).
+type equalities struct {
+	m      int
+	rows   [][]int     // per lock: the locked node's bottom series
+	ys     [][]float64 // per lock: W·e_i, so that linear(ys) is the row of S
+	values []float64
+}
+
+// equalities returns the locks of step k for activeSet, nil when the
+// step has none (or lp is nil).
+func (lp *lockPlan) equalities(k int) *equalities {
+	if lp == nil || lp.steps[k] == nil {
+		return nil
+	}
+	s := lp.steps[k]
+	_, m := lp.st.S.Dims()
+	eq := &equalities{m: m, values: s.values}
+	for _, c := range s.cols {
+		eq.rows = append(eq.rows, lp.st.S.Row(lp.nodes[c]))
+		eq.ys = append(eq.ys, lp.wcols[c])
+	}
+	return eq
+}
+
+// solve moves x0, the restricted solution P_FF⁻¹q_F, onto the locks:
+// x = x0 − Z·μ with Z = P_FF⁻¹C_Fᵀ (one restricted solve per lock, its
+// right-hand side the lock's row of S) and μ = (C_F·Z)⁻¹(C·x0 − c), the
+// restricted form of the closed form in lockPlan. When C_F·Z is singular
+// because a lock has no free series left, those series are freed
+// (freed = true) for the caller to solve again; a lock of zero with none
+// left already holds and is left out.
+func (eq *equalities) solve(qp qpProblem, free []bool, x0 []float64) (x, mu []float64, freed bool, err error) {
+	var use []int
+	for l, row := range eq.rows {
+		any := false
+		for _, j := range row {
+			any = any || free[j]
+		}
+		switch {
+		case any:
+			use = append(use, l)
+		case eq.values[l] != 0:
+			for _, j := range row {
+				free[j] = true
+			}
+			freed = true
+		}
+	}
+	if freed {
+		return nil, nil, true, nil
+	}
+	q := len(use)
+	mu = make([]float64, len(eq.rows))
+	if q == 0 {
+		return x0, mu, false, nil
+	}
+	zs := make([][]float64, q)
+	rhs := make([]float64, eq.m)
+	for a, l := range use {
+		clear(rhs)
+		for _, j := range eq.rows[l] {
+			rhs[j] = 1
+		}
+		if zs[a], err = qp.solveFree(free, rhs, eq.ys[l], nil); err != nil {
+			return nil, nil, false, err
+		}
+	}
+	am := mat.NewSymDense(q, nil)
+	r := mat.NewVecDense(q, nil)
+	for a, l := range use {
+		var v float64
+		for _, j := range eq.rows[l] {
+			v += x0[j]
+		}
+		r.SetVec(a, v-eq.values[l])
+		for b := a; b < q; b++ {
+			var s float64
+			for _, j := range eq.rows[l] {
+				s += zs[b][j]
+			}
+			var t float64
+			for _, j := range eq.rows[use[b]] {
+				t += zs[a][j]
+			}
+			am.SetSym(a, b, 0.5*(s+t))
+		}
+	}
+	var ch mat.Cholesky
+	if !ch.Factorize(am) {
+		return nil, nil, false, inputerr.New("the locks cannot all hold with non-negative forecasts (they leave no room for the series under them); check the locks of this step or turn non-negativity off")
+	}
+	var sol mat.VecDense
+	if err := ch.SolveVecTo(&sol, r); err != nil {
+		return nil, nil, false, err
+	}
+	x = append([]float64(nil), x0...)
+	for a, l := range use {
+		f := sol.AtVec(a)
+		mu[l] = f
+		for j, v := range zs[a] {
+			x[j] -= f * v
+		}
+	}
+	return x, mu, false, nil
+}
+
+// addMultipliers adds Cᵀμ to w.
+func (eq *equalities) addMultipliers(w, mu []float64) {
+	for l, row := range eq.rows {
+		for _, j := range row {
+			w[j] += mu[l]
+		}
+	}
+}
