@@ -67,3 +67,39 @@ func BenchmarkMinTRetail(b *testing.B) {
 		b.ReportMetric(sol.Notes["lambda"], "lambda")
 	}
 }
+
+// BenchmarkMinTRetailLocked times the large-n path on the full bench
+// structure (39,442 nodes) without and with locks, side by side: at every
+// one of the 28 steps the total (5% above its base forecast), one state,
+// one category and twenty items (at zero, as closures), 23 locks a step.
+// Run with go test -bench MinTRetailLocked -run '^$' ./reconcile and
+// compare the two lines (the target: locked within 1.5× of unlocked).
+func BenchmarkMinTRetailLocked(b *testing.B) {
+	st := retail(b, 2, 5, 3, 10, 100)
+	p := problemFor(st, 60, 28, 1)
+	var locks []Lock
+	state, _ := st.Lookup([]string{"S0", "", "", "", ""})
+	cat, _ := st.Lookup([]string{"", "", "C1", "", ""})
+	for k := 0; k < 28; k++ {
+		locks = append(locks, Lock{Node: 0, Step: k, Value: 1.05 * p.Base[0][k]},
+			Lock{Node: state, Step: k, Value: p.Base[state][k]}, Lock{Node: cat, Step: k, Value: p.Base[cat][k]})
+		for q := 0; q < 20; q++ {
+			item, _ := st.Lookup([]string{"S1", "S1T2", "C2", "C2D3", fmt.Sprintf("C2D3I%d", q)})
+			locks = append(locks, Lock{Node: item, Step: k})
+		}
+	}
+	for _, c := range []struct {
+		name  string
+		locks []Lock
+	}{{"unlocked", nil}, {"locked", locks}} {
+		b.Run(c.name, func(b *testing.B) {
+			q := p
+			q.Locks = c.locks
+			for b.Loop() {
+				if _, err := (Projection{Cov: CovShrink}).Reconcile(q); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}

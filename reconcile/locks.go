@@ -51,6 +51,7 @@ type lockPlan struct {
 	a     *mat.Dense // len(nodes) square: C·P⁻¹·Cᵀ
 	steps []*stepLocks
 	wcols [][]float64 // per locked node: W·e_i (n-vector)
+	label func(k int) string
 }
 
 // stepLocks are the independent locks of one step, ready to apply.
@@ -73,10 +74,10 @@ func checkLocks(p *Problem, n, h int) error {
 			return inputerr.New("a lock of %s is at step %d, outside the %d forecast steps", p.Structure.Label(l.Node), l.Step+1, h)
 		}
 		if math.IsNaN(l.Value) || math.IsInf(l.Value, 0) {
-			return inputerr.New("the lock of %s at step %d is %v; a lock must be a number", p.Structure.Label(l.Node), l.Step+1, l.Value)
+			return inputerr.New("the lock of %s at %s is %v; a lock must be a number", p.Structure.Label(l.Node), p.stepLabel(l.Step), l.Value)
 		}
 		if seen[[2]int{l.Node, l.Step}] {
-			return inputerr.New("%s is locked twice at step %d", p.Structure.Label(l.Node), l.Step+1)
+			return inputerr.New("%s is locked twice at %s", p.Structure.Label(l.Node), p.stepLabel(l.Step))
 		}
 		seen[[2]int{l.Node, l.Step}] = true
 	}
@@ -90,7 +91,7 @@ func checkLocks(p *Problem, n, h int) error {
 func newLockPlan(p *Problem, g projector, w *errCov, h int) (*lockPlan, error) {
 	st := p.Structure
 	n, _ := st.S.Dims()
-	lp := &lockPlan{st: st, steps: make([]*stepLocks, h)}
+	lp := &lockPlan{st: st, steps: make([]*stepLocks, h), label: p.stepLabel}
 	col := map[int]int{}
 	for _, l := range p.Locks {
 		if _, ok := col[l.Node]; !ok {
@@ -217,8 +218,8 @@ func (lp *lockPlan) independent(ls []Lock, col map[int]int, k int) (*stepLocks, 
 					}
 				}
 				if math.Abs(implied-l.Value) > 1e-9*math.Max(1, scale) {
-					return nil, inputerr.New("the locks at step %d contradict each other: %s is locked to %s, but the locks of %s fix it at %s",
-						k+1, lp.st.Label(l.Node), fmtValue(l.Value), strings.Join(names, ", "), fmtValue(implied))
+					return nil, inputerr.New("the locks at %s contradict each other: %s is locked to %s, but the locks of %s fix it at %s",
+						lp.label(k), lp.st.Label(l.Node), fmtValue(l.Value), strings.Join(names, ", "), fmtValue(implied))
 				}
 				continue // implied by the others: already holds
 			}
@@ -316,12 +317,15 @@ func (lp *lockPlan) correctRows(s *stepLocks, buf []float64, w, cols, off int) {
 	}
 }
 
-// checkNonnegativeLocks refuses locks that non-negative bottom forecasts
+// CheckNonnegativeLocks refuses locks that non-negative bottom forecasts
 // cannot meet: a node locked below zero, or below what its locked
-// descendants add up to. The least a node can be is its lock, or else the
+// descendants add up to. label names a step in messages (nil: "step
+// k+1"). Projection checks this itself; callers may check first, before
+// any costly work. The least a node can be is its lock, or else the
 // largest, over the ways its children split it, of the sum of the least
 // its children can be (zero for an unlocked bottom series).
-func checkNonnegativeLocks(st *hierarchy.Structure, locks []Lock) error {
+func CheckNonnegativeLocks(st *hierarchy.Structure, locks []Lock, label func(k int) string) error {
+	p := Problem{StepLabel: label}
 	byStep := map[int][]Lock{}
 	for _, l := range locks {
 		byStep[l.Step] = append(byStep[l.Step], l)
@@ -340,8 +344,8 @@ func checkNonnegativeLocks(st *hierarchy.Structure, locks []Lock) error {
 		clear(locked)
 		for _, l := range byStep[k] {
 			if l.Value < 0 {
-				return inputerr.New("%s is locked to %s at step %d, below zero, but the forecasts are non-negative (turn non-negativity off to allow it)",
-					st.Label(l.Node), fmtValue(l.Value), k+1)
+				return inputerr.New("%s is locked to %s at %s, below zero, but the forecasts are non-negative (turn non-negativity off to allow it)",
+					st.Label(l.Node), fmtValue(l.Value), p.stepLabel(k))
 			}
 			locked[l.Node], value[l.Node] = true, l.Value
 		}
@@ -369,8 +373,8 @@ func checkNonnegativeLocks(st *hierarchy.Structure, locks []Lock) error {
 						if len(bestWhy) > 5 {
 							more = fmt.Sprintf(" and %d more", len(bestWhy)-5)
 						}
-						return inputerr.New("the locks at step %d contradict each other: %s is locked to %s, below the %s its locked parts %s%s add up to with non-negative forecasts",
-							k+1, st.Label(i), fmtValue(value[i]), fmtValue(best), strings.Join(names, ", "), more)
+						return inputerr.New("the locks at %s contradict each other: %s is locked to %s, below the %s its locked parts %s%s add up to with non-negative forecasts",
+							p.stepLabel(k), st.Label(i), fmtValue(value[i]), fmtValue(best), strings.Join(names, ", "), more)
 					}
 					least[i], why[i] = value[i], []int{i}
 				} else {
@@ -486,7 +490,7 @@ func (eq *equalities) solve(qp qpProblem, free []bool, x0 []float64) (x, mu []fl
 	}
 	var ch mat.Cholesky
 	if !ch.Factorize(am) {
-		return nil, nil, false, inputerr.New("the locks cannot all hold with non-negative forecasts (they leave no room for the series under them); check the locks of this step or turn non-negativity off")
+		return nil, nil, false, inputerr.New("the locks cannot all hold with non-negative forecasts (they leave no room for the series under them); check the locks of this period or turn non-negativity off")
 	}
 	var sol mat.VecDense
 	if err := ch.SolveVecTo(&sol, r); err != nil {

@@ -52,6 +52,17 @@ type Problem struct {
 	// (see Lock); the projection reconciles the other nodes around them.
 	// Other methods refuse locks.
 	Locks []Lock
+	// StepLabel names forecast step k (0-based) in messages, such as its
+	// period; nil means "step k+1".
+	StepLabel func(k int) string
+}
+
+// stepLabel names step k for messages (see Problem.StepLabel).
+func (p *Problem) stepLabel(k int) string {
+	if p.StepLabel == nil {
+		return fmt.Sprintf("step %d", k+1)
+	}
+	return p.StepLabel(k)
 }
 
 // Solver selects the linear algebra of the projection methods.

@@ -134,7 +134,7 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 			return Solution{}, err
 		}
 		if p.Nonnegative {
-			if err := checkNonnegativeLocks(p.Structure, p.Locks); err != nil {
+			if err := CheckNonnegativeLocks(p.Structure, p.Locks, p.StepLabel); err != nil {
 				return Solution{}, err
 			}
 		}

@@ -327,3 +327,45 @@ func digits(s string) bool {
 	}
 	return s != ""
 }
+
+// ColumnPeriods reads a period column of a table read by ReadTable as Read
+// reads the period column of a sales table (the same timeDecoder): text
+// labels, dates and timestamps (as text, or as Date), and integers (years
+// or steps, by kind). Dates come back as days (Grain Day); the caller
+// puts them at its grain (Period.Coarsen). The notes say how the periods
+// were read where that is not plain (none yet). An empty cell, a fraction
+// or a label that is not a period is an input error naming the data row.
+func ColumnPeriods(c Column, kind TimeKind) ([]Period, []string, error) {
+	var td timeDecoder
+	n := len(c.Strings) + len(c.Floats) + len(c.Ints)
+	td.periods = make([]Period, 0, n)
+	for r := 0; r < n; r++ {
+		if c.Null != nil && c.Null[r] {
+			return nil, nil, &inputerr.Error{Row: r + 1, Column: c.Name, Msg: "empty period"}
+		}
+		var p Period
+		var err error
+		switch c.Type {
+		case String:
+			p, err = td.parse(c.Strings[r])
+		case Date:
+			p = Period{Day, int(c.Ints[r])}
+			err = td.checkGrain(p)
+		case Int64:
+			p, err = td.integer(c.Ints[r])
+		default:
+			v := c.Floats[r]
+			if v != float64(int64(v)) {
+				err = inputerr.New("period %g is not a whole number", v)
+			} else {
+				p, err = td.integer(int64(v))
+			}
+		}
+		if err != nil {
+			return nil, nil, &inputerr.Error{Row: r + 1, Column: c.Name, Err: err}
+		}
+		td.periods = append(td.periods, p)
+	}
+	td.finish(kind)
+	return td.periods, nil, nil
+}
