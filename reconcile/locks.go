@@ -241,7 +241,9 @@ func (lp *lockPlan) independent(ls []Lock, col map[int]int, k int) (*stepLocks, 
 	return s, nil
 }
 
-func fmtValue(v float64) string { return fmt.Sprintf("%.6g", v) }
+// fmtValue writes a value for messages: ten significant digits, no
+// exponent below 10¹⁰ (a target reads 5000000, not 5e+06).
+func fmtValue(v float64) string { return fmt.Sprintf("%.10g", v) }
 
 // apply moves the bottom forecasts of every step with locks onto them:
 // b ← b − Z_k·A_k⁻¹·(C_k·b − c_k), in place (bottom is m × h).
