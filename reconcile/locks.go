@@ -6,6 +6,8 @@ import (
 	"sort"
 	"strings"
 
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
 
 	"trueup/hierarchy"
@@ -288,35 +290,27 @@ func (lp *lockPlan) correct(s *stepLocks, b []float64, r *mat.VecDense) {
 // correctRows applies M_k to the first cols columns of the bottom rows of
 // buf (n rows of width w, aggregates already summed): each column v of
 // bottom rows becomes v − Z_k·A_k⁻¹·(C_k·v), C_k·v read off the locked
-// nodes' summed rows. The caller sums the aggregates again.
+// nodes' summed rows. The product with Z is one matrix product over all
+// locked nodes (rows of X zero for those not locked at this step), the
+// bulk of the cost. The caller sums the aggregates again.
 func (lp *lockPlan) correctRows(s *stepLocks, buf []float64, w, cols, off int) {
 	q := len(s.cols)
 	r := mat.NewDense(q, cols, nil)
 	for a, c := range s.cols {
 		i := lp.nodes[c]
-		for t := 0; t < cols; t++ {
-			r.Set(a, t, buf[i*w+t])
-		}
+		r.SetRow(a, buf[i*w:i*w+cols])
 	}
 	var x mat.Dense
 	if err := s.chol.SolveTo(&x, r); err != nil {
 		panic("reconcile: lock solve: " + err.Error())
 	}
-	m, _ := lp.z.Dims()
-	raw := lp.z.RawMatrix()
-	for j := 0; j < m; j++ {
-		zr := raw.Data[j*raw.Stride:]
-		dst := buf[(off+j)*w:]
-		for a, c := range s.cols {
-			f := zr[c]
-			if f == 0 {
-				continue
-			}
-			for t := 0; t < cols; t++ {
-				dst[t] -= f * x.At(a, t)
-			}
-		}
+	m, L := lp.z.Dims()
+	xf := blas64.General{Rows: L, Cols: cols, Stride: cols, Data: make([]float64, L*cols)}
+	for a, c := range s.cols {
+		mat.Row(xf.Data[c*cols:(c+1)*cols], a, &x)
 	}
+	dst := blas64.General{Rows: m, Cols: cols, Stride: w, Data: buf[off*w : (off+m-1)*w+cols]}
+	blas64.Gemm(blas.NoTrans, blas.NoTrans, -1, lp.z.RawMatrix(), xf, 1, dst)
 }
 
 // CheckNonnegativeLocks refuses locks that non-negative bottom forecasts
