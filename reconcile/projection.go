@@ -148,30 +148,35 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 	if err != nil {
 		return Solution{}, err
 	}
-	var locks *lockPlan
-	if len(p.Locks) > 0 {
-		if locks, err = newLockPlan(&p, g, wg, h); err != nil {
-			return Solution{}, err
-		}
-	}
-	// The variances need only G, not the forecasts: they are solved in
-	// a goroutine of their own, beside the forecasts.
+	// The variances need only G and the locks, not the forecasts: they
+	// are solved in a goroutine of their own, beside the locks' columns
+	// and the forecasts, and take the locks when they need them.
 	type variances struct {
 		v     [][]float64
 		paths int
 		err   error
 	}
 	vdone := make(chan variances, 1)
+	planned := make(chan *lockPlan, 1)
 	if p.wantVariance() {
 		go func() {
 			var out variances
 			defer func() { vdone <- out }()
 			defer crash.Catch(&out.err)
-			out.v, out.paths, out.err = projectionVariance(&p, g, h, locks)
+			out.v, out.paths, out.err = projectionVariance(&p, g, h, planned)
 		}()
 	} else {
 		vdone <- variances{}
 	}
+	var locks *lockPlan
+	if len(p.Locks) > 0 {
+		if locks, err = newLockPlan(&p, g, wg, h); err != nil {
+			planned <- nil
+			<-vdone
+			return Solution{}, err
+		}
+	}
+	planned <- locks
 	base := mat.NewDense(n, h, nil)
 	for i, row := range p.Base {
 		base.SetRow(i, row)
@@ -213,7 +218,9 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 // projectionVariance returns the reconciled variances of a projection
 // (see Solution.Variance) and the number of sample paths behind them (0
 // when exact).
-func projectionVariance(p *Problem, g projector, h int, locks *lockPlan) ([][]float64, int, error) {
+//
+// The locks arrive on planned (nil for none), once their plan is made.
+func projectionVariance(p *Problem, g projector, h int, planned <-chan *lockPlan) ([][]float64, int, error) {
 	vc, err := p.varianceCov()
 	if err != nil {
 		return nil, 0, err
@@ -230,6 +237,10 @@ func projectionVariance(p *Problem, g projector, h int, locks *lockPlan) ([][]fl
 	paths := 0
 	if f.ctrl != nil {
 		_, paths = f.ctrl.Dims()
+	}
+	locks := <-planned
+	if locks == nil && len(p.Locks) > 0 {
+		return nil, 0, nil // the locks were refused; Reconcile reports why
 	}
 	return factorVariance(p.Structure, growth(p, vc, bidx, h), f, locks), paths, nil
 }
