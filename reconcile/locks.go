@@ -52,7 +52,6 @@ type lockPlan struct {
 	z     *mat.Dense // m × len(nodes): P⁻¹Cᵀ = G·W·E
 	a     *mat.Dense // len(nodes) square: C·P⁻¹·Cᵀ
 	steps []*stepLocks
-	wcols [][]float64 // per locked node: W·e_i (n-vector)
 	label func(k int) string
 }
 
@@ -107,11 +106,8 @@ func newLockPlan(p *Problem, g projector, w *errCov, h int) (*lockPlan, error) {
 	}
 	L := len(lp.nodes)
 	rhs := mat.NewDense(n, L, nil)
-	lp.wcols = make([][]float64, L)
 	for c, i := range lp.nodes {
-		wc := wColumn(w, i)
-		lp.wcols[c] = wc
-		rhs.SetCol(c, wc)
+		rhs.SetCol(c, wColumn(w, i))
 	}
 	z, err := g.apply(rhs, solveTol)
 	if err != nil {
@@ -399,9 +395,8 @@ func exactLocks(sol *Solution, st *hierarchy.Structure, locks []Lock) {
 // equalities are the independent locks of one step as equality
 // constraints of the non-negative problem (see activeSet).
 type equalities struct {
-	m      int
-	rows   [][]int     // per lock: the locked node's bottom series
-	ys     [][]float64 // per lock: W·e_i, so that linear(ys) is the row of S
+	nodes  []int   // the locked nodes
+	rows   [][]int // per lock: the locked node's bottom series
 	values []float64
 }
 
@@ -412,23 +407,21 @@ func (lp *lockPlan) equalities(k int) *equalities {
 		return nil
 	}
 	s := lp.steps[k]
-	_, m := lp.st.S.Dims()
-	eq := &equalities{m: m, values: s.values}
+	eq := &equalities{values: s.values}
 	for _, c := range s.cols {
+		eq.nodes = append(eq.nodes, lp.nodes[c])
 		eq.rows = append(eq.rows, lp.st.S.Row(lp.nodes[c]))
-		eq.ys = append(eq.ys, lp.wcols[c])
 	}
 	return eq
 }
 
-// solve moves x0, the restricted solution P_FF⁻¹q_F, onto the locks:
-// x = x0 − Z·μ with Z = P_FF⁻¹C_Fᵀ (one restricted solve per lock, its
-// right-hand side the lock's row of S) and μ = (C_F·Z)⁻¹(C·x0 − c), the
-// restricted form of the closed form in lockPlan. When C_F·Z is singular
-// because a lock has no free series left, those series are freed
-// (freed = true) for the caller to solve again; a lock of zero with none
-// left already holds and is left out.
-func (eq *equalities) solve(qp qpProblem, free []bool, x0 []float64) (x, mu []float64, freed bool, err error) {
+// solve solves the restricted problem on the free series subject to the
+// locks (qpProblem.solveFreeLocked) and returns the solution and the
+// locks' multipliers. A lock with no free series left cannot be met on
+// this free set: its series are freed (freed = true) for the caller to
+// solve again; a lock of zero with none left already holds and is left
+// out.
+func (eq *equalities) solve(qp qpProblem, free []bool, rhs, y, x0 []float64) (x, mu []float64, freed bool, err error) {
 	var use []int
 	for l, row := range eq.rows {
 		any := false
@@ -448,57 +441,18 @@ func (eq *equalities) solve(qp qpProblem, free []bool, x0 []float64) (x, mu []fl
 	if freed {
 		return nil, nil, true, nil
 	}
-	q := len(use)
-	mu = make([]float64, len(eq.rows))
-	if q == 0 {
-		return x0, mu, false, nil
-	}
-	zs := make([][]float64, q)
-	rhs := make([]float64, eq.m)
+	nodes := make([]int, len(use))
+	values := make([]float64, len(use))
 	for a, l := range use {
-		clear(rhs)
-		for _, j := range eq.rows[l] {
-			rhs[j] = 1
-		}
-		if zs[a], err = qp.solveFree(free, rhs, eq.ys[l], nil); err != nil {
-			return nil, nil, false, err
-		}
+		nodes[a], values[a] = eq.nodes[l], eq.values[l]
 	}
-	am := mat.NewSymDense(q, nil)
-	r := mat.NewVecDense(q, nil)
-	for a, l := range use {
-		var v float64
-		for _, j := range eq.rows[l] {
-			v += x0[j]
-		}
-		r.SetVec(a, v-eq.values[l])
-		for b := a; b < q; b++ {
-			var s float64
-			for _, j := range eq.rows[l] {
-				s += zs[b][j]
-			}
-			var t float64
-			for _, j := range eq.rows[use[b]] {
-				t += zs[a][j]
-			}
-			am.SetSym(a, b, 0.5*(s+t))
-		}
-	}
-	var ch mat.Cholesky
-	if !ch.Factorize(am) {
-		return nil, nil, false, inputerr.New("the locks cannot all hold with non-negative forecasts (they leave no room for the series under them); check the locks of this period or turn non-negativity off")
-	}
-	var sol mat.VecDense
-	if err := ch.SolveVecTo(&sol, r); err != nil {
+	x, muUse, err := qp.solveFreeLocked(free, rhs, y, x0, nodes, values)
+	if err != nil {
 		return nil, nil, false, err
 	}
-	x = append([]float64(nil), x0...)
+	mu = make([]float64, len(eq.rows))
 	for a, l := range use {
-		f := sol.AtVec(a)
-		mu[l] = f
-		for j, v := range zs[a] {
-			x[j] -= f * v
-		}
+		mu[l] = muUse[a]
 	}
 	return x, mu, false, nil
 }

@@ -23,6 +23,11 @@ type qpProblem interface {
 	// where rhs = linear(y); x0, when not nil, is a starting guess for
 	// iterative solvers.
 	solveFree(free []bool, rhs, y, x0 []float64) ([]float64, error)
+	// solveFreeLocked is solveFree subject also to the locks: the sums
+	// of the bottom series of nodes equal values. It returns the
+	// solution and the locks' Lagrange multipliers μ, with which
+	// P·x − q + Cᵀμ = 0 on the free set.
+	solveFreeLocked(free []bool, rhs, y, x0 []float64, nodes []int, values []float64) ([]float64, []float64, error)
 }
 
 // nonnegative returns, column by column, the minimizer of the
@@ -135,19 +140,18 @@ func activeSet(qp qpProblem, y, start []float64, eq *equalities) ([]float64, err
 	fewest, backup := m+1, 3
 	var infeasible []int
 	for iter := 0; iter < 3*m+10; iter++ {
-		s, err := qp.solveFree(free, q, y, x)
-		if err != nil {
-			return nil, err
-		}
-		var mu []float64
-		if eq != nil {
+		var s, mu []float64
+		var err error
+		if eq == nil {
+			s, err = qp.solveFree(free, q, y, x)
+		} else {
 			var freed bool
-			if s, mu, freed, err = eq.solve(qp, free, s); err != nil {
-				return nil, err
-			}
-			if freed {
+			if s, mu, freed, err = eq.solve(qp, free, q, y, x); freed {
 				continue // a lock had no free series left: some were freed
 			}
+		}
+		if err != nil {
+			return nil, err
 		}
 		x = s
 		qp.mul(w, x)
@@ -202,6 +206,51 @@ func (q denseQP) linear(y []float64) []float64 {
 
 func (q denseQP) mul(dst, v []float64) {
 	mat.NewVecDense(len(dst), dst).MulVec(q.d.p, mat.NewVecDense(len(v), v))
+}
+
+// solveFreeLocked solves the restricted problem with the locks by its
+// Karush–Kuhn–Tucker system [P_FF C_Fᵀ; C_F 0]·[x_F; μ] = [q_F; c].
+func (q denseQP) solveFreeLocked(free []bool, rhs, _, _ []float64, nodes []int, values []float64) ([]float64, []float64, error) {
+	var idx []int
+	pos := make([]int, len(free))
+	for j, f := range free {
+		pos[j] = -1
+		if f {
+			pos[j] = len(idx)
+			idx = append(idx, j)
+		}
+	}
+	nf, L := len(idx), len(nodes)
+	kkt := mat.NewDense(nf+L, nf+L, nil)
+	b := mat.NewVecDense(nf+L, nil)
+	for a, i := range idx {
+		b.SetVec(a, rhs[i])
+		for c, j := range idx {
+			kkt.Set(a, c, q.d.p.At(i, j))
+		}
+	}
+	for l, node := range nodes {
+		b.SetVec(nf+l, values[l])
+		for _, j := range q.d.st.S.Row(node) {
+			if a := pos[j]; a >= 0 {
+				kkt.Set(a, nf+l, 1)
+				kkt.Set(nf+l, a, 1)
+			}
+		}
+	}
+	var sol mat.VecDense
+	if err := sol.SolveVec(kkt, b); err != nil {
+		return nil, nil, fmt.Errorf("restricted problem with locks: %w", err)
+	}
+	out := make([]float64, len(free))
+	for a, i := range idx {
+		out[i] = sol.AtVec(a)
+	}
+	mu := make([]float64, L)
+	for l := range mu {
+		mu[l] = sol.AtVec(nf + l)
+	}
+	return out, mu, nil
 }
 
 func (q denseQP) solveFree(free []bool, rhs, _, _ []float64) ([]float64, error) {
