@@ -133,13 +133,7 @@ func prepareLocks(rc Reconciliation, method reconcile.Method, nonneg bool, st *h
 		return nil, nil, nil
 	}
 	if info, _ := reconcile.LookupMethod(method.Name()); !info.Locks {
-		var takes []string
-		for _, m := range reconcile.Methods() {
-			if m.Locks {
-				takes = append(takes, m.Name)
-			}
-		}
-		return nil, nil, inputerr.ForOption("Locks", "locked forecasts need a method that reconciles around them (%v); %s has no weights to move the other nodes by", takes, method.Name())
+		return nil, nil, inputerr.ForOption("Locks", "locked forecasts need a method that reconciles around them (%s); %s has no weights to move the other nodes by", lockMethods(), method.Name())
 	}
 	locks, err := readLocks(rc.Locks, st, first, h)
 	if err != nil {
@@ -155,6 +149,18 @@ func prepareLocks(rc Reconciliation, method reconcile.Method, nonneg bool, st *h
 		}
 	}
 	return locks, onOpen, nil
+}
+
+// lockMethods names the methods that take locks, from the table of
+// methods.
+func lockMethods() string {
+	var names []string
+	for _, m := range reconcile.Methods() {
+		if m.Locks {
+			names = append(names, m.Name)
+		}
+	}
+	return strings.Join(names, ", ")
 }
 
 // LocksReport is run.json's record of the locks: each lock, and how far
