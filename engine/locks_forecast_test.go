@@ -41,7 +41,7 @@ func TestForecastChecksLocksBeforeFitting(t *testing.T) {
 	bad[0] = "Nowhere"
 	for _, c := range []struct {
 		name, method, table string
-		want              []string
+		want                []string
 	}{
 		{"no such node", "", write("a.csv", header+row(bad, "5")), []string{"a.csv", "not a node"}},
 		{"below its locked part", "", write("b.csv", header+row(total, "5")+row(region, "10")), []string{"b.csv", "total is locked to 5", "(10)"}},
