@@ -378,5 +378,16 @@ func TestLockedNonnegative(t *testing.T) {
 				t.Errorf("%v: %s is %g, locked to %g", solver, st.Label(l.Node), sol.Forecast[l.Node][0], l.Value)
 			}
 		}
+		free := p
+		free.Locks = nil
+		unl, err := Projection{Cov: CovShrink}.Reconcile(free)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for i := range unl.Forecast {
+			if relDiff(sol.Unlocked[i][0], unl.Forecast[i][0]) > 1e-9 {
+				t.Errorf("%v: %s: unlocked %g, non-negative reconcile without locks %g", solver, st.Label(i), sol.Unlocked[i][0], unl.Forecast[i][0])
+			}
+		}
 	}
 }

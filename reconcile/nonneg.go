@@ -51,10 +51,20 @@ func nonnegative(g projector, base *mat.Dense, locks *lockPlan) (bottom, unlocke
 	}
 	locked := mat.DenseCopyOf(unc)
 	locks.apply(locked)
-	if unlocked, err = nonnegativeFrom(g, base, unc, nil); err != nil {
+	if bottom, err = nonnegativeFrom(g, base, locked, locks); err != nil {
 		return nil, nil, err
 	}
-	bottom, err = nonnegativeFrom(g, base, locked, locks)
+	// Without locks a step is the same problem: only the steps with locks
+	// are solved again.
+	unlocked = mat.DenseCopyOf(bottom)
+	m, _ := unc.Dims()
+	col := make([]float64, m)
+	for k, s := range locks.steps {
+		if s != nil {
+			unlocked.SetCol(k, mat.Col(col, k, unc))
+		}
+	}
+	unlocked, err = nonnegativeFrom(g, base, unlocked, nil)
 	return bottom, unlocked, err
 }
 
