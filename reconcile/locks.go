@@ -91,7 +91,6 @@ func checkLocks(p *Problem, n, h int) error {
 // locks that contradict others are an input error naming them.
 func newLockPlan(p *Problem, g projector, w *errCov, h int) (*lockPlan, error) {
 	st := p.Structure
-	n, _ := st.S.Dims()
 	lp := &lockPlan{st: st, steps: make([]*stepLocks, h), label: p.stepLabel}
 	col := map[int]int{}
 	for _, l := range p.Locks {
@@ -105,11 +104,7 @@ func newLockPlan(p *Problem, g projector, w *errCov, h int) (*lockPlan, error) {
 		col[i] = c
 	}
 	L := len(lp.nodes)
-	rhs := mat.NewDense(n, L, nil)
-	for c, i := range lp.nodes {
-		rhs.SetCol(c, wColumn(w, i))
-	}
-	z, err := g.apply(rhs, solveTol)
+	z, err := g.apply(wColumns(w, lp.nodes), solveTol)
 	if err != nil {
 		return nil, err
 	}
@@ -151,19 +146,19 @@ func newLockPlan(p *Problem, g projector, w *errCov, h int) (*lockPlan, error) {
 	return lp, nil
 }
 
-// wColumn returns column i of W = diag(Δ) + U·Uᵀ.
-func wColumn(w *errCov, i int) []float64 {
-	out := make([]float64, w.n)
-	out[i] = w.Delta[i]
+// wColumns returns the columns of W = diag(Δ) + U·Uᵀ at nodes, as an
+// n × len(nodes) matrix: U·U_nodesᵀ in one product, plus Δ.
+func wColumns(w *errCov, nodes []int) *mat.Dense {
+	out := mat.NewDense(w.n, len(nodes), nil)
 	if T := w.rank(); T > 0 {
-		ui := w.U[i*T : (i+1)*T]
-		for r := range out {
-			var s float64
-			for t, x := range w.U[r*T : (r+1)*T] {
-				s += x * ui[t]
-			}
-			out[r] += s
+		un := mat.NewDense(len(nodes), T, nil)
+		for c, i := range nodes {
+			un.SetRow(c, w.U[i*T:(i+1)*T])
 		}
+		out.Mul(mat.NewDense(w.n, T, w.U), un.T())
+	}
+	for c, i := range nodes {
+		out.Set(i, c, out.At(i, c)+w.Delta[i])
 	}
 	return out
 }
@@ -174,10 +169,11 @@ func wColumn(w *errCov, i int) []float64 {
 const dependentTol = 1e-9
 
 // independent picks the locks of one step whose rows of S are linearly
-// independent, adding them one at a time (a Cholesky factor grown row by
-// row: the Schur complement of a new lock is what the earlier ones leave
-// of it). A dependent lock must equal the combination of the earlier
-// values its row is; otherwise the locks contradict each other.
+// independent, adding them one at a time to a Cholesky factor of their
+// C·P⁻¹·Cᵀ grown by one row each (O(q²) a lock): the Schur complement of
+// a new lock is what the earlier ones leave of it. A dependent lock must
+// equal the combination of the earlier values its row is; otherwise the
+// locks contradict each other.
 func (lp *lockPlan) independent(ls []Lock, col map[int]int, k int) (*stepLocks, error) {
 	s := &stepLocks{}
 	var kept []Lock
@@ -185,21 +181,18 @@ func (lp *lockPlan) independent(ls []Lock, col map[int]int, k int) (*stepLocks, 
 		s.nodes = append(s.nodes, l.Node)
 		c := col[l.Node]
 		q := len(s.cols)
-		if q > 0 {
-			sub := mat.NewSymDense(q, nil)
+		if q == 0 {
+			one := mat.NewSymDense(1, []float64{lp.a.At(c, c)})
+			if !s.chol.Factorize(one) {
+				return nil, fmt.Errorf("reconcile: locks at step %d: C·P⁻¹·Cᵀ not positive definite", k+1)
+			}
+		} else {
 			av := mat.NewVecDense(q, nil)
 			for a := 0; a < q; a++ {
 				av.SetVec(a, lp.a.At(s.cols[a], c))
-				for b := a; b < q; b++ {
-					sub.SetSym(a, b, lp.a.At(s.cols[a], s.cols[b]))
-				}
-			}
-			var ch mat.Cholesky
-			if !ch.Factorize(sub) {
-				return nil, fmt.Errorf("reconcile: locks at step %d: C·P⁻¹·Cᵀ not positive definite", k+1)
 			}
 			var alpha mat.VecDense
-			if err := ch.SolveVecTo(&alpha, av); err != nil {
+			if err := s.chol.SolveVecTo(&alpha, av); err != nil {
 				return nil, fmt.Errorf("reconcile: locks at step %d: %w", k+1, err)
 			}
 			schur := lp.a.At(c, c) - mat.Dot(av, &alpha)
@@ -221,20 +214,20 @@ func (lp *lockPlan) independent(ls []Lock, col map[int]int, k int) (*stepLocks, 
 				}
 				continue // implied by the others: already holds
 			}
+			v := mat.NewVecDense(q+1, nil)
+			for a := 0; a < q; a++ {
+				v.SetVec(a, av.AtVec(a))
+			}
+			v.SetVec(q, lp.a.At(c, c))
+			var grown mat.Cholesky
+			if !grown.ExtendVecSym(&s.chol, v) {
+				return nil, fmt.Errorf("reconcile: locks at step %d: C·P⁻¹·Cᵀ not positive definite", k+1)
+			}
+			s.chol = grown
 		}
 		s.cols = append(s.cols, c)
 		kept = append(kept, l)
 		s.values = append(s.values, l.Value)
-	}
-	q := len(s.cols)
-	sub := mat.NewSymDense(q, nil)
-	for a := 0; a < q; a++ {
-		for b := a; b < q; b++ {
-			sub.SetSym(a, b, lp.a.At(s.cols[a], s.cols[b]))
-		}
-	}
-	if !s.chol.Factorize(sub) {
-		return nil, fmt.Errorf("reconcile: locks at step %d: C·P⁻¹·Cᵀ not positive definite", k+1)
 	}
 	return s, nil
 }
