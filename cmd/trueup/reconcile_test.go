@@ -293,8 +293,8 @@ func captureStdout(t *testing.T, f func()) string {
 }
 
 // TestReconcileLocks runs reconcile with a lock table: the locked total
-// comes out exactly, with a zero-width interval, and run.json lists the
-// lock; contradictory locks (the total locked to other than the sum of
+// comes out exactly, with a zero-width interval, the summary says so and
+// run.json lists the lock; contradictory locks (the total locked to other than the sum of
 // both its locked regions) exit 2 naming the table and the nodes, and
 // write nothing.
 func TestReconcileLocks(t *testing.T) {
@@ -302,8 +302,13 @@ func TestReconcileLocks(t *testing.T) {
 	base, res := baseCSV(t, dir, -1, nil), residualCSV(t, dir, false)
 	locks := writeFile(t, dir, "locks.csv", "region,store,period,value\n,,2026-02-01,120\n")
 	out := filepath.Join(dir, "out")
-	if code := run([]string{"reconcile", "--base", base, "--residuals", res, "--nest", "region,store", "--lock", locks, "--out", out, "--format", "csv", "--no-report", "--quiet"}); code != 0 {
-		t.Fatalf("exit %d", code)
+	stdout := captureStdout(t, func() {
+		if code := run([]string{"reconcile", "--base", base, "--residuals", res, "--nest", "region,store", "--lock", locks, "--out", out, "--format", "csv", "--no-report", "--quiet"}); code != 0 {
+			t.Fatalf("exit %d", code)
+		}
+	})
+	if !strings.Contains(stdout, "Locked forecasts: 1, from "+locks) {
+		t.Errorf("the summary does not say what was locked:\n%s", stdout)
 	}
 	total := readForecasts(t, filepath.Join(out, "forecasts.csv"))["//2026-02"] // base, forecast, 80% bounds
 	if len(total) != 4 || total[1] != 120 || total[2] != 120 || total[3] != 120 {
