@@ -450,6 +450,20 @@ func (eq *equalities) solve(qp qpProblem, free []bool, rhs, y, x0 []float64) (x,
 	return x, mu, false, nil
 }
 
+// zeroed marks the bottom series (of m) under a lock of zero: with
+// non-negative series they can only be zero.
+func (eq *equalities) zeroed(m int) []bool {
+	out := make([]bool, m)
+	for l, row := range eq.rows {
+		if eq.values[l] == 0 {
+			for _, j := range row {
+				out[j] = true
+			}
+		}
+	}
+	return out
+}
+
 // addMultipliers adds Cᵀμ to w.
 func (eq *equalities) addMultipliers(w, mu []float64) {
 	for l, row := range eq.rows {

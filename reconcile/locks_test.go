@@ -278,7 +278,8 @@ func TestLockedNonnegative(t *testing.T) {
 	}
 	r0, _ := st.Lookup([]string{"R0", "", ""})
 	c1, _ := st.Lookup([]string{"", "", "C1"})
-	p.Locks = []Lock{{Node: 0, Step: 0, Value: 120}, {Node: r0, Step: 0, Value: 70}, {Node: c1, Step: 0, Value: 20}}
+	closed, _ := st.Lookup([]string{"R1", "R1S1", ""}) // a store locked to zero
+	p.Locks = []Lock{{Node: 0, Step: 0, Value: 120}, {Node: r0, Step: 0, Value: 70}, {Node: c1, Step: 0, Value: 20}, {Node: closed, Step: 0, Value: 0}}
 	p.Nonnegative = true
 	s, w := denseSW(t, p, CovShrink)
 	n, m := s.Dims()
@@ -309,17 +310,20 @@ func TestLockedNonnegative(t *testing.T) {
 			sf.SetCol(a, mat.Col(nil, j, s))
 		}
 		// The locks as rows of S restricted to the free series; a lock
-		// with no free series left makes this set infeasible.
+		// with no free series left holds if it is zero, and makes this
+		// set infeasible otherwise.
 		var locked []int
 		var values []float64
 		ok := true
 		for _, l := range p.Locks {
-			locked, values = append(locked, l.Node), append(values, l.Value)
 			any := false
 			for _, a := range freeCols {
 				any = any || s.At(l.Node, a) != 0
 			}
-			ok = ok && any
+			if any {
+				locked, values = append(locked, l.Node), append(values, l.Value)
+			}
+			ok = ok && (any || l.Value == 0)
 		}
 		if !ok {
 			continue
@@ -343,6 +347,16 @@ func TestLockedNonnegative(t *testing.T) {
 			b[j] = bf[a]
 			feasible = feasible && bf[a] >= -1e-9
 		}
+		// Locks that contradict each other on these free series (two
+		// locked rows equal here) leave a near-singular system whose
+		// solution does not meet them: such a set is infeasible.
+		for _, l := range p.Locks {
+			var sum float64
+			for _, j := range st.S.Row(l.Node) {
+				sum += b[j]
+			}
+			feasible = feasible && math.Abs(sum-l.Value) <= 1e-8*math.Max(1, math.Abs(l.Value))
+		}
 		if feasible {
 			if o := objective(b); o < bestObj {
 				best, bestObj = b, o
@@ -352,6 +366,7 @@ func TestLockedNonnegative(t *testing.T) {
 	if best == nil {
 		t.Fatal("no feasible set: the test's locks cannot hold")
 	}
+
 	zeros := 0
 	for _, v := range best {
 		if v < 1e-9 {

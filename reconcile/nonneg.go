@@ -132,7 +132,8 @@ func nonnegativeFrom(g projector, base, unc *mat.Dense, locks *lockPlan) (*mat.D
 // With locks (eq, nil for none) each restricted solve also meets the
 // locks C·b = c (equalities.solve) and the multiplier of a bound variable
 // is w = P·b − q + Cᵀμ, μ the locks' multipliers: the optimality
-// conditions of the problem with both kinds of constraint.
+// conditions of the problem with both kinds of constraint. The series
+// under a lock of zero can only be zero; they are held there throughout.
 func activeSet(qp qpProblem, y, start []float64, eq *equalities) ([]float64, error) {
 	m := len(start)
 	q := qp.linear(y)
@@ -144,6 +145,16 @@ func activeSet(qp qpProblem, y, start []float64, eq *equalities) ([]float64, err
 	free := make([]bool, m)
 	for j, v := range start {
 		free[j] = v > 0
+	}
+	// A lock of zero holds non-negative series at zero: they are bound
+	// from the start and stay so (flipping them on rounding noise would
+	// only cycle).
+	var zero []bool
+	if eq != nil {
+		zero = eq.zeroed(m)
+		for j, z := range zero {
+			free[j] = free[j] && !z
+		}
 	}
 	x := start
 	w := make([]float64, m)
@@ -176,6 +187,9 @@ func activeSet(qp qpProblem, y, start []float64, eq *equalities) ([]float64, err
 		}
 		infeasible = infeasible[:0]
 		for j := range x {
+			if zero != nil && zero[j] {
+				continue
+			}
 			if free[j] && x[j] < -1e-12*xscale || !free[j] && w[j]-q[j] < -tol {
 				infeasible = append(infeasible, j)
 			}
