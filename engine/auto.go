@@ -31,6 +31,9 @@ func chooseMethod(ctx context.Context, d *Data, opt Options) (Reconciliation, *A
 	if rc.Cov != "" || rc.At != "" {
 		return rc, nil, inputerr.ForOption("Method", "the automatic choice picks the covariance and level itself; name a method to set them")
 	}
+	if rc.Locks != "" {
+		return rc, nil, inputerr.ForOption("Locks", "the automatic choice may pick a method that cannot keep locked forecasts; name the method (%s) to lock forecasts", lockMethods())
+	}
 	k := rc.Origins
 	if k == 0 {
 		k = AutoOrigins

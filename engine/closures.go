@@ -120,11 +120,17 @@ func (op *openPart) expand(full *hierarchy.Structure, sol reconcile.Solution, h 
 	if sol.Joint != nil {
 		out.Joint = sol.Joint.Expand(op.toFull, n)
 	}
+	if sol.Unlocked != nil {
+		out.Unlocked = zeros(n, h)
+	}
 	off := full.BottomOffset()
 	for i, f := range op.toFull {
 		copy(out.Forecast[f], sol.Forecast[i])
 		if sol.Variance != nil {
 			copy(out.Variance[f], sol.Variance[i])
+		}
+		if sol.Unlocked != nil {
+			copy(out.Unlocked[f], sol.Unlocked[i])
 		}
 		if f >= off {
 			copy(out.Bottom[f-off], sol.Forecast[i])

@@ -322,10 +322,16 @@ func Reconcile(ctx context.Context, bs *BaseSet, opt ReconcileOptions) (*Result,
 			}
 		}
 	}
+	locks, tradingLocks, err := prepareLocks(rc, method, nonnegativeFor(method, rc, noNegative), st, trading, bs.Periods[0], h)
+	if err != nil {
+		return nil, err
+	}
+	prob.Locks = tradingLocks
+	prob.StepLabel = func(k int) string { return bs.Periods[k].String() }
 	start := time.Now()
 	sol, nonneg, err := reconcileOpen(method, rc, prob, noNegative, trading, st, h)
 	if err != nil {
-		return nil, err
+		return nil, lockError(rc, err)
 	}
 	first := bs.Periods[0].Next(-T)
 	res := &Result{Structure: st, Calendar: Calendar{First: first, T: T}, History: history, Fits: fits,
@@ -348,6 +354,9 @@ func Reconcile(ctx context.Context, bs *BaseSet, opt ReconcileOptions) (*Result,
 	}
 	if nc := countTrue(closed); nc > 0 {
 		res.Report.Warnings = append(res.Report.Warnings, fmt.Sprintf("%d bottom series have closed and are forecast as zero", nc))
+	}
+	if err := res.recordLocks(&res.Report, rc, locks); err != nil {
+		return nil, err
 	}
 	return res, nil
 }

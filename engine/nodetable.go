@@ -388,6 +388,8 @@ func cellString(c tableio.Column, r int) string {
 		return strings.TrimSpace(c.Strings[r])
 	case tableio.Int64:
 		return strconv.FormatInt(c.Ints[r], 10)
+	case tableio.Date: // days since 1970-01-01
+		return tableio.Period{Grain: tableio.Day, Index: int(c.Ints[r])}.String()
 	default:
 		return strconv.FormatFloat(c.Floats[r], 'g', -1, 64)
 	}

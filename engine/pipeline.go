@@ -90,6 +90,14 @@ type Reconciliation struct {
 	// origins (CalibrationCheck.Helps). It costs about Calibrate more
 	// forecasts. 0 leaves the intervals as the model variances give them.
 	Calibrate int
+	// Locks, when set, is the path of a lock table (CSV, Parquet or Arrow,
+	// by extension): the key columns (empty or null where the node adds
+	// a column up), "period" and "value". Each row fixes a node's
+	// reconciled forecast at a forecast period; the other nodes are
+	// reconciled around the locks (see reconcile.Lock). Needs a method
+	// whose reconcile.MethodInfo.Locks is set (mint). A backtest ignores
+	// it, as it ignores the rest of Reconciliation.
+	Locks string
 	// Origins is the number of backtest origins behind Method "auto"
 	// (AutoMethod: the method is chosen by a short backtest of the
 	// DefaultCompare methods); 0 means AutoOrigins. Other methods refuse
@@ -137,6 +145,10 @@ type Result struct {
 	// (in Structure.Attrs order): tableio.Int64 for an integer column,
 	// whose values the writers give their integer type back.
 	KeyTypes []tableio.ColumnType
+	// Locks are the locked forecasts (node of Structure, step, value),
+	// nil without a lock table; Solution.Unlocked then holds the
+	// forecasts without them.
+	Locks []reconcile.Lock
 }
 
 // Calendar numbers a run's periods: T history periods starting at First,
@@ -292,6 +304,10 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	if err != nil {
 		return nil, err
 	}
+	locks, tradingLocks, err := prepareLocks(rc, method, nonnegativeFor(method, rc, d.Panel.Stats.Negative == 0), st, trading, d.Panel.Period(d.Panel.T), opt.Horizon)
+	if err != nil {
+		return nil, err
+	}
 	stage("structure", start)
 
 	start = time.Now()
@@ -320,9 +336,11 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 		prob.Temporal = append(prob.Temporal, reconcile.TemporalBase{Every: tb.Every, Base: trading.rows(tb.Base)})
 	}
 	prob.Joint = opt.joint
+	prob.Locks = tradingLocks
+	prob.StepLabel = func(k int) string { return d.Panel.Period(d.Panel.T + k).String() }
 	sol, nonneg, err := reconcileOpen(method, rc, prob, d.Panel.Stats.Negative == 0, trading, st, opt.Horizon)
 	if err != nil {
-		return nil, err
+		return nil, lockError(rc, err)
 	}
 	stage("reconcile", start)
 
@@ -334,6 +352,9 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 		stage("plans", start)
 	}
 	rep.fill(d, opt, rc, res, method.Name())
+	if err := res.recordLocks(&rep, rc, locks); err != nil {
+		return nil, err
+	}
 	res.Report = rep
 	if rc.Calibrate > 0 {
 		start := time.Now()
@@ -345,17 +366,24 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	return res, nil
 }
 
+// nonnegativeFor says whether reconciliation will be non-negative: the
+// option when given, else the method's default when the history has no
+// negative value (noNegative).
+func nonnegativeFor(method reconcile.Method, rc Reconciliation, noNegative bool) bool {
+	if rc.Nonnegative != nil {
+		return *rc.Nonnegative
+	}
+	info, _ := reconcile.LookupMethod(method.Name())
+	return info.NonNegativeDefault && noNegative
+}
+
 // reconcileOpen reconciles the still-trading part of the structure and
 // maps the solution back to the full structure (closed nodes are zero).
 // noNegative says whether the history has no negative value, which turns
 // non-negativity on for mint when the option leaves it automatic.
 func reconcileOpen(method reconcile.Method, rc Reconciliation, prob reconcile.Problem, noNegative bool,
 	trading *openPart, st *hierarchy.Structure, h int) (reconcile.Solution, bool, error) {
-	info, _ := reconcile.LookupMethod(method.Name())
-	nonneg := info.NonNegativeDefault && noNegative
-	if rc.Nonnegative != nil {
-		nonneg = *rc.Nonnegative
-	}
+	nonneg := nonnegativeFor(method, rc, noNegative)
 	prob.Nonnegative = nonneg
 	prob.Paths = rc.Paths
 	sol, err := method.Reconcile(prob)

@@ -19,6 +19,8 @@ type RunReport struct {
 	Models  map[string]int `json:"models"` // nodes per chosen family
 	// Reconcile holds the method and its facts, such as the shrinkage λ.
 	Reconcile ReconcileReport `json:"reconcile"`
+	// Locks lists the locked forecasts and what they moved; nil without.
+	Locks *LocksReport `json:"locks,omitempty"`
 	// Timings holds seconds per stage. They vary from run to run, so
 	// run.json is the one output that is not byte-identical across runs.
 	Timings  map[string]float64 `json:"timings_seconds"`

@@ -24,6 +24,9 @@ func (BottomUp) Reconcile(p Problem) (Solution, error) {
 	if err != nil {
 		return Solution{}, err
 	}
+	if err := refuseLocks(&p, "bottom-up"); err != nil {
+		return Solution{}, err
+	}
 	if p.Nonnegative {
 		return Solution{}, inputerr.ForOption("Nonnegative", "non-negative reconciliation applies to %s only (bottom-up keeps the bottom base forecasts)", nonNegativeOnly())
 	}

@@ -56,6 +56,21 @@ type Problem struct {
 	// Solution.Joint (for scoring the joint forecast; it keeps a factor
 	// of m × rank floats alive with the solution).
 	Joint bool
+	// Locks fix the reconciled forecasts of some nodes at some steps
+	// (see Lock); the projection reconciles the other nodes around them.
+	// Other methods refuse locks.
+	Locks []Lock
+	// StepLabel names forecast step k (0-based) in messages, such as its
+	// period; nil means "step k+1".
+	StepLabel func(k int) string
+}
+
+// stepLabel names step k for messages (see Problem.StepLabel).
+func (p *Problem) stepLabel(k int) string {
+	if p.StepLabel == nil {
+		return fmt.Sprintf("step %d", k+1)
+	}
+	return p.StepLabel(k)
 }
 
 // Solver selects the linear algebra of the projection methods.
@@ -114,6 +129,10 @@ type Solution struct {
 	// Notes records method facts worth keeping in run.json (such as the
 	// shrinkage intensity λ), keyed by name.
 	Notes map[string]float64
+	// Unlocked holds, when the problem has locks, the forecasts the same
+	// method gives without them (n × h), so that what the locks moved
+	// can be shown; nil otherwise.
+	Unlocked [][]float64
 }
 
 // Method is one reconciliation method.

@@ -43,6 +43,9 @@ type MethodInfo struct {
 	// forecasts of the series summed over quarters and whole seasons,
 	// which the caller fits beside the single-period ones.
 	Temporal bool
+	// Locks says whether the method reconciles around locked forecasts
+	// (Problem.Locks); the others refuse them (lockOnly).
+	Locks bool
 
 	build func(cov Covariance, at string) Method
 }
@@ -65,7 +68,7 @@ var methods = []MethodInfo{
 	{Name: "middle-out", Param: LevelParam, Help: "keep one level's forecasts, add up above, split below",
 		Explanation: "one level's forecasts are added up above it and split down below it",
 		build:       func(_ Covariance, at string) Method { return MiddleOut{Level: at} }},
-	{Name: "mint", Param: CovParam, NonNegativeDefault: true, Help: "combine every level's forecasts, weighted by how reliable their errors have been (MinT)",
+	{Name: "mint", Param: CovParam, NonNegativeDefault: true, Locks: true, Help: "combine every level's forecasts, weighted by how reliable their errors have been (MinT)",
 		Explanation: "MinT combines every level's forecast, weighting each by how reliable its errors have been, so that totals equal the sum of their parts",
 		build:       func(cov Covariance, _ string) Method { return Projection{Cov: cov} }},
 	{Name: "temporal", NonNegativeDefault: true, Temporal: true, Help: "also forecast each node by quarter and by year, combine across time (temporal hierarchy), then MinT",
@@ -184,6 +187,15 @@ func namesWith(p Param) string {
 // reconciliation, for the message of those that refuse it.
 func nonNegativeOnly() string {
 	return listNames(func(m MethodInfo) bool { return m.NonNegativeDefault })
+}
+
+// refuseLocks is the error of a method that does not take locks.
+func refuseLocks(p *Problem, method string) error {
+	if len(p.Locks) == 0 {
+		return nil
+	}
+	return inputerr.ForOption("Locks", "locked forecasts apply to %s only (%s has no weights to move the other nodes by)",
+		listNames(func(m MethodInfo) bool { return m.Locks }), method)
 }
 
 func listNames(keep func(MethodInfo) bool) string {

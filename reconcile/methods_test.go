@@ -8,8 +8,9 @@ import (
 
 // TestMethodTable checks every entry of the table of methods: ByName
 // builds it under its name, its label reads back to the same settings,
-// no two entries share a name or a label, and NonNegativeDefault is on
-// exactly for the methods that accept Problem.Nonnegative.
+// no two entries share a name or a label, NonNegativeDefault is on
+// exactly for the methods that accept Problem.Nonnegative and Locks for
+// those that accept Problem.Locks.
 func TestMethodTable(t *testing.T) {
 	st := grouped(t, 2, 2, 2)
 	p := problemFor(st, 30, 2, 3)
@@ -56,6 +57,12 @@ func TestMethodTable(t *testing.T) {
 		_, err := m.Reconcile(q)
 		if supported := err == nil; supported != info.NonNegativeDefault {
 			t.Errorf("%s: NonNegativeDefault %v, but reconciling with Nonnegative gives %v", info.Name, info.NonNegativeDefault, err)
+		}
+		q = p
+		q.Locks = []Lock{{Node: 0, Step: 1, Value: p.Base[0][1]}}
+		_, err = m.Reconcile(q)
+		if supported := err == nil; supported != info.Locks {
+			t.Errorf("%s: Locks %v, but reconciling with a lock gives %v", info.Name, info.Locks, err)
 		}
 	}
 	if len(labels) == 0 {

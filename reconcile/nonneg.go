@@ -23,21 +23,54 @@ type qpProblem interface {
 	// where rhs = linear(y); x0, when not nil, is a starting guess for
 	// iterative solvers.
 	solveFree(free []bool, rhs, y, x0 []float64) ([]float64, error)
+	// solveFreeLocked is solveFree subject also to the locks: the sums
+	// of the bottom series of nodes equal values. It returns the
+	// solution and the locks' Lagrange multipliers μ, with which
+	// P·x − q + Cᵀμ = 0 on the free set.
+	solveFreeLocked(free []bool, rhs, y, x0 []float64, nodes []int, values []float64) ([]float64, []float64, error)
 }
 
 // nonnegative returns, column by column, the minimizer of the
-// non-negative projection. A column whose unconstrained solution is
+// non-negative projection, and with locks (nil for none) also the
+// minimizer without them, for Solution.Unlocked (nil without locks). A
+// column whose unconstrained solution (moved onto the step's locks) is
 // already non-negative is returned unchanged. Otherwise it runs block
 // principal pivoting (activeSet) on the quadratic form, started from the
 // free set of the unconstrained solution's positive entries; each step
-// solves the projection restricted to the free bottom series, so the
-// answer is exact to solver precision and satisfies the optimality
-// conditions P·b − q ≥ 0 where b = 0.
-func nonnegative(g projector, base *mat.Dense) (*mat.Dense, error) {
+// solves the projection restricted to the free bottom series (and to the
+// locks), so the answer is exact to solver precision and satisfies the
+// optimality conditions.
+func nonnegative(g projector, base *mat.Dense, locks *lockPlan) (bottom, unlocked *mat.Dense, err error) {
 	unc, err := g.apply(base, solveTol)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
+	if locks == nil {
+		bottom, err = nonnegativeFrom(g, base, unc, nil)
+		return bottom, nil, err
+	}
+	locked := mat.DenseCopyOf(unc)
+	locks.apply(locked)
+	if bottom, err = nonnegativeFrom(g, base, locked, locks); err != nil {
+		return nil, nil, err
+	}
+	// Without locks a step is the same problem: only the steps with locks
+	// are solved again.
+	unlocked = mat.DenseCopyOf(bottom)
+	m, _ := unc.Dims()
+	col := make([]float64, m)
+	for k, s := range locks.steps {
+		if s != nil {
+			unlocked.SetCol(k, mat.Col(col, k, unc))
+		}
+	}
+	unlocked, err = nonnegativeFrom(g, base, unlocked, nil)
+	return bottom, unlocked, err
+}
+
+// nonnegativeFrom runs activeSet on the columns of the unconstrained
+// solution unc that have a negative entry and replaces them (in place).
+func nonnegativeFrom(g projector, base, unc *mat.Dense, locks *lockPlan) (*mat.Dense, error) {
 	m, h := unc.Dims()
 	var todo []int
 	for k := 0; k < h; k++ {
@@ -63,7 +96,7 @@ func nonnegative(g projector, base *mat.Dense) (*mat.Dense, error) {
 					continue
 				}
 				k := todo[t]
-				cols[t], errs[t] = activeSet(qp, mat.Col(nil, k, base), mat.Col(nil, k, unc))
+				cols[t], errs[t] = activeSet(qp, mat.Col(nil, k, base), mat.Col(nil, k, unc), locks.equalities(k))
 				if errs[t] != nil {
 					errs[t] = fmt.Errorf("non-negative reconciliation, step %d: %w", k+1, errs[t])
 				}
@@ -95,7 +128,13 @@ func nonnegative(g projector, base *mat.Dense) (*mat.Dense, error) {
 // backup rule), which guarantees termination because P is positive
 // definite. The answer is exact to solver precision; entries of b below
 // zero by rounding are set to 0.
-func activeSet(qp qpProblem, y, start []float64) ([]float64, error) {
+//
+// With locks (eq, nil for none) each restricted solve also meets the
+// locks C·b = c (equalities.solve) and the multiplier of a bound variable
+// is w = P·b − q + Cᵀμ, μ the locks' multipliers: the optimality
+// conditions of the problem with both kinds of constraint. The series
+// under a lock of zero can only be zero; they are held there throughout.
+func activeSet(qp qpProblem, y, start []float64, eq *equalities) ([]float64, error) {
 	m := len(start)
 	q := qp.linear(y)
 	scale := 0.0
@@ -107,17 +146,39 @@ func activeSet(qp qpProblem, y, start []float64) ([]float64, error) {
 	for j, v := range start {
 		free[j] = v > 0
 	}
+	// A lock of zero holds non-negative series at zero: they are bound
+	// from the start and stay so (flipping them on rounding noise would
+	// only cycle).
+	var zero []bool
+	if eq != nil {
+		zero = eq.zeroed(m)
+		for j, z := range zero {
+			free[j] = free[j] && !z
+		}
+	}
 	x := start
 	w := make([]float64, m)
 	fewest, backup := m+1, 3
 	var infeasible []int
 	for iter := 0; iter < 3*m+10; iter++ {
-		s, err := qp.solveFree(free, q, y, x)
+		var s, mu []float64
+		var err error
+		if eq == nil {
+			s, err = qp.solveFree(free, q, y, x)
+		} else {
+			var freed bool
+			if s, mu, freed, err = eq.solve(qp, free, q, y, x); freed {
+				continue // a lock had no free series left: some were freed
+			}
+		}
 		if err != nil {
 			return nil, err
 		}
 		x = s
 		qp.mul(w, x)
+		if eq != nil {
+			eq.addMultipliers(w, mu)
+		}
 		xscale := 0.0
 		for j := range x {
 			if free[j] {
@@ -126,6 +187,9 @@ func activeSet(qp qpProblem, y, start []float64) ([]float64, error) {
 		}
 		infeasible = infeasible[:0]
 		for j := range x {
+			if zero != nil && zero[j] {
+				continue
+			}
 			if free[j] && x[j] < -1e-12*xscale || !free[j] && w[j]-q[j] < -tol {
 				infeasible = append(infeasible, j)
 			}
@@ -166,6 +230,51 @@ func (q denseQP) linear(y []float64) []float64 {
 
 func (q denseQP) mul(dst, v []float64) {
 	mat.NewVecDense(len(dst), dst).MulVec(q.d.p, mat.NewVecDense(len(v), v))
+}
+
+// solveFreeLocked solves the restricted problem with the locks by its
+// Karush–Kuhn–Tucker system [P_FF C_Fᵀ; C_F 0]·[x_F; μ] = [q_F; c].
+func (q denseQP) solveFreeLocked(free []bool, rhs, _, _ []float64, nodes []int, values []float64) ([]float64, []float64, error) {
+	var idx []int
+	pos := make([]int, len(free))
+	for j, f := range free {
+		pos[j] = -1
+		if f {
+			pos[j] = len(idx)
+			idx = append(idx, j)
+		}
+	}
+	nf, L := len(idx), len(nodes)
+	kkt := mat.NewDense(nf+L, nf+L, nil)
+	b := mat.NewVecDense(nf+L, nil)
+	for a, i := range idx {
+		b.SetVec(a, rhs[i])
+		for c, j := range idx {
+			kkt.Set(a, c, q.d.p.At(i, j))
+		}
+	}
+	for l, node := range nodes {
+		b.SetVec(nf+l, values[l])
+		for _, j := range q.d.st.S.Row(node) {
+			if a := pos[j]; a >= 0 {
+				kkt.Set(a, nf+l, 1)
+				kkt.Set(nf+l, a, 1)
+			}
+		}
+	}
+	var sol mat.VecDense
+	if err := sol.SolveVec(kkt, b); err != nil {
+		return nil, nil, fmt.Errorf("restricted problem with locks: %w", err)
+	}
+	out := make([]float64, len(free))
+	for a, i := range idx {
+		out[i] = sol.AtVec(a)
+	}
+	mu := make([]float64, L)
+	for l := range mu {
+		mu[l] = sol.AtVec(nf + l)
+	}
+	return out, mu, nil
 }
 
 func (q denseQP) solveFree(free []bool, rhs, _, _ []float64) ([]float64, error) {

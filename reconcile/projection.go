@@ -129,6 +129,16 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 			solver = SolverDense
 		}
 	}
+	if len(p.Locks) > 0 {
+		if err := checkLocks(&p, n, h); err != nil {
+			return Solution{}, err
+		}
+		if p.Nonnegative {
+			if err := CheckNonnegativeLocks(p.Structure, p.Locks, p.StepLabel); err != nil {
+				return Solution{}, err
+			}
+		}
+	}
 	var g projector
 	if solver == SolverDense {
 		g, err = newDenseProjector(p.Structure, wg)
@@ -138,8 +148,9 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 	if err != nil {
 		return Solution{}, err
 	}
-	// The variances need only G, not the forecasts: they are solved in
-	// a goroutine of their own, beside the forecasts.
+	// The variances need only G and the locks, not the forecasts: they
+	// are solved in a goroutine of their own, beside the locks' columns
+	// and the forecasts, and take the locks when they need them.
 	type variances struct {
 		v     [][]float64
 		joint *Joint
@@ -147,25 +158,36 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 		err   error
 	}
 	vdone := make(chan variances, 1)
+	planned := make(chan *lockPlan, 1)
 	if p.wantVariance() {
 		go func() {
 			var out variances
 			defer func() { vdone <- out }()
 			defer crash.Catch(&out.err)
-			out.v, out.joint, out.paths, out.err = projectionVariance(&p, g, h)
+			out.v, out.joint, out.paths, out.err = projectionVariance(&p, g, h, planned)
 		}()
 	} else {
 		vdone <- variances{}
 	}
+	var locks *lockPlan
+	if len(p.Locks) > 0 {
+		if locks, err = newLockPlan(&p, g, wg, h); err != nil {
+			planned <- nil
+			<-vdone
+			return Solution{}, err
+		}
+	}
+	planned <- locks
 	base := mat.NewDense(n, h, nil)
 	for i, row := range p.Base {
 		base.SetRow(i, row)
 	}
-	var bottom *mat.Dense
+	var bottom, unlocked *mat.Dense
 	if p.Nonnegative {
-		bottom, err = nonnegative(g, base)
-	} else {
-		bottom, err = g.apply(base, solveTol)
+		bottom, unlocked, err = nonnegative(g, base, locks)
+	} else if bottom, err = g.apply(base, solveTol); err == nil && locks != nil {
+		unlocked = mat.DenseCopyOf(bottom)
+		locks.apply(bottom)
 	}
 	vr := <-vdone
 	if err != nil {
@@ -175,6 +197,10 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 		return Solution{}, vr.err
 	}
 	sol := coherent(p.Structure, denseRows(bottom))
+	if locks != nil {
+		sol.Unlocked = coherent(p.Structure, denseRows(unlocked)).Forecast
+		exactLocks(&sol, p.Structure, p.Locks)
+	}
 	if errc != nil && pr.Cov == CovShrink {
 		// Only the shrink covariance is shrunk: with any other the λ
 		// estimated on the way is used nowhere and is not reported.
@@ -192,8 +218,11 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 
 // projectionVariance returns the reconciled variances of a projection
 // (see Solution.Variance), their joint distribution when p.Joint asks for
-// it, and the number of sample paths behind them (0 when exact).
-func projectionVariance(p *Problem, g projector, h int) ([][]float64, *Joint, int, error) {
+// it (without the locks' correction: the backtest, its one user, ignores
+// locks), and the number of sample paths behind them (0 when exact).
+//
+// The locks arrive on planned (nil for none), once their plan is made.
+func projectionVariance(p *Problem, g projector, h int, planned <-chan *lockPlan) ([][]float64, *Joint, int, error) {
 	vc, err := p.varianceCov()
 	if err != nil {
 		return nil, nil, 0, err
@@ -211,12 +240,16 @@ func projectionVariance(p *Problem, g projector, h int) ([][]float64, *Joint, in
 	if f.ctrl != nil {
 		_, paths = f.ctrl.Dims()
 	}
+	locks := <-planned
+	if locks == nil && len(p.Locks) > 0 {
+		return nil, nil, 0, nil // the locks were refused; Reconcile reports why
+	}
 	c := growth(p, vc, bidx, h)
 	var joint *Joint
 	if p.Joint {
 		joint = projectionJoint(p.Structure, f, c)
 	}
-	return factorVariance(p.Structure, c, f), joint, paths, nil
+	return factorVariance(p.Structure, c, f, locks), joint, paths, nil
 }
 
 // projector applies G for one choice of W. Its methods may be called

@@ -481,12 +481,10 @@ type largeQP struct {
 	t2 []float64      // n scratch
 	t3 []float64      // n scratch
 	// warm keeps the constraint-form solution of the last restricted
-	// solve and the forecast column it was for: the next solve of the
-	// same column starts from it.
-	warm struct {
-		y []float64
-		x []float64
-	}
+	// solve of each right-hand side (the forecast column, and the
+	// columns of W of the locked nodes), by its first element's address:
+	// the next solve of the same column starts from it.
+	warm map[*float64][]float64
 }
 
 // winv sets dst = W⁻¹·v (n-vectors).
@@ -545,11 +543,31 @@ func (q *largeQP) mul(dst, v []float64) {
 // that no product costs more than the sparse S and k × T. The unknowns
 // are held as a (k + m)-vector, zero off A.
 func (q *largeQP) solveFree(free []bool, _, y, _ []float64) ([]float64, error) {
+	b, _, err := q.solveBordered(free, y, nil, nil)
+	return b, err
+}
+
+// solveFreeLocked implements lockedQP: the locks are unit rows e_i of
+// the locked nodes added to V, with right-hand side Vᵀy − d, d zero but
+// for the locks' values (the projection onto an affine set). Their
+// multipliers are the Lagrange multipliers μ of C·b = c in the bottom
+// form: P·b − q = −Sᵀ·V·x = −x_A − Cᵀ·x_L, so P·b − q + Cᵀμ = 0 on the
+// free series with μ = x_L.
+func (q *largeQP) solveFreeLocked(free []bool, _, y, _ []float64, nodes []int, values []float64) ([]float64, []float64, error) {
+	return q.solveBordered(free, y, nodes, values)
+}
+
+// solveBordered is solveFree with the rows of V at the locked nodes
+// (nil for none) added; it returns the bottom rows and the locks'
+// multipliers.
+func (q *largeQP) solveBordered(free []bool, y []float64, lockNodes []int, lockValues []float64) ([]float64, []float64, error) {
 	lp := q.lp
 	k, m, n := lp.k, lp.m, lp.n
 	d := lp.w.Delta
 	T := q.T
 	u := lp.w.U
+	L := len(lockNodes)
+	size := k + m + L
 	bound := func(v []float64) { // zero the μ part off A
 		for j, f := range free {
 			if f {
@@ -559,14 +577,21 @@ func (q *largeQP) solveFree(free []bool, _, y, _ []float64) ([]float64, error) {
 	}
 	vn := make([]float64, n)
 	small := make([]float64, T)
-	// mulV sets dst = VᵀWV·x.
-	mulV := func(dst, x []float64) {
+	// vmul sets vn = V·x (n-vector).
+	vmul := func(x []float64) {
 		lp.ucMul(vn, x[:k], 1)
 		for j, f := range free {
 			if !f {
 				vn[k+j] += x[k+j]
 			}
 		}
+		for l, i := range lockNodes {
+			vn[i] += x[k+m+l]
+		}
+	}
+	// mulV sets dst = VᵀWV·x.
+	mulV := func(dst, x []float64) {
+		vmul(x)
 		for i, di := range d {
 			vn[i] *= di
 		}
@@ -577,10 +602,13 @@ func (q *largeQP) solveFree(free []bool, _, y, _ []float64) ([]float64, error) {
 				dst[k+j] = vn[k+j]
 			}
 		}
+		for l, i := range lockNodes {
+			dst[k+m+l] = vn[i]
+		}
 		if T == 0 {
 			return
 		}
-		// Uᵀ·V·x = Yᵀ·x_k + U_Aᵀ·x_A, then add [Y; U_A]·that.
+		// Uᵀ·V·x = Yᵀ·x_k + U_Aᵀ·x_A + U_Lᵀ·x_L, then add [Y; U_A; U_L]·that.
 		sv := blas64.Vector{N: T, Inc: 1, Data: small}
 		blas64.Gemv(blas.Trans, 1, lp.y, blas64.Vector{N: k, Inc: 1, Data: x[:k]}, 0, sv)
 		for j, f := range free {
@@ -588,11 +616,17 @@ func (q *largeQP) solveFree(free []bool, _, y, _ []float64) ([]float64, error) {
 				floats.AddScaled(small, x[k+j], u[(k+j)*T:(k+j+1)*T])
 			}
 		}
+		for l, i := range lockNodes {
+			floats.AddScaled(small, x[k+m+l], u[i*T:(i+1)*T])
+		}
 		blas64.Gemv(blas.NoTrans, 1, lp.y, sv, 1, blas64.Vector{N: k, Inc: 1, Data: dst[:k]})
 		for j, f := range free {
 			if !f {
 				dst[k+j] += floats.Dot(u[(k+j)*T:(k+j+1)*T], small)
 			}
+		}
+		for l, i := range lockNodes {
+			dst[k+m+l] += floats.Dot(u[i*T:(i+1)*T], small)
 		}
 	}
 	tmp := make([]float64, k)
@@ -600,14 +634,21 @@ func (q *largeQP) solveFree(free []bool, _, y, _ []float64) ([]float64, error) {
 	for a := range inv {
 		inv[a] = 1 / lp.dq[a]
 	}
-	wdiag := make([]float64, m) // 1 / W_jj of the bottom series
-	for j := range wdiag {
-		v := d[k+j]
+	wii := func(i int) float64 { // W_ii
+		v := d[i]
 		if T > 0 {
-			r := u[(k+j)*T : (k+j+1)*T]
+			r := u[i*T : (i+1)*T]
 			v += floats.Dot(r, r)
 		}
-		wdiag[j] = 1 / v
+		return v
+	}
+	wdiag := make([]float64, m) // 1 / W_jj of the bottom series
+	for j := range wdiag {
+		wdiag[j] = 1 / wii(k+j)
+	}
+	ldiag := make([]float64, L)
+	for l, i := range lockNodes {
+		ldiag[l] = 1 / wii(i)
 	}
 	pre := func(dst, r []float64) {
 		lp.precond(dst[:k], r[:k], small, tmp, inv, 1)
@@ -617,34 +658,40 @@ func (q *largeQP) solveFree(free []bool, _, y, _ []float64) ([]float64, error) {
 				dst[k+j] = wdiag[j] * r[k+j]
 			}
 		}
+		for l := range lockNodes {
+			dst[k+m+l] = ldiag[l] * r[k+m+l]
+		}
 	}
-	b := make([]float64, k+m) // Vᵀy
+	b := make([]float64, size) // Vᵀy − d
 	lp.ucTMul(b[:k], y, 1)
 	for j, f := range free {
 		if !f {
 			b[k+j] = y[k+j]
 		}
 	}
-	x := make([]float64, k+m)
-	if len(q.warm.y) > 0 && &q.warm.y[0] == &y[0] {
-		copy(x, q.warm.x)
+	for l, i := range lockNodes {
+		b[k+m+l] = y[i] - lockValues[l]
+	}
+	x := make([]float64, size)
+	if prev, ok := q.warm[&y[0]]; ok {
+		copy(x[:k+m], prev)
 		bound(x)
 	}
-	res := make([]float64, k+m)
+	res := make([]float64, size)
 	mulV(res, x)
 	for i := range res {
 		res[i] = b[i] - res[i]
 	}
 	bn := math.Sqrt(dot(b, b))
-	z := make([]float64, k+m)
-	ap := make([]float64, k+m)
+	z := make([]float64, size)
+	ap := make([]float64, size)
 	if bn > 0 {
 		pre(z, res)
 		p := append([]float64(nil), z...)
 		rz := dot(res, z)
 		for it := 0; math.Sqrt(dot(res, res)) > solveTol*bn; it++ {
 			if it == maxCGIter {
-				return nil, fmt.Errorf("conjugate gradients did not converge in %d iterations", maxCGIter)
+				return nil, nil, fmt.Errorf("conjugate gradients did not converge in %d iterations", maxCGIter)
 			}
 			mulV(ap, p)
 			alpha := rz / dot(p, ap)
@@ -658,14 +705,12 @@ func (q *largeQP) solveFree(free []bool, _, y, _ []float64) ([]float64, error) {
 			}
 		}
 	}
-	q.warm.y, q.warm.x = y, x
-	// Bottom rows of ỹ = y − W·V·x.
-	lp.ucMul(vn, x[:k], 1)
-	for j, f := range free {
-		if !f {
-			vn[k+j] += x[k+j]
-		}
+	if q.warm == nil {
+		q.warm = map[*float64][]float64{}
 	}
+	q.warm[&y[0]] = x[:k+m]
+	// Bottom rows of ỹ = y − W·V·x.
+	vmul(x)
 	out := make([]float64, m)
 	if T > 0 {
 		clear(small)
@@ -685,7 +730,7 @@ func (q *largeQP) solveFree(free []bool, _, y, _ []float64) ([]float64, error) {
 		}
 		out[j] = v
 	}
-	return out, nil
+	return out, x[k+m:], nil
 }
 
 func dot(a, b []float64) float64 { return floats.Dot(a, b) }

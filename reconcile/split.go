@@ -157,6 +157,9 @@ func (t TopDown) Reconcile(p Problem) (Solution, error) {
 	if err != nil {
 		return Solution{}, err
 	}
+	if err := refuseLocks(&p, t.Name()); err != nil {
+		return Solution{}, err
+	}
 	if p.Nonnegative {
 		return Solution{}, inputerr.ForOption("Nonnegative", "non-negative reconciliation applies to %s only (%s keeps the sign of the total)", nonNegativeOnly(), t.Name())
 	}
@@ -337,6 +340,9 @@ func (MiddleOut) Name() string { return "middle-out" }
 func (mo MiddleOut) Reconcile(p Problem) (Solution, error) {
 	_, _, h, err := p.dims()
 	if err != nil {
+		return Solution{}, err
+	}
+	if err := refuseLocks(&p, mo.Name()); err != nil {
 		return Solution{}, err
 	}
 	if p.Nonnegative {

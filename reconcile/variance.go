@@ -94,7 +94,13 @@ const chunk = 32
 // error largely cancels; where it does not, β_i ≈ 0 and the plain estimate
 // is kept. The estimate falls back to the plain one if not positive.
 // Steps are independent and shared between two goroutines.
-func factorVariance(st *hierarchy.Structure, c [][]float64, f *factor) [][]float64 {
+//
+// With locks (nil for none), the bottom error columns of a step with
+// locks are multiplied by that step's M = I − P⁻¹Cᵀ(CP⁻¹Cᵀ)⁻¹C (see
+// lockPlan) before the sums: locked nodes get zero variance, the others
+// the variance of the constrained projection. The control variate's
+// columns are left as they are: it stays a valid, if weaker, control.
+func factorVariance(st *hierarchy.Structure, c [][]float64, f *factor, locks *lockPlan) [][]float64 {
 	n, m := st.S.Dims()
 	off := n - m
 	h := len(c[0])
@@ -119,12 +125,20 @@ func factorVariance(st *hierarchy.Structure, c [][]float64, f *factor) [][]float
 	}
 	one := func(k int, buf []float64, mom [4][]float64) {
 		col := make([]float64, n)
+		var sl *stepLocks
+		if locks != nil {
+			sl = locks.steps[k]
+		}
 		if f.exact != nil {
 			_, r := f.exact.Dims()
 			for c0 := 0; c0 < r; c0 += 2 * chunk {
 				w := min(2*chunk, r-c0)
 				fill(buf, w, w, k, c0, f.exact)
 				pl.sum(buf, w)
+				if sl != nil {
+					locks.correctRows(sl, buf, w, w, off)
+					pl.sum(buf, w)
+				}
 				for i := 0; i < n; i++ {
 					v := buf[i*w : (i+1)*w]
 					col[i] += floats.Dot(v, v)
@@ -140,6 +154,10 @@ func factorVariance(st *hierarchy.Structure, c [][]float64, f *factor) [][]float
 				w := 2 * k0
 				fill(buf, w, k0, k, c0, f.paths, f.ctrl)
 				pl.sum(buf, w)
+				if sl != nil {
+					locks.correctRows(sl, buf, w, k0, off)
+					pl.sum(buf, w)
+				}
 				for i := 0; i < n; i++ {
 					row := buf[i*w : (i+1)*w]
 					for s := 0; s < k0; s++ {
@@ -158,6 +176,11 @@ func factorVariance(st *hierarchy.Structure, c [][]float64, f *factor) [][]float
 			pl.sum(buf, 1)
 			for i := 0; i < n; i++ {
 				col[i] += controlled(float64(N), mom[0][i], mom[1][i], mom[2][i], mom[3][i], buf[i])
+			}
+		}
+		if sl != nil {
+			for _, i := range sl.nodes {
+				col[i] = 0 // zero in exact arithmetic (C·M = 0)
 			}
 		}
 		for i := 0; i < n; i++ {

@@ -279,11 +279,98 @@ func TestReportInBrowser(t *testing.T) {
 		t.Fatal(err)
 	}
 	saveShot(t, filepath.Join(t.TempDir(), "accuracy.png"), accShot)
+
+	// The same forecasts with two locks (the total at step 3, a category
+	// at step 5; the demo's fits reused): the locks section lists them,
+	// one row of moves per level, and the total's chart passes through
+	// its lock with a band of zero width there.
+	lockedPath := lockedReport(t, res)
+	if err := chromedp.Do(ctx, chromedp.Navigate("file://"+lockedPath)); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := chromedp.Run(ctx, chromedp.Poll[bool](`!!(window.trueupReport && (window.trueupReport.ready || window.trueupReport.error))`,
+		chromedp.WithPollingTimeout(30*time.Second))); err != nil {
+		t.Fatalf("the page with locks did not finish drawing: %v", err)
+	}
+	if rows := eval(`document.getElementById("locks").hidden ? -1 : document.querySelectorAll("#locks-tables table")[0].rows.length - 1`); rows != 2 {
+		t.Errorf("the locks section lists %v locks, want 2", rows)
+	}
+	if rows := eval(`document.querySelectorAll("#locks-tables table")[1].rows.length - 1`); int(rows) != len(res.Structure.Levels) {
+		t.Errorf("the moves table has %v rows, want one per level (%d)", rows, len(res.Structure.Levels))
+	}
+	at := res.Calendar.T + 2
+	drawn, err := chromedp.Run(ctx, chromedp.Evaluate[[]float64](fmt.Sprintf(`[3, 4, 5].map(s => document.getElementById("total-chart").uplot.data[s][%d])`, at)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := lockedTotal(res); len(drawn) != 3 || math.Abs(drawn[0]-want) > 1e-6*want || drawn[1] != drawn[0] || drawn[2] != drawn[0] {
+		t.Errorf("the total at its lock is drawn as forecast and band %v, want %v with no width", drawn, want)
+	}
+	if err := chromedp.Do(ctx, chromedp.ScrollIntoView(chromedp.CSS("#locks"))); err != nil {
+		t.Fatal(err)
+	}
+	lockShot, err := chromedp.Run(ctx, chromedp.CaptureScreenshot())
+	if err != nil {
+		t.Fatal(err)
+	}
+	saveShot(t, filepath.Join(t.TempDir(), "locks.png"), lockShot)
 	mu.Lock()
 	defer mu.Unlock()
 	for _, p := range problems {
 		t.Error(p)
 	}
+}
+
+// lockedTotal is the value the total is locked to in lockedReport: 5%
+// above its forecast at step 3.
+func lockedTotal(res *engine.Result) float64 {
+	total, _ := totalNodeIndex(res)
+	return math.Round(1.05 * res.Solution.Forecast[total][2])
+}
+
+// lockedReport forecasts the demo again with the fits of res and two
+// locks, the total at step 3 (lockedTotal) and the first category at
+// step 5 (its forecast less a tenth), and writes its report.
+func lockedReport(t *testing.T, res *engine.Result) string {
+	t.Helper()
+	st := res.Structure
+	cat := -1
+	for i, nd := range st.Nodes {
+		if st.Levels[nd.Level].Name == "category" {
+			cat = i
+			break
+		}
+	}
+	if cat < 0 {
+		t.Fatal("the demo has no category level")
+	}
+	var b strings.Builder
+	b.WriteString(strings.Join(st.Attrs, ",") + ",period,value\n")
+	row := func(i, k int, v float64) {
+		b.WriteString(strings.Join(st.Nodes[i].Key, ",") + fmt.Sprintf(",%s,%g\n", res.ForecastPeriod(k), v))
+	}
+	total, _ := totalNodeIndex(res)
+	row(total, 2, lockedTotal(res))
+	row(cat, 4, math.Round(0.9*res.Solution.Forecast[cat][4]))
+	dir := t.TempDir()
+	path := filepath.Join(dir, "locks.csv")
+	if err := os.WriteFile(path, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	reuse := engine.FitterFunc(func(context.Context, []engine.FitJob, func(int, int)) ([]engine.NodeFit, error) { return res.Fits, nil })
+	locked, err := engine.Forecast(context.Background(), demoData(t), engine.Options{Fitter: reuse, Reconcile: engine.Reconciliation{Locks: path}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	in, err := FromResult(locked, "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	out, err := Write(dir, in)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return out
 }
 
 // totalNodeIndex returns the index of the node of the total level.

@@ -29,6 +29,17 @@ import (
 // year: the zero spec is the demo's own automatic choice.
 func forecastDemo(t testing.TB, spec families.Spec) *engine.Result {
 	t.Helper()
+	res, err := engine.Forecast(context.Background(), demoData(t), engine.Options{Model: spec, Fitter: engine.Local{Workers: 2},
+		PlanGrains: []tableio.Grain{tableio.Quarter, tableio.Year}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return res
+}
+
+// demoData loads the demo chain's monthly sales.
+func demoData(t testing.TB) *engine.Data {
+	t.Helper()
 	path := filepath.Join(t.TempDir(), "demo_sales.parquet")
 	if err := os.WriteFile(path, fixtures.DemoMonthlyParquet, 0o644); err != nil {
 		t.Fatal(err)
@@ -38,12 +49,7 @@ func forecastDemo(t testing.TB, spec families.Spec) *engine.Result {
 	if err != nil {
 		t.Fatal(err)
 	}
-	res, err := engine.Forecast(context.Background(), data, engine.Options{Model: spec, Fitter: engine.Local{Workers: 2},
-		PlanGrains: []tableio.Grain{tableio.Quarter, tableio.Year}})
-	if err != nil {
-		t.Fatal(err)
-	}
-	return res
+	return data
 }
 
 func sameFloat32(got float32, want float64) bool {

@@ -80,7 +80,7 @@ var optionFlags = map[string]string{
 	"Nonnegative": "--nonnegative", "Paths": "--paths", "History": "--history",
 	"Formats": "--format", "Out": "--out", "SumDuplicates": "--sum-duplicates", "Grain": "--grain",
 	"Origins": "--origins", "Every": "--every", "Compare": "--compare", "Calibrate": "--calibrate",
-	"From": "--from", "Until": "--until", "TimeKind": "--integer-time", "PlanGrains": "--plan-grain",
+	"From": "--from", "Until": "--until", "TimeKind": "--integer-time", "PlanGrains": "--plan-grain", "Locks": "--lock",
 }
 
 // run executes the command line and maps errors to exit statuses: input and

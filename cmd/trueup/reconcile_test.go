@@ -291,3 +291,61 @@ func captureStdout(t *testing.T, f func()) string {
 	w.Close()
 	return string(<-done)
 }
+
+// TestReconcileLocks runs reconcile with a lock table: the locked total
+// comes out exactly, with a zero-width interval, the summary says so and
+// run.json lists the lock; contradictory locks (the total locked to other than the sum of
+// both its locked regions) exit 2 naming the table and the nodes, and
+// write nothing.
+func TestReconcileLocks(t *testing.T) {
+	dir := t.TempDir()
+	base, res := baseCSV(t, dir, -1, nil), residualCSV(t, dir, false)
+	locks := writeFile(t, dir, "locks.csv", "region,store,period,value\n,,2026-02-01,120\n")
+	out := filepath.Join(dir, "out")
+	stdout := captureStdout(t, func() {
+		if code := run([]string{"reconcile", "--base", base, "--residuals", res, "--nest", "region,store", "--lock", locks, "--out", out, "--format", "csv", "--no-report", "--quiet"}); code != 0 {
+			t.Fatalf("exit %d", code)
+		}
+	})
+	if !strings.Contains(stdout, "Locked forecasts: 1, from "+locks) {
+		t.Errorf("the summary does not say what was locked:\n%s", stdout)
+	}
+	total := readForecasts(t, filepath.Join(out, "forecasts.csv"))["//2026-02"] // base, forecast, 80% bounds
+	if len(total) != 4 || total[1] != 120 || total[2] != 120 || total[3] != 120 {
+		t.Errorf("total in 2026-02: base, forecast and 80%% bounds %v; want the forecast locked to 120 with zero width", total)
+	}
+	var rj struct {
+		Locks struct {
+			Rows []struct {
+				Node, Period string
+				Value        float64
+			}
+		}
+	}
+	b, err := os.ReadFile(filepath.Join(out, "run.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(b, &rj); err != nil {
+		t.Fatal(err)
+	}
+	if len(rj.Locks.Rows) != 1 || rj.Locks.Rows[0].Node != "total" || rj.Locks.Rows[0].Period != "2026-02" || rj.Locks.Rows[0].Value != 120 {
+		t.Errorf("run.json's locks: %+v", rj.Locks.Rows)
+	}
+
+	bad := writeFile(t, dir, "bad.csv", "region,store,period,value\n,,2026-01,100\nR1,,2026-01,60\nR2,,2026-01,30\n")
+	out2 := filepath.Join(dir, "out2")
+	stderr := captureStderr(t, func() {
+		if code := run([]string{"reconcile", "--base", base, "--residuals", res, "--nest", "region,store", "--lock", bad, "--out", out2, "--quiet"}); code != 2 {
+			t.Errorf("contradictory locks: exit %d, want 2", code)
+		}
+	})
+	for _, want := range []string{bad, "2026-01", "total is locked to 100", "region=R1 (60)", "region=R2 (30)", "fix it at 90"} {
+		if !strings.Contains(stderr, want) {
+			t.Errorf("%q does not say %q", stderr, want)
+		}
+	}
+	if _, err := os.Stat(out2); !os.IsNotExist(err) {
+		t.Errorf("contradictory locks left %s behind (%v)", out2, err)
+	}
+}

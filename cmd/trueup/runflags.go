@@ -42,6 +42,7 @@ type reconcileFlags struct {
 	method, cov, at string
 	nonnegative     bool
 	paths           int
+	locks           string
 }
 
 func (f *reconcileFlags) register(cmd *cobra.Command) {
@@ -51,7 +52,9 @@ func (f *reconcileFlags) register(cmd *cobra.Command) {
 	fl.StringVar(&f.at, "at", "", "level to reconcile from with "+methodsWhere(func(m reconcile.MethodInfo) bool { return m.Param == reconcile.LevelParam })+", e.g. region+category")
 	fl.BoolVar(&f.nonnegative, "nonnegative", false, "keep reconciled bottom-level forecasts at or above zero\n(default: on for "+methodsWhere(func(m reconcile.MethodInfo) bool { return m.NonNegativeDefault })+" when the history has no negative value; --nonnegative=false turns it off)")
 	fl.IntVar(&f.paths, "paths", reconcile.DefaultPaths, fmt.Sprintf("above %d nodes, mint's interval widths are exact while at most this many nodes have residuals that start late, partly from this many sample paths above (more: slower, closer)", reconcile.DenseMaxNodes))
-	groupFlags(cmd, "Reconciliation", "method", "cov", "at", "nonnegative", "paths")
+	fl.StringVar(&f.locks, "lock", "", "lock table (CSV, Parquet or Arrow): the key columns (empty where a node adds a column up),\n"+
+		engine.LockPeriodColumn+" and "+engine.LockValueColumn+"; each row fixes a node's forecast at a forecast period exactly (a target, a\nclosure as 0) and mint reconciles every other node around the locks")
+	groupFlags(cmd, "Reconciliation", "method", "cov", "at", "nonnegative", "paths", "lock")
 }
 
 // methodHelp lists the reconciliation methods of reconcile.Methods with
@@ -81,7 +84,7 @@ func methodsWhere(keep func(reconcile.MethodInfo) bool) string {
 }
 
 func (f *reconcileFlags) options(cmd *cobra.Command) engine.Reconciliation {
-	r := engine.Reconciliation{Method: f.method, Cov: f.cov, At: f.at, Paths: f.paths}
+	r := engine.Reconciliation{Method: f.method, Cov: f.cov, At: f.at, Paths: f.paths, Locks: f.locks}
 	if cmd.Flags().Changed("nonnegative") {
 		r.Nonnegative = &f.nonnegative
 	}

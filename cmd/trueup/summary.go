@@ -96,6 +96,10 @@ func printTail(w io.Writer, res *engine.Result, files []string) {
 		}
 		fmt.Fprintf(w, "\nReconciliation: %s.\n", strings.Join(notes, ", "))
 	}
+	if lk := rep.Locks; lk != nil {
+		fmt.Fprintf(w, "\nLocked forecasts: %d, from %s. They come out exactly as given, with no interval; every other forecast was reconciled around them (see run.json's locks and the report).\n",
+			len(lk.Rows), escapeUnprintable(lk.Path))
+	}
 	printTotal(w, res)
 	printTotalPlans(w, res)
 	if len(rep.Warnings) > 0 {

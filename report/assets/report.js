@@ -164,7 +164,34 @@
     const why = run.reconcile.explanation || "the method named in the run's options";
     fact("Reconciliation", `${run.reconcile.method}${opts.cov ? " (covariance " + opts.cov + ")" : ""}${opts.nonnegative ? ", non-negative" : ""}: ${why}${notes ? "; " + notes : ""}`);
   }
+  const locks = run.locks;
+  if (locks && Array.isArray(locks.rows)) {
+    const file = String(locks.path || "").split(/[\\/]/).pop();
+    fact("Locks", el("span", { title: locks.path }, `${nf0.format(locks.rows.length)} locked forecasts from ${file}`));
+  }
   if (run.warnings && run.warnings.length) fact("Warnings", el("ul", {}, ...run.warnings.map(w => el("li", { class: "warning" }, w))));
+
+  // Locked forecasts (run.json's "locks", see engine.LocksReport): each
+  // lock beside the forecast without locks, and how far the locks moved
+  // the other forecasts of each level.
+  if (locks && Array.isArray(locks.rows) && locks.rows.length) {
+    const sec = document.getElementById("locks");
+    sec.hidden = false;
+    const box = document.getElementById("locks-tables");
+    const table = (head, rows) => el("div", { class: "scroll" }, el("table", {},
+      el("tr", {}, ...head.map((h, j) => el("th", { class: j > 1 ? "num" : "" }, h))),
+      ...rows.map(r => el("tr", {}, ...r.map((v, j) => el("td", { class: j > 1 ? "num" : "" }, v))))));
+    const signed = v => (v > 0 ? "+" : "") + fmt(v);
+    box.append(el("h3", {}, "The locks"), table(["node", "period", "locked value", "without locks", "change"],
+      locks.rows.map(r => [r.node, r.period, fmt(r.value), fmt(r.unlocked_forecast), signed(r.value - r.unlocked_forecast)])));
+    const pct = v => nf2.format(100 * v) + "%";
+    box.append(el("h3", {}, "How far the locks moved the other forecasts"),
+      el("p", { class: "note" }, "Per level, over every forecast period and node that is not locked: the mean absolute change from the forecast without locks, the change as a share of those forecasts, and the largest change."),
+      table(["level", "largest change at", "forecasts", "mean change", "share", "largest change"],
+        (locks.moved_by_level || []).map(m => [m.level, m.max_node ? `${m.max_node}, ${m.max_period}` : "–", nf0.format(m.forecasts),
+          fmt(m.mean_abs_change), pct(m.relative_change), fmt(m.max_abs_change)])));
+    sec.dataset.locks = String(locks.rows.length);
+  }
 
   // Forecast sections: left out for a backtest's folder, which has no forecasts.
   if (N > 0) {

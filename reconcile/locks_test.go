@@ -1,0 +1,408 @@
+package reconcile
+
+import (
+	"math"
+	"strings"
+	"testing"
+
+	"gonum.org/v1/gonum/mat"
+
+	"trueup/inputerr"
+)
+
+// denseSW returns S (n × m) and the projection's W (n × n), both formed
+// densely from their definitions.
+func denseSW(t *testing.T, p Problem, cov Covariance) (*mat.Dense, *mat.Dense) {
+	t.Helper()
+	st := p.Structure
+	n, m := st.S.Dims()
+	s := mat.NewDense(n, m, nil)
+	for i := 0; i < n; i++ {
+		for j := 0; j < m; j++ {
+			s.Set(i, j, st.S.At(i, j))
+		}
+	}
+	w := mat.NewDense(n, n, nil)
+	switch cov {
+	case CovStructural:
+		for i := 0; i < n; i++ {
+			w.Set(i, i, float64(len(st.S.Row(i))))
+		}
+	case CovShrink:
+		errc, err := p.errorCov()
+		if err != nil {
+			t.Fatal(err)
+		}
+		for i := 0; i < n; i++ {
+			for j := 0; j < n; j++ {
+				w.Set(i, j, errc.at(i, j))
+			}
+		}
+	default:
+		t.Fatalf("no dense W for %s", cov)
+	}
+	return s, w
+}
+
+func inverse(t *testing.T, a mat.Matrix) *mat.Dense {
+	t.Helper()
+	out, ok := tryInverse(a)
+	if !ok {
+		t.Fatal("singular matrix")
+	}
+	return out
+}
+
+// tryInverse inverts a, reporting false when it is singular.
+func tryInverse(a mat.Matrix) (*mat.Dense, bool) {
+	var out mat.Dense
+	if err := out.Inverse(a); err != nil {
+		return nil, false
+	}
+	return &out, true
+}
+
+// restrictedGLS is the locked MinT of one step written directly: the
+// restricted least squares estimator (the closed form of least squares
+// under linear equality constraints, as in Greene, Econometric Analysis,
+// "restricted least squares"; from memory), here in the W⁻¹ metric of
+// MinT, as Zhang et al. (2023, "Optimal forecast reconciliation with
+// immutable forecasts", EJOR; from memory) state reconciliation with
+// immutable forecasts:
+//
+//	b̂ = P⁻¹SᵀW⁻¹ŷ,  P = SᵀW⁻¹S
+//	b̃ = b̂ − P⁻¹Cᵀ(CP⁻¹Cᵀ)⁻¹(Cb̂ − c)
+//
+// It returns b̃, M = I − P⁻¹Cᵀ(CP⁻¹Cᵀ)⁻¹C and G = P⁻¹SᵀW⁻¹ (the
+// reconciled bottom error is M·G·e), and false when CP⁻¹Cᵀ is singular.
+func restrictedGLS(t *testing.T, s, w *mat.Dense, yhat []float64, locked []int, values []float64) ([]float64, *mat.Dense, *mat.Dense, bool) {
+	t.Helper()
+	n, m := s.Dims()
+	wi := inverse(t, w)
+	var swi, pm mat.Dense
+	swi.Mul(s.T(), wi) // SᵀW⁻¹
+	pm.Mul(&swi, s)
+	pi := inverse(t, &pm)
+	var g mat.Dense
+	g.Mul(pi, &swi) // G = P⁻¹SᵀW⁻¹
+	var bhat mat.VecDense
+	bhat.MulVec(&g, mat.NewVecDense(n, yhat))
+	if len(locked) == 0 {
+		return bhat.RawVector().Data, eye(m), &g, true
+	}
+	c := mat.NewDense(len(locked), m, nil)
+	for a, i := range locked {
+		c.SetRow(a, mat.Row(nil, i, s))
+	}
+	var pct, cpc mat.Dense
+	pct.Mul(pi, c.T())
+	cpc.Mul(c, &pct)
+	cpci, ok := tryInverse(&cpc)
+	if !ok {
+		return nil, nil, nil, false
+	}
+	var r mat.VecDense
+	r.MulVec(c, &bhat)
+	r.SubVec(&r, mat.NewVecDense(len(values), values))
+	var adj, corr mat.VecDense
+	adj.MulVec(cpci, &r)
+	corr.MulVec(&pct, &adj)
+	var bt mat.VecDense
+	bt.SubVec(&bhat, &corr)
+	var k1, k, mm mat.Dense
+	k1.Mul(&pct, cpci)
+	k.Mul(&k1, c)
+	mm.Sub(eye(m), &k)
+	return bt.RawVector().Data, &mm, &g, true
+}
+
+// TestLockedMinTMatchesDenseFormula checks locked MinT on both solvers
+// against restrictedGLS, forecasts and variances to 1e-8: the variance
+// of node i at step k is the diagonal of S·M·C_h·G·W1·Gᵀ·C_h·Mᵀ·Sᵀ (see
+// Solution.Variance: C_h·G·e is the unlocked bottom error at step h,
+// and M moves it onto the locks), zero
+// at locked nodes. Locks: the total at step 1; a region, a category and
+// one bottom series at step 2; nothing at step 3.
+func TestLockedMinTMatchesDenseFormula(t *testing.T) {
+	st := grouped(t, 2, 3, 3)
+	for _, cov := range []Covariance{CovShrink, CovStructural} {
+		p := problemFor(st, 40, 3, 7)
+		region, _ := st.Lookup([]string{"R1", "", ""})
+		cat, _ := st.Lookup([]string{"", "", "C2"})
+		leaf, _ := st.Lookup([]string{"R0", "R0S1", "C0"})
+		p.Locks = []Lock{
+			{Node: 0, Step: 0, Value: 1.1 * p.Base[0][0]},
+			{Node: region, Step: 1, Value: 0.8 * p.Base[region][1]},
+			{Node: cat, Step: 1, Value: p.Base[cat][1] + 25},
+			{Node: leaf, Step: 1, Value: 0},
+		}
+		s, w := denseSW(t, p, cov)
+		vc, _ := p.varianceCov()
+		n, m := s.Dims()
+		w1 := mat.NewDense(n, n, nil)
+		for i := 0; i < n; i++ {
+			for j := 0; j < n; j++ {
+				w1.Set(i, j, vc.at(i, j))
+			}
+		}
+		off := st.BottomOffset()
+		for _, solver := range []Solver{SolverDense, SolverLarge} {
+			p.Solver = solver
+			sol, err := Projection{Cov: cov}.Reconcile(p)
+			if err != nil {
+				t.Fatal(err)
+			}
+			checkCoherent(t, st, sol)
+			free := Problem{Structure: st, Base: p.Base, BaseVar: p.BaseVar, Residuals: p.Residuals, Solver: solver}
+			unl, err := Projection{Cov: cov}.Reconcile(free)
+			if err != nil {
+				t.Fatal(err)
+			}
+			for k := 0; k < 3; k++ {
+				var locked []int
+				var values []float64
+				for _, l := range p.Locks {
+					if l.Step == k {
+						locked, values = append(locked, l.Node), append(values, l.Value)
+					}
+				}
+				yhat := make([]float64, n)
+				for i := range yhat {
+					yhat[i] = p.Base[i][k]
+				}
+				bt, mm, g, ok := restrictedGLS(t, s, w, yhat, locked, values)
+				if !ok {
+					t.Fatal("singular locks")
+				}
+				var y mat.VecDense
+				y.MulVec(s, mat.NewVecDense(m, bt))
+				// Variance: F = M·C_h·G, V = diag(S·F·W1·Fᵀ·Sᵀ).
+				cg := mat.DenseCopyOf(g)
+				for j := 0; j < m; j++ {
+					row := cg.RawRowView(j)
+					for q := range row {
+						row[q] *= math.Sqrt(p.BaseVar[off+j][k] / vc.D[off+j])
+					}
+				}
+				var f, sf, v mat.Dense
+				f.Mul(mm, cg)
+				sf.Mul(s, &f)
+				v.Mul(&sf, w1)
+				for i := 0; i < n; i++ {
+					want := mat.Dot(v.RowView(i), sf.RowView(i))
+					if d := relDiff(sol.Forecast[i][k], y.AtVec(i)); d > 1e-8 {
+						t.Errorf("%s %v: %s step %d: forecast %g, dense formula %g", cov, solver, st.Label(i), k+1, sol.Forecast[i][k], y.AtVec(i))
+					}
+					if d := relDiff(sol.Variance[i][k], want); d > 1e-8 {
+						t.Errorf("%s %v: %s step %d: variance %g, dense formula %g", cov, solver, st.Label(i), k+1, sol.Variance[i][k], want)
+					}
+					if relDiff(sol.Unlocked[i][k], unl.Forecast[i][k]) > 1e-10 {
+						t.Errorf("%s %v: %s step %d: unlocked %g, reconcile without locks %g", cov, solver, st.Label(i), k+1, sol.Unlocked[i][k], unl.Forecast[i][k])
+					}
+				}
+				for a, i := range locked {
+					if sol.Forecast[i][k] != values[a] || sol.Variance[i][k] != 0 {
+						t.Errorf("%s %v: locked %s step %d: %g ± %g, want exactly %g ± 0", cov, solver, st.Label(i), k+1, sol.Forecast[i][k], sol.Variance[i][k], values[a])
+					}
+				}
+			}
+		}
+	}
+}
+
+// TestLockContradictions checks that locks no forecast can meet are
+// input errors naming the nodes, and that a lock implied by others (a
+// parent locked to exactly the sum of its locked children) is accepted.
+func TestLockContradictions(t *testing.T) {
+	st := grouped(t, 2, 2, 2)
+	r0, _ := st.Lookup([]string{"R0", "", ""})
+	r1, _ := st.Lookup([]string{"R1", "", ""})
+	for _, c := range []struct {
+		name    string
+		nonneg  bool
+		locks   []Lock
+		want    []string // in the message; nil: accepted
+		implied bool
+	}{
+		{"total against both regions", false, []Lock{{0, 0, 100}, {r0, 0, 30}, {r1, 0, 60}},
+			[]string{"step 1", "total is locked to 100", "region=R0 (30)", "region=R1 (60)", "fix it at 90"}, false},
+		{"total equal to both regions", false, []Lock{{0, 1, 90}, {r0, 1, 30}, {r1, 1, 60}}, nil, true},
+		{"total below one region, non-negative", true, []Lock{{0, 0, 20}, {r0, 0, 30}},
+			[]string{"step 1", "total", "20", "region=R0 (30)"}, false},
+		{"total below one region, signed", false, []Lock{{0, 0, 20}, {r0, 0, 30}}, nil, false},
+		{"negative lock, non-negative", true, []Lock{{r1, 0, -1}},
+			[]string{"region=R1", "below zero"}, false},
+	} {
+		p := problemFor(st, 30, 2, 5)
+		p.Locks, p.Nonnegative = c.locks, c.nonneg
+		for _, solver := range []Solver{SolverDense, SolverLarge} {
+			p.Solver = solver
+			sol, err := Projection{Cov: CovShrink}.Reconcile(p)
+			if c.want == nil {
+				if err != nil {
+					t.Errorf("%s: %v", c.name, err)
+					continue
+				}
+				for _, l := range c.locks {
+					if math.Abs(sol.Forecast[l.Node][l.Step]-l.Value) > 1e-9*math.Max(1, math.Abs(l.Value)) {
+						t.Errorf("%s: %s is %g, locked to %g", c.name, st.Label(l.Node), sol.Forecast[l.Node][l.Step], l.Value)
+					}
+				}
+				continue
+			}
+			if err == nil || !inputerr.Is(err) {
+				t.Errorf("%s: got %v, want an input error", c.name, err)
+				continue
+			}
+			for _, w := range c.want {
+				if !strings.Contains(err.Error(), w) {
+					t.Errorf("%s: %q does not name %q", c.name, err, w)
+				}
+			}
+		}
+	}
+}
+
+// TestLockedNonnegative checks locked, non-negative MinT against an
+// exhaustive solution of the same quadratic programme: for every set of
+// bottom series held at zero, the equality-constrained minimizer (the
+// restricted least squares closed form of restrictedGLS on the free
+// series); the answer is the feasible one (non-negative) of least
+// objective. Both solvers must find it, to 1e-7.
+func TestLockedNonnegative(t *testing.T) {
+	st := grouped(t, 2, 2, 2) // 8 bottom series: 256 sets
+	p := problemFor(st, 30, 1, 11)
+	off := st.BottomOffset()
+	for j := 0; j < st.NumBottom(); j += 3 {
+		p.Base[off+j][0] = -40
+	}
+	r0, _ := st.Lookup([]string{"R0", "", ""})
+	c1, _ := st.Lookup([]string{"", "", "C1"})
+	closed, _ := st.Lookup([]string{"R1", "R1S1", ""}) // a store locked to zero
+	p.Locks = []Lock{{Node: 0, Step: 0, Value: 120}, {Node: r0, Step: 0, Value: 70}, {Node: c1, Step: 0, Value: 20}, {Node: closed, Step: 0, Value: 0}}
+	p.Nonnegative = true
+	s, w := denseSW(t, p, CovShrink)
+	n, m := s.Dims()
+	wi := inverse(t, w)
+	y := make([]float64, n)
+	for i := range y {
+		y[i] = p.Base[i][0]
+	}
+	objective := func(b []float64) float64 { // (y − Sb)ᵀW⁻¹(y − Sb)
+		var e mat.VecDense
+		e.MulVec(s, mat.NewVecDense(m, b))
+		e.SubVec(mat.NewVecDense(n, y), &e)
+		return mat.Inner(&e, wi, &e)
+	}
+	best, bestObj := []float64(nil), math.Inf(1)
+	for mask := 0; mask < 1<<m; mask++ {
+		var freeCols []int
+		for j := 0; j < m; j++ {
+			if mask&(1<<j) == 0 {
+				freeCols = append(freeCols, j)
+			}
+		}
+		if len(freeCols) == 0 {
+			continue
+		}
+		sf := mat.NewDense(n, len(freeCols), nil)
+		for a, j := range freeCols {
+			sf.SetCol(a, mat.Col(nil, j, s))
+		}
+		// The locks as rows of S restricted to the free series; a lock
+		// with no free series left holds if it is zero, and makes this
+		// set infeasible otherwise.
+		var locked []int
+		var values []float64
+		ok := true
+		for _, l := range p.Locks {
+			any := false
+			for _, a := range freeCols {
+				any = any || s.At(l.Node, a) != 0
+			}
+			if any {
+				locked, values = append(locked, l.Node), append(values, l.Value)
+			}
+			ok = ok && (any || l.Value == 0)
+		}
+		if !ok {
+			continue
+		}
+		// restrictedGLS works on the structure's rows; the free series'
+		// S is sf, and its rows at the locked nodes are C_F.
+		var pm mat.Dense
+		var swi mat.Dense
+		swi.Mul(sf.T(), wi)
+		pm.Mul(&swi, sf)
+		if mat.Det(&pm) == 0 {
+			continue
+		}
+		bf, _, _, ok := restrictedGLS(t, sf, w, y, locked, values)
+		if !ok {
+			continue // the locks are dependent on these free series
+		}
+		b := make([]float64, m)
+		feasible := true
+		for a, j := range freeCols {
+			b[j] = bf[a]
+			feasible = feasible && bf[a] >= -1e-9
+		}
+		// Locks that contradict each other on these free series (two
+		// locked rows equal here) leave a near-singular system whose
+		// solution does not meet them: such a set is infeasible.
+		for _, l := range p.Locks {
+			var sum float64
+			for _, j := range st.S.Row(l.Node) {
+				sum += b[j]
+			}
+			feasible = feasible && math.Abs(sum-l.Value) <= 1e-8*math.Max(1, math.Abs(l.Value))
+		}
+		if feasible {
+			if o := objective(b); o < bestObj {
+				best, bestObj = b, o
+			}
+		}
+	}
+	if best == nil {
+		t.Fatal("no feasible set: the test's locks cannot hold")
+	}
+
+	zeros := 0
+	for _, v := range best {
+		if v < 1e-9 {
+			zeros++
+		}
+	}
+	if zeros == 0 {
+		t.Fatal("test does not exercise non-negativity")
+	}
+	for _, solver := range []Solver{SolverDense, SolverLarge} {
+		p.Solver = solver
+		sol, err := Projection{Cov: CovShrink}.Reconcile(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		checkCoherent(t, st, sol)
+		for j, v := range best {
+			if d := math.Abs(sol.Bottom[j][0] - v); d > 1e-7*math.Max(1, math.Abs(v)) {
+				t.Errorf("%v: bottom %s is %g, exhaustive search %g", solver, st.Label(off+j), sol.Bottom[j][0], v)
+			}
+		}
+		for _, l := range p.Locks {
+			if sol.Forecast[l.Node][0] != l.Value {
+				t.Errorf("%v: %s is %g, locked to %g", solver, st.Label(l.Node), sol.Forecast[l.Node][0], l.Value)
+			}
+		}
+		free := p
+		free.Locks = nil
+		unl, err := Projection{Cov: CovShrink}.Reconcile(free)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for i := range unl.Forecast {
+			if relDiff(sol.Unlocked[i][0], unl.Forecast[i][0]) > 1e-9 {
+				t.Errorf("%v: %s: unlocked %g, non-negative reconcile without locks %g", solver, st.Label(i), sol.Unlocked[i][0], unl.Forecast[i][0])
+			}
+		}
+	}
+}
