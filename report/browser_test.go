@@ -237,6 +237,7 @@ func TestReportInBrowser(t *testing.T) {
 		t.Fatal(err)
 	}
 	saveShot(t, filepath.Join(t.TempDir(), "node.png"), selected)
+	labels := pageLabels(t, ctx)
 
 	// The same run's folder with a backtest's tables beside it: the
 	// accuracy section is drawn (its numbers are invented; only the
@@ -279,6 +280,7 @@ func TestReportInBrowser(t *testing.T) {
 		t.Fatal(err)
 	}
 	saveShot(t, filepath.Join(t.TempDir(), "accuracy.png"), accShot)
+	checkReportLabels(t, append(labels, pageLabels(t, ctx)...))
 	mu.Lock()
 	defer mu.Unlock()
 	for _, p := range problems {
