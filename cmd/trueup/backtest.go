@@ -23,7 +23,7 @@ func newBacktestCmd() *cobra.Command {
 		compare string
 	)
 	cmd := &cobra.Command{
-		Use:   "backtest --input FILE --nest CHAIN [--nest CHAIN ...]",
+		Use:   "backtest --input FILE --hierarchy COLUMNS [--hierarchy COLUMNS ...]",
 		Short: "Score the whole pipeline at past origins and compare reconciliation methods",
 		Long: `Cuts the history at --origins past points, --every periods apart (the last
 leaves exactly one horizon of actuals), fits every node as forecast would
@@ -36,9 +36,9 @@ the best mean score over levels.
 Writes backtest, scores, contributions, drivers, node_scores and
 incoherence tables and run.json to --out, then report.html with the
 scores, the recommendation and the drivers (unless --no-report).`,
-		Example: `  trueup backtest --input sales.parquet --nest region,store --nest category
+		Example: `  trueup backtest --input sales.parquet --hierarchy region,store --hierarchy category
 
-  trueup backtest --input sales.parquet --nest region,store --nest category \
+  trueup backtest --input sales.parquet --hierarchy region,store --hierarchy category \
       --origins 6 --every 2 --compare base,bottom-up,mint-shrink --format csv`,
 		Args: noArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {

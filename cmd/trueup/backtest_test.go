@@ -22,7 +22,7 @@ func smallInput(t *testing.T) string {
 
 func TestBacktestCommand(t *testing.T) {
 	in := smallInput(t)
-	args := []string{"backtest", "--input", in, "--nest", "region,store", "--nest", "category", "--family", "drift",
+	args := []string{"backtest", "--input", in, "--hierarchy", "region,store", "--hierarchy", "category", "--family", "drift",
 		"--horizon", "4", "--quiet"}
 	out := filepath.Join(t.TempDir(), "bt")
 	if code := run(append(args, "--origins", "2", "--out", out, "--format", "csv")); code != 0 {
@@ -54,7 +54,7 @@ func TestBacktestCommand(t *testing.T) {
 func TestForecastMethodAuto(t *testing.T) {
 	in := smallInput(t)
 	out := t.TempDir()
-	args := []string{"forecast", "--input", in, "--nest", "region,store", "--nest", "category", "--family", "drift",
+	args := []string{"forecast", "--input", in, "--hierarchy", "region,store", "--hierarchy", "category", "--family", "drift",
 		"--horizon", "4", "--quiet", "--method", "auto", "--origins", "2", "--out", out}
 	if code := run(args); code != 0 {
 		t.Fatalf("forecast --method auto exited %d", code)
@@ -78,7 +78,7 @@ func TestForecastMethodAuto(t *testing.T) {
 	if a := rep.Reconcile.Auto; a == nil || a.Method == "" || a.Reason == "" || a.Origins != 2 {
 		t.Errorf("run.json automatic_choice %+v", a)
 	}
-	if code := run([]string{"forecast", "--input", in, "--nest", "region,store", "--nest", "category", "--origins", "2",
+	if code := run([]string{"forecast", "--input", in, "--hierarchy", "region,store", "--hierarchy", "category", "--origins", "2",
 		"--out", filepath.Join(t.TempDir(), "x"), "--quiet"}); code != 2 {
 		t.Errorf("--origins without --method auto: exit %d, want 2", code)
 	}
@@ -89,7 +89,7 @@ func TestForecastMethodAuto(t *testing.T) {
 // 2 and write nothing.
 func TestForecastCalibrate(t *testing.T) {
 	in := smallInput(t)
-	args := []string{"forecast", "--input", in, "--nest", "region,store", "--nest", "category", "--family", "drift",
+	args := []string{"forecast", "--input", in, "--hierarchy", "region,store", "--hierarchy", "category", "--family", "drift",
 		"--horizon", "4", "--quiet", "--method", "bottom-up"}
 	out := t.TempDir()
 	if code := run(append(args, "--calibrate", "3", "--out", out)); code != 0 {

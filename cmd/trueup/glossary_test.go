@@ -69,7 +69,7 @@ func TestGlossaryTablesAndRunJSON(t *testing.T) {
 		t.Fatal(err)
 	}
 	in := smallInput(t)
-	source := []string{"--input", in, "--nest", "region,store", "--nest", "category", "--family", "drift", "--horizon", "4", "--quiet", "--format", "csv", "--no-report"}
+	source := []string{"--input", in, "--hierarchy", "region,store", "--hierarchy", "category", "--family", "drift", "--horizon", "4", "--quiet", "--format", "csv", "--no-report"}
 	fc := filepath.Join(t.TempDir(), "fc")
 	if code := run(append([]string{"forecast", "--out", fc, "--plan-grain", "quarter", "--method", "auto", "--origins", "2", "--calibrate", "2"}, source...)); code != 0 {
 		t.Fatalf("forecast exited %d", code)

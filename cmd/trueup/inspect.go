@@ -17,7 +17,7 @@ func newInspectCmd() *cobra.Command {
 		listMax int
 	)
 	cmd := &cobra.Command{
-		Use:   "inspect --input FILE --nest CHAIN [--nest CHAIN ...]",
+		Use:   "inspect --input FILE --hierarchy COLUMNS [--hierarchy COLUMNS ...]",
 		Short: "Describe a sales table before forecasting it",
 		Long: `Reads the sales table as forecast would and reports rows, series per level,
 the period range, gaps, zeros, duplicate key-and-period rows, negative
@@ -26,7 +26,7 @@ Input notes say how the periods were read where that is not plain from the
 file (timestamps read as local dates), where --until cut the input, and a
 partial last period set aside. Nothing is written.`,
 		Example: `  trueup inspect --input sales.parquet --time month --value sales \
-      --nest region,store --nest category`,
+      --hierarchy region,store --hierarchy category`,
 		Args: noArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			src, err := sf.source(true)

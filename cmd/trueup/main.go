@@ -74,8 +74,8 @@ func interruptMessage(s os.Signal, done []string) string {
 // optionFlags maps the library's option names, which input errors carry,
 // to the flags that set them, so a message can name the flag to change.
 var optionFlags = map[string]string{
-	"Source": "--time/--value", "Chains": "--nest", "Period": "--period", "Horizon": "--horizon",
-	"Levels": "--levels", "Family": "--family", "Model": "--model", "Transform": "--transform",
+	"Source": "--time/--value", "Chains": "--hierarchy", "Period": "--season-length", "Horizon": "--horizon",
+	"Levels": "--intervals", "Family": "--family", "Model": "--model", "Transform": "--transform",
 	"Constant": "--constant", "Method": "--method", "Cov": "--cov", "At": "--at",
 	"Nonnegative": "--nonnegative", "Paths": "--paths", "History": "--history",
 	"Formats": "--format", "Out": "--out", "SumDuplicates": "--sum-duplicates", "Grain": "--grain",

@@ -101,7 +101,7 @@ func TestReconcileCommand(t *testing.T) {
 	res := residualCSV(t, dir, false)
 	for _, method := range []string{"bottom-up", "mint", "top-down-fcst", "middle-out"} {
 		out := filepath.Join(dir, method)
-		args := []string{"reconcile", "--base", base, "--residuals", res, "--nest", "region,store", "--method", method, "--out", out, "--format", "csv"}
+		args := []string{"reconcile", "--base", base, "--residuals", res, "--hierarchy", "region,store", "--method", method, "--out", out, "--format", "csv"}
 		if method == "middle-out" {
 			args = append(args, "--at", "region")
 		}
@@ -140,7 +140,7 @@ func TestReconcileCommand(t *testing.T) {
 	}
 	hist := writeFile(t, dir, "hist.csv", hb.String())
 	out := filepath.Join(dir, "td")
-	if code := run([]string{"reconcile", "--base", base, "--history", hist, "--value", "value", "--nest", "region,store", "--method", "top-down-avg", "--out", out, "--format", "csv"}); code != 0 {
+	if code := run([]string{"reconcile", "--base", base, "--history", hist, "--value", "value", "--hierarchy", "region,store", "--method", "top-down-avg", "--out", out, "--format", "csv"}); code != 0 {
 		t.Fatalf("top-down-avg exited %d", code)
 	}
 	fc := readForecasts(t, filepath.Join(out, "forecasts.csv"))
@@ -151,7 +151,7 @@ func TestReconcileCommand(t *testing.T) {
 	}
 	// Without residuals: forecasts, no bounds.
 	out = filepath.Join(dir, "plain")
-	if code := run([]string{"reconcile", "--base", base, "--nest", "region,store", "--method", "mint", "--cov", "structural", "--out", out, "--format", "csv"}); code != 0 {
+	if code := run([]string{"reconcile", "--base", base, "--hierarchy", "region,store", "--method", "mint", "--cov", "structural", "--out", out, "--format", "csv"}); code != 0 {
 		t.Fatalf("structural exited %d", code)
 	}
 	if row := readForecasts(t, filepath.Join(out, "forecasts.csv"))["//2026-01"]; len(row) != 2 {
@@ -194,7 +194,7 @@ func TestReconcileInputErrors(t *testing.T) {
 		{"unknown method", func() []string { return []string{"--base", baseCSV(t, dir, -1, nil), "--method", "best"} }, "bottom-up"},
 	}
 	for _, tc := range cases {
-		args := append([]string{"reconcile", "--nest", "region,store", "--out", filepath.Join(dir, "o")}, tc.args()...)
+		args := append([]string{"reconcile", "--hierarchy", "region,store", "--out", filepath.Join(dir, "o")}, tc.args()...)
 		stderr := captureStderr(t, func() {
 			if code := run(args); code != 2 {
 				t.Errorf("%s: exit %d, want 2", tc.name, code)
@@ -233,7 +233,7 @@ func TestReconcileRunRecordAndLambda(t *testing.T) {
 		out := filepath.Join(dir, cov)
 		var code int
 		stdout := captureStdout(t, func() {
-			code = run([]string{"reconcile", "--base", base, "--residuals", res, "--nest", "region,store", "--cov", cov, "--out", out, "--format", "csv", "--no-report"})
+			code = run([]string{"reconcile", "--base", base, "--residuals", res, "--hierarchy", "region,store", "--cov", cov, "--out", out, "--format", "csv", "--no-report"})
 		})
 		if code != 0 {
 			t.Fatalf("%s exited %d", cov, code)

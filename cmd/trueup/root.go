@@ -25,9 +25,9 @@ seasonal model per node, and reconciles the forecasts so that every total
 equals the sum of its parts. Forecasts are estimates: review them before
 they go into a plan.`,
 		Example: `  trueup demo
-  trueup inspect --input sales.parquet --nest region,store --nest category
-  trueup forecast --input sales.parquet --nest region,store --nest category --out plan
-  trueup backtest --input sales.parquet --nest region,store --nest category`,
+  trueup inspect --input sales.parquet --hierarchy region,store --hierarchy category
+  trueup forecast --input sales.parquet --hierarchy region,store --hierarchy category --out plan
+  trueup backtest --input sales.parquet --hierarchy region,store --hierarchy category`,
 		Version:       engine.Version,
 		SilenceUsage:  true,
 		SilenceErrors: true,
