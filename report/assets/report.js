@@ -280,7 +280,9 @@
       chart.dataset.node = String(i);
       const model = document.getElementById("node-model");
       const rows = [["Model", nd.family ? `${nd.family}: ${nd.spec}` : "none (base forecasts given)"],
-        ["AICc", nd.aicc == null ? "–" : nf2.format(nd.aicc)], ["σ²", nd.sigma2 == null ? "–" : fmt(nd.sigma2)]];
+        ["AICc", nd.aicc == null ? "–" : nf2.format(nd.aicc)],
+        [`Innovation variance (${nd.variance_scale || "data"} scale)`, nd.sigma2 == null ? "–" : fmt(nd.sigma2)]];
+      if (nd.status) rows.unshift(["Status", nd.status]);
       let params = null;
       try { params = nd.params ? JSON.parse(nd.params) : null; } catch (e) { params = null; }
       const table = el("table", {}, ...rows.map(([k, v]) => el("tr", {}, el("th", {}, k), el("td", {}, v))));
