@@ -69,8 +69,8 @@ type LevelIncoherence struct {
 }
 
 func (r *BacktestReport) fill(res *BacktestResult, opt Options, origins, every int) {
-	r.Options = map[string]any{"family": familyOrDefault(opt.Model.Family), "form": opt.Model.Form, "transform": opt.Model.Transform,
-		"period": res.Period, "horizon": res.Horizon, "levels": res.Levels,
+	r.Options = map[string]any{"family": familyOrDefault(opt.Model.Family), "model": opt.Model.Form, "transform": opt.Model.Transform,
+		"season_length": res.Period, "horizon": res.Horizon, "intervals": res.Levels,
 		"origins": origins, "every": every, "compare": append(append([]string{}, res.Methods...), skippedNames(res.Skipped)...)}
 	for _, o := range res.Origins {
 		r.Origins = append(r.Origins, OriginReport{FirstForecast: o.Start.String(), HistoryEnd: o.Start.Next(-1).String(),

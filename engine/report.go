@@ -53,7 +53,7 @@ type CountsReport struct {
 	FirstPeriod   string         `json:"first_period"`
 	LastPeriod    string         `json:"last_period"`
 	Grain         string         `json:"grain"`
-	SeasonalLag   int            `json:"seasonal_period"`
+	SeasonalLag   int            `json:"season_length"`
 	Horizon       int            `json:"horizon"`
 	ForecastRange [2]string      `json:"forecast_periods"`
 	Input         map[string]int `json:"input_checks"`
@@ -65,8 +65,8 @@ type LevelCount struct {
 	Nodes int    `json:"nodes"`
 	// LateStarts and EarlyEnds count nodes that start after the first
 	// period or end before the last (filled by Inspect).
-	LateStarts int `json:"late_starts,omitempty"`
-	EarlyEnds  int `json:"early_ends,omitempty"`
+	LateStarts int `json:"opened_late,omitempty"`
+	EarlyEnds  int `json:"closed,omitempty"`
 }
 
 // ReconcileReport describes the reconciliation.
@@ -93,8 +93,8 @@ func reconcileReport(method string, notes map[string]float64) ReconcileReport {
 // optionsReport records the options as resolved, defaults filled in.
 func optionsReport(opt Options, rc Reconciliation, nonneg bool) map[string]any {
 	return map[string]any{
-		"family": familyOrDefault(opt.Model.Family), "form": opt.Model.Form, "transform": opt.Model.Transform,
-		"period": opt.Period, "horizon": opt.Horizon, "levels": opt.Levels,
+		"family": familyOrDefault(opt.Model.Family), "model": opt.Model.Form, "transform": opt.Model.Transform,
+		"season_length": opt.Period, "horizon": opt.Horizon, "intervals": opt.Levels,
 		"method": rc.Method, "cov": rc.Cov, "at": rc.At, "nonnegative": nonneg,
 	}
 }
@@ -125,7 +125,7 @@ func (r *RunReport) fill(d *Data, opt Options, rc Reconciliation, res *Result, m
 		Input: map[string]int{
 			"summed_rows": pn.Stats.SummedRows, "negative_values": pn.Stats.Negative,
 			"zero_values": pn.Stats.Zero, "gap_periods": pn.Stats.Gaps,
-			"late_starts": pn.Stats.LateStarts, "early_ends": pn.Stats.EarlyEnds,
+			"opened_late": pn.Stats.LateStarts, "closed": pn.Stats.EarlyEnds,
 		},
 	}
 	for _, l := range st.Levels {
@@ -158,7 +158,7 @@ func (r *RunReport) fill(d *Data, opt Options, rc Reconciliation, res *Result, m
 		r.Warnings = append(r.Warnings, fmt.Sprintf("%d periods inside series' spans had no row and count as zero sales", pn.Stats.Gaps))
 	}
 	if pn.Stats.EarlyEnds > 0 {
-		r.Warnings = append(r.Warnings, fmt.Sprintf("%d bottom series stop before %s and are forecast as zero", pn.Stats.EarlyEnds, c.LastPeriod))
+		r.Warnings = append(r.Warnings, fmt.Sprintf("%d bottom series closed before %s and are forecast as zero", pn.Stats.EarlyEnds, c.LastPeriod))
 	}
 	if warned > 0 {
 		r.Warnings = append(r.Warnings, fmt.Sprintf("%d nodes have a model warning; see the warning column of the models table", warned))

@@ -469,7 +469,7 @@ func addCorrelograms(d *Data, t *tableio.Table, attrs []string, idx nodeIndex) e
 	}
 	period := 1
 	if counts, ok := d.Meta.Run["counts"].(map[string]any); ok {
-		if v, ok := counts["seasonal_period"].(float64); ok && v >= 1 {
+		if v, ok := seasonLength(counts); ok && v >= 1 {
 			period = int(v)
 		}
 	}
@@ -577,4 +577,15 @@ func nanSlice(n int) []float32 {
 		s[i] = nan
 	}
 	return s
+}
+
+// seasonLength reads the season length from run.json's counts, under its
+// name or, in a folder written before the rename, seasonal_period.
+func seasonLength(counts map[string]any) (float64, bool) {
+	for _, key := range []string{"season_length", "seasonal_period"} {
+		if v, ok := counts[key].(float64); ok {
+			return v, true
+		}
+	}
+	return 0, false
 }

@@ -21,7 +21,8 @@ func newInspectCmd() *cobra.Command {
 		Short: "Describe a sales table before forecasting it",
 		Long: `Reads the sales table as forecast would and reports rows, series per level,
 the period range, gaps, zeros, duplicate key-and-period rows, negative
-values, and the series that start late (openings) or stop early (closures).
+values, and the series that opened late (first sales after the first
+period) or closed (no sales in the latest periods).
 Input notes say how the periods were read where that is not plain from the
 file (timestamps read as local dates), where --until cut the input, and a
 partial last period set aside. Nothing is written.`,
@@ -51,7 +52,7 @@ partial last period set aside. Nothing is written.`,
 			for _, l := range rep.SeriesByLevel {
 				levels = append(levels, []string{l.Level, n(l.Nodes), n(l.LateStarts), n(l.EarlyEnds)})
 			}
-			textTable(w, []string{"level", "series", "starting late", "ending early"}, levels)
+			textTable(w, []string{"level", "series", "opened late", "closed"}, levels)
 			fmt.Fprintln(w)
 			textTable(w, []string{"input check", "count"}, [][]string{
 				{"duplicate rows (same key and period)", n(rep.DuplicateRows)},
@@ -68,7 +69,7 @@ partial last period set aside. Nothing is written.`,
 			for _, group := range []struct {
 				title string
 				spans []engine.SeriesSpan
-			}{{"starting late", rep.LateStarts}, {"ending early", rep.EarlyEnds}} {
+			}{{"opened late", rep.LateStarts}, {"closed", rep.EarlyEnds}} {
 				if len(group.spans) == 0 {
 					continue
 				}
@@ -87,6 +88,6 @@ partial last period set aside. Nothing is written.`,
 	sf.register(cmd)
 	fl := cmd.Flags()
 	fl.BoolVar(&asJSON, "json", false, "print the report as JSON")
-	fl.IntVar(&listMax, "list", 10, "late-starting and early-ending series to list")
+	fl.IntVar(&listMax, "list", 10, "series that opened late or closed to list")
 	return cmd
 }

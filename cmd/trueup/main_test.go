@@ -297,10 +297,10 @@ func TestInspectReportsOpeningsAndClosures(t *testing.T) {
 		Rows          int `json:"bottom_series"`
 		SeriesByLevel []struct {
 			Level      string `json:"level"`
-			LateStarts int    `json:"late_starts"`
-			EarlyEnds  int    `json:"early_ends"`
+			LateStarts int    `json:"opened_late"`
+			EarlyEnds  int    `json:"closed"`
 		} `json:"series_per_level"`
-		LateStarts []struct{ Level, Key string } `json:"late_starts"`
+		LateStarts []struct{ Level, Key string } `json:"opened_late"`
 	}
 	if err := json.Unmarshal([]byte(out.String()), &rep); err != nil {
 		t.Fatal(err)

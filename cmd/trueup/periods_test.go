@@ -148,7 +148,7 @@ func TestPartialLastPeriodAndUntil(t *testing.T) {
 	}
 	rep, set := forecast("default")
 	warnings := fmt.Sprint(rep["warnings"])
-	if !strings.Contains(warnings, "last period "+last+" looks partial") || strings.Contains(warnings, "stop before "+last) {
+	if !strings.Contains(warnings, "last period "+last+" looks partial") || strings.Contains(warnings, "closed before "+last) {
 		t.Errorf("warnings %s: want the partial month %s named and no store stopping early", warnings, last)
 	}
 	if !strings.Contains(set, ","+last+",") {
@@ -163,7 +163,7 @@ func TestPartialLastPeriodAndUntil(t *testing.T) {
 		}
 	}
 	rep, _ = forecast("keep", "--keep-last-period")
-	if w := fmt.Sprint(rep["warnings"]); strings.Contains(w, "looks partial") || !strings.Contains(w, "8 bottom series stop before "+last) {
+	if w := fmt.Sprint(rep["warnings"]); strings.Contains(w, "looks partial") || !strings.Contains(w, "8 bottom series closed before "+last) {
 		t.Errorf("--keep-last-period: warnings %s, want the stores stopping early and no partial month set aside", w)
 	}
 	// inspect lists the partial month among its input notes.

@@ -249,7 +249,7 @@ func TestReconcileRunRecordAndLambda(t *testing.T) {
 			Counts struct {
 				First    string `json:"first_period"`
 				Last     string `json:"last_period"`
-				Seasonal int    `json:"seasonal_period"`
+				Seasonal int    `json:"season_length"`
 			} `json:"counts"`
 			Reconcile struct {
 				Notes map[string]float64 `json:"notes"`
