@@ -87,7 +87,7 @@ series, model, estimates, fit_quality, forecast, residuals and warning.`,
 	f.StringVar(&fl.key, "key", "", "column whose values name separate series (default: the table is one series)")
 	groupFlags(cmd, "Input", "key")
 	f.StringVar(&fl.family, "family", "", "model family: "+familyNames())
-	f.StringVar(&fl.model, "model", "", `fixed form, e.g. "ARIMA(0,1,1)(0,1,1)" or "ETS(M,Ad,M)"; it implies the family`)
+	f.StringVar(&fl.model, "model", "", `fixed model, e.g. "ARIMA(0,1,1)(0,1,1)" or "ETS(M,Ad,M)", or any form the models table prints; it implies the family`)
 	f.StringVar(&fl.transform, "transform", "none", "transform before fitting: none, log or boxcox (not with --family auto, which chooses its own)")
 	f.BoolVar(&fl.constant, "constant", false, "with an ARIMA --model: include a mean (d+D=0) or drift (d+D=1)")
 	f.IntVar(&fl.period, "season-length", 0, "periods in one season (default: 12 for months, 4 for quarters, 52 for weeks, 7 for days)")
