@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
+	"trueup/internal/words"
 )
 
 // BacktestReport is the content of a backtest's run.json.
@@ -121,7 +122,7 @@ func (r *BacktestReport) fill(res *BacktestResult, opt Options, origins, every i
 	}
 	last := res.Origins[len(res.Origins)-1]
 	if n, m := len(res.Structure.Nodes), len(last.Structure.Nodes); n != m {
-		r.Warnings = append(r.Warnings, fmt.Sprintf("%d of the %d nodes opened after the last origin and are not scored", n-m, n))
+		r.Warnings = append(r.Warnings, fmt.Sprintf("%s of the %s opened after the last origin and %s not scored", words.Thousands(n-m), words.Count(n, "node", "nodes"), words.Agree(n-m, "is", "are")))
 	}
 }
 

@@ -8,6 +8,7 @@ import (
 	"io"
 	"os"
 	"time"
+	"trueup/internal/words"
 
 	"trueup/hierarchy"
 	"trueup/inputerr"
@@ -347,7 +348,7 @@ func Reconcile(ctx context.Context, bs *BaseSet, opt ReconcileOptions) (*Result,
 		c.NodesPerLevel = append(c.NodesPerLevel, LevelCount{Level: l.Name, Nodes: len(l.Nodes)})
 	}
 	if nc := countTrue(closed); nc > 0 {
-		res.Report.Warnings = append(res.Report.Warnings, fmt.Sprintf("%d bottom series closed before the forecast origin and are forecast as zero", nc))
+		res.Report.Warnings = append(res.Report.Warnings, fmt.Sprintf("%s closed before the forecast origin and %s forecast as zero", words.Count(nc, "bottom series", "bottom series"), words.Agree(nc, "is", "are")))
 	}
 	return res, nil
 }

@@ -3,6 +3,7 @@ package engine
 import (
 	"fmt"
 	"sort"
+	"trueup/internal/words"
 
 	"trueup/models/families"
 	"trueup/reconcile"
@@ -147,7 +148,7 @@ func (r *RunReport) fill(d *Data, opt Options, rc Reconciliation, res *Result, m
 	r.Reconcile = reconcileReport(method, sol.Notes)
 	r.Warnings = []string{}
 	if pn.Stats.Negative > 0 {
-		r.Warnings = append(r.Warnings, fmt.Sprintf("%d rows have negative values (returns?); they were kept", pn.Stats.Negative))
+		r.Warnings = append(r.Warnings, fmt.Sprintf("%s negative (returns?); kept", words.Count(pn.Stats.Negative, "row is", "rows are")))
 	}
 	r.Warnings = append(r.Warnings, pn.Stats.InputNotes()...)
 	r.Warnings = append(r.Warnings, pn.Stats.Outliers...)
@@ -155,13 +156,13 @@ func (r *RunReport) fill(d *Data, opt Options, rc Reconciliation, res *Result, m
 		r.Warnings = append(r.Warnings, "partial period: "+p+"; its total understates a full period (trim the input to whole periods)")
 	}
 	if pn.Stats.Gaps > 0 {
-		r.Warnings = append(r.Warnings, fmt.Sprintf("%d periods inside series' spans had no row and count as zero sales", pn.Stats.Gaps))
+		r.Warnings = append(r.Warnings, fmt.Sprintf("%s inside series' spans had no row and count as zero sales", words.Count(pn.Stats.Gaps, "period", "periods")))
 	}
 	if pn.Stats.EarlyEnds > 0 {
-		r.Warnings = append(r.Warnings, fmt.Sprintf("%d bottom series closed before %s and are forecast as zero", pn.Stats.EarlyEnds, c.LastPeriod))
+		r.Warnings = append(r.Warnings, fmt.Sprintf("%s closed before %s and %s forecast as zero", words.Count(pn.Stats.EarlyEnds, "bottom series", "bottom series"), c.LastPeriod, words.Agree(pn.Stats.EarlyEnds, "is", "are")))
 	}
 	if warned > 0 {
-		r.Warnings = append(r.Warnings, fmt.Sprintf("%d nodes have a model warning; see the warning column of the models table", warned))
+		r.Warnings = append(r.Warnings, fmt.Sprintf("%s a model warning; see the warning column of the models table", words.Count(warned, "node has", "nodes have")))
 	}
 	if res.Plans != nil {
 		for _, l := range res.Plans.LeftOut {

@@ -238,6 +238,10 @@ func TestReportInBrowser(t *testing.T) {
 	}
 	saveShot(t, filepath.Join(t.TempDir(), "node.png"), selected)
 	labels := pageLabels(t, ctx)
+	// Numbers are plain decimals: no p-value such as 4.30e-2.
+	if exp := eval(`(document.body.innerText.match(/\d\.?\d*e[-+]\d+/g) || []).length`); exp != 0 {
+		t.Errorf("the page shows %v numbers in exponent notation", exp)
+	}
 
 	// The same run's folder with a backtest's tables beside it: the
 	// accuracy section is drawn (its numbers are invented; only the

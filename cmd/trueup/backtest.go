@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"strings"
+	"trueup/internal/words"
 
 	"github.com/spf13/cobra"
 
@@ -136,8 +137,9 @@ func printBacktest(w io.Writer, bt *engine.BacktestResult, files []string, asJSO
 		return enc.Encode(rep)
 	}
 	first, last := rep.Origins[0], rep.Origins[len(rep.Origins)-1]
-	fmt.Fprintf(w, "Backtest at %d origins, first forecasts %s to %s, %d periods ahead from each; %d nodes.\n",
-		len(rep.Origins), first.FirstForecast, last.FirstForecast, bt.Horizon, len(bt.Structure.Nodes))
+	fmt.Fprintf(w, "Backtest at %s, first forecasts %s to %s, %s ahead from each; %s.\n",
+		words.Count(len(rep.Origins), "origin", "origins"), first.FirstForecast, last.FirstForecast,
+		words.Count(bt.Horizon, "period", "periods"), words.Count(len(bt.Structure.Nodes), "node", "nodes"))
 	fmt.Fprintf(w, "Every node fitted once per origin; methods compared on the same fits: %s.\n", strings.Join(bt.Methods, ", "))
 	for _, s := range bt.Skipped {
 		fmt.Fprintf(w, "Skipped %s: %s\n", s.Method, s.Reason)

@@ -83,6 +83,13 @@ var optionFlags = map[string]string{
 	"From": "--from", "Until": "--until", "TimeKind": "--integer-time", "PlanGrains": "--plan-grain",
 }
 
+// optionHints say, for an input error that an option would resolve, what
+// to add to the command line; the message is then printed as it is, with
+// the hint after it.
+var optionHints = map[string]string{
+	"SumDuplicates": "add --sum-duplicates to add such rows together",
+}
+
 // run executes the command line and maps errors to exit statuses: input and
 // usage errors exit 2, anything else 1. A panic (a bug), in this goroutine
 // or carried from another one as a *crash.Panic, exits 1 with one line.
@@ -106,7 +113,10 @@ func execute(root *cobra.Command, args []string) (code int) {
 	if errors.As(err, &p) {
 		return crashed(p)
 	}
-	if flag := optionFlags[inputerr.OptionOf(err)]; flag != "" && !strings.Contains(err.Error(), flag) {
+	option := inputerr.OptionOf(err)
+	if hint := optionHints[option]; hint != "" {
+		fmt.Fprintf(os.Stderr, "trueup: %s; %s\n", escapeUnprintable(err.Error()), hint)
+	} else if flag := optionFlags[option]; flag != "" && !strings.Contains(err.Error(), flag) {
 		fmt.Fprintf(os.Stderr, "trueup: %s: %s\n", flag, escapeUnprintable(err.Error()))
 	} else {
 		fmt.Fprintln(os.Stderr, "trueup:", escapeUnprintable(err.Error()))

@@ -238,7 +238,7 @@ func TestNegativeValuesAreWarnings(t *testing.T) {
 		t.Fatalf("exit %d", code)
 	}
 	data, err := os.ReadFile(filepath.Join(out, "run.json"))
-	if err != nil || !strings.Contains(string(data), "1 rows have negative values") {
+	if err != nil || !strings.Contains(string(data), "1 row is negative (returns?); kept") {
 		t.Fatalf("run.json lacks the negative-value warning: %v\n%s", err, data)
 	}
 }
@@ -359,8 +359,8 @@ func TestInspectCountsDuplicatesAtACoarserGrain(t *testing.T) {
 				t.Errorf("forecast %v: exit %d, want %d", grain, code, exitInput)
 			}
 		})
-		if !strings.Contains(stderr, "--sum-duplicates") {
-			t.Errorf("forecast %v: %q does not name --sum-duplicates", grain, stderr)
+		if !strings.Contains(stderr, "repeats key") || !strings.Contains(stderr, "; add --sum-duplicates to add such rows together") {
+			t.Errorf("forecast %v: %q does not say to add --sum-duplicates", grain, stderr)
 		}
 	}
 }

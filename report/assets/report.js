@@ -88,6 +88,8 @@
     const parts = nd.key.filter(k => k !== "");
     return parts.length ? parts.join(" · ") : "Total";
   };
+  // pValue writes a p-value as a plain decimal; below 0.0001 it says so.
+  const pValue = p => p < 1e-4 ? "< 0.0001" : p.toFixed(4);
   const levelName = i => meta.levels[meta.nodes[i].level].name;
   const slice = (f, i, len) => Array.from(f.subarray(i * len, (i + 1) * len), v => Number.isNaN(v) ? null : v);
 
@@ -306,7 +308,7 @@
       if (nd.lb_p == null) check.append(el("p", { class: "note" }, "Not run: too few residuals."));
       else {
         const pass = nd.lb_p >= meta.fail_p;
-        check.append(el("p", {}, `Q = ${nd.lb_q.toFixed(2)} on ${nd.lb_lags} lags, p-value ${nd.lb_p < 1e-4 ? nd.lb_p.toExponential(2) : nd.lb_p.toFixed(4)}: `,
+        check.append(el("p", {}, `Q = ${nd.lb_q.toFixed(2)} on ${nd.lb_lags} lags, p-value ${pValue(nd.lb_p)}: `,
           el("span", { class: pass ? "pass" : "fail" }, pass ? "no autocorrelation left at the 5% level" : "autocorrelation left in the residuals at the 5% level")),
         el("p", { class: "note" }, `A failing test means the model missed a pattern; its intervals may be too narrow. Bars beyond the dashed lines (±1.96/√n, n = ${nd.n_resid} residuals) show where.`));
       }
@@ -328,7 +330,7 @@
         el("tr", {}, el("th", {}, "node"), el("th", {}, "level"), el("th", {}, "model"), el("th", { class: "num" }, "Q"), el("th", { class: "num" }, "lags"), el("th", { class: "num" }, "p-value")),
         ...meta.failing.slice(0, 200).map(i => { const nd = meta.nodes[i]; return el("tr", {},
           el("td", {}, el("button", { class: "node-link", onclick: () => select(i, true) }, nodeName(i))), el("td", {}, levelName(i)), el("td", {}, nd.spec || nd.family || ""),
-          el("td", { class: "num" }, nd.lb_q.toFixed(2)), el("td", { class: "num" }, nd.lb_lags), el("td", { class: "num" }, nd.lb_p.toExponential(2))); }))));
+          el("td", { class: "num" }, nd.lb_q.toFixed(2)), el("td", { class: "num" }, nd.lb_lags), el("td", { class: "num" }, pValue(nd.lb_p))); }))));
     }
 
     select(totalNode, false);
