@@ -43,6 +43,10 @@ type InputReport struct {
 	SHA256  string   `json:"sha256"`
 	Rows    int      `json:"rows"`
 	Columns []string `json:"columns"`
+	// Value is the column summed as sales (Source.Value); the report's
+	// value axis is labelled with it. Empty for base forecasts read by
+	// LoadTables.
+	Value string `json:"value_column,omitempty"`
 }
 
 // CountsReport sizes the structure.
