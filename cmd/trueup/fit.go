@@ -371,23 +371,33 @@ func (r *fitRun) writeText(w io.Writer, i int, nf *engine.NodeFit) error {
 	if v.firstObs != "" {
 		fmt.Fprintf(w, "  history  %d observations, %s to %s\n", nf.NObs, v.firstObs, v.lastObs)
 	}
-	keys := make([]string, 0, len(v.details))
-	for k := range v.details {
+	weights, others := smoothingWeights(nf.Family, v.estimates)
+	if len(weights) > 0 {
+		fmt.Fprintln(w)
+		fmt.Fprintln(w, "  smoothing weights (0: the state keeps its starting value; 1: it follows each new period)")
+		indentedTable(w, "    ", []string{"state", "weight", "in words"}, weights)
+	}
+	details := r.writeSeasonal(w, nf, v)
+	keys := make([]string, 0, len(details))
+	for k := range details {
 		keys = append(keys, k)
 	}
 	sort.Strings(keys)
+	if len(keys) > 0 {
+		fmt.Fprintln(w)
+	}
 	for _, k := range keys {
 		var x any
-		if err := json.Unmarshal(v.details[k], &x); err != nil {
+		if err := json.Unmarshal(details[k], &x); err != nil {
 			return err
 		}
 		writeDetail(w, "  ", k, x)
 	}
 
-	if len(v.estimates) > 0 {
+	if len(others) > 0 {
 		fmt.Fprintln(w)
 		var rows [][]string
-		for _, e := range v.estimates {
+		for _, e := range others {
 			rows = append(rows, []string{e.Name, number(e.Value)})
 		}
 		indentedTable(w, "  ", []string{"estimate", "value"}, rows)
@@ -548,4 +558,50 @@ func scalar(x any) (string, bool) {
 		return fmt.Sprintf("%t", y), true
 	}
 	return "", false
+}
+
+// writeSeasonal writes the seasonal factors or terms of an exponential
+// smoothing or Theta fit labelled by the period each applies to (the
+// first season starts at the first observation: ETS's s_{1−m}…s_0 in
+// order of first use, Theta's index t mod m from the first observation)
+// and returns the details left to write.
+func (r *fitRun) writeSeasonal(w io.Writer, nf *engine.NodeFit, v *fitView) map[string]json.RawMessage {
+	rest := make(map[string]json.RawMessage, len(v.details))
+	for k, x := range v.details {
+		rest[k] = x
+	}
+	if nf.First < 0 {
+		return rest
+	}
+	first := r.data.Panel.First.Next(nf.First)
+	switch nf.Family {
+	case "ets":
+		var init map[string]json.RawMessage
+		if json.Unmarshal(rest["initial_states"], &init) != nil {
+			return rest
+		}
+		season, ok := floats(init["season"])
+		if !ok || len(season) == 0 {
+			return rest
+		}
+		form := strings.TrimSuffix(strings.SplitN(nf.Spec, " on ", 2)[0], ")")
+		fmt.Fprintln(w)
+		writeSeason(w, "  ", seasonTitle(strings.HasSuffix(form, "M")), season, seasonLabels(first, len(season)))
+		delete(init, "season")
+		if b, err := json.Marshal(init); err == nil {
+			rest["starting_states"] = b
+			delete(rest, "initial_states")
+		}
+	case "theta":
+		index, ok := floats(rest["seasonal_indices"])
+		if !ok || len(index) == 0 {
+			return rest
+		}
+		var adj string
+		_ = json.Unmarshal(rest["seasonal_adjustment"], &adj)
+		fmt.Fprintln(w)
+		writeSeason(w, "  ", seasonTitle(adj != "additive"), index, seasonLabels(first, len(index)))
+		delete(rest, "seasonal_indices")
+	}
+	return rest
 }
