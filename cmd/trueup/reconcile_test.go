@@ -125,7 +125,7 @@ func TestReconcileCommand(t *testing.T) {
 		// The shrinkage λ weighs mint's projection; the split methods
 		// use no W and record none.
 		run, err := os.ReadFile(filepath.Join(out, "run.json"))
-		if err != nil || strings.Contains(string(run), `"lambda"`) != (method == "mint") {
+		if err != nil || strings.Contains(string(run), `"shrinkage"`) != (method == "mint") {
 			t.Errorf("%s: λ in run.json only for mint: %v %s", method, err, run)
 		}
 	}
@@ -264,10 +264,10 @@ func TestReconcileRunRecordAndLambda(t *testing.T) {
 		if rec.Counts.First != "2025-01" || rec.Counts.Last != "2025-12" || rec.Counts.Seasonal != 12 {
 			t.Errorf("%s: history %q to %q, seasonal period %d; want 2025-01 to 2025-12, 12", cov, rec.Counts.First, rec.Counts.Last, rec.Counts.Seasonal)
 		}
-		_, noted := rec.Reconcile.Notes["lambda"]
-		printed := strings.Contains(stdout, "λ")
+		_, noted := rec.Reconcile.Notes["shrinkage"]
+		printed := strings.Contains(stdout, "shrinkage intensity")
 		if want := cov == "shrink"; noted != want || printed != want {
-			t.Errorf("--cov %s: λ in run.json %v, in the summary %v; want %v", cov, noted, printed, want)
+			t.Errorf("--cov %s: shrinkage in run.json %v, in the summary %v; want %v", cov, noted, printed, want)
 		}
 	}
 }

@@ -117,7 +117,7 @@ func printTail(w io.Writer, res *engine.Result, files []string) {
 
 // noteLabels name the reconciliation facts for people.
 var noteLabels = map[string]string{
-	"lambda":         "shrinkage intensity λ",
+	"shrinkage":      "shrinkage intensity (0: the sample covariance, 1: its diagonal)",
 	"cg_iterations":  "conjugate-gradient iterations",
 	"variance_paths": "sample paths behind the interval widths of nodes whose residuals start late",
 }
