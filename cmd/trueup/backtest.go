@@ -166,15 +166,15 @@ func printBacktest(w io.Writer, bt *engine.BacktestResult, files []string, asJSO
 	}
 	textTable(w, header, append(rows, row))
 
-	fmt.Fprintln(w, "\nHeadline (mean over levels):")
+	fmt.Fprintln(w, "\nScores by method (mean over levels, each level weighing the same):")
 	header = []string{"method", "MASE", "RMSSE", "bias"}
 	for _, l := range bt.Levels {
-		header = append(header, "cover "+engine.LevelLabel(l)+"%")
+		header = append(header, "coverage "+engine.LevelLabel(l)+"%")
 	}
 	for _, l := range bt.Levels {
-		header = append(header, "int. score "+engine.LevelLabel(l)+"%")
+		header = append(header, "interval score "+engine.LevelLabel(l)+"%")
 	}
-	header = append(header, "CRPS", "energy")
+	header = append(header, "CRPS", "energy score")
 	rows = nil
 	for _, h := range bt.Headline {
 		row := []string{h.Method, fmt.Sprintf("%.3f", h.MASE), fmt.Sprintf("%.3f", h.RMSSE), fmt.Sprintf("%.3f", h.Bias)}
@@ -188,7 +188,10 @@ func printBacktest(w io.Writer, bt *engine.BacktestResult, files []string, asJSO
 		rows = append(rows, row)
 	}
 	textTable(w, header, rows)
-	fmt.Fprintln(w, "CRPS scores each node's whole predictive distribution, the energy score the joint one of all nodes; both over the scale, lower is better.")
+	fmt.Fprintln(w, "MASE, RMSSE and bias are over each node's seasonal naive error (below 1: better than repeating last season; bias above 0: forecasts too low).")
+	fmt.Fprintln(w, "Coverage is the share of actuals inside the interval (an 80% interval should hold about 80%); the interval score adds the interval's width")
+	fmt.Fprintln(w, "and a penalty for each actual outside it, over the scale. CRPS scores each node's whole predictive distribution, the energy score the")
+	fmt.Fprintln(w, "joint one of all nodes; both over the scale. For every score but coverage, lower is better.")
 	printCoverageByLevel(w, bt)
 	if len(bt.Calibration) > 0 {
 		c := bt.Calibration[0]

@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 
 	"trueup/fixtures"
@@ -121,6 +122,26 @@ func TestForecastCalibrate(t *testing.T) {
 		}
 		if _, err := os.Stat(dir); err == nil {
 			t.Errorf("--calibrate %s: wrote %s", bad, dir)
+		}
+	}
+}
+
+// TestBacktestSummaryWording checks that the backtest's summary names
+// its scores in full and explains them: no "Headline", "cover" or
+// "int. score" without a word of what they mean.
+func TestBacktestSummaryWording(t *testing.T) {
+	in := smallInput(t)
+	out := runOK(t, "backtest", "--input", in, "--hierarchy", "region,store", "--hierarchy", "category", "--family", "drift",
+		"--horizon", "4", "--quiet", "--origins", "2", "--no-report", "--format", "csv", "--out", filepath.Join(t.TempDir(), "bt"))
+	for _, gone := range []string{"Headline", "cover 80%", "int. score"} {
+		if strings.Contains(out, gone) {
+			t.Errorf("the summary still says %q", gone)
+		}
+	}
+	for _, want := range []string{"Scores by method (mean over levels, each level weighing the same)", "coverage 80%", "interval score 80%", "energy score",
+		"Coverage is the share of actuals inside the interval"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("the summary lacks %q:\n%s", want, out)
 		}
 	}
 }
