@@ -58,7 +58,7 @@ type OriginReport struct {
 // of one level's aggregates over one split.
 type LevelCancellation struct {
 	Level string  `json:"level"`
-	Split string  `json:"split_level"`
+	Split string  `json:"child_level"`
 	Mean  float64 `json:"mean"`
 }
 
