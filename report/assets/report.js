@@ -373,23 +373,29 @@
       el("tr", {}, ...head.map((h, j) => el("th", { class: j ? "num" : "" }, h))),
       ...rows.map(r => el("tr", {}, ...r.map((v, j) => el("td", { class: j ? "num" : "" }, v))))));
     const short14 = s => s.length > 16 ? s.slice(0, 15) + "…" : s;
+    const short28 = s => s.length > 28 ? s.slice(0, 27) + "…" : s;
+    // keyValues shows a node label of the tables ("region=North store=N1")
+    // as the report names nodes everywhere else: "North · N1".
+    const keyValues = s => /^[^=\s]+=/.test(s) ? s.split(/\s+(?=[^=\s]+=)/).map(p => p.slice(p.indexOf("=") + 1)).join(" · ") : s;
     // categoryAxis labels one tick per category; when the labels would
     // not fit side by side, they are turned to a slant so none overlaps.
     const categoryAxis = (cats, target) => {
-      const longest = Math.max(0, ...cats.map(c => short14(String(c ?? "")).length));
-      const slant = cats.length * (7 * longest + 12) > 0.8 * width(target);
-      return { values: (u, sp) => sp.map(k => Number.isInteger(k) ? short14(String(cats[k] ?? "")) : ""), incrs: [1], grid: { show: false },
-        rotate: slant ? -35 : 0, size: slant ? 20 + 5 * longest : 50 };
+      const flat = cats.length * (7 * Math.max(0, ...cats.map(c => short14(String(c ?? "")).length)) + 12) <= 0.8 * width(target);
+      const cut = flat ? short14 : short28, slant = !flat;
+      const longest = Math.max(0, ...cats.map(c => cut(String(c ?? "")).length));
+      return { values: (u, sp) => sp.map(k => Number.isInteger(k) ? cut(String(cats[k] ?? "")) : ""), incrs: [1], grid: { show: false },
+        rotate: slant ? 35 : 0, size: slant ? 20 + 5 * longest : 50 };
     };
     // dotChart draws one dot per category and series (no lines), with
     // optional dashed reference lines.
     function dotChart(target, title, catLabel, cats, series, yLabel, refs, yfmt) {
+      const xAxis = categoryAxis(cats, target);
       const colours = seriesColours(series.map(sr => sr.label));
       const x = cats.map((_, k) => k);
       const opts = {
-        width: width(target), height: 260, title, scales: { x: { time: false, range: [-0.5, cats.length - 0.5] } },
+        width: width(target), height: 210 + xAxis.size, title, scales: { x: { time: false, range: [-0.5, cats.length - 0.5] } },
         series: [{ label: catLabel, value: (u, k) => k == null ? "" : cats[k] }],
-        axes: [categoryAxis(cats, target),
+        axes: [xAxis,
           { values: (u, sp) => sp.map(yfmt), size: 60, label: yLabel, grid: { stroke: "#e6e9ee" } }],
       };
       const data = [x];
@@ -405,11 +411,12 @@
       draw(target, opts, data);
     }
     function barChart(target, title, names, values, yLabel, yfmt) {
+      const xAxis = categoryAxis(names, target);
       draw(target, {
-        width: width(target), height: 260, title, scales: { x: { time: false, range: [-0.5, names.length - 0.5] }, y: { range: (u, lo, hi) => [Math.min(0, lo), Math.max(0, hi) * 1.1 || 1] } },
+        width: width(target), height: 210 + xAxis.size, title, scales: { x: { time: false, range: [-0.5, names.length - 0.5] }, y: { range: (u, lo, hi) => [Math.min(0, lo), Math.max(0, hi) * 1.1 || 1] } },
         series: [{ label: "node", value: (u, k) => k == null ? "" : names[k] },
           { label: yLabel, stroke: color("--forecast"), fill: color("--band80"), paths: uPlot.paths.bars({ size: [0.7, 60] }), points: { show: false }, value: (u, v) => v == null ? "" : yfmt(v) }],
-        axes: [categoryAxis(names, target),
+        axes: [xAxis,
           { values: (u, sp) => sp.map(yfmt), size: 60, label: yLabel, grid: { stroke: "#e6e9ee" } }],
       }, [names.map((_, k) => k), values]);
     }
@@ -462,7 +469,7 @@
         groups.get(key).push(r);
       }
       const label = g => (g[0].ancestor_level === "total" ? "the total" : `${g[0].ancestor} (${g[0].ancestor_level})`) + ` by ${g[0].level}`;
-      const chartOf = (target, g) => { g.sort((a, b) => a.rank - b.rank); barChart(target, `Drivers of the error of ${label(g)}`, g.map(r => r.node), g.map(r => r.share), "share of absolute error", v => nf0.format(100 * v) + "%"); };
+      const chartOf = (target, g) => { g.sort((a, b) => a.rank - b.rank); barChart(target, `Drivers of the error of ${label(g)}`, g.map(r => keyValues(r.node)), g.map(r => r.share), "share of absolute error", v => nf2.format(100 * v) + "%"); };
       box.append(el("h3", {}, `Drivers of the error (${method})`),
         el("p", { class: "note" }, "The nodes whose errors make up most of an aggregate's absolute error over the backtest, largest first."));
       const all = [...groups.values()];
