@@ -186,9 +186,14 @@ func finites(xs []float64) []any {
 }
 
 // MarshalJSON writes the score with null for a value it could not
-// compute.
+// compute, and a null step for the score over all steps, as the scores
+// table marks it.
 func (s Score) MarshalJSON() ([]byte, error) {
-	return json.Marshal(map[string]any{"level": s.Level, "method": s.Method, "step": s.Step, "count": s.Count,
+	var step any = s.Step
+	if s.Step == 0 {
+		step = nil
+	}
+	return json.Marshal(map[string]any{"level": s.Level, "method": s.Method, "step": step, "count": s.Count,
 		"mase": finite(s.MASE), "rmsse": finite(s.RMSSE), "bias": finite(s.Bias), "crps": finite(s.CRPS),
 		"coverage": finites(s.Coverage), "interval_score": finites(s.IntervalScore)})
 }

@@ -131,8 +131,26 @@ func TestForecastCalibrate(t *testing.T) {
 // "int. score" without a word of what they mean.
 func TestBacktestSummaryWording(t *testing.T) {
 	in := smallInput(t)
+	dir := filepath.Join(t.TempDir(), "bt")
 	out := runOK(t, "backtest", "--input", in, "--hierarchy", "region,store", "--hierarchy", "category", "--family", "drift",
-		"--horizon", "4", "--quiet", "--origins", "2", "--no-report", "--format", "csv", "--out", filepath.Join(t.TempDir(), "bt"))
+		"--horizon", "4", "--quiet", "--origins", "2", "--no-report", "--format", "csv", "--out", dir)
+	// The scores over all steps are marked as in the scores table: a null
+	// step, not 0.
+	var rep struct {
+		LevelScores []map[string]any `json:"level_scores"`
+	}
+	if err := json.Unmarshal([]byte(readFile(t, filepath.Join(dir, "run.json"))), &rep); err != nil {
+		t.Fatal(err)
+	}
+	if len(rep.LevelScores) == 0 {
+		t.Fatal("run.json has no level scores")
+	}
+	for _, s := range rep.LevelScores {
+		if step, ok := s["step"]; !ok || step != nil {
+			t.Errorf("a level score over all steps has step %v, want null", step)
+			break
+		}
+	}
 	for _, gone := range []string{"Headline", "cover 80%", "int. score"} {
 		if strings.Contains(out, gone) {
 			t.Errorf("the summary still says %q", gone)
