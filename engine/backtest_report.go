@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
+	"trueup/internal/words"
 )
 
 // BacktestReport is the content of a backtest's run.json.
@@ -57,7 +58,7 @@ type OriginReport struct {
 // of one level's aggregates over one split.
 type LevelCancellation struct {
 	Level string  `json:"level"`
-	Split string  `json:"split_level"`
+	Split string  `json:"child_level"`
 	Mean  float64 `json:"mean"`
 }
 
@@ -69,8 +70,8 @@ type LevelIncoherence struct {
 }
 
 func (r *BacktestReport) fill(res *BacktestResult, opt Options, origins, every int) {
-	r.Options = map[string]any{"family": familyOrDefault(opt.Model.Family), "form": opt.Model.Form, "transform": opt.Model.Transform,
-		"period": res.Period, "horizon": res.Horizon, "levels": res.Levels,
+	r.Options = map[string]any{"family": familyOrDefault(opt.Model.Family), "model": opt.Model.Form, "transform": opt.Model.Transform,
+		"season_length": res.Period, "horizon": res.Horizon, "intervals": res.Levels,
 		"origins": origins, "every": every, "compare": append(append([]string{}, res.Methods...), skippedNames(res.Skipped)...)}
 	for _, o := range res.Origins {
 		r.Origins = append(r.Origins, OriginReport{FirstForecast: o.Start.String(), HistoryEnd: o.Start.Next(-1).String(),
@@ -121,7 +122,7 @@ func (r *BacktestReport) fill(res *BacktestResult, opt Options, origins, every i
 	}
 	last := res.Origins[len(res.Origins)-1]
 	if n, m := len(res.Structure.Nodes), len(last.Structure.Nodes); n != m {
-		r.Warnings = append(r.Warnings, fmt.Sprintf("%d of the %d nodes opened after the last origin and are not scored", n-m, n))
+		r.Warnings = append(r.Warnings, fmt.Sprintf("%s of the %s opened after the last origin and %s not scored", words.Thousands(n-m), words.Count(n, "node", "nodes"), words.Agree(n-m, "is", "are")))
 	}
 }
 
@@ -185,9 +186,14 @@ func finites(xs []float64) []any {
 }
 
 // MarshalJSON writes the score with null for a value it could not
-// compute.
+// compute, and a null step for the score over all steps, as the scores
+// table marks it.
 func (s Score) MarshalJSON() ([]byte, error) {
-	return json.Marshal(map[string]any{"level": s.Level, "method": s.Method, "step": s.Step, "count": s.Count,
+	var step any = s.Step
+	if s.Step == 0 {
+		step = nil
+	}
+	return json.Marshal(map[string]any{"level": s.Level, "method": s.Method, "step": step, "count": s.Count,
 		"mase": finite(s.MASE), "rmsse": finite(s.RMSSE), "bias": finite(s.Bias), "crps": finite(s.CRPS),
 		"coverage": finites(s.Coverage), "interval_score": finites(s.IntervalScore)})
 }

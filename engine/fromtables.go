@@ -8,6 +8,7 @@ import (
 	"io"
 	"os"
 	"time"
+	"trueup/internal/words"
 
 	"trueup/hierarchy"
 	"trueup/inputerr"
@@ -337,7 +338,7 @@ func Reconcile(ctx context.Context, bs *BaseSet, opt ReconcileOptions) (*Result,
 	res := &Result{Structure: st, Calendar: Calendar{First: first, T: T}, History: history, Fits: fits,
 		Solution: sol, Levels: opt.Levels, Nonnegative: nonneg, Horizon: h, KeyTypes: bs.KeyTypes}
 	res.Report = RunReport{Version: Version, Command: "reconcile", Input: bs.Input,
-		Options:  map[string]any{"method": rc.Method, "cov": rc.Cov, "at": rc.At, "nonnegative": nonneg, "levels": opt.Levels},
+		Options:  map[string]any{"method": rc.Method, "cov": rc.Cov, "at": rc.At, "nonnegative": nonneg, "intervals": opt.Levels},
 		Timings:  map[string]float64{"read": bs.ReadSeconds, "reconcile": time.Since(start).Seconds()},
 		Warnings: append([]string{}, warnings...), Models: map[string]int{},
 		Reconcile: reconcileReport(method.Name(), sol.Notes)}
@@ -353,7 +354,7 @@ func Reconcile(ctx context.Context, bs *BaseSet, opt ReconcileOptions) (*Result,
 		c.NodesPerLevel = append(c.NodesPerLevel, LevelCount{Level: l.Name, Nodes: len(l.Nodes)})
 	}
 	if nc := countTrue(closed); nc > 0 {
-		res.Report.Warnings = append(res.Report.Warnings, fmt.Sprintf("%d bottom series have closed and are forecast as zero", nc))
+		res.Report.Warnings = append(res.Report.Warnings, fmt.Sprintf("%s closed before the forecast origin and %s forecast as zero", words.Count(nc, "bottom series", "bottom series"), words.Agree(nc, "is", "are")))
 	}
 	if err := res.recordLocks(&res.Report, rc, locks); err != nil {
 		return nil, err

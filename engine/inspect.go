@@ -31,8 +31,8 @@ type InspectReport struct {
 	// LateStarts and EarlyEnds list the nodes starting after the first
 	// period (openings) or ending before the last (closures), at the
 	// coarsest level that has any.
-	LateStarts []SeriesSpan `json:"late_starts"`
-	EarlyEnds  []SeriesSpan `json:"early_ends"`
+	LateStarts []SeriesSpan `json:"opened_late"`
+	EarlyEnds  []SeriesSpan `json:"closed"`
 }
 
 // SeriesSpan is a bottom series and the periods it covers.

@@ -198,7 +198,7 @@ func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
 					continue
 				}
 				p := tableio.Period{Grain: native, Index: nat[i]}
-				msg := fmt.Sprintf("repeats key %s and period %s; ask for duplicates to be summed to add such rows together", keyText(rows, seriesKey[sid[i]]), p)
+				msg := fmt.Sprintf("repeats key %s and period %s", keyText(rows, seriesKey[sid[i]]), p)
 				if len(rows.KeyNames) == 0 {
 					msg = fmt.Sprintf("repeats period %s; does the table hold several series? name their key columns", p)
 				}

@@ -3,6 +3,7 @@ package engine
 import (
 	"fmt"
 	"sort"
+	"trueup/internal/words"
 
 	"trueup/models/families"
 	"trueup/reconcile"
@@ -44,6 +45,10 @@ type InputReport struct {
 	SHA256  string   `json:"sha256"`
 	Rows    int      `json:"rows"`
 	Columns []string `json:"columns"`
+	// Value is the column summed as sales (Source.Value); the report's
+	// value axis is labelled with it. Empty for base forecasts read by
+	// LoadTables.
+	Value string `json:"value_column,omitempty"`
 }
 
 // CountsReport sizes the structure.
@@ -55,7 +60,7 @@ type CountsReport struct {
 	FirstPeriod   string         `json:"first_period"`
 	LastPeriod    string         `json:"last_period"`
 	Grain         string         `json:"grain"`
-	SeasonalLag   int            `json:"seasonal_period"`
+	SeasonalLag   int            `json:"season_length"`
 	Horizon       int            `json:"horizon"`
 	ForecastRange [2]string      `json:"forecast_periods"`
 	Input         map[string]int `json:"input_checks"`
@@ -67,8 +72,8 @@ type LevelCount struct {
 	Nodes int    `json:"nodes"`
 	// LateStarts and EarlyEnds count nodes that start after the first
 	// period or end before the last (filled by Inspect).
-	LateStarts int `json:"late_starts,omitempty"`
-	EarlyEnds  int `json:"early_ends,omitempty"`
+	LateStarts int `json:"opened_late,omitempty"`
+	EarlyEnds  int `json:"closed,omitempty"`
 }
 
 // ReconcileReport describes the reconciliation.
@@ -95,8 +100,8 @@ func reconcileReport(method string, notes map[string]float64) ReconcileReport {
 // optionsReport records the options as resolved, defaults filled in.
 func optionsReport(opt Options, rc Reconciliation, nonneg bool) map[string]any {
 	return map[string]any{
-		"family": familyOrDefault(opt.Model.Family), "form": opt.Model.Form, "transform": opt.Model.Transform,
-		"period": opt.Period, "horizon": opt.Horizon, "levels": opt.Levels,
+		"family": familyOrDefault(opt.Model.Family), "model": opt.Model.Form, "transform": opt.Model.Transform,
+		"season_length": opt.Period, "horizon": opt.Horizon, "intervals": opt.Levels,
 		"method": rc.Method, "cov": rc.Cov, "at": rc.At, "nonnegative": nonneg,
 	}
 }
@@ -127,7 +132,7 @@ func (r *RunReport) fill(d *Data, opt Options, rc Reconciliation, res *Result, m
 		Input: map[string]int{
 			"summed_rows": pn.Stats.SummedRows, "negative_values": pn.Stats.Negative,
 			"zero_values": pn.Stats.Zero, "gap_periods": pn.Stats.Gaps,
-			"late_starts": pn.Stats.LateStarts, "early_ends": pn.Stats.EarlyEnds,
+			"opened_late": pn.Stats.LateStarts, "closed": pn.Stats.EarlyEnds,
 		},
 	}
 	for _, l := range st.Levels {
@@ -149,7 +154,7 @@ func (r *RunReport) fill(d *Data, opt Options, rc Reconciliation, res *Result, m
 	r.Reconcile = reconcileReport(method, sol.Notes)
 	r.Warnings = []string{}
 	if pn.Stats.Negative > 0 {
-		r.Warnings = append(r.Warnings, fmt.Sprintf("%d rows have negative values (returns?); they were kept", pn.Stats.Negative))
+		r.Warnings = append(r.Warnings, fmt.Sprintf("%s negative (returns?); kept", words.Count(pn.Stats.Negative, "row is", "rows are")))
 	}
 	r.Warnings = append(r.Warnings, pn.Stats.InputNotes()...)
 	r.Warnings = append(r.Warnings, pn.Stats.Outliers...)
@@ -157,13 +162,13 @@ func (r *RunReport) fill(d *Data, opt Options, rc Reconciliation, res *Result, m
 		r.Warnings = append(r.Warnings, "partial period: "+p+"; its total understates a full period (trim the input to whole periods)")
 	}
 	if pn.Stats.Gaps > 0 {
-		r.Warnings = append(r.Warnings, fmt.Sprintf("%d periods inside series' spans had no row and count as zero sales", pn.Stats.Gaps))
+		r.Warnings = append(r.Warnings, fmt.Sprintf("%s inside series' spans had no row and count as zero sales", words.Count(pn.Stats.Gaps, "period", "periods")))
 	}
 	if pn.Stats.EarlyEnds > 0 {
-		r.Warnings = append(r.Warnings, fmt.Sprintf("%d bottom series stop before %s and are forecast as zero", pn.Stats.EarlyEnds, c.LastPeriod))
+		r.Warnings = append(r.Warnings, fmt.Sprintf("%s closed before %s and %s forecast as zero", words.Count(pn.Stats.EarlyEnds, "bottom series", "bottom series"), c.LastPeriod, words.Agree(pn.Stats.EarlyEnds, "is", "are")))
 	}
 	if warned > 0 {
-		r.Warnings = append(r.Warnings, fmt.Sprintf("%d nodes have a model warning; see the warning column of the models table", warned))
+		r.Warnings = append(r.Warnings, fmt.Sprintf("%s a model warning; see the warning column of the models table", words.Count(warned, "node has", "nodes have")))
 	}
 	if res.Plans != nil {
 		for _, l := range res.Plans.LeftOut {

@@ -96,7 +96,7 @@ func Load(src Source) (*Data, error) {
 		return nil, err
 	}
 	d := &Data{ReadSeconds: time.Since(start).Seconds(), KeyTypes: rows.KeyTypes, rows: rows, src: src,
-		Input: InputReport{Path: rows.Path, SHA256: rows.SHA256, Rows: rows.N, Columns: rows.Columns}}
+		Input: InputReport{Path: rows.Path, SHA256: rows.SHA256, Rows: rows.N, Columns: rows.Columns, Value: src.Value}}
 
 	start = time.Now()
 	if err := d.arrange(rows, src); err != nil {

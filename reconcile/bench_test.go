@@ -65,7 +65,7 @@ func BenchmarkMinTRetail(b *testing.B) {
 			b.Fatal(err)
 		}
 		b.ReportMetric(sol.Notes["cg_iterations"], "cg-iters")
-		b.ReportMetric(sol.Notes["lambda"], "lambda")
+		b.ReportMetric(sol.Notes["shrinkage"], "lambda")
 	}
 }
 

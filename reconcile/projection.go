@@ -204,7 +204,7 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 	if errc != nil && pr.Cov == CovShrink {
 		// Only the shrink covariance is shrunk: with any other the λ
 		// estimated on the way is used nowhere and is not reported.
-		sol.Notes["lambda"] = errc.lambda
+		sol.Notes["shrinkage"] = errc.lambda
 	}
 	sol.Variance, sol.Joint = vr.v, vr.joint
 	if vr.paths > 0 {

@@ -237,6 +237,21 @@ func TestReportInBrowser(t *testing.T) {
 		t.Fatal(err)
 	}
 	saveShot(t, filepath.Join(t.TempDir(), "node.png"), selected)
+	labels := pageLabels(t, ctx)
+	// Axis ticks keep the digit that tells 12,500 from 13,000; the value
+	// axis names the value column and the grain.
+	if ok := eval(`+(window.trueupReport.format.short(12500) === "12.5 k" && window.trueupReport.format.short(13000) === "13 k" &&
+		window.trueupReport.format.unit === "sales per month")`); ok != 1 {
+		t.Errorf("tick labels or the value axis label are wrong: %v", eval(`0`))
+	}
+	// Legends are blank, not a dash, until the pointer is over a period.
+	if dashes := eval(`[...document.querySelectorAll(".u-legend .u-value")].filter(e => /^[–-]+$/.test(e.textContent.trim())).length`); dashes != 0 {
+		t.Errorf("%v legend values show a dash", dashes)
+	}
+	// Numbers are plain decimals: no p-value such as 4.30e-2.
+	if exp := eval(`(document.body.innerText.match(/\d\.?\d*e[-+]\d+/g) || []).length`); exp != 0 {
+		t.Errorf("the page shows %v numbers in exponent notation", exp)
+	}
 
 	// The same run's folder with a backtest's tables beside it: the
 	// accuracy section is drawn (its numbers are invented; only the
@@ -279,6 +294,15 @@ func TestReportInBrowser(t *testing.T) {
 		t.Fatal(err)
 	}
 	saveShot(t, filepath.Join(t.TempDir(), "accuracy.png"), accShot)
+	labels = append(labels, pageLabels(t, ctx)...)
+	// The base forecasts have one colour in every chart: in the accuracy
+	// charts, "base" is drawn in the forecast charts' base colour, and no
+	// other method is.
+	if ok := eval(`(() => { const base = getComputedStyle(document.documentElement).getPropertyValue("--base").trim();
+		const c = window.trueupReport.format.seriesColours(["bottom-up", "base", "mint", "mint-variance"]);
+		return +(c[1] === base && c.filter(x => x === base).length === 1); })()`); ok != 1 {
+		t.Errorf("the accuracy charts draw the base forecasts in another colour than the forecast charts")
+	}
 
 	// The same forecasts with two locks (the total at step 3, a category
 	// at step 5; the demo's fits reused): the locks section lists them,
@@ -314,6 +338,7 @@ func TestReportInBrowser(t *testing.T) {
 		t.Fatal(err)
 	}
 	saveShot(t, filepath.Join(t.TempDir(), "locks.png"), lockShot)
+	checkReportLabels(t, append(labels, pageLabels(t, ctx)...))
 	mu.Lock()
 	defer mu.Unlock()
 	for _, p := range problems {

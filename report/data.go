@@ -61,11 +61,13 @@ type Node struct {
 	Level   int      `json:"level"`
 	Key     []string `json:"key"`
 	Volume  float64  `json:"volume"` // sum of its history, or of its forecasts without a history table
+	Status  string   `json:"status,omitempty"`
 	Family  string   `json:"family,omitempty"`
 	Spec    string   `json:"spec,omitempty"`
 	Params  string   `json:"params,omitempty"` // JSON text, as in the models table
 	AICc    *float64 `json:"aicc,omitempty"`
 	Sigma2  *float64 `json:"sigma2,omitempty"`
+	Scale   string   `json:"variance_scale,omitempty"`
 	Warning string   `json:"warning,omitempty"`
 	LBLags  int      `json:"lb_lags,omitempty"`
 	LBQ     *float64 `json:"lb_q,omitempty"`
@@ -403,11 +405,27 @@ func addModels(m *Meta, t *tableio.Table, attrs []string, idx nodeIndex) error {
 	if err != nil {
 		return err
 	}
-	get := func(name string) *tableio.Column { return column(t, name) }
-	family, spec, params, warn := get("family"), get("spec"), get("params"), get("warning")
-	aicc, sigma2, lags, q, p := get("aicc"), get("sigma2"), get("ljung_box_lags"), get("ljung_box_q"), get("ljung_box_p")
+	// A folder written before the models table's columns were renamed
+	// has them under their old names (spec, sigma2).
+	get := func(names ...string) *tableio.Column {
+		for _, name := range names {
+			if c := column(t, name); c != nil {
+				return c
+			}
+		}
+		return nil
+	}
+	family, spec, params, warn := get("family"), get("model", "spec"), get("params"), get("warning")
+	aicc, sigma2, lags, q, p := get("aicc"), get("innovation_variance", "sigma2"), get("ljung_box_lags"), get("ljung_box_q"), get("ljung_box_p")
+	status, scale := get("status"), get("variance_scale")
 	for r, i := range rows {
 		nd := &m.Nodes[i]
+		if status != nil {
+			nd.Status = cell(status, r)
+		}
+		if scale != nil {
+			nd.Scale = cell(scale, r)
+		}
 		if family != nil {
 			nd.Family = cell(family, r)
 		}
@@ -451,7 +469,7 @@ func addCorrelograms(d *Data, t *tableio.Table, attrs []string, idx nodeIndex) e
 	}
 	period := 1
 	if counts, ok := d.Meta.Run["counts"].(map[string]any); ok {
-		if v, ok := counts["seasonal_period"].(float64); ok && v >= 1 {
+		if v, ok := seasonLength(counts); ok && v >= 1 {
 			period = int(v)
 		}
 	}
@@ -559,4 +577,15 @@ func nanSlice(n int) []float32 {
 		s[i] = nan
 	}
 	return s
+}
+
+// seasonLength reads the season length from run.json's counts, under its
+// name or, in a folder written before the rename, seasonal_period.
+func seasonLength(counts map[string]any) (float64, bool) {
+	for _, key := range []string{"season_length", "seasonal_period"} {
+		if v, ok := counts[key].(float64); ok {
+			return v, true
+		}
+	}
+	return 0, false
 }

@@ -121,7 +121,7 @@ func TestEmbeddedDataEqualTables(t *testing.T) {
 	models := in.Tables["models"]
 	checked := 0
 	for i, nd := range m.Nodes {
-		if nd.Family != cell(column(models, "family"), i) || nd.Spec != cell(column(models, "spec"), i) ||
+		if nd.Family != cell(column(models, "family"), i) || nd.Spec != cell(column(models, "model"), i) || nd.Status != cell(column(models, "status"), i) ||
 			nd.Params != cell(column(models, "params"), i) || nd.Warning != cell(column(models, "warning"), i) {
 			t.Fatalf("node %d: model %q %q differs from the models table", i, nd.Family, nd.Spec)
 		}

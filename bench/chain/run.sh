@@ -27,7 +27,7 @@ for format in $formats; do
 	echo "== $format input, $stores stores; load average before: $(cut -d' ' -f1-3 /proc/loadavg)"
 	/usr/bin/time -f "forecast: %e s wall, %U s user CPU, %S s system CPU, %M KB peak resident" \
 		"$dir/trueup" forecast --input "$dir/chain.$format" --time period --value sales \
-		--nest region,store --nest category --family auto --workers 2 --quiet \
+		--hierarchy region,store --hierarchy category --family auto --workers 2 --quiet \
 		--out "$dir/out-$format" >/dev/null
 	python3 - "$dir/out-$format/run.json" <<'EOF'
 import json, sys

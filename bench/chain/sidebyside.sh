@@ -28,7 +28,7 @@ for r in $(seq "$rounds"); do
 		rm -rf "$dir/out-$t"
 		/usr/bin/time -f "$t %e %U %M $(cut -d' ' -f1 /proc/loadavg)" -a -o "$dir/times" \
 			"$dir/trueup-$t" forecast --input "$dir/chain.parquet" --time period --value sales \
-			--nest region,store --nest category --family auto --workers 2 --quiet \
+			--hierarchy region,store --hierarchy category --family auto --workers 2 --quiet \
 			--out "$dir/out-$t" >/dev/null
 	done
 done

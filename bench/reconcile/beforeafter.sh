@@ -30,7 +30,7 @@ for r in $(seq "$rounds"); do
         before=$(load)
         /usr/bin/time -f '%e %U %S %M' -o "$dir/t" "$dir/trueup-$t" reconcile \
           --base "$dir/$f/base.$f" --residuals "$dir/$f/residuals.$f" \
-          --nest state,store --nest category,department,item --method mint --cov shrink \
+          --hierarchy state,store --hierarchy category,department,item --method mint --cov shrink \
           --format "$f" --out "$dir/out-$t" $extra >/dev/null
         echo "round $r $t $f ${extra:-plain}: wall/user/sys/peakKB $(cat "$dir/t"); load $before -> $(load)"
       done

@@ -22,7 +22,7 @@ done
 ls -l "$dir"/parquet/*.parquet "$dir"/csv/*.csv
 for f in parquet csv; do
   cmd=("$dir/trueup" reconcile --base "$dir/$f/base.$f" --residuals "$dir/$f/residuals.$f"
-       --nest state,store --nest category,department,item --method mint --cov shrink
+       --hierarchy state,store --hierarchy category,department,item --method mint --cov shrink
        --format "$f" --out "$dir/out-$f")
   for extra in "" --nonnegative; do
     echo

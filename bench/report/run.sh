@@ -23,7 +23,7 @@ ls -l "$dir/demo/report.html"
 echo "== 39,442 nodes"
 go run ./bench/report/gen -out "$dir"
 cmd=("$dir/trueup" forecast --input "$dir/sales.parquet" --time day --value units
-     --nest state,store --nest category,department,item --family seasonal-naive
+     --hierarchy state,store --hierarchy category,department,item --family seasonal-naive
      --method bottom-up --horizon 28 --quiet --out "$dir/out")
 echo "+ trueup ${cmd[*]:1}"
 "${cmd[@]}" >/dev/null

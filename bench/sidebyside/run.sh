@@ -37,7 +37,7 @@ done
 for r in $(seq "$rounds"); do
 	for t in old new; do
 		echo "$t $(wall "$dir/trueup-$t" reconcile --base "$dir/rec-$t/base.parquet" --residuals "$dir/rec-$t/residuals.parquet" \
-			--nest state,store --nest category,department,item --method mint --cov shrink --out "$dir/recout-$t")" >> "$dir/reconcile.txt"
+			--hierarchy state,store --hierarchy category,department,item --method mint --cov shrink --out "$dir/recout-$t")" >> "$dir/reconcile.txt"
 	done
 done
 

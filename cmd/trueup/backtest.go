@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"strings"
+	"trueup/internal/words"
 
 	"github.com/spf13/cobra"
 
@@ -23,7 +24,7 @@ func newBacktestCmd() *cobra.Command {
 		compare string
 	)
 	cmd := &cobra.Command{
-		Use:   "backtest --input FILE --nest CHAIN [--nest CHAIN ...]",
+		Use:   "backtest --input FILE --hierarchy COLUMNS [--hierarchy COLUMNS ...]",
 		Short: "Score the whole pipeline at past origins and compare reconciliation methods",
 		Long: `Cuts the history at --origins past points, --every periods apart (the last
 leaves exactly one horizon of actuals), fits every node as forecast would
@@ -36,9 +37,9 @@ the best mean score over levels.
 Writes backtest, scores, contributions, drivers, node_scores and
 incoherence tables and run.json to --out, then report.html with the
 scores, the recommendation and the drivers (unless --no-report).`,
-		Example: `  trueup backtest --input sales.parquet --nest region,store --nest category
+		Example: `  trueup backtest --input sales.parquet --hierarchy region,store --hierarchy category
 
-  trueup backtest --input sales.parquet --nest region,store --nest category \
+  trueup backtest --input sales.parquet --hierarchy region,store --hierarchy category \
       --origins 6 --every 2 --compare base,bottom-up,mint-shrink --format csv`,
 		Args: noArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
@@ -136,8 +137,9 @@ func printBacktest(w io.Writer, bt *engine.BacktestResult, files []string, asJSO
 		return enc.Encode(rep)
 	}
 	first, last := rep.Origins[0], rep.Origins[len(rep.Origins)-1]
-	fmt.Fprintf(w, "Backtest at %d origins, first forecasts %s to %s, %d periods ahead from each; %d nodes.\n",
-		len(rep.Origins), first.FirstForecast, last.FirstForecast, bt.Horizon, len(bt.Structure.Nodes))
+	fmt.Fprintf(w, "Backtest at %s, first forecasts %s to %s, %s ahead from each; %s.\n",
+		words.Count(len(rep.Origins), "origin", "origins"), first.FirstForecast, last.FirstForecast,
+		words.Count(bt.Horizon, "period", "periods"), words.Count(len(bt.Structure.Nodes), "node", "nodes"))
 	fmt.Fprintf(w, "Every node fitted once per origin; methods compared on the same fits: %s.\n", strings.Join(bt.Methods, ", "))
 	for _, s := range bt.Skipped {
 		fmt.Fprintf(w, "Skipped %s: %s\n", s.Method, s.Reason)
@@ -164,15 +166,15 @@ func printBacktest(w io.Writer, bt *engine.BacktestResult, files []string, asJSO
 	}
 	textTable(w, header, append(rows, row))
 
-	fmt.Fprintln(w, "\nHeadline (mean over levels):")
+	fmt.Fprintln(w, "\nScores by method (mean over levels, each level weighing the same):")
 	header = []string{"method", "MASE", "RMSSE", "bias"}
 	for _, l := range bt.Levels {
-		header = append(header, "cover "+engine.LevelLabel(l)+"%")
+		header = append(header, "coverage "+engine.LevelLabel(l)+"%")
 	}
 	for _, l := range bt.Levels {
-		header = append(header, "int. score "+engine.LevelLabel(l)+"%")
+		header = append(header, "interval score "+engine.LevelLabel(l)+"%")
 	}
-	header = append(header, "CRPS", "energy")
+	header = append(header, "CRPS", "energy score")
 	rows = nil
 	for _, h := range bt.Headline {
 		row := []string{h.Method, fmt.Sprintf("%.3f", h.MASE), fmt.Sprintf("%.3f", h.RMSSE), fmt.Sprintf("%.3f", h.Bias)}
@@ -186,7 +188,10 @@ func printBacktest(w io.Writer, bt *engine.BacktestResult, files []string, asJSO
 		rows = append(rows, row)
 	}
 	textTable(w, header, rows)
-	fmt.Fprintln(w, "CRPS scores each node's whole predictive distribution, the energy score the joint one of all nodes; both over the scale, lower is better.")
+	fmt.Fprintln(w, "MASE, RMSSE and bias are over each node's seasonal naive error (below 1: better than repeating last season; bias above 0: forecasts too low).")
+	fmt.Fprintln(w, "Coverage is the share of actuals inside the interval (an 80% interval should hold about 80%); the interval score adds the interval's width")
+	fmt.Fprintln(w, "and a penalty for each actual outside it, over the scale. CRPS scores each node's whole predictive distribution, the energy score the")
+	fmt.Fprintln(w, "joint one of all nodes; both over the scale. For every score but coverage, lower is better.")
 	printCoverageByLevel(w, bt)
 	if len(bt.Calibration) > 0 {
 		c := bt.Calibration[0]

@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 
 	"trueup/fixtures"
@@ -22,7 +23,7 @@ func smallInput(t *testing.T) string {
 
 func TestBacktestCommand(t *testing.T) {
 	in := smallInput(t)
-	args := []string{"backtest", "--input", in, "--nest", "region,store", "--nest", "category", "--family", "drift",
+	args := []string{"backtest", "--input", in, "--hierarchy", "region,store", "--hierarchy", "category", "--family", "drift",
 		"--horizon", "4", "--quiet"}
 	out := filepath.Join(t.TempDir(), "bt")
 	if code := run(append(args, "--origins", "2", "--out", out, "--format", "csv")); code != 0 {
@@ -54,7 +55,7 @@ func TestBacktestCommand(t *testing.T) {
 func TestForecastMethodAuto(t *testing.T) {
 	in := smallInput(t)
 	out := t.TempDir()
-	args := []string{"forecast", "--input", in, "--nest", "region,store", "--nest", "category", "--family", "drift",
+	args := []string{"forecast", "--input", in, "--hierarchy", "region,store", "--hierarchy", "category", "--family", "drift",
 		"--horizon", "4", "--quiet", "--method", "auto", "--origins", "2", "--out", out}
 	if code := run(args); code != 0 {
 		t.Fatalf("forecast --method auto exited %d", code)
@@ -78,7 +79,7 @@ func TestForecastMethodAuto(t *testing.T) {
 	if a := rep.Reconcile.Auto; a == nil || a.Method == "" || a.Reason == "" || a.Origins != 2 {
 		t.Errorf("run.json automatic_choice %+v", a)
 	}
-	if code := run([]string{"forecast", "--input", in, "--nest", "region,store", "--nest", "category", "--origins", "2",
+	if code := run([]string{"forecast", "--input", in, "--hierarchy", "region,store", "--hierarchy", "category", "--origins", "2",
 		"--out", filepath.Join(t.TempDir(), "x"), "--quiet"}); code != 2 {
 		t.Errorf("--origins without --method auto: exit %d, want 2", code)
 	}
@@ -89,7 +90,7 @@ func TestForecastMethodAuto(t *testing.T) {
 // 2 and write nothing.
 func TestForecastCalibrate(t *testing.T) {
 	in := smallInput(t)
-	args := []string{"forecast", "--input", in, "--nest", "region,store", "--nest", "category", "--family", "drift",
+	args := []string{"forecast", "--input", in, "--hierarchy", "region,store", "--hierarchy", "category", "--family", "drift",
 		"--horizon", "4", "--quiet", "--method", "bottom-up"}
 	out := t.TempDir()
 	if code := run(append(args, "--calibrate", "3", "--out", out)); code != 0 {
@@ -121,6 +122,44 @@ func TestForecastCalibrate(t *testing.T) {
 		}
 		if _, err := os.Stat(dir); err == nil {
 			t.Errorf("--calibrate %s: wrote %s", bad, dir)
+		}
+	}
+}
+
+// TestBacktestSummaryWording checks that the backtest's summary names
+// its scores in full and explains them: no "Headline", "cover" or
+// "int. score" without a word of what they mean.
+func TestBacktestSummaryWording(t *testing.T) {
+	in := smallInput(t)
+	dir := filepath.Join(t.TempDir(), "bt")
+	out := runOK(t, "backtest", "--input", in, "--hierarchy", "region,store", "--hierarchy", "category", "--family", "drift",
+		"--horizon", "4", "--quiet", "--origins", "2", "--no-report", "--format", "csv", "--out", dir)
+	// The scores over all steps are marked as in the scores table: a null
+	// step, not 0.
+	var rep struct {
+		LevelScores []map[string]any `json:"level_scores"`
+	}
+	if err := json.Unmarshal([]byte(readFile(t, filepath.Join(dir, "run.json"))), &rep); err != nil {
+		t.Fatal(err)
+	}
+	if len(rep.LevelScores) == 0 {
+		t.Fatal("run.json has no level scores")
+	}
+	for _, s := range rep.LevelScores {
+		if step, ok := s["step"]; !ok || step != nil {
+			t.Errorf("a level score over all steps has step %v, want null", step)
+			break
+		}
+	}
+	for _, gone := range []string{"Headline", "cover 80%", "int. score"} {
+		if strings.Contains(out, gone) {
+			t.Errorf("the summary still says %q", gone)
+		}
+	}
+	for _, want := range []string{"Scores by method (mean over levels, each level weighing the same)", "coverage 80%", "interval score 80%", "energy score",
+		"Coverage is the share of actuals inside the interval"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("the summary lacks %q:\n%s", want, out)
 		}
 	}
 }

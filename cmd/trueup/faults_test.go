@@ -65,7 +65,7 @@ func TestMain(m *testing.M) {
 // forecastArgs are the arguments of a quick forecast of input into out.
 func forecastArgs(input, out string, horizon int, formats string) []string {
 	return []string{"forecast", "--input", input, "--time", fixtures.DemoTimeColumn, "--value", fixtures.DemoValueColumn,
-		"--nest", fixtures.DemoNest[0], "--nest", fixtures.DemoNest[1], "--family", "drift", "--quiet",
+		"--hierarchy", fixtures.DemoNest[0], "--hierarchy", fixtures.DemoNest[1], "--family", "drift", "--quiet",
 		"--horizon", fmt.Sprint(horizon), "--format", formats, "--out", out}
 }
 
@@ -428,7 +428,7 @@ func TestBacktestInterruptedWhileWriting(t *testing.T) {
 	input := smallInput(t)
 	out := filepath.Join(t.TempDir(), "plan")
 	backtest := []string{"backtest", "--input", input, "--time", fixtures.DemoTimeColumn, "--value", fixtures.DemoValueColumn,
-		"--nest", fixtures.DemoNest[0], "--nest", fixtures.DemoNest[1], "--family", "drift", "--quiet",
+		"--hierarchy", fixtures.DemoNest[0], "--hierarchy", fixtures.DemoNest[1], "--family", "drift", "--quiet",
 		"--horizon", "3", "--origins", "2", "--format", "csv", "--out", out}
 	if code, stderr := runBin(t, forecastArgs(input, out, 3, "parquet")...); code != 0 {
 		t.Fatalf("forecast: exit %d: %s", code, stderr)
@@ -602,12 +602,12 @@ func TestLockedFolderRefusesEveryWriter(t *testing.T) {
 	}
 	fmt.Fprintf(f, "%d\n", os.Getpid())
 	model := []string{"--time", fixtures.DemoTimeColumn, "--value", fixtures.DemoValueColumn,
-		"--nest", fixtures.DemoNest[0], "--nest", fixtures.DemoNest[1], "--family", "drift", "--quiet", "--out", out}
+		"--hierarchy", fixtures.DemoNest[0], "--hierarchy", fixtures.DemoNest[1], "--family", "drift", "--quiet", "--out", out}
 	commands := map[string][]string{
 		"forecast":  forecastArgs(input, out, 4, "csv"),
 		"backtest":  append([]string{"backtest", "--input", input, "--origins", "2", "--horizon", "3"}, model...),
 		"demo":      {"demo", "--family", "drift", "--horizon", "3", "--quiet", "--out", out},
-		"reconcile": {"reconcile", "--base", filepath.Join(out, "forecasts.csv"), "--nest", "region,store", "--quiet", "--out", out},
+		"reconcile": {"reconcile", "--base", filepath.Join(out, "forecasts.csv"), "--hierarchy", "region,store", "--quiet", "--out", out},
 	}
 	for name, args := range commands {
 		code, stderr := runBin(t, args...)

@@ -56,7 +56,7 @@ form by AICc; seasonal-naive, drift and last are the benchmarks. When a family c
 simpler benchmarks are tried in turn and the warning says so.
 
 --model fixes the form and implies its family:
-  ARIMA(p,d,q)(P,D,Q) m=12            seasonal ARIMA; "m=" (default: --period
+  ARIMA(p,d,q)(P,D,Q) m=12            seasonal ARIMA; "m=" (default: --season-length
                                       or the data's grain) is optional
   ARIMA(0,0,1)(0,1,1) m=12 + drift    "+ mean" (d+D = 0) or "+ drift"
                                       (d+D = 1) adds a constant
@@ -68,7 +68,7 @@ Signs: AR polynomial 1 − φ1B − …, MA polynomial 1 + θ1B + ….
 --transform log or boxcox (λ by Guerrero's method) fits on that scale;
 forecasts and bounds are always on the scale of the data.
 
-Intervals are the forecast ± z·standard error for each --levels value.
+Intervals are the forecast ± z·standard error for each --intervals value.
 Forecasts are estimates: review them before they go into a plan.
 
 With --json each series gives one JSON object per line with the groups
@@ -76,7 +76,7 @@ series, model, estimates, fit_quality, forecast, residuals and warning.`,
 		Example: `  trueup fit --input sales.csv --time month --value sales
   trueup fit --input sales.parquet --time month --value sales --key store --json
   trueup fit --input sales.parquet --time month --value sales --key store \
-      --model "ARIMA(0,1,1)(0,1,1)" --transform log --horizon 12 --levels 80,95`,
+      --model "ARIMA(0,1,1)(0,1,1)" --transform log --horizon 12 --intervals 80,95`,
 		Args: noArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			return runFit(cmd.Context(), cmd.OutOrStdout(), cmd.ErrOrStderr(), &fl)
@@ -87,14 +87,15 @@ series, model, estimates, fit_quality, forecast, residuals and warning.`,
 	f.StringVar(&fl.key, "key", "", "column whose values name separate series (default: the table is one series)")
 	groupFlags(cmd, "Input", "key")
 	f.StringVar(&fl.family, "family", "", "model family: "+familyNames())
-	f.StringVar(&fl.model, "model", "", `fixed form, e.g. "ARIMA(0,1,1)(0,1,1)" or "ETS(M,Ad,M)"; it implies the family`)
+	f.StringVar(&fl.model, "model", "", `fixed model, e.g. "ARIMA(0,1,1)(0,1,1)" or "ETS(M,Ad,M)", or any form the models table prints; it implies the family`)
 	f.StringVar(&fl.transform, "transform", "none", "transform before fitting: none, log or boxcox (not with --family auto, which chooses its own)")
 	f.BoolVar(&fl.constant, "constant", false, "with an ARIMA --model: include a mean (d+D=0) or drift (d+D=1)")
-	f.IntVar(&fl.period, "period", 0, "seasonal period (default: 12 for months, 4 for quarters, 52 for weeks, 7 for days)")
+	f.IntVar(&fl.period, "season-length", 0, "periods in one season (default: 12 for months, 4 for quarters, 52 for weeks, 7 for days)")
 	f.IntVar(&fl.horizon, "horizon", 0, "periods to forecast (default: one seasonal cycle, or 8 without seasonality)")
-	f.StringVar(&fl.levels, "levels", "80,95", "prediction interval levels in percent, comma-separated")
+	f.StringVar(&fl.levels, "intervals", "80,95", "prediction intervals to write, in percent, comma-separated")
 	f.IntVar(&fl.workers, "workers", runtime.NumCPU(), "series fitted in parallel (the output does not depend on it)")
 	f.BoolVar(&fl.json, "json", false, "print one JSON object per series and line")
+	keepOldNames(cmd)
 	return cmd
 }
 
@@ -110,7 +111,7 @@ func runFit(ctx context.Context, w, errw io.Writer, fl *fitFlags) error {
 	case fl.horizon < 0:
 		return &usageError{fmt.Errorf("--horizon must be at least 1, got %d", fl.horizon)}
 	case fl.period < 0:
-		return &usageError{fmt.Errorf("--period must be at least 1, got %d", fl.period)}
+		return &usageError{fmt.Errorf("--season-length must be at least 1, got %d", fl.period)}
 	case fl.workers < 1:
 		return &usageError{fmt.Errorf("--workers must be at least 1, got %d", fl.workers)}
 	}
@@ -370,23 +371,33 @@ func (r *fitRun) writeText(w io.Writer, i int, nf *engine.NodeFit) error {
 	if v.firstObs != "" {
 		fmt.Fprintf(w, "  history  %d observations, %s to %s\n", nf.NObs, v.firstObs, v.lastObs)
 	}
-	keys := make([]string, 0, len(v.details))
-	for k := range v.details {
+	weights, others := smoothingWeights(nf.Family, v.estimates)
+	if len(weights) > 0 {
+		fmt.Fprintln(w)
+		fmt.Fprintln(w, "  smoothing weights (0: the state keeps its starting value; 1: it follows each new period)")
+		indentedTable(w, "    ", []string{"state", "weight", "in words"}, weights)
+	}
+	details := r.writeSeasonal(w, nf, v)
+	keys := make([]string, 0, len(details))
+	for k := range details {
 		keys = append(keys, k)
 	}
 	sort.Strings(keys)
+	if len(keys) > 0 {
+		fmt.Fprintln(w)
+	}
 	for _, k := range keys {
 		var x any
-		if err := json.Unmarshal(v.details[k], &x); err != nil {
+		if err := json.Unmarshal(details[k], &x); err != nil {
 			return err
 		}
 		writeDetail(w, "  ", k, x)
 	}
 
-	if len(v.estimates) > 0 {
+	if len(others) > 0 {
 		fmt.Fprintln(w)
 		var rows [][]string
-		for _, e := range v.estimates {
+		for _, e := range others {
 			rows = append(rows, []string{e.Name, number(e.Value)})
 		}
 		indentedTable(w, "  ", []string{"estimate", "value"}, rows)
@@ -547,4 +558,50 @@ func scalar(x any) (string, bool) {
 		return fmt.Sprintf("%t", y), true
 	}
 	return "", false
+}
+
+// writeSeasonal writes the seasonal factors or terms of an exponential
+// smoothing or Theta fit labelled by the period each applies to (the
+// first season starts at the first observation: ETS's s_{1−m}…s_0 in
+// order of first use, Theta's index t mod m from the first observation)
+// and returns the details left to write.
+func (r *fitRun) writeSeasonal(w io.Writer, nf *engine.NodeFit, v *fitView) map[string]json.RawMessage {
+	rest := make(map[string]json.RawMessage, len(v.details))
+	for k, x := range v.details {
+		rest[k] = x
+	}
+	if nf.First < 0 {
+		return rest
+	}
+	first := r.data.Panel.First.Next(nf.First)
+	switch nf.Family {
+	case "ets":
+		var init map[string]json.RawMessage
+		if json.Unmarshal(rest["initial_states"], &init) != nil {
+			return rest
+		}
+		season, ok := floats(init["season"])
+		if !ok || len(season) == 0 {
+			return rest
+		}
+		form := strings.TrimSuffix(strings.SplitN(nf.Spec, " on ", 2)[0], ")")
+		fmt.Fprintln(w)
+		writeSeason(w, "  ", seasonTitle(strings.HasSuffix(form, "M")), season, seasonLabels(first, len(season)))
+		delete(init, "season")
+		if b, err := json.Marshal(init); err == nil {
+			rest["starting_states"] = b
+			delete(rest, "initial_states")
+		}
+	case "theta":
+		index, ok := floats(rest["seasonal_indices"])
+		if !ok || len(index) == 0 {
+			return rest
+		}
+		var adj string
+		_ = json.Unmarshal(rest["seasonal_adjustment"], &adj)
+		fmt.Fprintln(w)
+		writeSeason(w, "  ", seasonTitle(adj != "additive"), index, seasonLabels(first, len(index)))
+		delete(rest, "seasonal_indices")
+	}
+	return rest
 }

@@ -266,11 +266,11 @@ func TestFitErrors(t *testing.T) {
 		{"--key", "store", "--model", "ARIMA(0,1)"}, // bad model
 		{"--transform", "sqrt"},                     // bad transform
 		{"--constant"},                              // constant without model
-		{"--key", "store", "--levels", "80,120"},    // bad level
+		{"--key", "store", "--intervals", "80,120"}, // bad level
 		{"--key", "store", "--workers", "0"},
-		{"--key", "store", "--horizon", "1000"}, // beyond what 144 months support
-		{"--key", "store", "--period", "100"},   // fewer than two cycles of history
-		{"--key", "region"},                     // no such column
+		{"--key", "store", "--horizon", "1000"},      // beyond what 144 months support
+		{"--key", "store", "--season-length", "100"}, // fewer than two cycles of history
+		{"--key", "region"},                          // no such column
 	} {
 		args := append(append([]string{}, base...), extra...)
 		if code := run(args); code != exitInput {

@@ -15,25 +15,26 @@ func newForecastCmd() *cobra.Command {
 		rf runFlags
 	)
 	cmd := &cobra.Command{
-		Use:   "forecast --input FILE --nest CHAIN [--nest CHAIN ...]",
+		Use:   "forecast --input FILE --hierarchy COLUMNS [--hierarchy COLUMNS ...]",
 		Short: "Forecast every node of the structure and reconcile the forecasts",
 		Long: `Reads a long sales table (one row per bottom series per period), builds
-every aggregate named by --nest, fits a model to every node, reconciles the
+every aggregate named by --hierarchy, fits a model to every node, reconciles the
 forecasts so that every total equals the sum of its parts, and writes
 forecasts, models, residuals and run.json to --out.
 
-Each --nest value is a chain of key columns from coarse to fine. Several
-chains cross: --nest region,store --nest category gives the levels total,
-category, region, region+category, region+store and region+store+category.
+Each --hierarchy value lists key columns from coarse to fine. Several
+hierarchies cross: --hierarchy region,store --hierarchy category gives the
+levels total, category, region, region+category, region+store and
+region+store+category.
 
 Forecasts are estimates. Review them, and their intervals, before they go
 into a plan.`,
 		Example: `  trueup forecast --input sales.parquet --time month --value sales \
-      --nest region,store --nest category --horizon 12 --out plan-2027
+      --hierarchy region,store --hierarchy category --horizon 12 --out plan-2027
 
   # item-level rows summed to store × category, weekly totals from daily data
   trueup forecast --input items.csv --time day --value units \
-      --nest region,store --nest category --sum-duplicates --grain week`,
+      --hierarchy region,store --hierarchy category --sum-duplicates --grain week`,
 		Args: noArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			src, err := sf.source(true)

@@ -5,7 +5,7 @@ import (
 	"testing"
 )
 
-// FuzzParseLevels feeds arbitrary --levels values: no input may panic,
+// FuzzParseLevels feeds arbitrary --intervals values: no input may panic,
 // every failure is a usage error (exit 2), and accepted levels lie
 // strictly between 0 and 100, none repeated.
 func FuzzParseLevels(f *testing.F) {

@@ -151,7 +151,7 @@ func TestEveryInputFormThroughEveryCommand(t *testing.T) {
 	cfg := fixtures.SmallConfig(4)
 	tb := fixtures.Generate(cfg).Table()
 	dir := t.TempDir()
-	nest := []string{"--nest", "region,store", "--nest", "category"}
+	nest := []string{"--hierarchy", "region,store", "--hierarchy", "category"}
 	type outputs struct{ forecast, fit, inspect, reconcile, backtest string }
 	var ref outputs
 	var refForecasts string
@@ -254,10 +254,10 @@ func TestYearsAndStepsThroughEveryCommand(t *testing.T) {
 		}
 		common := []string{"--input", path, "--time", "year", "--family", "drift", "--horizon", "2"}
 		out := filepath.Join(dir, fmt.Sprintf("out%d", i))
-		runOK(t, append([]string{"forecast", "--nest", "region,store", "--quiet", "--format", "csv", "--out", out}, common...)...)
+		runOK(t, append([]string{"forecast", "--hierarchy", "region,store", "--quiet", "--format", "csv", "--out", out}, common...)...)
 		fc := readFile(t, filepath.Join(out, "forecasts.csv"))
 		fit := runOK(t, append([]string{"fit", "--key", "store"}, common...)...)
-		ins := runOK(t, "inspect", "--input", path, "--time", "year", "--nest", "region,store")
+		ins := runOK(t, "inspect", "--input", path, "--time", "year", "--hierarchy", "region,store")
 		wantGrain := "years"
 		if f.steps {
 			wantGrain = "indexs"
@@ -267,9 +267,9 @@ func TestYearsAndStepsThroughEveryCommand(t *testing.T) {
 		}
 		rec := filepath.Join(dir, fmt.Sprintf("rec%d", i))
 		runOK(t, "reconcile", "--base", filepath.Join(out, "forecasts.csv"), "--history", path, "--time", "year",
-			"--nest", "region,store", "--method", "top-down-avg", "--format", "csv", "--out", rec)
+			"--hierarchy", "region,store", "--method", "top-down-avg", "--format", "csv", "--out", rec)
 		bt := filepath.Join(dir, fmt.Sprintf("bt%d", i))
-		runOK(t, append([]string{"backtest", "--nest", "region,store", "--origins", "2", "--compare", "base,bottom-up",
+		runOK(t, append([]string{"backtest", "--hierarchy", "region,store", "--origins", "2", "--compare", "base,bottom-up",
 			"--quiet", "--no-report", "--format", "csv", "--out", bt}, common...)...)
 		scores := readFile(t, filepath.Join(bt, "scores.csv"))
 		if i == 0 {

@@ -17,16 +17,17 @@ func newInspectCmd() *cobra.Command {
 		listMax int
 	)
 	cmd := &cobra.Command{
-		Use:   "inspect --input FILE --nest CHAIN [--nest CHAIN ...]",
+		Use:   "inspect --input FILE --hierarchy COLUMNS [--hierarchy COLUMNS ...]",
 		Short: "Describe a sales table before forecasting it",
 		Long: `Reads the sales table as forecast would and reports rows, series per level,
 the period range, gaps, zeros, duplicate key-and-period rows, negative
-values, and the series that start late (openings) or stop early (closures).
+values, and the series that opened late (first sales after the first
+period) or closed (no sales in the latest periods).
 Input notes say how the periods were read where that is not plain from the
 file (timestamps read as local dates), where --until cut the input, and a
 partial last period set aside. Nothing is written.`,
 		Example: `  trueup inspect --input sales.parquet --time month --value sales \
-      --nest region,store --nest category`,
+      --hierarchy region,store --hierarchy category`,
 		Args: noArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			src, err := sf.source(true)
@@ -51,7 +52,7 @@ partial last period set aside. Nothing is written.`,
 			for _, l := range rep.SeriesByLevel {
 				levels = append(levels, []string{l.Level, n(l.Nodes), n(l.LateStarts), n(l.EarlyEnds)})
 			}
-			textTable(w, []string{"level", "series", "starting late", "ending early"}, levels)
+			textTable(w, []string{"level", "series", "opened late", "closed"}, levels)
 			fmt.Fprintln(w)
 			textTable(w, []string{"input check", "count"}, [][]string{
 				{"duplicate rows (same key and period)", n(rep.DuplicateRows)},
@@ -68,7 +69,7 @@ partial last period set aside. Nothing is written.`,
 			for _, group := range []struct {
 				title string
 				spans []engine.SeriesSpan
-			}{{"starting late", rep.LateStarts}, {"ending early", rep.EarlyEnds}} {
+			}{{"opened late", rep.LateStarts}, {"closed", rep.EarlyEnds}} {
 				if len(group.spans) == 0 {
 					continue
 				}
@@ -87,6 +88,6 @@ partial last period set aside. Nothing is written.`,
 	sf.register(cmd)
 	fl := cmd.Flags()
 	fl.BoolVar(&asJSON, "json", false, "print the report as JSON")
-	fl.IntVar(&listMax, "list", 10, "late-starting and early-ending series to list")
+	fl.IntVar(&listMax, "list", 10, "series that opened late or closed to list")
 	return cmd
 }

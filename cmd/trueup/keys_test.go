@@ -55,7 +55,7 @@ func header(t *testing.T, path string) []string {
 // table with two columns of one name (exit 1).
 func TestKeyColumnsNamedLikeResultColumns(t *testing.T) {
 	in := writeRouteCSV(t)
-	source := []string{"--input", in, "--time", "month", "--value", "passengers", "--nest", "origin", "--nest", "level",
+	source := []string{"--input", in, "--time", "month", "--value", "passengers", "--hierarchy", "origin", "--hierarchy", "level",
 		"--family", "drift", "--horizon", "3", "--quiet"}
 	fc := filepath.Join(t.TempDir(), "fc")
 	if code := run(append([]string{"forecast", "--out", fc, "--format", "csv,parquet"}, source...)); code != 0 {
@@ -76,7 +76,7 @@ func TestKeyColumnsNamedLikeResultColumns(t *testing.T) {
 	}
 	rc := filepath.Join(t.TempDir(), "rc")
 	code := run([]string{"reconcile", "--base", filepath.Join(fc, "forecasts.csv"), "--residuals", filepath.Join(fc, "residuals.csv"),
-		"--nest", "origin", "--nest", "level", "--out", rc, "--format", "csv", "--quiet"})
+		"--hierarchy", "origin", "--hierarchy", "level", "--out", rc, "--format", "csv", "--quiet"})
 	if code != 0 {
 		t.Fatalf("reconcile of forecast's own tables exited %d", code)
 	}
@@ -117,10 +117,10 @@ func TestKeyColumnsThatCannotBeKeptApart(t *testing.T) {
 		t.Fatal(err)
 	}
 	out := filepath.Join(t.TempDir(), "fc")
-	code, stderr := runBin(t, "forecast", "--input", in, "--time", "month", "--value", "passengers", "--nest", "origin",
-		"--nest", "key_origin", "--family", "drift", "--horizon", "3", "--quiet", "--out", out)
-	if code != 2 || !strings.Contains(stderr, `"key_origin"`) || !strings.Contains(stderr, "--nest") {
-		t.Errorf("exit %d, stderr %q; want 2 and a message naming key_origin and --nest", code, stderr)
+	code, stderr := runBin(t, "forecast", "--input", in, "--time", "month", "--value", "passengers", "--hierarchy", "origin",
+		"--hierarchy", "key_origin", "--family", "drift", "--horizon", "3", "--quiet", "--out", out)
+	if code != 2 || !strings.Contains(stderr, `"key_origin"`) || !strings.Contains(stderr, "--hierarchy") {
+		t.Errorf("exit %d, stderr %q; want 2 and a message naming key_origin and --hierarchy", code, stderr)
 	}
 	if _, err := os.Stat(out); err == nil {
 		t.Errorf("wrote %s", out)
@@ -145,7 +145,7 @@ func TestFormulaLikeKeysInCSV(t *testing.T) {
 	if err := os.WriteFile(in, []byte(b.String()), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	source := []string{"--input", in, "--time", "month", "--value", "sales", "--nest", "store", "--family", "drift",
+	source := []string{"--input", in, "--time", "month", "--value", "sales", "--hierarchy", "store", "--family", "drift",
 		"--horizon", "2", "--quiet", "--no-report"}
 	fc := filepath.Join(t.TempDir(), "fc")
 	if code := run(append([]string{"forecast", "--out", fc, "--format", "csv,parquet"}, source...)); code != 0 {
@@ -172,7 +172,7 @@ func TestFormulaLikeKeysInCSV(t *testing.T) {
 	reconcile := func(ext string) (keys []string, values []float64) {
 		out := filepath.Join(t.TempDir(), "rc")
 		code := run([]string{"reconcile", "--base", filepath.Join(fc, "forecasts"+ext), "--residuals", filepath.Join(fc, "residuals"+ext),
-			"--nest", "store", "--out", out, "--format", "parquet", "--quiet", "--no-report"})
+			"--hierarchy", "store", "--out", out, "--format", "parquet", "--quiet", "--no-report"})
 		if code != 0 {
 			t.Fatalf("reconcile of forecasts%s exited %d", ext, code)
 		}
@@ -221,7 +221,7 @@ func TestUnprintableKeysAreShownEscaped(t *testing.T) {
 		t.Fatal(err)
 	}
 	fit := runOK(t, "fit", "--input", in, "--time", "month", "--value", "sales", "--key", "store", "--family", "drift", "--horizon", "2")
-	bt := runOK(t, "backtest", "--input", in, "--time", "month", "--value", "sales", "--nest", "store", "--family", "drift",
+	bt := runOK(t, "backtest", "--input", in, "--time", "month", "--value", "sales", "--hierarchy", "store", "--family", "drift",
 		"--horizon", "2", "--origins", "2", "--quiet", "--no-report", "--format", "csv", "--out", filepath.Join(t.TempDir(), "bt"))
 	for name, out := range map[string]string{"fit": fit, "backtest": bt} {
 		if strings.Contains(out, "\u202e") {
@@ -262,7 +262,7 @@ func TestKeysThatWouldCollideAreRefused(t *testing.T) {
 		t.Fatal(err)
 	}
 	out := filepath.Join(t.TempDir(), "fc")
-	code, stderr := runBin(t, "forecast", "--input", in, "--time", "month", "--value", "sales", "--nest", "region,store",
+	code, stderr := runBin(t, "forecast", "--input", in, "--time", "month", "--value", "sales", "--hierarchy", "region,store",
 		"--family", "drift", "--horizon", "2", "--quiet", "--out", out)
 	if code != 2 {
 		t.Fatalf("exit %d, want 2; stderr %q", code, stderr)

@@ -45,7 +45,7 @@ func TestSmallInputsBeyondTheMemoryExit2(t *testing.T) {
 	var crossCols, crossNest []string
 	for i := 0; i < 16; i++ {
 		crossCols = append(crossCols, fmt.Sprintf("a%d", i))
-		crossNest = append(crossNest, "--nest", fmt.Sprintf("a%d", i))
+		crossNest = append(crossNest, "--hierarchy", fmt.Sprintf("a%d", i))
 	}
 	cross.WriteString("period," + strings.Join(crossCols, ",") + ",sales\n")
 	months(&cross, func(s int) string {
@@ -91,14 +91,14 @@ func TestSmallInputsBeyondTheMemoryExit2(t *testing.T) {
 		want []string
 	}{
 		{"crossed chains", append([]string{"inspect", "--input", writeFile(t, dir, "cross.csv", cross.String())}, crossNest...),
-			[]string{"--nest: ", "16 chains (16 key columns, 65536 levels) over 20 bottom series would need about", "TRUEUP_MEMORY"}},
-		{"2,000-column chain", []string{"inspect", "--input", writeFile(t, dir, "wide.csv", wide.String()), "--nest", strings.Join(wideCols, ",")},
+			[]string{"--hierarchy: ", "16 chains (16 key columns, 65536 levels) over 20 bottom series would need about", "TRUEUP_MEMORY"}},
+		{"2,000-column chain", []string{"inspect", "--input", writeFile(t, dir, "wide.csv", wide.String()), "--hierarchy", strings.Join(wideCols, ",")},
 			[]string{"1 chains (2000 key columns, 2001 levels) over 4 bottom series"}},
-		{"mistyped year", []string{"forecast", "--quiet", "--input", writeFile(t, dir, "span.csv", span.String()), "--time", "day", "--nest", "store", "--out", filepath.Join(dir, "out")},
+		{"mistyped year", []string{"forecast", "--quiet", "--input", writeFile(t, dir, "span.csv", span.String()), "--time", "day", "--hierarchy", "store", "--out", filepath.Join(dir, "out")},
 			[]string{"65872 history periods (2024-01-01 to 2204-05-08)", "would need at least 34.7 GB"}},
-		{"Parquet declaring ten million rows", []string{"inspect", "--input", manyRowsParquet(t, dir, 10_000_000), "--nest", "store"},
+		{"Parquet declaring ten million rows", []string{"inspect", "--input", manyRowsParquet(t, dir, 10_000_000), "--hierarchy", "store"},
 			[]string{"reading the 10000000 rows the file declares would need at least 280.0 MB"}},
-		{"CSV of three million lines", []string{"inspect", "--input", writeFile(t, dir, "lines.csv", "period,store,sales\n"+lines), "--nest", "store"},
+		{"CSV of three million lines", []string{"inspect", "--input", writeFile(t, dir, "lines.csv", "period,store,sales\n"+lines), "--hierarchy", "store"},
 			[]string{"reading the 3000001 rows of the file would need at least 84.0 MB"}},
 	}
 	for _, c := range cases {
@@ -115,7 +115,7 @@ func TestSmallInputsBeyondTheMemoryExit2(t *testing.T) {
 	}
 	t.Setenv("TRUEUP_MEMORY", "lots")
 	stderr := captureStderr(t, func() {
-		if code := run([]string{"inspect", "--input", writeFile(t, dir, "ok.csv", "period,store,sales\n2024-01,A,1\n"), "--nest", "store"}); code != exitInput {
+		if code := run([]string{"inspect", "--input", writeFile(t, dir, "ok.csv", "period,store,sales\n2024-01,A,1\n"), "--hierarchy", "store"}); code != exitInput {
 			t.Errorf("TRUEUP_MEMORY=lots: exit %d, want %d", code, exitInput)
 		}
 	})

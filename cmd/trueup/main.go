@@ -74,13 +74,20 @@ func interruptMessage(s os.Signal, done []string) string {
 // optionFlags maps the library's option names, which input errors carry,
 // to the flags that set them, so a message can name the flag to change.
 var optionFlags = map[string]string{
-	"Source": "--time/--value", "Chains": "--nest", "Period": "--period", "Horizon": "--horizon",
-	"Levels": "--levels", "Family": "--family", "Model": "--model", "Transform": "--transform",
+	"Source": "--time/--value", "Chains": "--hierarchy", "Period": "--season-length", "Horizon": "--horizon",
+	"Levels": "--intervals", "Family": "--family", "Model": "--model", "Transform": "--transform",
 	"Constant": "--constant", "Method": "--method", "Cov": "--cov", "At": "--at",
 	"Nonnegative": "--nonnegative", "Paths": "--paths", "History": "--history",
 	"Formats": "--format", "Out": "--out", "SumDuplicates": "--sum-duplicates", "Grain": "--grain",
 	"Origins": "--origins", "Every": "--every", "Compare": "--compare", "Calibrate": "--calibrate",
 	"From": "--from", "Until": "--until", "TimeKind": "--integer-time", "PlanGrains": "--plan-grain", "Locks": "--lock",
+}
+
+// optionHints say, for an input error that an option would resolve, what
+// to add to the command line; the message is then printed as it is, with
+// the hint after it.
+var optionHints = map[string]string{
+	"SumDuplicates": "add --sum-duplicates to add such rows together",
 }
 
 // run executes the command line and maps errors to exit statuses: input and
@@ -106,7 +113,10 @@ func execute(root *cobra.Command, args []string) (code int) {
 	if errors.As(err, &p) {
 		return crashed(p)
 	}
-	if flag := optionFlags[inputerr.OptionOf(err)]; flag != "" && !strings.Contains(err.Error(), flag) {
+	option := inputerr.OptionOf(err)
+	if hint := optionHints[option]; hint != "" {
+		fmt.Fprintf(os.Stderr, "trueup: %s; %s\n", escapeUnprintable(err.Error()), hint)
+	} else if flag := optionFlags[option]; flag != "" && !strings.Contains(err.Error(), flag) {
 		fmt.Fprintf(os.Stderr, "trueup: %s: %s\n", flag, escapeUnprintable(err.Error()))
 	} else {
 		fmt.Fprintln(os.Stderr, "trueup:", escapeUnprintable(err.Error()))

@@ -101,7 +101,7 @@ func TestDemoIsCoherent(t *testing.T) {
 	// forecasts gives a total equal to the sum of the bottom bases.
 	again := filepath.Join(out, "again")
 	if code := run([]string{"reconcile", "--base", filepath.Join(out, "forecasts.parquet"),
-		"--residuals", filepath.Join(out, "residuals.parquet"), "--nest", "region,store", "--nest", "category",
+		"--residuals", filepath.Join(out, "residuals.parquet"), "--hierarchy", "region,store", "--hierarchy", "category",
 		"--method", "bottom-up", "--out", again}); code != 0 {
 		t.Fatalf("reconcile of the demo's tables exited %d", code)
 	}
@@ -159,7 +159,7 @@ func TestBadInputs(t *testing.T) {
 	if err := os.WriteFile(demo, fixtures.DemoMonthlyParquet, 0o644); err != nil {
 		t.Fatal(err)
 	}
-	nest := []string{"--nest", "region,store", "--nest", "category"}
+	nest := []string{"--hierarchy", "region,store", "--hierarchy", "category"}
 	cases := []struct {
 		name  string
 		args  []string
@@ -171,7 +171,7 @@ func TestBadInputs(t *testing.T) {
 		{"garbage parquet", []string{"--input", write("g.parquet", "not parquet at all")}, "", "g.parquet"},
 		{"empty file", []string{"--input", write("empty.csv", "")}, "", "empty.csv"},
 		{"missing value column", []string{"--input", goodCSV, "--value", "revenue"}, "", "sales"},
-		{"missing key column", []string{"--input", goodCSV, "--nest", "region,shop"}, "", "shop"},
+		{"missing key column", []string{"--input", goodCSV, "--hierarchy", "region,shop"}, "", "shop"},
 		{"non-numeric value", nil, "period,region,store,category,sales\n2024-01,north,N1,food,ten\n", "ten"},
 		{"NaN value", nil, "period,region,store,category,sales\n2024-01,north,N1,food,NaN\n", "NaN"},
 		{"infinite value", nil, "period,region,store,category,sales\n2024-01,north,N1,food,Inf\n", "Inf"},
@@ -185,9 +185,9 @@ func TestBadInputs(t *testing.T) {
 		{"unknown family", []string{"--input", goodCSV, "--family", "oracle"}, "", "oracle"},
 		{"no workers", []string{"--input", goodCSV, "--workers", "0"}, "", "--workers"},
 		{"negative workers", []string{"--input", goodCSV, "--workers", "-1"}, "", "--workers"},
-		{"level twice", []string{"--input", goodCSV, "--levels", "80,80"}, "", "--levels"},
+		{"level twice", []string{"--input", goodCSV, "--intervals", "80,80"}, "", "--intervals"},
 		{"horizon beyond the history", []string{"--input", goodCSV, "--horizon", "10000"}, "", "--horizon: a horizon of 10000"},
-		{"period beyond the history", []string{"--input", goodCSV, "--period", "3"}, "", "supports a period of at most 2"},
+		{"period beyond the history", []string{"--input", goodCSV, "--season-length", "3"}, "", "supports a period of at most 2"},
 		{"plan grain no coarser than the data", []string{"--input", goodCSV, "--plan-grain", "quarter,month"}, "", "--plan-grain: the data is by month"},
 		{"unknown plan grain", []string{"--input", goodCSV, "--plan-grain", "fortnight"}, "", "--plan-grain: \"fortnight\""},
 		{"out is a file", []string{"--input", goodCSV, "--out", goodCSV}, "", "--out: " + goodCSV + ": is a file"},
@@ -198,7 +198,7 @@ func TestBadInputs(t *testing.T) {
 			if c.input != "" {
 				args = []string{"--input", write("case"+string(rune('a'+i))+".csv", c.input)}
 			}
-			if !containsFlag(args, "--nest") {
+			if !containsFlag(args, "--hierarchy") {
 				args = append(args, nest...)
 			}
 			out := filepath.Join(dir, "out-"+strings.ReplaceAll(c.name, " ", "-"))
@@ -234,11 +234,11 @@ func TestNegativeValuesAreWarnings(t *testing.T) {
 	}
 	os.WriteFile(p, []byte(b.String()), 0o644)
 	out := filepath.Join(dir, "out")
-	if code := run([]string{"forecast", "--quiet", "--input", p, "--nest", "store", "--period", "1", "--horizon", "2", "--out", out}); code != 0 {
+	if code := run([]string{"forecast", "--quiet", "--input", p, "--hierarchy", "store", "--season-length", "1", "--horizon", "2", "--out", out}); code != 0 {
 		t.Fatalf("exit %d", code)
 	}
 	data, err := os.ReadFile(filepath.Join(out, "run.json"))
-	if err != nil || !strings.Contains(string(data), "1 rows have negative values") {
+	if err != nil || !strings.Contains(string(data), "1 row is negative (returns?); kept") {
 		t.Fatalf("run.json lacks the negative-value warning: %v\n%s", err, data)
 	}
 }
@@ -289,7 +289,7 @@ func TestInspectReportsOpeningsAndClosures(t *testing.T) {
 	var out strings.Builder
 	root := newRootCmd()
 	root.SetOut(&out)
-	root.SetArgs([]string{"inspect", "--json", "--input", p, "--nest", "region,store", "--nest", "category"})
+	root.SetArgs([]string{"inspect", "--json", "--input", p, "--hierarchy", "region,store", "--hierarchy", "category"})
 	if err := root.Execute(); err != nil {
 		t.Fatal(err)
 	}
@@ -297,10 +297,10 @@ func TestInspectReportsOpeningsAndClosures(t *testing.T) {
 		Rows          int `json:"bottom_series"`
 		SeriesByLevel []struct {
 			Level      string `json:"level"`
-			LateStarts int    `json:"late_starts"`
-			EarlyEnds  int    `json:"early_ends"`
+			LateStarts int    `json:"opened_late"`
+			EarlyEnds  int    `json:"closed"`
 		} `json:"series_per_level"`
-		LateStarts []struct{ Level, Key string } `json:"late_starts"`
+		LateStarts []struct{ Level, Key string } `json:"opened_late"`
 	}
 	if err := json.Unmarshal([]byte(out.String()), &rep); err != nil {
 		t.Fatal(err)
@@ -314,7 +314,7 @@ func TestInspectReportsOpeningsAndClosures(t *testing.T) {
 	out.Reset()
 	root = newRootCmd()
 	root.SetOut(&out)
-	root.SetArgs([]string{"inspect", "--input", csv, "--nest", "store"})
+	root.SetArgs([]string{"inspect", "--input", csv, "--hierarchy", "store"})
 	if err := root.Execute(); err != nil {
 		t.Fatal(err)
 	}
@@ -340,7 +340,7 @@ func TestInspectCountsDuplicatesAtACoarserGrain(t *testing.T) {
 		var out strings.Builder
 		root := newRootCmd()
 		root.SetOut(&out)
-		root.SetArgs(append([]string{"inspect", "--json", "--input", path, "--time", "day", "--nest", "store"}, grain...))
+		root.SetArgs(append([]string{"inspect", "--json", "--input", path, "--time", "day", "--hierarchy", "store"}, grain...))
 		if err := root.Execute(); err != nil {
 			t.Fatal(err)
 		}
@@ -353,14 +353,14 @@ func TestInspectCountsDuplicatesAtACoarserGrain(t *testing.T) {
 		if rep.Duplicates != 1 {
 			t.Errorf("inspect %v: %d duplicate rows, want 1", grain, rep.Duplicates)
 		}
-		args := append([]string{"forecast", "--quiet", "--input", path, "--time", "day", "--nest", "store", "--out", filepath.Join(t.TempDir(), "out")}, grain...)
+		args := append([]string{"forecast", "--quiet", "--input", path, "--time", "day", "--hierarchy", "store", "--out", filepath.Join(t.TempDir(), "out")}, grain...)
 		stderr := captureStderr(t, func() {
 			if code := run(args); code != exitInput {
 				t.Errorf("forecast %v: exit %d, want %d", grain, code, exitInput)
 			}
 		})
-		if !strings.Contains(stderr, "--sum-duplicates") {
-			t.Errorf("forecast %v: %q does not name --sum-duplicates", grain, stderr)
+		if !strings.Contains(stderr, "repeats key") || !strings.Contains(stderr, "; add --sum-duplicates to add such rows together") {
+			t.Errorf("forecast %v: %q does not say to add --sum-duplicates", grain, stderr)
 		}
 	}
 }

@@ -32,7 +32,7 @@ func TestReconcileReadsEveryPeriodForm(t *testing.T) {
 	if err := tableio.WriteTable(sales, tb, tableio.CSV); err != nil {
 		t.Fatal(err)
 	}
-	nest := []string{"--nest", "region,store", "--nest", "category"}
+	nest := []string{"--hierarchy", "region,store", "--hierarchy", "category"}
 	run := filepath.Join(dir, "run")
 	runOK(t, append([]string{"forecast", "--input", sales, "--family", "drift", "--horizon", "3", "--quiet",
 		"--format", "csv", "--out", run}, nest...)...)
@@ -135,7 +135,7 @@ func TestPartialLastPeriodAndUntil(t *testing.T) {
 	sales, last := partialSales(t, dir)
 	p, _ := tableio.ParsePeriod(last)
 	prev := p.Next(-1)
-	nest := []string{"--nest", "region,store", "--nest", "category"}
+	nest := []string{"--hierarchy", "region,store", "--hierarchy", "category"}
 	forecast := func(name string, extra ...string) (map[string]any, string) {
 		out := filepath.Join(dir, name)
 		runOK(t, append(append([]string{"forecast", "--input", sales, "--family", "drift", "--horizon", "2", "--quiet",
@@ -148,7 +148,7 @@ func TestPartialLastPeriodAndUntil(t *testing.T) {
 	}
 	rep, set := forecast("default")
 	warnings := fmt.Sprint(rep["warnings"])
-	if !strings.Contains(warnings, "last period "+last+" looks partial") || strings.Contains(warnings, "stop before "+last) {
+	if !strings.Contains(warnings, "last period "+last+" looks partial") || strings.Contains(warnings, "closed before "+last) {
 		t.Errorf("warnings %s: want the partial month %s named and no store stopping early", warnings, last)
 	}
 	if !strings.Contains(set, ","+last+",") {
@@ -163,7 +163,7 @@ func TestPartialLastPeriodAndUntil(t *testing.T) {
 		}
 	}
 	rep, _ = forecast("keep", "--keep-last-period")
-	if w := fmt.Sprint(rep["warnings"]); strings.Contains(w, "looks partial") || !strings.Contains(w, "8 bottom series stop before "+last) {
+	if w := fmt.Sprint(rep["warnings"]); strings.Contains(w, "looks partial") || !strings.Contains(w, "8 bottom series closed before "+last) {
 		t.Errorf("--keep-last-period: warnings %s, want the stores stopping early and no partial month set aside", w)
 	}
 	// inspect lists the partial month among its input notes.
@@ -210,7 +210,7 @@ func TestLocalMidnightTimestampsThroughInspect(t *testing.T) {
 	if err := os.WriteFile(path, buf.Bytes(), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	out := runOK(t, "inspect", "--input", path, "--nest", "store")
+	out := runOK(t, "inspect", "--input", path, "--hierarchy", "store")
 	for _, want := range []string{"periods: 2022-01 to 2024-06", "input note: every period is a UTC timestamp at 22:00 and 23:00"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("inspect output lacks %q:\n%s", want, out)
@@ -240,7 +240,7 @@ func TestPeriodRefusalsExitTwo(t *testing.T) {
 		{"mixed.csv", mixed.String(), "store=Quay Road"},
 	} {
 		path := writeFile(t, dir, c.name, c.body)
-		args := []string{"inspect", "--input", path, "--nest", "store"}
+		args := []string{"inspect", "--input", path, "--hierarchy", "store"}
 		_, err := runCapture(args...)
 		if code := run(args); code != exitInput || err == nil || !strings.Contains(err.Error(), c.want) {
 			t.Errorf("%s: exit %d, %v; want exit 2 naming %q", c.name, code, err, c.want)

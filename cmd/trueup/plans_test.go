@@ -28,7 +28,7 @@ func TestPlanGrainWritesCoherentTotals(t *testing.T) {
 	var stdout bytes.Buffer
 	root := newRootCmd()
 	root.SetOut(&stdout)
-	code := execute(root, []string{"forecast", "--quiet", "--input", input, "--nest", "region,store", "--nest", "category",
+	code := execute(root, []string{"forecast", "--quiet", "--input", input, "--hierarchy", "region,store", "--hierarchy", "category",
 		"--family", "drift", "--horizon", "15", "--plan-grain", "quarter,year", "--format", "csv", "--no-report", "--out", out})
 	if code != 0 {
 		t.Fatalf("exit %d", code)

@@ -23,14 +23,14 @@ func newReconcileCmd() *cobra.Command {
 		of                       outputFlags
 	)
 	cmd := &cobra.Command{
-		Use:   "reconcile --base FILE --nest CHAIN [--nest CHAIN ...]",
+		Use:   "reconcile --base FILE --hierarchy COLUMNS [--hierarchy COLUMNS ...]",
 		Short: "Reconcile base forecasts made elsewhere so that totals equal the sum of their parts",
 		Long: `Reads base forecasts for every node of a grouped structure (one row per node
 and period) and writes coherent forecasts: every total equals the sum of its
 parts. The forecasts and residuals tables that "trueup forecast" writes can
 be given back unchanged.
 
---base has the key columns named by --nest (empty or null where a node
+--base has the key columns named by --hierarchy (empty or null where a node
 aggregates over that column), a period column and a base column, and may
 have a base_variance column (the base forecast-error variance of each
 step). --residuals has the key columns, period and residual: in-sample
@@ -50,13 +50,13 @@ one-step residual variance, so intervals do not widen with the horizon.
 Forecasts are estimates. Review them, and their intervals, before they go
 into a plan.`,
 		Example: `  trueup reconcile --base plan/forecasts.parquet --residuals plan/residuals.parquet \
-      --nest region,store --nest category --method mint --out plan-mint
+      --hierarchy region,store --hierarchy category --method mint --out plan-mint
 
   # keep region × category totals, split them by forecast proportions
-  trueup reconcile --base base.csv --nest region,store --nest category \
+  trueup reconcile --base base.csv --hierarchy region,store --hierarchy category \
       --method middle-out --at region+category
   trueup reconcile --base base.csv --history sales.csv --time month --value sales \
-      --nest region,store --method top-down-hist --format csv,parquet`,
+      --hierarchy region,store --method top-down-hist --format csv,parquet`,
 		Args: noArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			if base == "" {
@@ -107,11 +107,12 @@ into a plan.`,
 	fl.StringVar(&inputFormat, "input-format", "", "read the inputs as parquet, csv or arrow whatever their extension")
 	fl.StringVar(&time, "time", "period", "period column of --history")
 	fl.StringVar(&value, "value", "sales", "value column of --history")
-	fl.StringArrayVar(&nest, "nest", nil, "key columns of one chain, coarse to fine, comma-separated (repeatable)")
-	fl.StringVar(&levels, "levels", "80,95", "prediction interval levels in percent, comma-separated")
-	groupFlags(cmd, "Input", "base", "residuals", "history", "input-format", "time", "value", "nest")
+	fl.StringArrayVar(&nest, "hierarchy", nil, "key columns of one hierarchy, coarse to fine, comma-separated (repeatable)")
+	fl.StringVar(&levels, "intervals", "80,95", "prediction intervals to write, in percent, comma-separated")
+	groupFlags(cmd, "Input", "base", "residuals", "history", "input-format", "time", "value", "hierarchy")
 	rf.register(cmd)
-	groupFlags(cmd, "Reconciliation", "levels")
+	groupFlags(cmd, "Reconciliation", "intervals")
+	keepOldNames(cmd)
 	of.register(cmd, "trueup-reconciled")
 	return cmd
 }

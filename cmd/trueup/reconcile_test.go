@@ -101,7 +101,7 @@ func TestReconcileCommand(t *testing.T) {
 	res := residualCSV(t, dir, false)
 	for _, method := range []string{"bottom-up", "mint", "top-down-fcst", "middle-out"} {
 		out := filepath.Join(dir, method)
-		args := []string{"reconcile", "--base", base, "--residuals", res, "--nest", "region,store", "--method", method, "--out", out, "--format", "csv"}
+		args := []string{"reconcile", "--base", base, "--residuals", res, "--hierarchy", "region,store", "--method", method, "--out", out, "--format", "csv"}
 		if method == "middle-out" {
 			args = append(args, "--at", "region")
 		}
@@ -125,7 +125,7 @@ func TestReconcileCommand(t *testing.T) {
 		// The shrinkage λ weighs mint's projection; the split methods
 		// use no W and record none.
 		run, err := os.ReadFile(filepath.Join(out, "run.json"))
-		if err != nil || strings.Contains(string(run), `"lambda"`) != (method == "mint") {
+		if err != nil || strings.Contains(string(run), `"shrinkage"`) != (method == "mint") {
 			t.Errorf("%s: λ in run.json only for mint: %v %s", method, err, run)
 		}
 	}
@@ -140,7 +140,7 @@ func TestReconcileCommand(t *testing.T) {
 	}
 	hist := writeFile(t, dir, "hist.csv", hb.String())
 	out := filepath.Join(dir, "td")
-	if code := run([]string{"reconcile", "--base", base, "--history", hist, "--value", "value", "--nest", "region,store", "--method", "top-down-avg", "--out", out, "--format", "csv"}); code != 0 {
+	if code := run([]string{"reconcile", "--base", base, "--history", hist, "--value", "value", "--hierarchy", "region,store", "--method", "top-down-avg", "--out", out, "--format", "csv"}); code != 0 {
 		t.Fatalf("top-down-avg exited %d", code)
 	}
 	fc := readForecasts(t, filepath.Join(out, "forecasts.csv"))
@@ -151,7 +151,7 @@ func TestReconcileCommand(t *testing.T) {
 	}
 	// Without residuals: forecasts, no bounds.
 	out = filepath.Join(dir, "plain")
-	if code := run([]string{"reconcile", "--base", base, "--nest", "region,store", "--method", "mint", "--cov", "structural", "--out", out, "--format", "csv"}); code != 0 {
+	if code := run([]string{"reconcile", "--base", base, "--hierarchy", "region,store", "--method", "mint", "--cov", "structural", "--out", out, "--format", "csv"}); code != 0 {
 		t.Fatalf("structural exited %d", code)
 	}
 	if row := readForecasts(t, filepath.Join(out, "forecasts.csv"))["//2026-01"]; len(row) != 2 {
@@ -194,7 +194,7 @@ func TestReconcileInputErrors(t *testing.T) {
 		{"unknown method", func() []string { return []string{"--base", baseCSV(t, dir, -1, nil), "--method", "best"} }, "bottom-up"},
 	}
 	for _, tc := range cases {
-		args := append([]string{"reconcile", "--nest", "region,store", "--out", filepath.Join(dir, "o")}, tc.args()...)
+		args := append([]string{"reconcile", "--hierarchy", "region,store", "--out", filepath.Join(dir, "o")}, tc.args()...)
 		stderr := captureStderr(t, func() {
 			if code := run(args); code != 2 {
 				t.Errorf("%s: exit %d, want 2", tc.name, code)
@@ -233,7 +233,7 @@ func TestReconcileRunRecordAndLambda(t *testing.T) {
 		out := filepath.Join(dir, cov)
 		var code int
 		stdout := captureStdout(t, func() {
-			code = run([]string{"reconcile", "--base", base, "--residuals", res, "--nest", "region,store", "--cov", cov, "--out", out, "--format", "csv", "--no-report"})
+			code = run([]string{"reconcile", "--base", base, "--residuals", res, "--hierarchy", "region,store", "--cov", cov, "--out", out, "--format", "csv", "--no-report"})
 		})
 		if code != 0 {
 			t.Fatalf("%s exited %d", cov, code)
@@ -249,7 +249,7 @@ func TestReconcileRunRecordAndLambda(t *testing.T) {
 			Counts struct {
 				First    string `json:"first_period"`
 				Last     string `json:"last_period"`
-				Seasonal int    `json:"seasonal_period"`
+				Seasonal int    `json:"season_length"`
 			} `json:"counts"`
 			Reconcile struct {
 				Notes map[string]float64 `json:"notes"`
@@ -264,10 +264,10 @@ func TestReconcileRunRecordAndLambda(t *testing.T) {
 		if rec.Counts.First != "2025-01" || rec.Counts.Last != "2025-12" || rec.Counts.Seasonal != 12 {
 			t.Errorf("%s: history %q to %q, seasonal period %d; want 2025-01 to 2025-12, 12", cov, rec.Counts.First, rec.Counts.Last, rec.Counts.Seasonal)
 		}
-		_, noted := rec.Reconcile.Notes["lambda"]
-		printed := strings.Contains(stdout, "λ")
+		_, noted := rec.Reconcile.Notes["shrinkage"]
+		printed := strings.Contains(stdout, "shrinkage intensity")
 		if want := cov == "shrink"; noted != want || printed != want {
-			t.Errorf("--cov %s: λ in run.json %v, in the summary %v; want %v", cov, noted, printed, want)
+			t.Errorf("--cov %s: shrinkage in run.json %v, in the summary %v; want %v", cov, noted, printed, want)
 		}
 	}
 }

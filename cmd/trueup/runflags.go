@@ -151,17 +151,18 @@ func (f *runFlags) planGrains() ([]tableio.Grain, error) {
 	return out, nil
 }
 
-// registerModel registers the model flags only (period, horizon, family,
-// levels, workers): backtest compares reconciliations instead of choosing
+// registerModel registers the model flags only (season length, horizon,
+// family, intervals, workers): backtest compares reconciliations instead of choosing
 // one.
 func (f *runFlags) registerModel(cmd *cobra.Command) {
 	fl := cmd.Flags()
-	fl.IntVar(&f.period, "period", 0, "seasonal period (default from the grain: 7, 52, 12, 4; 1 for years and time indexes)")
+	fl.IntVar(&f.period, "season-length", 0, "periods in one season (default from the grain: 7, 52, 12, 4; 1 for years and time indexes)")
 	fl.IntVar(&f.horizon, "horizon", 0, "periods to forecast (default: one seasonal cycle, e.g. 12 months)")
 	fl.StringVar(&f.family, "family", "", "model family for every node: "+familyNames())
-	fl.StringVar(&f.levels, "levels", "80,95", "prediction interval levels in percent, comma-separated")
+	fl.StringVar(&f.levels, "intervals", "80,95", "prediction intervals to write, in percent, comma-separated")
 	fl.IntVar(&f.workers, "workers", runtime.NumCPU(), "nodes fitted in parallel")
-	groupFlags(cmd, "Model", "period", "horizon", "family", "levels", "workers")
+	groupFlags(cmd, "Model", "season-length", "horizon", "family", "intervals", "workers")
+	keepOldNames(cmd)
 }
 
 // options turns the flags into engine options, checking them before any
@@ -170,8 +171,8 @@ func (f *runFlags) options(cmd *cobra.Command) (engine.Options, error) {
 	if cmd.Flags().Changed("horizon") && f.horizon < 1 {
 		return engine.Options{}, &usageError{fmt.Errorf("--horizon must be at least 1, got %d", f.horizon)}
 	}
-	if cmd.Flags().Changed("period") && f.period < 1 {
-		return engine.Options{}, &usageError{fmt.Errorf("--period must be at least 1, got %d", f.period)}
+	if cmd.Flags().Changed("season-length") && f.period < 1 {
+		return engine.Options{}, &usageError{fmt.Errorf("--season-length must be at least 1, got %d", f.period)}
 	}
 	if f.workers < 1 {
 		return engine.Options{}, &usageError{fmt.Errorf("--workers must be at least 1, got %d", f.workers)}
@@ -232,7 +233,7 @@ func familyNames() string {
 	return strings.Join(families.Registry().Names(), ", ") + " (default " + families.Default + ")"
 }
 
-// parseLevels reads --levels: percentages strictly between 0 and 100, none
+// parseLevels reads --intervals: percentages strictly between 0 and 100, none
 // repeated.
 func parseLevels(s string) ([]float64, error) {
 	var out []float64
@@ -240,10 +241,10 @@ func parseLevels(s string) ([]float64, error) {
 	for _, part := range strings.Split(s, ",") {
 		v, err := strconv.ParseFloat(strings.TrimSpace(part), 64)
 		if err != nil || !(v > 0 && v < 100) {
-			return nil, &usageError{fmt.Errorf("--levels: %q is not a percentage between 0 and 100", part)}
+			return nil, &usageError{fmt.Errorf("--intervals: %q is not a percentage between 0 and 100", part)}
 		}
 		if seen[v] {
-			return nil, &usageError{fmt.Errorf("--levels: %v is given twice", v)}
+			return nil, &usageError{fmt.Errorf("--intervals: %v is given twice", v)}
 		}
 		seen[v] = true
 		out = append(out, v)

@@ -25,15 +25,16 @@ type sourceFlags struct {
 	keepLast      bool
 }
 
-// register adds the input flags and --nest.
+// register adds the input flags and --hierarchy.
 func (f *sourceFlags) register(cmd *cobra.Command) {
 	f.registerInput(cmd)
-	cmd.Flags().StringArrayVar(&f.nest, "nest", nil, "key columns of one chain, coarse to fine, comma-separated (repeatable)")
-	groupFlags(cmd, "Input", "nest")
+	cmd.Flags().StringArrayVar(&f.nest, "hierarchy", nil, "key columns of one hierarchy, coarse to fine, comma-separated (repeatable)")
+	groupFlags(cmd, "Input", "hierarchy")
+	keepOldNames(cmd)
 }
 
 // registerInput adds the flags that name the table, its columns and how
-// to read them, without --nest.
+// to read them, without --hierarchy.
 func (f *sourceFlags) registerInput(cmd *cobra.Command) {
 	fl := cmd.Flags()
 	fl.StringVar(&f.input, "input", "", "sales table: .parquet, .csv or .arrow")
@@ -67,7 +68,7 @@ func printInputNotes(w io.Writer, data *engine.Data) {
 }
 
 // source returns the engine source the flags describe. needKeys says
-// whether the command needs --nest.
+// whether the command needs --hierarchy.
 func (f *sourceFlags) source(needKeys bool) (engine.Source, error) {
 	if f.input == "" {
 		return engine.Source{}, &usageError{errMissing("--input")}

@@ -8,6 +8,7 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+	"trueup/internal/words"
 
 	"trueup/engine"
 )
@@ -35,16 +36,16 @@ func printSummary(w io.Writer, res *engine.Result, files []string, asJSON bool) 
 	if len(extras) > 0 {
 		how += " (" + strings.Join(extras, ", ") + ")"
 	}
-	fmt.Fprintf(w, "Forecast %d %ss ahead (%s to %s) for %d nodes, reconciled with %s.\n",
-		c.Horizon, c.Grain, c.ForecastRange[0], c.ForecastRange[1], c.Nodes, how)
+	fmt.Fprintf(w, "Forecast %s ahead (%s to %s) for %s, reconciled with %s.\n",
+		words.Count(c.Horizon, c.Grain, c.Grain+"s"), c.ForecastRange[0], c.ForecastRange[1], words.Count(c.Nodes, "node", "nodes"), how)
 	if a := rep.Reconcile.Auto; a != nil {
-		fmt.Fprintf(w, "Method chosen by a backtest at %d origins: %s (%s).\n", a.Origins, a.Method, a.Reason)
+		fmt.Fprintf(w, "Method chosen by a backtest at %s: %s (%s).\n", words.Count(a.Origins, "origin", "origins"), a.Method, a.Reason)
 	}
 	if c := rep.Reconcile.Calibration; c != nil {
 		if c.Applied {
-			fmt.Fprintf(w, "Intervals calibrated from a backtest at %d origins (it brought coverage nearer to nominal at its later origins; factors in run.json).\n", c.Origins)
+			fmt.Fprintf(w, "Intervals calibrated from a backtest at %s (it brought coverage nearer to nominal at its later origins; factors in run.json).\n", words.Count(c.Origins, "origin", "origins"))
 		} else {
-			fmt.Fprintf(w, "Intervals not calibrated: at the later origins of a backtest at %d origins calibration did not help (see run.json); the model intervals are kept.\n", c.Origins)
+			fmt.Fprintf(w, "Intervals not calibrated: at the later origins of a backtest at %s calibration did not help (see run.json); the model intervals are kept.\n", words.Count(c.Origins, "origin", "origins"))
 		}
 	}
 	fmt.Fprintln(w)
@@ -70,8 +71,8 @@ func printReconciled(w io.Writer, res *engine.Result, files []string) error {
 	if cov, _ := rep.Options["cov"].(string); cov != "" {
 		how += " (covariance " + cov + ")"
 	}
-	fmt.Fprintf(w, "Reconciled %d nodes (%d bottom series) × %d periods, %s to %s, with %s.\n",
-		c.Nodes, c.BottomSeries, c.Horizon, c.ForecastRange[0], c.ForecastRange[1], how)
+	fmt.Fprintf(w, "Reconciled %s (%s) × %s, %s to %s, with %s.\n",
+		words.Count(c.Nodes, "node", "nodes"), words.Count(c.BottomSeries, "bottom series", "bottom series"), words.Count(c.Horizon, "period", "periods"), c.ForecastRange[0], c.ForecastRange[1], how)
 	printTail(w, res, files)
 	return nil
 }
@@ -120,7 +121,7 @@ func printTail(w io.Writer, res *engine.Result, files []string) {
 
 // noteLabels name the reconciliation facts for people.
 var noteLabels = map[string]string{
-	"lambda":         "shrinkage intensity λ",
+	"shrinkage":      "shrinkage intensity (0: the sample covariance, 1: its diagonal)",
 	"cg_iterations":  "conjugate-gradient iterations",
 	"variance_paths": "sample paths behind the interval widths of nodes whose residuals start late",
 }

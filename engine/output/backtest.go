@@ -320,7 +320,7 @@ func nodeScoresTable(at *engine.Attribution) *tableio.Table {
 
 func incoherenceTable(bt *engine.BacktestResult) *tableio.Table {
 	origin, period, step := strCol("origin"), strCol("period"), intCol("step")
-	level, node, split := strCol("level"), strCol("node"), strCol("split_level")
+	level, node, split := strCol("parent_level"), strCol("parent"), strCol("child_level")
 	base, sum, diff := fltCol("base"), fltCol("children_base"), fltCol("incoherence")
 	for _, in := range bt.Attribution.Incoherence {
 		org := bt.Origins[in.Origin]

@@ -190,20 +190,26 @@ func HistoryTable(res *engine.Result) *tableio.Table {
 	return &tableio.Table{Columns: append(cols, period, periodStart, value, fitted)}
 }
 
-// ModelTable has one row per node: the chosen family, its spec, its
-// parameters as JSON text, AICc, σ², the number of observations, any
-// warning, and the Ljung–Box check of its residuals (engine.ResidualCheck
-// at the run's seasonal period): ljung_box_lags (0 when too few
-// residuals), ljung_box_q and ljung_box_p (null then).
+// ModelTable has one row per node: its status (NodeStatus), the family
+// fitted and the model in the form --model accepts, its parameters as
+// JSON text, AICc, the innovation variance and the scale it is on
+// (VarianceScale), the number of observations, any warning, and the
+// Ljung–Box check of its residuals (engine.ResidualCheck at the run's
+// seasonal period): ljung_box_lags (0 when too few residuals),
+// ljung_box_q and ljung_box_p (null then). A closed node's family and
+// model are those its history was fitted with ("none" when it has no
+// observations); its status says it is forecast as zero.
 func ModelTable(res *engine.Result) *tableio.Table {
 	n := len(res.Fits)
 	cols := keyColumns(res, 1)
+	status := tableio.Column{Name: "status", Type: tableio.String, Strings: make([]string, n)}
 	family := tableio.Column{Name: "family", Type: tableio.String, Strings: make([]string, n)}
-	spec := tableio.Column{Name: "spec", Type: tableio.String, Strings: make([]string, n)}
+	model := tableio.Column{Name: "model", Type: tableio.String, Strings: make([]string, n)}
 	params := tableio.Column{Name: "params", Type: tableio.String, Strings: make([]string, n)}
 	aicc := tableio.Column{Name: "aicc", Type: tableio.Float64, Floats: make([]float64, n)}
-	sigma2 := tableio.Column{Name: "sigma2", Type: tableio.Float64, Floats: make([]float64, n)}
-	nobs := tableio.Column{Name: "n_obs", Type: tableio.Int64, Ints: make([]int64, n)}
+	variance := tableio.Column{Name: "innovation_variance", Type: tableio.Float64, Floats: make([]float64, n)}
+	scale := tableio.Column{Name: "variance_scale", Type: tableio.String, Strings: make([]string, n)}
+	nobs := tableio.Column{Name: "observations", Type: tableio.Int64, Ints: make([]int64, n)}
 	warn := tableio.Column{Name: "warning", Type: tableio.String, Strings: make([]string, n), Null: make([]bool, n)}
 	lbLags := tableio.Column{Name: "ljung_box_lags", Type: tableio.Int64, Ints: make([]int64, n)}
 	lbQ := tableio.Column{Name: "ljung_box_q", Type: tableio.Float64, Floats: make([]float64, n)}
@@ -214,18 +220,59 @@ func ModelTable(res *engine.Result) *tableio.Table {
 		lbLags.Ints[i], lbQ.Floats[i], lbP.Floats[i] = int64(check.Lags), check.Statistic, check.PValue
 		warn.Strings[i] = f.Warning
 		warn.Null[i] = f.Warning == ""
-		family.Strings[i], spec.Strings[i] = f.Family, f.Spec
-		if f.Closed && f.Fitted {
-			family.Strings[i] = "closed"
-			spec.Strings[i] = "zero after closing; history fitted by " + f.Spec
+		status.Strings[i] = NodeStatus(f)
+		family.Strings[i], model.Strings[i] = f.Family, f.Spec
+		if !f.Fitted {
+			family.Strings[i], model.Strings[i] = "none", "none"
 		}
+		scale.Strings[i] = VarianceScale(f)
 		params.Strings[i] = paramsJSON(f.Params)
 		aicc.Floats[i] = finiteOrNaN(f.Criteria.AICc)
-		sigma2.Floats[i] = f.Sigma2
+		variance.Floats[i] = f.Sigma2
 		nobs.Ints[i] = int64(f.NObs)
 	}
-	cols = append(cols, family, spec, params, aicc, sigma2, nobs, warn, lbLags, lbQ, lbP)
+	cols = append(cols, status, family, model, params, aicc, variance, scale, nobs, warn, lbLags, lbQ, lbP)
 	return &tableio.Table{Columns: cols}
+}
+
+// Node states, one wording everywhere: a node trades over the whole
+// history, opened after its first period, or closed (no sales in the
+// latest periods: forecast as zero).
+const (
+	StatusTrading    = "trading"
+	StatusOpenedLate = "opened late"
+	StatusClosed     = "closed"
+)
+
+// NodeStatus is the node's state: closed wins over opened late.
+func NodeStatus(f engine.NodeFit) string {
+	switch {
+	case f.Closed:
+		return StatusClosed
+	case f.First > 0:
+		return StatusOpenedLate
+	default:
+		return StatusTrading
+	}
+}
+
+// VarianceScale names the scale a fit's innovation variance is on: "log"
+// or "Box-Cox" when the model was fitted to transformed values,
+// "seasonally adjusted" for a Theta fit to seasonally adjusted values,
+// and "data" otherwise (sales units squared).
+func VarianceScale(f engine.NodeFit) string {
+	if tr, ok := f.Params["transform"].(map[string]any); ok {
+		switch tr["kind"] {
+		case "log":
+			return "log"
+		case "boxcox":
+			return "Box-Cox"
+		}
+	}
+	if _, ok := f.Params["seasonal_indices"]; ok && f.Family == "theta" {
+		return "seasonally adjusted"
+	}
+	return "data"
 }
 
 // paramsJSON marshals parameters with sorted keys (encoding/json sorts map

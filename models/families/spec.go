@@ -38,6 +38,9 @@ type Spec struct {
 // "Transform" or "Constant".
 func (s Spec) Resolve() (models.Family, error) {
 	form := strings.TrimSpace(s.Form)
+	if form != "" && printedForm(form) {
+		return s.resolvePrinted(form)
+	}
 	name := s.Family
 	if form != "" {
 		written := formFamily(form)
@@ -139,4 +142,28 @@ func formFamily(form string) string {
 		return ets.Name
 	}
 	return arima.Name
+}
+
+// resolvePrinted resolves a form written as the models table prints it
+// (readForm). The family, if given, must be the form's; the transform
+// may be added when the form has none; a constant belongs in the form.
+func (s Spec) resolvePrinted(form string) (models.Family, error) {
+	fam, err := readForm(form)
+	if err != nil {
+		return nil, err
+	}
+	if s.Family != "" && s.Family != fam.Name() {
+		return nil, inputerr.ForOption("Family", "model %q is a %s model, but the family is %q", form, fam.Name(), s.Family)
+	}
+	if s.Constant {
+		return nil, inputerr.ForOption("Constant", "a constant applies to a fixed ARIMA form only: write it in the form (\"+ drift\", \"+ mean\")")
+	}
+	kind, err := transform.ParseKind(s.Transform)
+	if err != nil {
+		return nil, &inputerr.Error{Option: "Transform", Err: err}
+	}
+	if _, wrapped := fam.(transform.Family); wrapped && kind != transform.None {
+		return nil, inputerr.ForOption("Transform", "model %q already says its transform", form)
+	}
+	return withTransform(fam, kind), nil
 }

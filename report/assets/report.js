@@ -62,17 +62,21 @@
   }
 
   const run = meta.run || {}, counts = run.counts || {};
-  const unit = "sales per " + (counts.grain || "period");
+  // The value axis says what the numbers are: the value column, per period.
+  const unit = ((run.input && run.input.value_column) || "sales") + " per " + (counts.grain || "period");
   const nf0 = new Intl.NumberFormat("en-GB", { maximumFractionDigits: 0 });
   const nf2 = new Intl.NumberFormat("en-GB", { maximumFractionDigits: 2 });
   // Table cells: always two decimals, so a column reads alike.
   const nf2fixed = new Intl.NumberFormat("en-GB", { minimumFractionDigits: 2, maximumFractionDigits: 2 });
   const fmt = v => v == null || Number.isNaN(v) ? "–" : (Math.abs(v) >= 100 ? nf0 : nf2).format(v);
+  // legendValue is fmt for a chart's legend, which is blank until the
+  // pointer is over a period rather than showing a dash.
+  const legendValue = v => v == null || Number.isNaN(v) ? "" : fmt(v);
   const short = v => {
     const a = Math.abs(v);
     if (a >= 1e9) return nf2.format(v / 1e9) + " bn";
     if (a >= 1e6) return nf2.format(v / 1e6) + " m";
-    if (a >= 1e4) return nf0.format(v / 1e3) + " k";
+    if (a >= 1e4) return nf2.format(v / 1e3) + " k"; // 12,500 is 12.5 k, not 13 k
     return nf2.format(v);
   };
   const el = (tag, attrs, ...kids) => {
@@ -88,6 +92,17 @@
     const parts = nd.key.filter(k => k !== "");
     return parts.length ? parts.join(" · ") : "Total";
   };
+  // pValue writes a p-value as a plain decimal; below 0.0001 it says so.
+  const pValue = p => p < 1e-4 ? "< 0.0001" : p.toFixed(4);
+  // seriesColours gives each labelled series of a chart its colour: the
+  // base forecasts keep their colour from the forecast charts, and the
+  // others take the rest of the palette in turn.
+  const seriesColours = names => {
+    const palette = [color("--forecast"), color("--history"), "#5b3f9e", "#2f6db3", "#8a1c1c", "#6b6b00"];
+    let next = 0;
+    return names.map(n => n === "base" ? color("--base") : palette[next++ % palette.length]);
+  };
+  api.format = { short, pValue, unit, seriesColours }; // for the browser test
   const levelName = i => meta.levels[meta.nodes[i].level].name;
   const slice = (f, i, len) => Array.from(f.subarray(i * len, (i + 1) * len), v => Number.isNaN(v) ? null : v);
 
@@ -106,19 +121,21 @@
     return cols;
   }
 
-  const xAxis = { values: (u, splits) => splits.map(t => labels[t] ?? ""), space: 64, incrs: [1, 2, 3, 4, 6, 12, 24, 36, 52, 104, 365], grid: { stroke: "#e6e9ee" } };
+  // Ticks at least one label apart (daily labels are wider than monthly).
+  const xSpace = Math.max(64, 7 * Math.max(0, ...labels.map(l => String(l).length)) + 16);
+  const xAxis = { values: (u, splits) => splits.map(t => labels[t] ?? ""), space: xSpace, incrs: [1, 2, 3, 4, 6, 12, 24, 36, 52, 104, 365], grid: { stroke: "#e6e9ee" } };
   function tsOptions(width, height, compact) {
-    const series = [{ label: "period", value: (u, t) => t == null ? "–" : labels[t] },
-      { label: "history", stroke: color("--history"), width: 1.5, value: (u, v) => fmt(v) },
-      { label: "base forecast", stroke: color("--base"), width: 1.25, dash: [5, 4], value: (u, v) => fmt(v), show: !compact },
-      { label: "reconciled forecast", stroke: color("--forecast"), width: 2, value: (u, v) => fmt(v) }];
+    const series = [{ label: "period", value: (u, t) => t == null ? "" : labels[t] },
+      { label: "history", stroke: color("--history"), width: 1.5, value: (u, v) => legendValue(v) },
+      { label: "base forecast", stroke: color("--base"), width: 1.25, dash: [5, 4], value: (u, v) => legendValue(v), show: !compact },
+      { label: "reconciled forecast", stroke: color("--forecast"), width: 2, value: (u, v) => legendValue(v) }];
     const bands = [];
     for (let l = meta.intervals.length - 1; l >= 0; l--) {
       const wide = l === meta.intervals.length - 1 && meta.intervals.length > 1;
       const fill = color(wide ? "--band95" : "--band80"), edge = color(wide ? "--band95-edge" : "--band80-edge");
       const at = series.length;
-      series.push({ label: meta.intervals[l] + "% interval", stroke: edge, width: 1, points: { show: false }, value: (u, v) => fmt(v) },
-        { label: meta.intervals[l] + "% lower", stroke: edge, width: 1, points: { show: false }, value: (u, v) => fmt(v) });
+      series.push({ label: meta.intervals[l] + "% interval", stroke: edge, width: 1, points: { show: false }, value: (u, v) => legendValue(v) },
+        { label: meta.intervals[l] + "% lower", stroke: edge, width: 1, points: { show: false }, value: (u, v) => legendValue(v) });
       bands.push({ series: [at, at + 1], fill });
     }
     return {
@@ -274,9 +291,9 @@
       const top = Math.min(1, 1.25 * Math.max(bound, ...vals.slice(0, len).map(Math.abs)));
       draw(target, {
         width: width(target), height: 200, title: `${name} of the residuals`, scales: { x: { time: false, range: [0.5, len + 0.5] }, y: { range: [-top, top] } },
-        series: [{ label: "lag" }, { label: name, stroke: color("--forecast"), fill: color("--band80"), paths: uPlot.paths.bars({ size: [0.6, 14] }), points: { show: false }, value: (u, v) => v == null ? "–" : v.toFixed(3) },
+        series: [{ label: "lag", value: (u, v) => v == null ? "" : v }, { label: name, stroke: color("--forecast"), fill: color("--band80"), paths: uPlot.paths.bars({ size: [0.6, 14] }), points: { show: false }, value: (u, v) => v == null ? "" : v.toFixed(3) },
           { label: "±1.96/√n", stroke: color("--alert"), dash: [4, 4], width: 1, points: { show: false }, value: () => bound.toFixed(3) },
-          { label: "", stroke: color("--alert"), dash: [4, 4], width: 1, points: { show: false } }],
+          { label: "", stroke: color("--alert"), dash: [4, 4], width: 1, points: { show: false }, value: () => "" }],
         axes: [{ label: "lag", incrs: [1, 2, 3, 4, 6, 12], grid: { show: false } }, { size: 44, grid: { stroke: "#e6e9ee" } }],
         hooks: { ready: [u => { const r = u.root.querySelectorAll(".u-legend .u-series"); if (r[3]) r[3].style.display = "none"; }] },
       }, [x, vals.slice(0, len), x.map(() => bound), x.map(() => -bound)]);
@@ -307,7 +324,9 @@
       chart.dataset.node = String(i);
       const model = document.getElementById("node-model");
       const rows = [["Model", nd.family ? `${nd.family}: ${nd.spec}` : "none (base forecasts given)"],
-        ["AICc", nd.aicc == null ? "–" : nf2.format(nd.aicc)], ["σ²", nd.sigma2 == null ? "–" : fmt(nd.sigma2)]];
+        ["AICc", nd.aicc == null ? "–" : nf2.format(nd.aicc)],
+        [`Innovation variance (${nd.variance_scale || "data"} scale)`, nd.sigma2 == null ? "–" : fmt(nd.sigma2)]];
+      if (nd.status) rows.unshift(["Status", nd.status]);
       let params = null;
       try { params = nd.params ? JSON.parse(nd.params) : null; } catch (e) { params = null; }
       const table = el("table", {}, ...rows.map(([k, v]) => el("tr", {}, el("th", {}, k), el("td", {}, v))));
@@ -331,10 +350,13 @@
       if (nd.lb_p == null) check.append(el("p", { class: "note" }, "Not run: too few residuals."));
       else {
         const pass = nd.lb_p >= meta.fail_p;
-        check.append(el("p", {}, `Q = ${nd.lb_q.toFixed(2)} on ${nd.lb_lags} lags, p-value ${nd.lb_p < 1e-4 ? nd.lb_p.toExponential(2) : nd.lb_p.toFixed(4)}: `,
+        check.append(el("p", {}, `Q = ${nd.lb_q.toFixed(2)} on ${nd.lb_lags} lags, p-value ${pValue(nd.lb_p)}: `,
           el("span", { class: pass ? "pass" : "fail" }, pass ? "no autocorrelation left at the 5% level" : "autocorrelation left in the residuals at the 5% level")),
         el("p", { class: "note" }, `A failing test means the model missed a pattern; its intervals may be too narrow. Bars beyond the dashed lines (±1.96/√n, n = ${nd.n_resid} residuals) show where.`));
       }
+      check.append(el("p", { class: "note" }, "ACF: the correlation of the residuals with themselves k periods (lags) earlier. " +
+        "PACF: the same correlation once the shorter lags are accounted for. A bar at lag 12 of monthly data beyond the dashed lines " +
+        "means a yearly pattern the model left in its errors."));
       corrChart(document.getElementById("node-acf"), "ACF", S.acf, i);
       corrChart(document.getElementById("node-pacf"), "PACF", S.pacf, i);
       if (scroll) document.getElementById("explorer").scrollIntoView();
@@ -353,7 +375,7 @@
         el("tr", {}, el("th", {}, "node"), el("th", {}, "level"), el("th", {}, "model"), el("th", { class: "num" }, "Q"), el("th", { class: "num" }, "lags"), el("th", { class: "num" }, "p-value")),
         ...meta.failing.slice(0, 200).map(i => { const nd = meta.nodes[i]; return el("tr", {},
           el("td", {}, el("button", { class: "node-link", onclick: () => select(i, true) }, nodeName(i))), el("td", {}, levelName(i)), el("td", {}, nd.spec || nd.family || ""),
-          el("td", { class: "num" }, nd.lb_q.toFixed(2)), el("td", { class: "num" }, nd.lb_lags), el("td", { class: "num" }, nd.lb_p.toExponential(2))); }))));
+          el("td", { class: "num" }, nd.lb_q.toFixed(2)), el("td", { class: "num" }, nd.lb_lags), el("td", { class: "num" }, pValue(nd.lb_p))); }))));
     }
 
     select(totalNode, false);
@@ -378,21 +400,35 @@
       el("tr", {}, ...head.map((h, j) => el("th", { class: j ? "num" : "" }, h))),
       ...rows.map(r => el("tr", {}, ...r.map((v, j) => el("td", { class: j ? "num" : "" }, v))))));
     const short14 = s => s.length > 16 ? s.slice(0, 15) + "…" : s;
+    const short28 = s => s.length > 28 ? s.slice(0, 27) + "…" : s;
+    // keyValues shows a node label of the tables ("region=North store=N1")
+    // as the report names nodes everywhere else: "North · N1".
+    const keyValues = s => /^[^=\s]+=/.test(s) ? s.split(/\s+(?=[^=\s]+=)/).map(p => p.slice(p.indexOf("=") + 1)).join(" · ") : s;
+    // categoryAxis labels one tick per category; when the labels would
+    // not fit side by side, they are turned to a slant so none overlaps.
+    const categoryAxis = (cats, target) => {
+      const flat = cats.length * (7 * Math.max(0, ...cats.map(c => short14(String(c ?? "")).length)) + 12) <= 0.8 * width(target);
+      const cut = flat ? short14 : short28, slant = !flat;
+      const longest = Math.max(0, ...cats.map(c => cut(String(c ?? "")).length));
+      return { values: (u, sp) => sp.map(k => Number.isInteger(k) ? cut(String(cats[k] ?? "")) : ""), incrs: [1], grid: { show: false },
+        rotate: slant ? 35 : 0, size: slant ? 20 + 5 * longest : 50 };
+    };
     // dotChart draws one dot per category and series (no lines), with
     // optional dashed reference lines.
     function dotChart(target, title, catLabel, cats, series, yLabel, refs, yfmt) {
-      const palette = [color("--forecast"), color("--base"), color("--history"), "#5b3f9e", "#2f6db3", "#8a1c1c", "#6b6b00"];
+      const xAxis = categoryAxis(cats, target);
+      const colours = seriesColours(series.map(sr => sr.label));
       const x = cats.map((_, k) => k);
       const opts = {
-        width: width(target), height: 260, title, scales: { x: { time: false, range: [-0.5, cats.length - 0.5] } },
-        series: [{ label: catLabel, value: (u, k) => k == null ? "–" : cats[k] }],
-        axes: [{ values: (u, sp) => sp.map(k => Number.isInteger(k) ? short14(String(cats[k] ?? "")) : ""), incrs: [1], grid: { show: false }, size: 50 },
+        width: width(target), height: 210 + xAxis.size, title, scales: { x: { time: false, range: [-0.5, cats.length - 0.5] } },
+        series: [{ label: catLabel, value: (u, k) => k == null ? "" : cats[k] }],
+        axes: [xAxis,
           { values: (u, sp) => sp.map(yfmt), size: 60, label: yLabel, grid: { stroke: "#e6e9ee" } }],
       };
       const data = [x];
       series.forEach((sr, j) => {
-        opts.series.push({ label: sr.label, stroke: palette[j % palette.length], width: 0, paths: () => null,
-          points: { show: true, size: 9, fill: palette[j % palette.length] }, value: (u, v) => v == null ? "–" : yfmt(v) });
+        opts.series.push({ label: sr.label, stroke: colours[j], width: 0, paths: () => null,
+          points: { show: true, size: 9, fill: colours[j] }, value: (u, v) => v == null ? "" : yfmt(v) });
         data.push(sr.values);
       });
       for (const r of refs || []) {
@@ -402,11 +438,12 @@
       draw(target, opts, data);
     }
     function barChart(target, title, names, values, yLabel, yfmt) {
+      const xAxis = categoryAxis(names, target);
       draw(target, {
-        width: width(target), height: 260, title, scales: { x: { time: false, range: [-0.5, names.length - 0.5] }, y: { range: (u, lo, hi) => [Math.min(0, lo), Math.max(0, hi) * 1.1 || 1] } },
-        series: [{ label: "node", value: (u, k) => k == null ? "–" : names[k] },
-          { label: yLabel, stroke: color("--forecast"), fill: color("--band80"), paths: uPlot.paths.bars({ size: [0.7, 60] }), points: { show: false }, value: (u, v) => v == null ? "–" : yfmt(v) }],
-        axes: [{ values: (u, sp) => sp.map(k => Number.isInteger(k) ? short14(String(names[k] ?? "")) : ""), incrs: [1], grid: { show: false }, size: 50 },
+        width: width(target), height: 210 + xAxis.size, title, scales: { x: { time: false, range: [-0.5, names.length - 0.5] }, y: { range: (u, lo, hi) => [Math.min(0, lo), Math.max(0, hi) * 1.1 || 1] } },
+        series: [{ label: "node", value: (u, k) => k == null ? "" : names[k] },
+          { label: yLabel, stroke: color("--forecast"), fill: color("--band80"), paths: uPlot.paths.bars({ size: [0.7, 60] }), points: { show: false }, value: (u, v) => v == null ? "" : yfmt(v) }],
+        axes: [xAxis,
           { values: (u, sp) => sp.map(yfmt), size: 60, label: yLabel, grid: { stroke: "#e6e9ee" } }],
       }, [names.map((_, k) => k), values]);
     }
@@ -459,7 +496,7 @@
         groups.get(key).push(r);
       }
       const label = g => (g[0].ancestor_level === "total" ? "the total" : `${g[0].ancestor} (${g[0].ancestor_level})`) + ` by ${g[0].level}`;
-      const chartOf = (target, g) => { g.sort((a, b) => a.rank - b.rank); barChart(target, `Drivers of the error of ${label(g)}`, g.map(r => r.node), g.map(r => r.share), "share of absolute error", v => nf0.format(100 * v) + "%"); };
+      const chartOf = (target, g) => { g.sort((a, b) => a.rank - b.rank); barChart(target, `Drivers of the error of ${label(g)}`, g.map(r => keyValues(r.node)), g.map(r => r.share), "share of absolute error", v => nf2.format(100 * v) + "%"); };
       box.append(el("h3", {}, `Drivers of the error (${method})`),
         el("p", { class: "note" }, "The nodes whose errors make up most of an aggregate's absolute error over the backtest, largest first."));
       const all = [...groups.values()];
