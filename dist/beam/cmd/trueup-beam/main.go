@@ -15,6 +15,7 @@ import (
 	"slices"
 
 	"github.com/apache/beam/sdks/v2/go/pkg/beam"
+	beamlog "github.com/apache/beam/sdks/v2/go/pkg/beam/log"
 	"github.com/apache/beam/sdks/v2/go/pkg/beam/x/beamx"
 
 	"trueup/cmd/trueup/cli"
@@ -27,6 +28,10 @@ var exchange = flag.String("exchange", "", "folder for the jobs and fits, reacha
 func main() {
 	if isWorker(os.Args[1:]) {
 		flag.Parse()
+	} else {
+		// The driver's terminal shows trueup's messages; Beam's own
+		// progress lines only at warning level and above.
+		beamlog.LogLevel = "warn"
 	}
 	// As a worker, Init serves the runner and exits; as a driver it only
 	// marks Beam as initialised.
