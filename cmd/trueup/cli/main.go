@@ -33,6 +33,9 @@ const (
 // Config is what a program running these commands may change; the zero
 // value is the trueup program.
 type Config struct {
+	// Name is the program's name in help and messages' usage lines; ""
+	// means trueup (and trueup's examples).
+	Name string
 	// Fitter makes the fit stage of forecast, backtest and demo from
 	// --workers; nil means engine.Local, this process's pool.
 	Fitter func(workers int) engine.Fitter

@@ -53,6 +53,9 @@ they go into a plan.`,
 			root.AddCommand(cmd)
 		}
 	}
+	if cfg.Name != "" {
+		root.Use, root.Example = cfg.Name, ""
+	}
 	if cfg.Flags != nil {
 		root.PersistentFlags().AddGoFlagSet(cfg.Flags)
 		cfg.Flags.VisitAll(func(f *flag.Flag) { _ = root.PersistentFlags().MarkHidden(f.Name) })

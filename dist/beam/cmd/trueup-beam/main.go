@@ -37,6 +37,7 @@ func main() {
 	// marks Beam as initialised.
 	beam.Init()
 	cli.Main(os.Args[1:], cli.Config{
+		Name:     "trueup-beam",
 		Commands: []string{"forecast", "backtest", "demo"},
 		Flags:    flag.CommandLine,
 		Fitter: func(workers int) engine.Fitter {
