@@ -14,7 +14,7 @@ import (
 	"fmt"
 	"io"
 	"os"
-	"path"
+	"path/filepath"
 	"reflect"
 	"strings"
 
@@ -49,6 +49,9 @@ var _ engine.Fitter = Fitter{}
 // job in job order. progress is called once, when all are back: the
 // workers' progress is on the runner's own pages.
 func (f Fitter) Fit(ctx context.Context, jobs []engine.FitJob, progress func(done, total int)) ([]engine.NodeFit, error) {
+	if len(jobs) == 0 {
+		return []engine.NodeFit{}, nil
+	}
 	dir, cleanup, err := f.folder()
 	if err != nil {
 		return nil, err
@@ -63,11 +66,11 @@ func (f Fitter) Fit(ctx context.Context, jobs []engine.FitJob, progress func(don
 	rows := beam.ParDo(s, readJobs, files)
 	// The jobs of a file are spread over the workers.
 	rows = beam.Reshuffle(s, rows)
-	beam.ParDo0(s, &fitJobs{Dir: path.Join(dir, "fits"), Workers: f.Workers}, rows)
+	beam.ParDo0(s, &fitJobs{Dir: join(dir, "fits"), Workers: f.Workers}, rows)
 	if err := f.Run(ctx, p); err != nil {
 		return nil, fmt.Errorf("fit pipeline: %w", err)
 	}
-	out, err := readFits(ctx, path.Join(dir, "fits"), len(jobs))
+	out, err := readFits(ctx, join(dir, "fits"), len(jobs))
 	if err != nil {
 		return nil, err
 	}
@@ -87,7 +90,7 @@ func (f Fitter) folder() (string, func(), error) {
 		}
 		return dir, func() { os.RemoveAll(dir) }, nil
 	}
-	dir := path.Join(f.Exchange, "trueup-fit-"+randomName())
+	dir := join(strings.TrimSuffix(f.Exchange, "/"), "trueup-fit-"+randomName())
 	return dir, func() { removeAll(dir) }, nil
 }
 
@@ -122,7 +125,7 @@ func writeJobs(ctx context.Context, dir string, jobs []engine.FitJob, perShard i
 	}
 	var names []string
 	for start := 0; start < len(jobs); start += perShard {
-		name := path.Join(dir, "jobs", fmt.Sprintf("%08d.gob", start/perShard))
+		name := join(dir, "jobs", fmt.Sprintf("%08d.gob", start/perShard))
 		rows := make([]JobRow, 0, perShard)
 		for i := start; i < min(start+perShard, len(jobs)); i++ {
 			rows = append(rows, jobRow(i, jobs[i]))
@@ -138,7 +141,7 @@ func writeJobs(ctx context.Context, dir string, jobs []engine.FitJob, perShard i
 // writeRows writes rows to one file as a gob stream.
 func writeRows[T any](ctx context.Context, name string, rows []T) (err error) {
 	if !strings.Contains(name, "://") {
-		if err := os.MkdirAll(path.Dir(name), 0o755); err != nil {
+		if err := os.MkdirAll(filepath.Dir(name), 0o755); err != nil {
 			return err
 		}
 	}
@@ -243,7 +246,7 @@ func (w *fitJobs) flush(ctx context.Context) error {
 		}
 	}
 	w.batch, w.index = w.batch[:0], w.index[:0]
-	return writeRows(ctx, path.Join(w.Dir, randomName()+".gob"), rows)
+	return writeRows(ctx, join(w.Dir, randomName()+".gob"), rows)
 }
 
 // readFits reads every fit file in dir and places the fits by job index;
@@ -253,7 +256,7 @@ func readFits(ctx context.Context, dir string, n int) ([]engine.NodeFit, error) 
 	if err != nil {
 		return nil, err
 	}
-	names, err := fs.List(ctx, path.Join(dir, "*.gob"))
+	names, err := fs.List(ctx, join(dir, "*.gob"))
 	fs.Close()
 	if err != nil {
 		return nil, err
@@ -285,6 +288,12 @@ func readFits(ctx context.Context, dir string, n int) ([]engine.NodeFit, error) 
 		}
 	}
 	return fits, nil
+}
+
+// join joins a folder name and names below it with slashes. Unlike
+// path.Join it keeps the double slash of a URL such as gs://bucket.
+func join(dir string, elem ...string) string {
+	return strings.Join(append([]string{dir}, elem...), "/")
 }
 
 func randomName() string {

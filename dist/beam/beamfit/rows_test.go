@@ -70,3 +70,11 @@ func TestJobRowRoundTrip(t *testing.T) {
 		t.Errorf("got  %s\nwant %s", g, w)
 	}
 }
+
+// Exchange names keep a URL's double slash (path.Join would make
+// gs://bucket/x into gs:/bucket/x, which no file system serves).
+func TestJoinKeepsURLs(t *testing.T) {
+	if got := join("gs://bucket/exchange", "fits", "a.gob"); got != "gs://bucket/exchange/fits/a.gob" {
+		t.Errorf("join: %s", got)
+	}
+}
