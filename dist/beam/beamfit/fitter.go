@@ -11,6 +11,7 @@ import (
 	"crypto/rand"
 	"encoding/gob"
 	"encoding/hex"
+	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -250,7 +251,9 @@ func (w *fitJobs) flush(ctx context.Context) error {
 }
 
 // readFits reads every fit file in dir and places the fits by job index;
-// every job must have one.
+// every job must have one. A file cut short (by a worker that failed
+// while writing it; the runner then ran its bundle again) gives the rows
+// it holds whole.
 func readFits(ctx context.Context, dir string, n int) ([]engine.NodeFit, error) {
 	fs, err := filesystem.New(ctx, dir)
 	if err != nil {
@@ -278,7 +281,7 @@ func readFits(ctx context.Context, dir string, n int) ([]engine.NodeFit, error) 
 			fits[r.Index], got[r.Index] = f, true
 			return nil
 		})
-		if err != nil {
+		if err != nil && !errors.Is(err, io.ErrUnexpectedEOF) {
 			return nil, err
 		}
 	}

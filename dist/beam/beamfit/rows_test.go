@@ -2,9 +2,12 @@ package beamfit
 
 import (
 	"bytes"
+	"context"
 	"encoding/gob"
 	"fmt"
 	"math"
+	"os"
+	"strings"
 	"testing"
 
 	"trueup/engine"
@@ -76,5 +79,44 @@ func TestJobRowRoundTrip(t *testing.T) {
 func TestJoinKeepsURLs(t *testing.T) {
 	if got := join("gs://bucket/exchange", "fits", "a.gob"); got != "gs://bucket/exchange/fits/a.gob" {
 		t.Errorf("join: %s", got)
+	}
+}
+
+// A fit file cut short, left by a failed attempt at a bundle, gives the
+// rows it holds whole; a job with no fit in any file is an error.
+func TestReadFitsSkipsAFileCutShort(t *testing.T) {
+	ctx := context.Background()
+	dir := t.TempDir()
+	fit := engine.NodeFit{Family: "naive", Params: map[string]any{"lag": 12}, Mean: []float64{1}, Variance: []float64{2}}
+	var rows []FitRow
+	for i := range 3 {
+		r, err := fitRow(int64(i), fit)
+		if err != nil {
+			t.Fatal(err)
+		}
+		rows = append(rows, r)
+	}
+	if err := writeRows(ctx, join(dir, "whole.gob"), rows); err != nil {
+		t.Fatal(err)
+	}
+	b, err := os.ReadFile(join(dir, "whole.gob"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(join(dir, "cut.gob"), b[:len(b)-5], 0o644); err != nil {
+		t.Fatal(err)
+	}
+	fits, err := readFits(ctx, dir, 3)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(fits) != 3 || fits[2].Params["lag"] != 12 {
+		t.Errorf("fits %#v", fits)
+	}
+	if err := os.Remove(join(dir, "whole.gob")); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := readFits(ctx, dir, 3); err == nil || !strings.Contains(err.Error(), "no fit came back for job 2") {
+		t.Errorf("a job with no whole fit: %v", err)
 	}
 }
