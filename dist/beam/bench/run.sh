@@ -3,18 +3,20 @@
 # chain (the generator of bench/chain/run.sh: 8 regions, 8 categories,
 # STORES stores, six years of months): runs `trueup forecast --family auto`
 # and `trueup-beam forecast` (prism, this machine) on the same file,
-# alternating ROUNDS times, each with two workers; prints wall time, CPU
-# and peak memory of each run and the stages from run.json, checks that
-# every output file is the same bytes (run.json: all but timings_seconds)
-# and prints the ratio of the median wall times.
+# alternating ROUNDS times, each with two workers, writing Parquet and
+# CSV; prints wall time, CPU and peak memory of each run and the stages
+# from run.json, compares every output file (samesets.py) and prints the
+# ratio of the median wall times.
 #
-#   sh dist/beam/bench/run.sh [STORES [ROUNDS]]
+#   sh dist/beam/bench/run.sh [STORES [ROUNDS [FAMILY]]]
 #
-# from anywhere; STORES defaults to 4436 (40,005 nodes), ROUNDS to 2.
+# from anywhere; STORES defaults to 4436 (40,005 nodes), ROUNDS to 2,
+# FAMILY to auto (seasonal-naive checks the same bytes in a minute).
 # Needs GNU time and python3. Takes minutes per run at 40,005 nodes.
 set -eu
 stores=${1:-4436}
 rounds=${2:-2}
+family=${3:-auto}
 here=$(cd "$(dirname "$0")/.." && pwd)
 root=$(cd "$here/../.." && pwd)
 dir=$(mktemp -d)
@@ -39,27 +41,14 @@ while [ "$round" -le "$rounds" ]; do
 		# name the same paths; the set is then moved aside.
 		/usr/bin/time -f "  %e s wall, %U s user CPU, %S s system CPU, %M KB peak resident" -a -o "$dir/time-$bin" \
 			"$dir/$bin" forecast --input "$dir/chain.parquet" --time period --value sales \
-			--nest region,store --nest category --family auto --workers 2 --quiet \
+			--nest region,store --nest category --family "$family" --workers 2 --quiet --format parquet,csv \
 			--out "$dir/out" >/dev/null 2>"$dir/stderr-$bin" || { cat "$dir/stderr-$bin"; exit 1; }
 		tail -n 1 "$dir/time-$bin"
 		stages "$dir/out/run.json"
 		rm -rf "$dir/$bin-$round"
 		mv "$dir/out" "$dir/$bin-$round"
 	done
-	python3 - "$dir/trueup-$round" "$dir/trueup-beam-$round" <<'PY'
-import json, os, sys
-a, b = sys.argv[1], sys.argv[2]
-names = sorted(os.listdir(a))
-assert names == sorted(os.listdir(b)), (names, sorted(os.listdir(b)))
-for n in names:
-    x, y = open(os.path.join(a, n), "rb").read(), open(os.path.join(b, n), "rb").read()
-    if n == "run.json":
-        x, y = json.loads(x), json.loads(y)
-        x.pop("timings_seconds"); y.pop("timings_seconds")
-    if x != y:
-        sys.exit(f"  DIFFERENT: {n}")
-print(f"  same bytes: {', '.join(names)} (run.json less timings_seconds)")
-PY
+	python3 "$here/bench/samesets.py" "$dir/trueup-$round" "$dir/trueup-beam-$round"
 	round=$((round + 1))
 done
 python3 - "$dir/time-trueup" "$dir/time-trueup-beam" <<'PY'
