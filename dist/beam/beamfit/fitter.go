@@ -16,7 +16,6 @@ import (
 	"io"
 	"os"
 	"path/filepath"
-	"reflect"
 	"strings"
 
 	"github.com/apache/beam/sdks/v2/go/pkg/beam"
@@ -64,10 +63,9 @@ func (f Fitter) Fit(ctx context.Context, jobs []engine.FitJob, progress func(don
 	}
 	p, s := beam.NewPipelineWithRoot()
 	files := beam.CreateList(s, shards)
-	rows := beam.ParDo(s, readJobs, files)
-	// The jobs of a file are spread over the workers.
-	rows = beam.Reshuffle(s, rows)
-	beam.ParDo0(s, &fitJobs{Dir: join(dir, "fits"), Workers: f.Workers}, rows)
+	// The job files are spread over the workers.
+	files = beam.Reshuffle(s, files)
+	beam.ParDo(s, &fitShard{Dir: join(dir, "fits"), Workers: f.Workers}, files)
 	if err := f.Run(ctx, p); err != nil {
 		return nil, fmt.Errorf("fit pipeline: %w", err)
 	}
@@ -195,59 +193,41 @@ func readRows[T any](ctx context.Context, name string, each func(T) error) error
 	}
 }
 
-// readJobs emits the job rows of one job file.
-func readJobs(ctx context.Context, name string, emit func(JobRow)) error {
-	return readRows(ctx, name, func(r JobRow) error { emit(r); return nil })
-}
-
-// fitJobs fits the jobs of each bundle with engine.Local, Workers at a
-// time (the nodes of one bundle are independent; a runner such as prism
-// hands one worker a whole stage as one bundle), in batches of
-// batchJobs, and writes each batch's fits as rows to a file of its own
-// in Dir. A bundle the runner retries writes its files again with the
-// same rows (fits are deterministic); readFits keeps one of each.
-type fitJobs struct {
+// fitShard fits the jobs of one job file with engine.Local, Workers at a
+// time, and writes their fits as rows to a file of its own in Dir. A job
+// file, not a job, is the pipeline's element: a runner may hand a worker
+// its elements in bundles of any size, down to one, and a file's
+// thousand jobs keep every core of the worker busy whatever the bundle.
+// A file the runner fits again (after a failure) gives a second file of
+// the same rows (fits are deterministic); readFits keeps one of each.
+type fitShard struct {
 	Dir     string
 	Workers int
-	batch   []engine.FitJob
-	index   []int64
 }
 
-// batchJobs is the most jobs fitJobs holds before it fits them: enough
-// that the workers rarely wait for the slowest fit of a batch, few
-// enough that memory stays small.
-const batchJobs = 2000
-
-func (w *fitJobs) StartBundle(context.Context) { w.batch, w.index = w.batch[:0], w.index[:0] }
-
-func (w *fitJobs) ProcessElement(ctx context.Context, r JobRow) error {
-	w.batch = append(w.batch, r.job())
-	w.index = append(w.index, r.Index)
-	if len(w.batch) < batchJobs {
+func (w *fitShard) ProcessElement(ctx context.Context, name string) (string, error) {
+	var jobs []engine.FitJob
+	var index []int64
+	err := readRows(ctx, name, func(r JobRow) error {
+		jobs = append(jobs, r.job())
+		index = append(index, r.Index)
 		return nil
-	}
-	return w.flush(ctx)
-}
-
-func (w *fitJobs) FinishBundle(ctx context.Context) error { return w.flush(ctx) }
-
-// flush fits the jobs held and writes their fits.
-func (w *fitJobs) flush(ctx context.Context) error {
-	if len(w.batch) == 0 {
-		return nil
-	}
-	fits, err := engine.Local{Workers: w.Workers}.Fit(ctx, w.batch, nil)
+	})
 	if err != nil {
-		return err
+		return "", err
+	}
+	fits, err := engine.Local{Workers: w.Workers}.Fit(ctx, jobs, nil)
+	if err != nil {
+		return "", err
 	}
 	rows := make([]FitRow, len(fits))
 	for i, f := range fits {
-		if rows[i], err = fitRow(w.index[i], f); err != nil {
-			return err
+		if rows[i], err = fitRow(index[i], f); err != nil {
+			return "", err
 		}
 	}
-	w.batch, w.index = w.batch[:0], w.index[:0]
-	return writeRows(ctx, join(w.Dir, randomName()+".gob"), rows)
+	out := join(w.Dir, randomName()+".gob")
+	return out, writeRows(ctx, out, rows)
 }
 
 // readFits reads every fit file in dir and places the fits by job index;
@@ -308,8 +288,5 @@ func randomName() string {
 // Registration lets a remote worker, running this same binary, find the
 // functions and types the pipeline names.
 func init() {
-	register.Function3x1(readJobs)
-	register.DoFn2x1[context.Context, JobRow, error](&fitJobs{})
-	register.Emitter1[JobRow]()
-	beam.RegisterType(reflect.TypeFor[JobRow]())
+	register.DoFn2x2[context.Context, string, string, error](&fitShard{})
 }
