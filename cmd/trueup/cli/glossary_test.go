@@ -1,4 +1,4 @@
-package main
+package cli
 
 import (
 	"bufio"
@@ -16,7 +16,7 @@ import (
 )
 
 // glossaryPath is the one list of user-visible names.
-const glossaryPath = "../../docs/glossary.md"
+const glossaryPath = "../../../docs/glossary.md"
 
 // checkGlossary fails on every shown name the section does not list and
 // on every entry of the section that nothing shows.
