@@ -7,8 +7,10 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"maps"
 	"math"
 	"runtime"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -468,11 +470,7 @@ func writeDetail(w io.Writer, indent, key string, x any) {
 	fmt.Fprintf(w, "%s%s\n", indent, key)
 	switch y := x.(type) {
 	case map[string]any:
-		keys := make([]string, 0, len(y))
-		for k := range y {
-			keys = append(keys, k)
-		}
-		sort.Strings(keys)
+		keys := slices.Sorted(maps.Keys(y))
 		for _, k := range keys {
 			writeDetail(w, indent+"  ", k, y[k])
 		}
@@ -516,11 +514,7 @@ const maxInline = 80
 func flat(x any) (string, bool) {
 	switch y := x.(type) {
 	case map[string]any:
-		keys := make([]string, 0, len(y))
-		for k := range y {
-			keys = append(keys, k)
-		}
-		sort.Strings(keys)
+		keys := slices.Sorted(maps.Keys(y))
 		parts := make([]string, len(keys))
 		for j, k := range keys {
 			s, ok := scalar(y[k])
