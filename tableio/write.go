@@ -231,11 +231,17 @@ func writeParquet(w io.Writer, t *Table, n int) error {
 	if err != nil {
 		return err
 	}
-	props := parquet.NewWriterProperties(
+	opts := []parquet.WriterProperty{
 		parquet.WithCompression(compress.Codecs.Snappy),
 		parquet.WithDictionaryDefault(true),
 		parquet.WithMaxRowGroupLength(rowGroupRows),
-	)
+	}
+	for _, c := range t.Columns {
+		if !dictionaryFits(c) {
+			opts = append(opts, parquet.WithDictionaryFor(c.Name, false))
+		}
+	}
+	props := parquet.NewWriterProperties(opts...)
 	fw, err := file.NewParquetWriterWithError(w, root, file.WithWriterProps(props))
 	if err != nil {
 		return err
@@ -251,6 +257,53 @@ func writeParquet(w io.Writer, t *Table, n int) error {
 		}
 	}
 	return fw.Close()
+}
+
+// dictionaryFits reports whether the distinct values of c fit in one
+// dictionary page (parquet.DefaultDictionaryPageSizeLimit bytes, counted
+// as arrow-go's dictionary encoder stores them). A column whose values do
+// not fit is written without a dictionary: once a dictionary outgrows its
+// page, arrow-go falls back to plain pages and records the column chunk's
+// page encodings from a Go map, in an order that changes from run to run,
+// so the same table would not give the same bytes. Every row group's
+// values are among the whole column's, so a column that fits here never
+// falls back.
+func dictionaryFits(c Column) bool {
+	limit := int(parquet.DefaultDictionaryPageSizeLimit)
+	size := 0
+	switch c.Type {
+	case String:
+		seen := map[string]bool{}
+		for _, v := range c.Strings {
+			if !seen[v] {
+				seen[v] = true
+				if size += 4 + len(v); size > limit {
+					return false
+				}
+			}
+		}
+	case Float64:
+		seen := map[uint64]bool{}
+		for _, v := range c.Floats {
+			if b := math.Float64bits(v); !seen[b] {
+				seen[b] = true
+				if size += 8; size > limit {
+					return false
+				}
+			}
+		}
+	default: // Int64, and Date held as days
+		seen := map[int64]bool{}
+		for _, v := range c.Ints {
+			if !seen[v] {
+				seen[v] = true
+				if size += 8; size > limit {
+					return false
+				}
+			}
+		}
+	}
+	return true
 }
 
 // writeRowGroup writes rows lo to hi of t as one row group.
