@@ -147,19 +147,7 @@ func printBacktest(w io.Writer, bt *engine.BacktestResult, files []string, asJSO
 
 	fmt.Fprintln(w, "\nMASE by level (mean over nodes and origins, all steps; lower is better):")
 	header := append([]string{"level"}, bt.Methods...)
-	var rows [][]string
-	for _, level := range bt.Structure.LevelNames() {
-		row := []string{level}
-		for _, m := range bt.Methods {
-			s, ok := bt.LevelScore(level, m)
-			if !ok {
-				row = append(row, "")
-				continue
-			}
-			row = append(row, fmt.Sprintf("%.3f", s.MASE))
-		}
-		rows = append(rows, row)
-	}
+	rows := levelRows(bt, func(s engine.Score) string { return fmt.Sprintf("%.3f", s.MASE) })
 	row := []string{"mean of levels"}
 	for _, h := range bt.Headline {
 		row = append(row, fmt.Sprintf("%.3f", h.MASE))
@@ -266,21 +254,32 @@ func printCoverageByLevel(w io.Writer, bt *engine.BacktestResult) {
 	for l, lv := range bt.Levels {
 		fmt.Fprintf(w, "\nShare of actuals inside the %s%% intervals by level (all steps):\n", engine.LevelLabel(lv))
 		header := append([]string{"level"}, bt.Methods...)
-		var rows [][]string
-		for _, level := range bt.Structure.LevelNames() {
-			row := []string{level}
-			for _, m := range bt.Methods {
-				s, ok := bt.LevelScore(level, m)
-				if !ok || l >= len(s.Coverage) {
-					row = append(row, "")
-					continue
-				}
-				row = append(row, fmt.Sprintf("%.1f%%", 100*s.Coverage[l]))
+		textTable(w, header, levelRows(bt, func(s engine.Score) string {
+			if l >= len(s.Coverage) {
+				return ""
 			}
-			rows = append(rows, row)
-		}
-		textTable(w, header, rows)
+			return fmt.Sprintf("%.1f%%", 100*s.Coverage[l])
+		}))
 	}
+}
+
+// levelRows lays out one row per level of the backtest, led by the
+// level's name, with one cell per compared method: cell's text for that
+// level's score, empty where the method has no score there.
+func levelRows(bt *engine.BacktestResult, cell func(engine.Score) string) [][]string {
+	var rows [][]string
+	for _, level := range bt.Structure.LevelNames() {
+		row := []string{level}
+		for _, m := range bt.Methods {
+			text := ""
+			if s, ok := bt.LevelScore(level, m); ok {
+				text = cell(s)
+			}
+			row = append(row, text)
+		}
+		rows = append(rows, row)
+	}
+	return rows
 }
 
 // driverRows is how many drivers of the total the summary shows.
