@@ -177,7 +177,7 @@ func TestReportInBrowser(t *testing.T) {
 		t.Fatal(err)
 	}
 	if _, err := chromedp.Run(ctx, chromedp.Poll[bool](fmt.Sprintf(`+document.getElementById("node-chart").dataset.node !== %d`, total),
-		chromedp.WithPollingTimeout(5*time.Second))); err != nil {
+		chromedp.WithPollingTimeout(30*time.Second))); err != nil {
 		t.Fatalf("the node chart did not change after typing %q and Enter: %v", store, err)
 	}
 	node := int(eval(`+document.getElementById("node-chart").dataset.node`))
