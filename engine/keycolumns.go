@@ -31,8 +31,8 @@ var resultColumns = map[string]bool{
 }
 
 // levelColumn matches the result columns named after an interval level
-// (LevelLabel): pi80_lower, pi97_5_upper, inside_95, interval_score_80.
-var levelColumn = regexp.MustCompile(`^(pi[0-9_]+_(lower|upper)|inside_[0-9_]+|interval_score_[0-9_]+)$`)
+// (LevelLabel): pi80_lower, pi97_5_upper, coverage_95, interval_score_80.
+var levelColumn = regexp.MustCompile(`^(pi[0-9_]+_(lower|upper)|coverage_[0-9_]+|interval_score_[0-9_]+)$`)
 
 // IsResultColumn reports whether a result table with key columns writes a
 // column of its own named name.

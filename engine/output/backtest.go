@@ -86,8 +86,9 @@ func WriteBacktest(dir string, bt *engine.BacktestResult, formats []string, rend
 //     not scored), scaled_error (error / scale: its mean is the bias, the
 //     mean of its absolute value the MASE), scaled_squared_error (error²
 //     over the seasonal naive MSE, behind the RMSSE), the interval bounds
-//     piL_lower, piL_upper, inside_L (1 when the actual lies in the
-//     interval), interval_score_L (over the scale) and crps (the CRPS of
+//     piL_lower, piL_upper, coverage_L (1 when the actual lies in the
+//     interval, 0 when not: the coverage of one actual, whose mean over
+//     rows is the scores table's coverage_L), interval_score_L (over the scale) and crps (the CRPS of
 //     the Gaussian predictive distribution, over the scale);
 //   - scores: level, method, step (null: all steps), count, mase, rmsse,
 //     bias, crps, and coverage_L and interval_score_L per interval level,
@@ -159,13 +160,13 @@ func backtestTable(bt *engine.BacktestResult) *tableio.Table {
 	actual, forecast, errc, scale := fltCol("actual"), fltCol("forecast"), fltCol("error"), fltCol("scale")
 	scaled, squared, crps := fltCol("scaled_error"), fltCol("scaled_squared_error"), fltCol("crps")
 	bounds := make([]tableio.Column, 2*len(bt.Levels))
-	inside := make([]tableio.Column, len(bt.Levels))
+	covered := make([]tableio.Column, len(bt.Levels))
 	score := make([]tableio.Column, len(bt.Levels))
 	for l, lv := range bt.Levels {
 		name := "pi" + engine.LevelLabel(lv)
 		bounds[2*l], bounds[2*l+1] = fltCol(name+"_lower"), fltCol(name+"_upper")
-		inside[l] = intCol("inside_" + engine.LevelLabel(lv))
-		inside[l].Null = []bool{}
+		covered[l] = intCol("coverage_" + engine.LevelLabel(lv))
+		covered[l].Null = []bool{}
 		score[l] = fltCol("interval_score_" + engine.LevelLabel(lv))
 	}
 	for _, org := range bt.Origins {
@@ -211,8 +212,8 @@ func backtestTable(bt *engine.BacktestResult) *tableio.Table {
 						if accuracy.Covered(lo, hi, a) {
 							in = 1
 						}
-						inside[l].Ints = append(inside[l].Ints, in)
-						inside[l].Null = append(inside[l].Null, !scored)
+						covered[l].Ints = append(covered[l].Ints, in)
+						covered[l].Null = append(covered[l].Null, !scored)
 						score[l].Floats = append(score[l].Floats, accuracy.IntervalScore(lo, hi, a, lv)/s)
 					}
 				}
@@ -221,7 +222,7 @@ func backtestTable(bt *engine.BacktestResult) *tableio.Table {
 	}
 	cols := append(keys, origin, period, start, step, method, actual, forecast, errc, scale, scaled, squared)
 	cols = append(cols, bounds...)
-	cols = append(cols, inside...)
+	cols = append(cols, covered...)
 	cols = append(cols, score...)
 	return &tableio.Table{Columns: append(cols, crps)}
 }
