@@ -55,11 +55,12 @@ type OriginReport struct {
 }
 
 // LevelCancellation is the mean cancellation of the children's errors
-// of one level's aggregates over one split.
+// of one level's parents over one split, named as the contributions
+// table names them.
 type LevelCancellation struct {
-	Level string  `json:"level"`
-	Split string  `json:"child_level"`
-	Mean  float64 `json:"mean"`
+	ParentLevel string  `json:"parent_level"`
+	ChildLevel  string  `json:"child_level"`
+	Mean        float64 `json:"mean"`
 }
 
 // LevelIncoherence is the mean scaled incoherence of a level's base
@@ -159,8 +160,8 @@ func cancellation(res *BacktestResult) []LevelCancellation {
 	for p := range res.Structure.Levels {
 		for s := range res.Structure.Levels {
 			if n := counts[key{p, s}]; n > 0 {
-				out = append(out, LevelCancellation{Level: res.Structure.Levels[p].Name,
-					Split: res.Structure.Levels[s].Name, Mean: sums[key{p, s}] / float64(n)})
+				out = append(out, LevelCancellation{ParentLevel: res.Structure.Levels[p].Name,
+					ChildLevel: res.Structure.Levels[s].Name, Mean: sums[key{p, s}] / float64(n)})
 			}
 		}
 	}

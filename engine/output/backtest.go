@@ -95,13 +95,14 @@ func WriteBacktest(dir string, bt *engine.BacktestResult, formats []string, rend
 //     and energy_score (the joint forecast's, see engine.Headline); rows
 //     with a null level are the headline (mean over levels), the only rows
 //     with an energy score (null elsewhere: it scores all levels at once);
-//   - contributions: per coherent method, origin, step, aggregate and
-//     child, the child's error and its share of the split's absolute
-//     error, the parent's error and the cancellation;
-//   - drivers: per coherent method, aggregate and finer level, the nodes
-//     under the aggregate ranked by absolute error over origins and steps;
+//   - contributions: per coherent method, origin, step, parent and
+//     child (one split finer), the child's error and its share of the
+//     split's absolute error, the parent's error and the cancellation;
+//   - drivers: per coherent method, parent and finer child level
+//     (parent_level, parent, child_level, child), the children under the
+//     parent ranked by absolute error over origins and steps;
 //   - node_scores: each node's MASE per method and its change from base;
-//   - incoherence: per origin, step, aggregate and split, the base
+//   - incoherence: per origin, step, parent and split, the base
 //     forecast, the sum of the children's base forecasts and the
 //     difference.
 func BacktestTables(bt *engine.BacktestResult) []Table {
@@ -291,20 +292,20 @@ func contributionsTable(bt *engine.BacktestResult) *tableio.Table {
 }
 
 func driversTable(at *engine.Attribution) *tableio.Table {
-	method, alevel, anc, level, node := strCol("method"), strCol("ancestor_level"), strCol("ancestor"), strCol("level"), strCol("node")
+	method, plevel, parent, clevel, child := strCol("method"), strCol("parent_level"), strCol("parent"), strCol("child_level"), strCol("child")
 	rank, abs, net, share := intCol("rank"), fltCol("abs_error"), fltCol("net_error"), fltCol("share")
 	for _, d := range at.Drivers {
 		method.Strings = append(method.Strings, d.Method)
-		alevel.Strings = append(alevel.Strings, d.AncestorLevel)
-		anc.Strings = append(anc.Strings, d.Ancestor)
-		level.Strings = append(level.Strings, d.Level)
-		node.Strings = append(node.Strings, d.Node)
+		plevel.Strings = append(plevel.Strings, d.ParentLevel)
+		parent.Strings = append(parent.Strings, d.Parent)
+		clevel.Strings = append(clevel.Strings, d.ChildLevel)
+		child.Strings = append(child.Strings, d.Child)
 		rank.Ints = append(rank.Ints, int64(d.Rank))
 		abs.Floats = append(abs.Floats, d.AbsError)
 		net.Floats = append(net.Floats, d.NetError)
 		share.Floats = append(share.Floats, d.Share)
 	}
-	return &tableio.Table{Columns: []tableio.Column{method, alevel, anc, level, node, rank, abs, net, share}}
+	return &tableio.Table{Columns: []tableio.Column{method, plevel, parent, clevel, child, rank, abs, net, share}}
 }
 
 func nodeScoresTable(at *engine.Attribution) *tableio.Table {

@@ -401,9 +401,6 @@
       ...rows.map(r => el("tr", {}, ...r.map((v, j) => el("td", { class: j ? "num" : "" }, v))))));
     const short14 = s => s.length > 16 ? s.slice(0, 15) + "…" : s;
     const short28 = s => s.length > 28 ? s.slice(0, 27) + "…" : s;
-    // keyValues shows a node label of the tables ("region=North store=N1")
-    // as the report names nodes everywhere else: "North · N1".
-    const keyValues = s => /^[^=\s]+=/.test(s) ? s.split(/\s+(?=[^=\s]+=)/).map(p => p.slice(p.indexOf("=") + 1)).join(" · ") : s;
     // categoryAxis labels one tick per category; when the labels would
     // not fit side by side, they are turned to a slant so none overlaps.
     const categoryAxis = (cats, target) => {
@@ -491,20 +488,20 @@
       const method = rec && rec.method && dr.some(r => r.method === rec.method) ? rec.method : (dr[0] || {}).method;
       const groups = new Map();
       for (const r of dr.filter(r => r.method === method)) {
-        const key = `${r.ancestor_level}\u0000${r.ancestor}\u0000${r.level}`;
+        const key = `${r.parent_level}\u0000${r.parent}\u0000${r.child_level}`;
         if (!groups.has(key)) groups.set(key, []);
         groups.get(key).push(r);
       }
-      const label = g => (g[0].ancestor_level === "total" ? "the total" : `${g[0].ancestor} (${g[0].ancestor_level})`) + ` by ${g[0].level}`;
-      const chartOf = (target, g) => { g.sort((a, b) => a.rank - b.rank); barChart(target, `Drivers of the error of ${label(g)}`, g.map(r => keyValues(r.node)), g.map(r => r.share), "share of absolute error", v => nf2.format(100 * v) + "%"); };
+      const label = g => (g[0].parent_level === "total" ? "the total" : `${g[0].parent} (${g[0].parent_level})`) + ` by ${g[0].child_level}`;
+      const chartOf = (target, g) => { g.sort((a, b) => a.rank - b.rank); barChart(target, `Drivers of the error of ${label(g)}`, g.map(r => r.child), g.map(r => r.share), "share of absolute error", v => nf2.format(100 * v) + "%"); };
       box.append(el("h3", {}, `Drivers of the error (${method})`),
-        el("p", { class: "note" }, "The nodes whose errors make up most of an aggregate's absolute error over the backtest, largest first."));
+        el("p", { class: "note" }, "The children whose errors make up most of a parent's absolute error over the backtest (a parent is any node above them), largest first."));
       const all = [...groups.values()];
-      const totals = all.filter(g => g[0].ancestor_level === "total");
+      const totals = all.filter(g => g[0].parent_level === "total");
       for (const g of totals) { const t = el("div", { class: "chart" }); box.append(t); chartOf(t, g); }
-      const others = all.filter(g => g[0].ancestor_level !== "total");
+      const others = all.filter(g => g[0].parent_level !== "total");
       if (others.length) {
-        const pick = el("select", { "aria-label": "drivers of another aggregate" }, el("option", { value: "" }, `Drivers of another aggregate (${others.length})…`),
+        const pick = el("select", { "aria-label": "drivers of another parent" }, el("option", { value: "" }, `Drivers of another parent (${others.length})…`),
           ...others.map((g, k) => el("option", { value: k }, label(g))));
         const t = el("div", { class: "chart" });
         pick.addEventListener("change", () => { if (pick.value !== "") chartOf(t, others[+pick.value]); });
