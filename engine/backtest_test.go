@@ -211,6 +211,22 @@ func TestBacktestScoresAreTheAccuracyMeasures(t *testing.T) {
 				t.Errorf("%s: coverage %v, recomputed %v", m, s.Coverage[l], cov[l])
 			}
 		}
+		// run.json names each interval's coverage by the interval, as
+		// the scores table does (it was once an unlabelled array).
+		raw, err := json.Marshal(s)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var named map[string]any
+		if err := json.Unmarshal(raw, &named); err != nil {
+			t.Fatal(err)
+		}
+		for l, lv := range res.Levels {
+			key := "coverage_" + engine.LevelLabel(lv)
+			if got, ok := named[key].(float64); !ok || math.Abs(got-cov[l]) > 1e-12 {
+				t.Errorf("%s: run.json's %s is %v, recomputed %v", m, key, named[key], cov[l])
+			}
+		}
 	}
 }
 
