@@ -205,11 +205,11 @@ type Score struct {
 // Headline is a method's score averaged over levels, each level weighing
 // the same: the mean of the level means (all steps).
 type Headline struct {
-	Method        string    `json:"method"`
-	MASE          float64   `json:"mase"`
-	RMSSE         float64   `json:"rmsse"`
-	Bias          float64   `json:"bias"`
-	CRPS          float64   `json:"crps"`
+	Method string  `json:"method"`
+	MASE   float64 `json:"mase"`
+	RMSSE  float64 `json:"rmsse"`
+	Bias   float64 `json:"bias"`
+	CRPS   float64 `json:"crps"`
 	// Coverage and IntervalScore per interval in Intervals, as in Score.
 	Coverage      []float64
 	IntervalScore []float64
