@@ -2,6 +2,7 @@ package engine
 
 import (
 	"regexp"
+	"strings"
 
 	"trueup/inputerr"
 )
@@ -48,6 +49,17 @@ func KeyColumn(attr string) string {
 		return KeyPrefix + attr
 	}
 	return attr
+}
+
+// AttrOf is the key attribute a result table's column col holds: col
+// without KeyPrefix when KeyColumn wrote it so ("key_origin" → "origin"),
+// col itself otherwise. Code that names nodes from a table's key columns
+// (the report) names them by the attributes, as hierarchy.Label does.
+func AttrOf(col string) string {
+	if attr, ok := strings.CutPrefix(col, KeyPrefix); ok && IsResultColumn(attr) {
+		return attr
+	}
+	return col
 }
 
 // checkKeyColumns refuses, before any work, key columns whose names the

@@ -437,6 +437,40 @@ func TestOldDriverColumnsRead(t *testing.T) {
 	}
 }
 
+// TestNodesNamedByTheirLabel: the report names every node as the tables
+// and commands do (hierarchy.Label: region=North store=N01, total), from
+// the run and from its folder read back. It once wrote "North · N01".
+func TestNodesNamedByTheirLabel(t *testing.T) {
+	res := forecastDemo(t, families.Spec{Family: "drift"})
+	fromRes, err := FromResult(res, "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	if _, err := output.Write(dir, res, []string{"csv"}); err != nil {
+		t.Fatal(err)
+	}
+	fromDir, err := FromDir(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, in := range []*Input{fromRes, fromDir} {
+		d, err := build(in)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(d.Meta.Nodes) != len(res.Structure.Nodes) {
+			t.Fatalf("%d nodes, want %d", len(d.Meta.Nodes), len(res.Structure.Nodes))
+		}
+		// Nodes are in the forecasts table's order, which is the structure's.
+		for i, nd := range d.Meta.Nodes {
+			if want := res.Structure.Label(i); nd.Label != want {
+				t.Fatalf("node %d is named %q, want %q", i, nd.Label, want)
+			}
+		}
+	}
+}
+
 // TestPlanTotalsEmbedded checks the plan totals the report carries
 // against the result's own (engine.Result.Plans and PlanBounds), to the
 // cent, from the run and from its folder read back as CSV.

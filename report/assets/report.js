@@ -87,11 +87,9 @@
     for (const k of kids) e.append(k instanceof Node ? k : String(k));
     return e;
   };
-  const nodeName = i => {
-    const nd = meta.nodes[i];
-    const parts = nd.key.filter(k => k !== "");
-    return parts.length ? parts.join(" · ") : "Total";
-  };
+  // nodeName is the node's one name, as every table and command gives it
+  // (region=North store=N01, total): report/data.go makes it.
+  const nodeName = i => meta.nodes[i].label;
   // pValue writes a p-value as a plain decimal; below 0.0001 it says so.
   const pValue = p => p < 1e-4 ? "< 0.0001" : p.toFixed(4);
   // seriesColours gives each labelled series of a chart its colour: the
@@ -318,7 +316,8 @@
       const start = performance.now();
       const nd = meta.nodes[i];
       api.selected = i;
-      document.getElementById("node-title").textContent = `${nodeName(i)} (${levelName(i)})`;
+      // The total's name is its level's; any other node's heading adds its level.
+      document.getElementById("node-title").textContent = nodeName(i) === levelName(i) ? nodeName(i) : `${nodeName(i)} (${levelName(i)})`;
       const chart = document.getElementById("node-chart");
       draw(chart, tsOptions(width(chart), 320, false), seriesData(i));
       chart.dataset.node = String(i);
