@@ -61,7 +61,7 @@ type Level struct {
 type Node struct {
 	Level   int      `json:"level"`
 	Key     []string `json:"key"`
-	Label   string   `json:"label"` // the node's one name (hierarchy.KeyLabel), as every table and command gives it
+	Label   string   `json:"label"`  // the node's one name (hierarchy.KeyLabel), as every table and command gives it
 	Volume  float64  `json:"volume"` // sum of its history, or of its forecasts without a history table
 	Status  string   `json:"status,omitempty"`
 	Family  string   `json:"family,omitempty"`
