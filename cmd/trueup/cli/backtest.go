@@ -31,7 +31,8 @@ leaves exactly one horizon of actuals), fits every node as forecast would
 at each, reconciles those same fits with every --compare method and scores
 the forecasts against what happened: MASE, RMSSE, bias, interval coverage
 and interval score per node, level, method, origin and step. Shows which
-nodes drive the error of each aggregate, and recommends the method with
+children (the nodes under a parent) drive each parent's error, and how
+much the children's errors cancel, and recommends the method with
 the best mean score over levels.
 
 Writes backtest, scores, contributions, drivers, node_scores and
