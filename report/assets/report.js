@@ -463,7 +463,7 @@
         el("p", { class: "note" }, "CRPS scores each node's whole forecast distribution and the energy score the joint forecast of all nodes, both over the node's scale; lower is better. A method whose intervals hold their level with a lower CRPS gives the more useful ranges."));
       if (covCols.length && levels.length) {
         box.append(el("h3", {}, "Interval coverage by level"),
-          el("p", { class: "note" }, "The share of actual values inside each interval at each level, over all steps and origins; nominal is the interval's level."),
+          el("p", { class: "note" }, "The share of actual values inside each interval at each level, over all steps and origins; an 80% interval should hold 80% of them."),
           htmlTable(["level", ...methods.flatMap(m => covCols.map(c => `${m} ${c.slice(9)}%`))],
             levels.map(lv => [lv, ...methods.flatMap(m => covCols.map(c => pct(byLevel.find(r => r.level === lv && r.method === m)?.[c])))])));
       }
@@ -475,7 +475,7 @@
       }
       if (covCols.length && head.length) {
         const t2 = el("div", { class: "chart" });
-        box.append(el("h3", {}, "Interval coverage against its nominal level"),
+        box.append(el("h3", {}, "Interval coverage against the share it should hold"),
           el("p", { class: "note" }, "The share of actual values inside each interval; a dot below its dashed line means the intervals were too narrow."), t2);
         dotChart(t2, "coverage (mean over levels)", "method", head.map(r => r.method),
           covCols.map(c => ({ label: c.slice(9) + "% interval", values: head.map(r => r[c] ?? null) })), "coverage",

@@ -250,7 +250,7 @@ func printBacktest(w io.Writer, bt *engine.BacktestResult, files []string, asJSO
 
 // printCoverageByLevel prints, per level, the coverage of each method's
 // intervals at every level of the run (all steps), the check that
-// intervals hold their nominal level where each reader looks.
+// intervals hold their nominal share where each reader looks.
 func printCoverageByLevel(w io.Writer, bt *engine.BacktestResult) {
 	for l, lv := range bt.Levels {
 		fmt.Fprintf(w, "\nShare of actuals inside the %s%% intervals by level (all steps):\n", engine.LevelLabel(lv))
