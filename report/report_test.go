@@ -346,7 +346,7 @@ func accuracyFolderNamed(t testing.TB, dir string, names [4]string) {
 	var anc, node []string
 	var share []float64
 	for r := 1; r <= 12; r++ {
-		rank, anc, node, share = append(rank, int64(r)), append(anc, "total"), append(node, "store="+strconv.Itoa(r)), append(share, 1/float64(r+1))
+		rank, anc, node, share = append(rank, int64(r)), append(anc, "total"), append(node, "region=Saltcoast store=Juniperhollow"+strconv.Itoa(r)), append(share, 1/float64(r+1))
 	}
 	n := len(rank)
 	same := func(v string) []string {
@@ -360,7 +360,7 @@ func accuracyFolderNamed(t testing.TB, dir string, names [4]string) {
 		{Name: "method", Type: tableio.String, Strings: same("mint")},
 		{Name: names[0], Type: tableio.String, Strings: same("total")},
 		{Name: names[1], Type: tableio.String, Strings: anc},
-		{Name: names[2], Type: tableio.String, Strings: same("store")},
+		{Name: names[2], Type: tableio.String, Strings: same("region+store")},
 		{Name: names[3], Type: tableio.String, Strings: node},
 		{Name: "rank", Type: tableio.Int64, Ints: rank},
 		{Name: "abs_error", Type: tableio.Float64, Floats: share},
@@ -393,7 +393,7 @@ func TestAccuracyTablesShownWhenPresent(t *testing.T) {
 	if len(sc.Rows) != 6 || sc.Rows[0][0] != nil || sc.Rows[2][0] != "total" || sc.Rows[2][4] != 0.7 || sc.Rows[0][6] != -10.0 {
 		t.Fatalf("scores carried as %v", sc.Rows)
 	}
-	if len(dr.Rows) != 10 || dr.Rows[9][4] != "store=10" {
+	if len(dr.Rows) != 10 || dr.Rows[9][4] != "region=Saltcoast store=Juniperhollow10" {
 		t.Fatalf("drivers carried as %v", dr.Rows)
 	}
 	if want := []string{"method", "parent_level", "parent", "child_level", "child", "rank", "abs_error", "net_error", "share"}; !slices.Equal(dr.Columns, want) {

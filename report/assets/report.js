@@ -398,25 +398,29 @@
     const htmlTable = (head, rows) => el("div", { class: "scroll" }, el("table", {},
       el("tr", {}, ...head.map((h, j) => el("th", { class: j ? "num" : "" }, h))),
       ...rows.map(r => el("tr", {}, ...r.map((v, j) => el("td", { class: j ? "num" : "" }, v))))));
-    const short14 = s => s.length > 16 ? s.slice(0, 15) + "…" : s;
-    const short28 = s => s.length > 28 ? s.slice(0, 27) + "…" : s;
+    const short24 = s => s.length > 24 ? s.slice(0, 23) + "…" : s;
+    // Slanted labels keep up to 44 characters: a node's label names its
+    // attributes (region=Saltcoast store=Wrengate category=toys).
+    const short44 = s => s.length > 44 ? s.slice(0, 43) + "…" : s;
     // categoryAxis labels one tick per category; when the labels would
-    // not fit side by side, they are turned to a slant so none overlaps.
+    // not fit side by side, they are turned to a slant so none overlaps,
+    // and padLeft leaves room for the first label's slant left of the plot.
     const categoryAxis = (cats, target) => {
-      const flat = cats.length * (7 * Math.max(0, ...cats.map(c => short14(String(c ?? "")).length)) + 12) <= 0.8 * width(target);
-      const cut = flat ? short14 : short28, slant = !flat;
+      const flat = cats.length * (7 * Math.max(0, ...cats.map(c => short24(String(c ?? "")).length)) + 12) <= 0.8 * width(target);
+      const cut = flat ? short24 : short44, slant = !flat;
       const longest = Math.max(0, ...cats.map(c => cut(String(c ?? "")).length));
+      const first = cut(String(cats[0] ?? "")).length;
       return { values: (u, sp) => sp.map(k => Number.isInteger(k) ? cut(String(cats[k] ?? "")) : ""), incrs: [1], grid: { show: false },
-        rotate: slant ? 35 : 0, size: slant ? 20 + 5 * longest : 50 };
+        rotate: slant ? 35 : 0, size: slant ? 20 + 5 * longest : 50, padLeft: slant ? Math.max(0, Math.round(5.5 * first) - 60) : 0 };
     };
     // dotChart draws one dot per category and series (no lines), with
     // optional dashed reference lines.
     function dotChart(target, title, catLabel, cats, series, yLabel, refs, yfmt) {
-      const xAxis = categoryAxis(cats, target);
+      const { padLeft, ...xAxis } = categoryAxis(cats, target);
       const colours = seriesColours(series.map(sr => sr.label));
       const x = cats.map((_, k) => k);
       const opts = {
-        width: width(target), height: 210 + xAxis.size, title, scales: { x: { time: false, range: [-0.5, cats.length - 0.5] } },
+        width: width(target), height: 210 + xAxis.size, title, padding: [null, null, null, padLeft || null], scales: { x: { time: false, range: [-0.5, cats.length - 0.5] } },
         series: [{ label: catLabel, value: (u, k) => k == null ? "" : cats[k] }],
         axes: [xAxis,
           { values: (u, sp) => sp.map(yfmt), size: 60, label: yLabel, grid: { stroke: "#e6e9ee" } }],
@@ -434,9 +438,9 @@
       draw(target, opts, data);
     }
     function barChart(target, title, names, values, yLabel, yfmt) {
-      const xAxis = categoryAxis(names, target);
+      const { padLeft, ...xAxis } = categoryAxis(names, target);
       draw(target, {
-        width: width(target), height: 210 + xAxis.size, title, scales: { x: { time: false, range: [-0.5, names.length - 0.5] }, y: { range: (u, lo, hi) => [Math.min(0, lo), Math.max(0, hi) * 1.1 || 1] } },
+        width: width(target), height: 210 + xAxis.size, title, padding: [null, null, null, padLeft || null], scales: { x: { time: false, range: [-0.5, names.length - 0.5] }, y: { range: (u, lo, hi) => [Math.min(0, lo), Math.max(0, hi) * 1.1 || 1] } },
         series: [{ label: "node", value: (u, k) => k == null ? "" : names[k] },
           { label: yLabel, stroke: color("--forecast"), fill: color("--band80"), paths: uPlot.paths.bars({ size: [0.7, 60] }), points: { show: false }, value: (u, v) => v == null ? "" : yfmt(v) }],
         axes: [xAxis,
