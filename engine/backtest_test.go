@@ -318,6 +318,19 @@ func TestForecastCalibration(t *testing.T) {
 		cal.Factor = append(cal.Factor, [][]float64{{2, 1}, {0.5, 1}})
 	}
 	res.Calibration = cal
+	// run.json names the factors' intervals "intervals", as everywhere
+	// else ("level" is a level of the structure).
+	raw, err := json.Marshal(cal)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var named map[string]any
+	if err := json.Unmarshal(raw, &named); err != nil {
+		t.Fatal(err)
+	}
+	if iv, ok := named["intervals"].([]any); !ok || len(iv) != 2 || named["interval_levels"] != nil {
+		t.Errorf("the calibration's intervals are written as %s", raw)
+	}
 	for i := range res.Structure.Nodes {
 		for k := 0; k < 6; k++ {
 			want := 2.0

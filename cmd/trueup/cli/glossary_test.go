@@ -12,6 +12,7 @@ import (
 	"github.com/spf13/cobra"
 	"github.com/spf13/pflag"
 
+	"trueup/engine"
 	"trueup/internal/glossary"
 	"trueup/models/families"
 )
@@ -115,6 +116,18 @@ func TestGlossaryTablesAndRunJSON(t *testing.T) {
 		keys = append(keys, jsonKeys(doc, "")...)
 	}
 	keys = append(keys, printedJSONKeys(t, in)...)
+	// The factors of an applied calibration, which run.json holds only
+	// when calibration helped (the run above need not apply it).
+	applied, err := json.Marshal(engine.CalibrationRecord{Applied: true, Calibration: &engine.Calibration{
+		Levels: []string{"total"}, Groups: [][2]int{{1, 4}}, Intervals: []float64{80}, Factor: [][][]float64{{{1.1}}}, Count: [][]int{{12}}}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var rec any
+	if err := json.Unmarshal(applied, &rec); err != nil {
+		t.Fatal(err)
+	}
+	keys = append(keys, jsonKeys(rec, "")...)
 	checkGlossary(t, g, "Table columns", columns)
 	checkGlossary(t, g, "JSON keys", keys)
 }
