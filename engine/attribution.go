@@ -50,16 +50,19 @@ type Contribution struct {
 	Cancellation float64
 }
 
-// Driver is node Node's part in the error of aggregate Ancestor.
+// Driver is node Child's part in the error of Parent, a node any number
+// of splits above it (the total, say, for a store's category). Parent and
+// child are the glossary's one pair of names for a node and a node under
+// it, as in the contributions and incoherence tables.
 type Driver struct {
-	Method                string
-	AncestorLevel, Level  string
-	Ancestor, Node        string // labels such as "region=North store=N01"
-	AbsError, NetError    float64
-	Share                 float64 // AbsError over the sum of AbsError of the level's nodes under Ancestor
-	Rank                  int     // 1 = the largest absolute error
-	ancestorIdx, levelIdx int
-	ancestor, driver      int // node indices in the whole history's structure
+	Method                   string
+	ParentLevel, ChildLevel  string
+	Parent, Child            string // labels such as "region=North store=N01" (hierarchy.Label)
+	AbsError, NetError       float64
+	Share                    float64 // AbsError over the sum of AbsError of ChildLevel's nodes under Parent
+	Rank                     int     // 1 = the largest absolute error
+	parentLevelIdx, levelIdx int
+	parent, child            int // node indices in the whole history's structure
 }
 
 // NodeScore is a node's accuracy under one method over every origin and
@@ -193,16 +196,16 @@ func attribute(res *BacktestResult) *Attribution {
 		}
 	}
 
-	// Rank drivers per method, ancestor and level.
+	// Rank drivers per method, parent and child level.
 	type group struct {
 		method     string
 		anc, level int
 	}
 	for k, d := range drivers {
-		at.Drivers = append(at.Drivers, Driver{Method: k.method, AncestorLevel: full.Levels[d.ancLevel].Name,
-			Level: full.Levels[d.lev].Name, Ancestor: full.Label(k.anc), Node: full.Label(k.node),
-			AbsError: d.abs, NetError: d.net, ancestorIdx: d.ancLevel, levelIdx: d.lev,
-			ancestor: k.anc, driver: k.node})
+		at.Drivers = append(at.Drivers, Driver{Method: k.method, ParentLevel: full.Levels[d.ancLevel].Name,
+			ChildLevel: full.Levels[d.lev].Name, Parent: full.Label(k.anc), Child: full.Label(k.node),
+			AbsError: d.abs, NetError: d.net, parentLevelIdx: d.ancLevel, levelIdx: d.lev,
+			parent: k.anc, child: k.node})
 	}
 	order := map[string]int{}
 	for i, m := range res.Methods {
@@ -213,27 +216,27 @@ func attribute(res *BacktestResult) *Attribution {
 		switch {
 		case a.Method != b.Method:
 			return order[a.Method] < order[b.Method]
-		case a.ancestorIdx != b.ancestorIdx:
-			return a.ancestorIdx < b.ancestorIdx
-		case a.ancestor != b.ancestor:
-			return a.ancestor < b.ancestor
+		case a.parentLevelIdx != b.parentLevelIdx:
+			return a.parentLevelIdx < b.parentLevelIdx
+		case a.parent != b.parent:
+			return a.parent < b.parent
 		case a.levelIdx != b.levelIdx:
 			return a.levelIdx < b.levelIdx
 		case a.AbsError != b.AbsError:
 			return a.AbsError > b.AbsError
 		}
-		return a.driver < b.driver
+		return a.child < b.child
 	})
 	// Ranks and shares, summing in the sorted order so that the bytes do
 	// not depend on map order.
 	totals := map[group]float64{}
 	for i := range at.Drivers {
 		d := &at.Drivers[i]
-		totals[group{d.Method, d.ancestor, d.levelIdx}] += d.AbsError
+		totals[group{d.Method, d.parent, d.levelIdx}] += d.AbsError
 		d.Rank = 1
 		if i > 0 {
 			p := at.Drivers[i-1]
-			if p.Method == d.Method && p.ancestor == d.ancestor && p.levelIdx == d.levelIdx {
+			if p.Method == d.Method && p.parent == d.parent && p.levelIdx == d.levelIdx {
 				d.Rank = p.Rank + 1
 			}
 		}
@@ -241,7 +244,7 @@ func attribute(res *BacktestResult) *Attribution {
 	for i := range at.Drivers {
 		d := &at.Drivers[i]
 		d.Share = math.NaN()
-		if t := totals[group{d.Method, d.ancestor, d.levelIdx}]; t > 0 {
+		if t := totals[group{d.Method, d.parent, d.levelIdx}]; t > 0 {
 			d.Share = d.AbsError / t
 		}
 	}
@@ -268,12 +271,12 @@ func attribute(res *BacktestResult) *Attribution {
 	return at
 }
 
-// TopDrivers returns up to n drivers of the named ancestor (a label such
-// as "total") at one level under method, largest first.
-func (at *Attribution) TopDrivers(method, ancestor, level string, n int) []Driver {
+// TopDrivers returns up to n drivers of the named parent (a label such
+// as "total") at one child level under method, largest first.
+func (at *Attribution) TopDrivers(method, parent, childLevel string, n int) []Driver {
 	var out []Driver
 	for _, d := range at.Drivers {
-		if d.Method == method && d.Ancestor == ancestor && d.Level == level && len(out) < n {
+		if d.Method == method && d.Parent == parent && d.ChildLevel == childLevel && len(out) < n {
 			out = append(out, d)
 		}
 	}

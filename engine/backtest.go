@@ -192,24 +192,28 @@ type Score struct {
 	// it judges the whole distribution, not one interval, and equals the
 	// MASE for a distribution with no spread. Lower is better.
 	CRPS float64 `json:"crps"`
-	// Coverage and IntervalScore per interval level (in the order of
+	// Coverage and IntervalScore per interval in Intervals (percent;
 	// BacktestResult.Levels): the share of actuals inside the interval,
 	// and the mean interval score (Gneiting & Raftery 2007, eq. 43)
-	// divided by the scale.
-	Coverage      []float64 `json:"coverage"`
-	IntervalScore []float64 `json:"interval_score"`
+	// divided by the scale. run.json names each by its interval, as the
+	// scores table does: coverage_80, interval_score_80.
+	Coverage      []float64
+	IntervalScore []float64
+	Intervals     []float64
 }
 
 // Headline is a method's score averaged over levels, each level weighing
 // the same: the mean of the level means (all steps).
 type Headline struct {
-	Method        string    `json:"method"`
-	MASE          float64   `json:"mase"`
-	RMSSE         float64   `json:"rmsse"`
-	Bias          float64   `json:"bias"`
-	CRPS          float64   `json:"crps"`
-	Coverage      []float64 `json:"coverage"`
-	IntervalScore []float64 `json:"interval_score"`
+	Method string  `json:"method"`
+	MASE   float64 `json:"mase"`
+	RMSSE  float64 `json:"rmsse"`
+	Bias   float64 `json:"bias"`
+	CRPS   float64 `json:"crps"`
+	// Coverage and IntervalScore per interval in Intervals, as in Score.
+	Coverage      []float64
+	IntervalScore []float64
+	Intervals     []float64
 	// EnergyScore is the energy score of the joint forecast of every
 	// scored node (Gneiting & Raftery 2007, eq. 22; accuracy.EnergyScore
 	// from EnergyDraws draws of the method's joint Gaussian), each node

@@ -55,11 +55,12 @@ type OriginReport struct {
 }
 
 // LevelCancellation is the mean cancellation of the children's errors
-// of one level's aggregates over one split.
+// of one level's parents over one split, named as the contributions
+// table names them.
 type LevelCancellation struct {
-	Level string  `json:"level"`
-	Split string  `json:"child_level"`
-	Mean  float64 `json:"mean"`
+	ParentLevel string  `json:"parent_level"`
+	ChildLevel  string  `json:"child_level"`
+	Mean        float64 `json:"mean"`
 }
 
 // LevelIncoherence is the mean scaled incoherence of a level's base
@@ -159,8 +160,8 @@ func cancellation(res *BacktestResult) []LevelCancellation {
 	for p := range res.Structure.Levels {
 		for s := range res.Structure.Levels {
 			if n := counts[key{p, s}]; n > 0 {
-				out = append(out, LevelCancellation{Level: res.Structure.Levels[p].Name,
-					Split: res.Structure.Levels[s].Name, Mean: sums[key{p, s}] / float64(n)})
+				out = append(out, LevelCancellation{ParentLevel: res.Structure.Levels[p].Name,
+					ChildLevel: res.Structure.Levels[s].Name, Mean: sums[key{p, s}] / float64(n)})
 			}
 		}
 	}
@@ -185,6 +186,16 @@ func finites(xs []float64) []any {
 	return out
 }
 
+// byInterval adds values[l] to m under name_L, L the interval
+// intervals[l] as LevelLabel writes it (coverage_80, coverage_97_5):
+// the names of the scores table's columns, so that every value says
+// which interval it is about.
+func byInterval(m map[string]any, name string, intervals, values []float64) {
+	for l, v := range values {
+		m[name+"_"+LevelLabel(intervals[l])] = finite(v)
+	}
+}
+
 // MarshalJSON writes the score with null for a value it could not
 // compute, and a null step for the score over all steps, as the scores
 // table marks it.
@@ -193,17 +204,22 @@ func (s Score) MarshalJSON() ([]byte, error) {
 	if s.Step == 0 {
 		step = nil
 	}
-	return json.Marshal(map[string]any{"level": s.Level, "method": s.Method, "step": step, "count": s.Count,
-		"mase": finite(s.MASE), "rmsse": finite(s.RMSSE), "bias": finite(s.Bias), "crps": finite(s.CRPS),
-		"coverage": finites(s.Coverage), "interval_score": finites(s.IntervalScore)})
+	m := map[string]any{"level": s.Level, "method": s.Method, "step": step, "count": s.Count,
+		"mase": finite(s.MASE), "rmsse": finite(s.RMSSE), "bias": finite(s.Bias), "crps": finite(s.CRPS)}
+	byInterval(m, "coverage", s.Intervals, s.Coverage)
+	byInterval(m, "interval_score", s.Intervals, s.IntervalScore)
+	return json.Marshal(m)
 }
 
 // MarshalJSON writes the headline with null for a value it could not
 // compute.
 func (h Headline) MarshalJSON() ([]byte, error) {
-	return json.Marshal(map[string]any{"method": h.Method, "mase": finite(h.MASE), "rmsse": finite(h.RMSSE),
-		"bias": finite(h.Bias), "crps": finite(h.CRPS), "coverage": finites(h.Coverage), "interval_score": finites(h.IntervalScore),
-		"energy_score": finite(h.EnergyScore), "energy_score_by_step": finites(h.EnergyByStep)})
+	m := map[string]any{"method": h.Method, "mase": finite(h.MASE), "rmsse": finite(h.RMSSE),
+		"bias": finite(h.Bias), "crps": finite(h.CRPS),
+		"energy_score": finite(h.EnergyScore), "energy_score_by_step": finites(h.EnergyByStep)}
+	byInterval(m, "coverage", h.Intervals, h.Coverage)
+	byInterval(m, "interval_score", h.Intervals, h.IntervalScore)
+	return json.Marshal(m)
 }
 
 // MarshalJSON writes the recommendation; the comparison with base is

@@ -98,7 +98,7 @@ func (res *BacktestResult) score() {
 	levels := res.Structure.LevelNames()
 	res.Scores, res.Headline = nil, nil
 	for _, m := range res.Methods {
-		hl := Headline{Method: m, Coverage: make([]float64, L), IntervalScore: make([]float64, L)}
+		hl := Headline{Method: m, Coverage: make([]float64, L), IntervalScore: make([]float64, L), Intervals: res.Levels}
 		nl := 0
 		for _, level := range levels {
 			for step := 0; step <= h; step++ {
@@ -108,7 +108,7 @@ func (res *BacktestResult) score() {
 				}
 				n := float64(s.n)
 				sc := Score{Level: level, Method: m, Step: step, Count: s.n, MASE: s.ase / n, RMSSE: s.rmsse / n,
-					Bias: s.bias / n, CRPS: s.crps / n, Coverage: make([]float64, L), IntervalScore: make([]float64, L)}
+					Bias: s.bias / n, CRPS: s.crps / n, Coverage: make([]float64, L), IntervalScore: make([]float64, L), Intervals: res.Levels}
 				for l := 0; l < L; l++ {
 					sc.Coverage[l], sc.IntervalScore[l] = s.coverage[l]/n, s.intervalSc[l]/n
 				}

@@ -2,8 +2,11 @@ package engine_test
 
 import (
 	"context"
+	"encoding/json"
+	"maps"
 	"math"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 
@@ -70,6 +73,39 @@ func TestBacktestAttributionAddsUp(t *testing.T) {
 	if res.Recommendation.Method == "" || res.Recommendation.Method == engine.BaseMethod {
 		t.Errorf("recommendation %+v", res.Recommendation)
 	}
+	// run.json names each cancellation's levels as the contributions
+	// table does (parent_level, child_level), the parent's coarser: its
+	// nodes split into the child level's.
+	raw, err := json.Marshal(res.Report.Cancellation)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var canc []map[string]any
+	if err := json.Unmarshal(raw, &canc); err != nil || len(canc) == 0 {
+		t.Fatalf("cancellation %s: %v", raw, err)
+	}
+	index := map[string]int{}
+	for l, name := range res.Structure.LevelNames() {
+		index[name] = l
+	}
+	for _, c := range canc {
+		keys := slices.Sorted(maps.Keys(c))
+		p, pok := c["parent_level"].(string)
+		ch, cok := c["child_level"].(string)
+		if !slices.Equal(keys, []string{"child_level", "mean", "parent_level"}) || !pok || !cok {
+			t.Fatalf("a cancellation has the keys %v, want parent_level, child_level, mean", keys)
+		}
+		finer := p == "total"
+		if !finer {
+			finer = true
+			for _, attr := range strings.Split(p, "+") {
+				finer = finer && slices.Contains(strings.Split(ch, "+"), attr)
+			}
+		}
+		if !finer || index[p] >= index[ch] {
+			t.Errorf("cancellation of %s into %s: the child level is not a split of the parent's", p, ch)
+		}
+	}
 }
 
 // TestPlantedErrorDrivesItsAncestors plants a large jump in one bottom
@@ -104,12 +140,12 @@ func TestPlantedErrorDrivesItsAncestors(t *testing.T) {
 			continue
 		}
 		for _, dr := range res.Attribution.Drivers {
-			if dr.Method != m || dr.Level != bottomLevel || dr.Rank != 1 {
+			if dr.Method != m || dr.ChildLevel != bottomLevel || dr.Rank != 1 {
 				continue
 			}
 			under := false
 			for _, dr2 := range res.Attribution.Drivers {
-				if dr2.Method == m && dr2.Ancestor == dr.Ancestor && dr2.Node == want {
+				if dr2.Method == m && dr2.Parent == dr.Parent && dr2.Child == want {
 					under = true
 				}
 			}
@@ -117,8 +153,8 @@ func TestPlantedErrorDrivesItsAncestors(t *testing.T) {
 				continue
 			}
 			ancestors++
-			if dr.Node != want {
-				t.Errorf("%s: first driver of %s is %s, want %s", m, dr.Ancestor, dr.Node, want)
+			if dr.Child != want {
+				t.Errorf("%s: first driver of %s is %s, want %s", m, dr.Parent, dr.Child, want)
 			}
 		}
 	}
@@ -173,6 +209,22 @@ func TestBacktestScoresAreTheAccuracyMeasures(t *testing.T) {
 		for l := range cov {
 			if math.Abs(s.Coverage[l]-cov[l]) > 1e-12 {
 				t.Errorf("%s: coverage %v, recomputed %v", m, s.Coverage[l], cov[l])
+			}
+		}
+		// run.json names each interval's coverage by the interval, as
+		// the scores table does (it was once an unlabelled array).
+		raw, err := json.Marshal(s)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var named map[string]any
+		if err := json.Unmarshal(raw, &named); err != nil {
+			t.Fatal(err)
+		}
+		for l, lv := range res.Levels {
+			key := "coverage_" + engine.LevelLabel(lv)
+			if got, ok := named[key].(float64); !ok || math.Abs(got-cov[l]) > 1e-12 {
+				t.Errorf("%s: run.json's %s is %v, recomputed %v", m, key, named[key], cov[l])
 			}
 		}
 	}
@@ -266,6 +318,19 @@ func TestForecastCalibration(t *testing.T) {
 		cal.Factor = append(cal.Factor, [][]float64{{2, 1}, {0.5, 1}})
 	}
 	res.Calibration = cal
+	// run.json names the factors' intervals "intervals", as everywhere
+	// else ("level" is a level of the structure).
+	raw, err := json.Marshal(cal)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var named map[string]any
+	if err := json.Unmarshal(raw, &named); err != nil {
+		t.Fatal(err)
+	}
+	if iv, ok := named["intervals"].([]any); !ok || len(iv) != 2 || named["interval_levels"] != nil {
+		t.Errorf("the calibration's intervals are written as %s", raw)
+	}
 	for i := range res.Structure.Nodes {
 		for k := 0; k < 6; k++ {
 			want := 2.0

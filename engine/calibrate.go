@@ -2,6 +2,7 @@ package engine
 
 import (
 	"context"
+	"encoding/json"
 	"errors"
 	"math"
 	"slices"
@@ -47,7 +48,7 @@ type Calibration struct {
 	// last] steps; Intervals the interval levels in percent.
 	Levels    []string  `json:"levels"`
 	Groups    [][2]int  `json:"horizon_groups"`
-	Intervals []float64 `json:"interval_levels"`
+	Intervals []float64 `json:"intervals"`
 	// Factor[l][g][q] multiplies z·sd of node level l, horizon group g and
 	// interval level q; Count[l][g] is the number of past errors behind it
 	// (0 where the factor is 1 for want of errors, and the level's count
@@ -176,18 +177,44 @@ type CalibrationCheck struct {
 	Helps bool `json:"helps"`
 }
 
-// CalibrationLevel is one node level's row of a CalibrationCheck.
+// CalibrationLevel is one node level's row of a CalibrationCheck. Its
+// values are per interval in Intervals (percent); run.json names each
+// by its interval (coverage_80, calibrated_interval_score_95).
 type CalibrationLevel struct {
-	Level              string    `json:"level"`
-	Coverage           []float64 `json:"coverage"`
-	CalibratedCoverage []float64 `json:"calibrated_coverage"`
-	IntervalScore      []float64 `json:"interval_score"`
-	CalibratedInterval []float64 `json:"calibrated_interval_score"`
+	Level              string
+	Coverage           []float64
+	CalibratedCoverage []float64
+	IntervalScore      []float64
+	CalibratedInterval []float64
+	Intervals          []float64
 	// CoverageByHorizon and CalibratedByHorizon are the coverage per
-	// horizon group (horizonGroups of the backtest's horizon) and
-	// interval level.
-	CoverageByHorizon   [][]float64 `json:"coverage_by_horizon"`
-	CalibratedByHorizon [][]float64 `json:"calibrated_coverage_by_horizon"`
+	// horizon group (Groups: first and last step, from horizonGroups of
+	// the backtest's horizon) and interval.
+	CoverageByHorizon   [][]float64
+	CalibratedByHorizon [][]float64
+	Groups              [][2]int
+}
+
+// MarshalJSON writes the row with each value named by its interval, and
+// the coverage by horizon as one object per horizon group, with its
+// first and last step.
+func (c CalibrationLevel) MarshalJSON() ([]byte, error) {
+	m := map[string]any{"level": c.Level}
+	byInterval(m, "coverage", c.Intervals, c.Coverage)
+	byInterval(m, "calibrated_coverage", c.Intervals, c.CalibratedCoverage)
+	byInterval(m, "interval_score", c.Intervals, c.IntervalScore)
+	byInterval(m, "calibrated_interval_score", c.Intervals, c.CalibratedInterval)
+	groups := func(cov [][]float64) []map[string]any {
+		out := make([]map[string]any, len(cov))
+		for g := range cov {
+			out[g] = map[string]any{"first_step": c.Groups[g][0], "last_step": c.Groups[g][1]}
+			byInterval(out[g], "coverage", c.Intervals, cov[g])
+		}
+		return out
+	}
+	m["coverage_by_horizon"] = groups(c.CoverageByHorizon)
+	m["calibrated_coverage_by_horizon"] = groups(c.CalibratedByHorizon)
+	return json.Marshal(m)
 }
 
 // collectScores adds the scores of method's errors at origins from..to-1
@@ -293,7 +320,7 @@ func (res *BacktestResult) checkCalibration() {
 				continue
 			}
 			row := CalibrationLevel{Level: level, Coverage: make([]float64, L), CalibratedCoverage: make([]float64, L),
-				IntervalScore: make([]float64, L), CalibratedInterval: make([]float64, L)}
+				IntervalScore: make([]float64, L), CalibratedInterval: make([]float64, L), Intervals: res.Levels, Groups: groups}
 			for g := range groups {
 				cov, ccov := make([]float64, L), make([]float64, L)
 				for q := range cov {

@@ -91,13 +91,13 @@ func TestAttributionKeepsKeysThatJoinAlike(t *testing.T) {
 		}
 	}
 	for _, d := range at.Drivers {
-		i := byLabel[d.Node]
+		i := byLabel[d.Child]
 		want := 0.0
 		for k := 0; k < h; k++ {
 			want += math.Abs(org.Error(d.Method, i, k))
 		}
 		if math.Abs(d.AbsError-want) > 1e-9 {
-			t.Errorf("driver %s under %s: %g, want %g", d.Node, d.Ancestor, d.AbsError, want)
+			t.Errorf("driver %s under %s: %g, want %g", d.Child, d.Parent, d.AbsError, want)
 		}
 	}
 }

@@ -16,8 +16,8 @@ type InspectReport struct {
 	Periods       int          `json:"periods"`
 	BottomSeries  int          `json:"bottom_series"`
 	Nodes         int          `json:"nodes"`
-	SeriesByLevel []LevelCount `json:"series_per_level"`
-	DuplicateRows int          `json:"duplicate_rows"` // rows repeating an earlier key and period
+	NodesPerLevel []LevelCount `json:"nodes_per_level"` // as run.json counts them
+	DuplicateRows int          `json:"duplicate_rows"`  // rows repeating an earlier key and period
 	ZeroValues    int          `json:"zero_values"`
 	NegativeRows  int          `json:"negative_values"`
 	GapPeriods    int          `json:"gap_periods"` // periods inside a series' span with no row
@@ -35,12 +35,13 @@ type InspectReport struct {
 	EarlyEnds  []SeriesSpan `json:"closed"`
 }
 
-// SeriesSpan is a bottom series and the periods it covers.
+// SeriesSpan is a node, named by its one label (hierarchy.Label), and the
+// first and last periods it has sales in.
 type SeriesSpan struct {
 	Level string `json:"level"`
-	Key   string `json:"key"`
-	First string `json:"first"`
-	Last  string `json:"last"`
+	Node  string `json:"node"`
+	First string `json:"first_period"`
+	Last  string `json:"last_period"`
 }
 
 // Inspect reads the table and reports its shape and oddities. Duplicate
@@ -75,7 +76,7 @@ func Inspect(src Source) (*InspectReport, error) {
 		var late, early []SeriesSpan
 		for _, i := range l.Nodes {
 			first, last := span(history[i])
-			sp := SeriesSpan{Level: l.Name, Key: st.Label(i), First: pn.Period(first).String(), Last: pn.Period(last).String()}
+			sp := SeriesSpan{Level: l.Name, Node: st.Label(i), First: pn.Period(first).String(), Last: pn.Period(last).String()}
 			if first > 0 {
 				late = append(late, sp)
 			}
@@ -84,7 +85,7 @@ func Inspect(src Source) (*InspectReport, error) {
 			}
 		}
 		lc.LateStarts, lc.EarlyEnds = len(late), len(early)
-		rep.SeriesByLevel = append(rep.SeriesByLevel, lc)
+		rep.NodesPerLevel = append(rep.NodesPerLevel, lc)
 		if len(rep.LateStarts) == 0 {
 			rep.LateStarts = append(rep.LateStarts, late...)
 		}

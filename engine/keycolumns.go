@@ -2,6 +2,7 @@ package engine
 
 import (
 	"regexp"
+	"strings"
 
 	"trueup/inputerr"
 )
@@ -31,8 +32,8 @@ var resultColumns = map[string]bool{
 }
 
 // levelColumn matches the result columns named after an interval level
-// (LevelLabel): pi80_lower, pi97_5_upper, inside_95, interval_score_80.
-var levelColumn = regexp.MustCompile(`^(pi[0-9_]+_(lower|upper)|inside_[0-9_]+|interval_score_[0-9_]+)$`)
+// (LevelLabel): pi80_lower, pi97_5_upper, coverage_95, interval_score_80.
+var levelColumn = regexp.MustCompile(`^(pi[0-9_]+_(lower|upper)|coverage_[0-9_]+|interval_score_[0-9_]+)$`)
 
 // IsResultColumn reports whether a result table with key columns writes a
 // column of its own named name.
@@ -48,6 +49,17 @@ func KeyColumn(attr string) string {
 		return KeyPrefix + attr
 	}
 	return attr
+}
+
+// AttrOf is the key attribute a result table's column col holds: col
+// without KeyPrefix when KeyColumn wrote it so ("key_origin" → "origin"),
+// col itself otherwise. Code that names nodes from a table's key columns
+// (the report) names them by the attributes, as hierarchy.Label does.
+func AttrOf(col string) string {
+	if attr, ok := strings.CutPrefix(col, KeyPrefix); ok && IsResultColumn(attr) {
+		return attr
+	}
+	return col
 }
 
 // checkKeyColumns refuses, before any work, key columns whose names the

@@ -216,18 +216,13 @@ func (nt *nodeTable) rowError(r int, column, format string, args ...any) error {
 	return &inputerr.Error{File: nt.path, Row: r + 1, Column: column, Msg: fmt.Sprintf(format, args...)}
 }
 
-// rowLabel names row r's node for messages.
+// rowLabel names row r's node for messages, by its one label.
 func (nt *nodeTable) rowLabel(r int) string {
-	var parts []string
-	for a, name := range nt.attrs {
-		if v := nt.values[a][nt.codes[a][r]]; v != "" {
-			parts = append(parts, name+"="+v)
-		}
+	key := make([]string, len(nt.attrs))
+	for a := range nt.attrs {
+		key[a] = nt.values[a][nt.codes[a][r]]
 	}
-	if len(parts) == 0 {
-		return "total"
-	}
-	return strings.Join(parts, " ")
+	return hierarchy.KeyLabel(nt.attrs, key)
 }
 
 // nodeIndex maps packed key codes (in the base table's dictionaries) to

@@ -227,10 +227,10 @@ func checkLevels(levels []float64) error {
 	seen := map[float64]bool{}
 	for _, l := range levels {
 		if !(l > 0 && l < 100) {
-			return inputerr.ForOption("Levels", "interval levels must lie strictly between 0 and 100 percent, got %v", l)
+			return inputerr.ForOption("Levels", "intervals must lie strictly between 0 and 100 percent, got %v", l)
 		}
 		if seen[l] {
-			return inputerr.ForOption("Levels", "interval level %v is given twice", l)
+			return inputerr.ForOption("Levels", "the %v%% interval is given twice", l)
 		}
 		seen[l] = true
 	}

@@ -3,6 +3,7 @@ package hierarchy
 import (
 	"encoding/binary"
 	"sort"
+	"strings"
 )
 
 // Navigation: finding a node by its key, the node of a level that holds a
@@ -254,6 +255,34 @@ func newSplits(st *Structure) [][]chainSplit {
 		}
 	}
 	return out
+}
+
+// Label is node i's one display form, such as "region=North store=N01"
+// (KeyLabel of its key): every command, table, JSON document and the
+// report name a node so.
+func (s *Structure) Label(i int) string { return KeyLabel(s.Attrs, s.Nodes[i].Key) }
+
+// KeyLabel is the display form of the node whose key holds values for
+// attrs ("" where the node adds an attribute up): "attr=value" for each
+// value given, in the order of attrs, separated by spaces; "total" when
+// the key adds every attribute up. Code that names a node from a table's
+// key columns rather than from a Structure (fit's series, the report)
+// uses it, so that a node has one name everywhere.
+func KeyLabel(attrs, key []string) string {
+	var b strings.Builder
+	for a, v := range key {
+		if v == "" {
+			continue
+		}
+		if b.Len() > 0 {
+			b.WriteByte(' ')
+		}
+		b.WriteString(attrs[a] + "=" + v)
+	}
+	if b.Len() == 0 {
+		return "total"
+	}
+	return b.String()
 }
 
 // KeyID returns a text that identifies a list of values, for a map key:

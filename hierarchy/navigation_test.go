@@ -193,3 +193,22 @@ func TestEmptyBottomValueIsRefused(t *testing.T) {
 		t.Errorf("a bottom key with an empty store: %v, want an input error", err)
 	}
 }
+
+// TestKeyLabel: a node's one name lists the values it keeps with their
+// attributes, in attribute order, and the grand total is "total".
+func TestKeyLabel(t *testing.T) {
+	attrs := []string{"region", "store", "category"}
+	for _, c := range []struct {
+		key  []string
+		want string
+	}{
+		{[]string{"North", "N01", "toys"}, "region=North store=N01 category=toys"},
+		{[]string{"North", "", "toys"}, "region=North category=toys"},
+		{[]string{"", "", "toys"}, "category=toys"},
+		{[]string{"", "", ""}, "total"},
+	} {
+		if got := KeyLabel(attrs, c.key); got != c.want {
+			t.Errorf("KeyLabel(%q) = %q, want %q", c.key, got, c.want)
+		}
+	}
+}

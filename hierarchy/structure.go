@@ -112,20 +112,6 @@ func (s *Structure) LevelNames() []string {
 	return out
 }
 
-// Label is a readable name for node i, such as "region=North store=N01".
-func (s *Structure) Label(i int) string {
-	var parts []string
-	for a, v := range s.Nodes[i].Key {
-		if v != "" {
-			parts = append(parts, s.Attrs[a]+"="+v)
-		}
-	}
-	if len(parts) == 0 {
-		return "total"
-	}
-	return strings.Join(parts, " ")
-}
-
 // quotePath shows the values of a key path quoted (Go syntax, so that
 // any character is visible) and joined by "/": "North"/"N01".
 func quotePath(values []string) string {

@@ -10,8 +10,11 @@ import (
 // output folder has them; this is the one place the report knows their
 // names and columns. scores has level (null: the mean over levels),
 // method, step (null: all steps), mase, rmsse, bias, crps, coverage_L per
-// interval level L and energy_score (headline rows only); drivers has method, ancestor_level, ancestor, level,
-// node, rank, abs_error, net_error and share. The page draws both (see
+// interval level L and energy_score (headline rows only); drivers has
+// method, parent_level, parent, child_level, child, rank, abs_error,
+// net_error and share (a folder written before parent and child named
+// them has ancestor_level, ancestor, level and node, read as the new
+// names: see oldColumns). The page draws both (see
 // report.js, "Accuracy"); the recommendation comes from the backtest's
 // run.json. Any other table named here would be shown as a plain table.
 var accuracyTables = []string{"scores", "drivers"}
@@ -31,6 +34,31 @@ func keepAccuracyRow(name string, t *tableio.Table, r int) bool {
 		}
 	}
 	return true
+}
+
+// oldColumns maps, per accuracy table, a column name an earlier release
+// wrote to its name now, and the column whose presence marks that
+// release's layout (drivers once had level and node for the child's, a
+// name the current table does not use in that sense).
+var oldColumns = map[string]struct {
+	marker string
+	names  map[string]string
+}{
+	"drivers": {marker: "ancestor", names: map[string]string{
+		"ancestor_level": "parent_level", "ancestor": "parent", "level": "child_level", "node": "child"}},
+}
+
+// currentName returns the name column c of table name has now, given the
+// table's columns.
+func currentName(name string, t *tableio.Table, c string) string {
+	old, ok := oldColumns[name]
+	if !ok || column(t, old.marker) == nil {
+		return c
+	}
+	if now, ok := old.names[c]; ok {
+		return now
+	}
+	return c
 }
 
 // maxAccuracyRows caps the rows of one accuracy table carried into the
@@ -58,7 +86,7 @@ func readAccuracy(dir string) ([]Table, error) {
 func asTable(name string, t *tableio.Table) Table {
 	out := Table{Name: name}
 	for _, c := range t.Columns {
-		out.Columns = append(out.Columns, c.Name)
+		out.Columns = append(out.Columns, currentName(name, t, c.Name))
 	}
 	for r := 0; r < numRows(t) && len(out.Rows) < maxAccuracyRows; r++ {
 		if !keepAccuracyRow(name, t, r) {

@@ -279,6 +279,19 @@ func TestReportInBrowser(t *testing.T) {
 	if charts := eval(`document.getElementById("accuracy").hidden ? -1 : document.querySelectorAll("#accuracy .uplot").length`); charts != 3 {
 		t.Errorf("the accuracy section has %v charts, want 3 (MASE by level, coverage, drivers of the total)", charts)
 	}
+	// The drivers chart names each child by its whole label (the
+	// folder's region=Saltcoast store=Juniperhollow1 … 10, ranked), and
+	// the first label's slant stays inside the chart, not cut at its
+	// left edge.
+	if ok := eval(`(() => { const u = [...document.querySelectorAll("#accuracy .chart")].map(e => e.uplot).filter(Boolean)[2];
+		const ticks = u.axes[0]._values;
+		const whole = ticks.length === 10 && ticks.every((v, k) => v === "region=Saltcoast store=Juniperhollow" + (k + 1));
+		const c = document.createElement("canvas").getContext("2d");
+		c.font = u.axes[0].font[0];
+		const left = u.bbox.left / devicePixelRatio + u.valToPos(0, "x") - c.measureText(ticks[0]).width * Math.cos(u.axes[0]._rotate * Math.PI / 180);
+		return +(whole && u.axes[0]._rotate > 0 && left >= 0); })()`); ok != 1 {
+		t.Errorf("the drivers chart's labels are cut short or run off its left edge")
+	}
 	// The scores table carries the CRPS and the energy score, and the
 	// coverage of each interval is tabled by level (the folder's 0.61,
 	// 3.2 and mint's 76% at region).

@@ -10,6 +10,7 @@ import (
 
 	"gonum.org/v1/gonum/stat/distuv"
 
+	"trueup/engine"
 	"trueup/hierarchy"
 	"trueup/internal/numeric"
 	"trueup/tableio"
@@ -55,11 +56,12 @@ type Level struct {
 	Nodes []int  `json:"nodes"`
 }
 
-// Node describes one node: its level, key values, model and residual
-// check. Numbers that JSON cannot carry (NaN) are nil pointers.
+// Node describes one node: its level, key values and label, model and
+// residual check. Numbers that JSON cannot carry (NaN) are nil pointers.
 type Node struct {
 	Level   int      `json:"level"`
 	Key     []string `json:"key"`
+	Label   string   `json:"label"`  // the node's one name (hierarchy.KeyLabel), as every table and command gives it
 	Volume  float64  `json:"volume"` // sum of its history, or of its forecasts without a history table
 	Status  string   `json:"status,omitempty"`
 	Family  string   `json:"family,omitempty"`
@@ -232,6 +234,10 @@ func build(in *Input) (*Data, error) {
 	for a, name := range attrs {
 		keyCols[a] = column(fc, name)
 	}
+	named := make([]string, len(attrs)) // the attributes the key columns hold
+	for a, name := range attrs {
+		named[a] = engine.AttrOf(name)
+	}
 	rowNode := make([]int, numRows(fc))
 	for r := range rowNode {
 		lv := cell(levelCol, r)
@@ -250,7 +256,7 @@ func build(in *Input) (*Data, error) {
 			}
 			i = len(m.Nodes)
 			idx[k] = i
-			m.Nodes = append(m.Nodes, Node{Level: l, Key: key})
+			m.Nodes = append(m.Nodes, Node{Level: l, Key: key, Label: hierarchy.KeyLabel(named, key)})
 			m.Levels[l].Nodes = append(m.Levels[l].Nodes, i)
 		}
 		rowNode[r] = i

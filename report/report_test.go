@@ -12,6 +12,7 @@ import (
 	"os"
 	"path/filepath"
 	"regexp"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
@@ -320,6 +321,13 @@ func TestFromDirNeedsForecasts(t *testing.T) {
 // carried and drawn, never of how accuracy is computed.
 func accuracyFolder(t testing.TB, dir string) {
 	t.Helper()
+	accuracyFolderNamed(t, dir, [4]string{"parent_level", "parent", "child_level", "child"})
+}
+
+// accuracyFolderNamed is accuracyFolder with the drivers' parent level,
+// parent, child level and child columns named as given.
+func accuracyFolderNamed(t testing.TB, dir string, names [4]string) {
+	t.Helper()
 	nan := math.NaN()
 	scores := &tableio.Table{Columns: []tableio.Column{
 		{Name: "level", Type: tableio.String, Strings: []string{"", "", "total", "total", "region", "region", "total"}, Null: []bool{true, true, false, false, false, false, false}},
@@ -338,7 +346,7 @@ func accuracyFolder(t testing.TB, dir string) {
 	var anc, node []string
 	var share []float64
 	for r := 1; r <= 12; r++ {
-		rank, anc, node, share = append(rank, int64(r)), append(anc, ""), append(node, "store "+strconv.Itoa(r)), append(share, 1/float64(r+1))
+		rank, anc, node, share = append(rank, int64(r)), append(anc, "total"), append(node, "region=Saltcoast store=Juniperhollow"+strconv.Itoa(r)), append(share, 1/float64(r+1))
 	}
 	n := len(rank)
 	same := func(v string) []string {
@@ -350,10 +358,10 @@ func accuracyFolder(t testing.TB, dir string) {
 	}
 	drivers := &tableio.Table{Columns: []tableio.Column{
 		{Name: "method", Type: tableio.String, Strings: same("mint")},
-		{Name: "ancestor_level", Type: tableio.String, Strings: same("total")},
-		{Name: "ancestor", Type: tableio.String, Strings: anc},
-		{Name: "level", Type: tableio.String, Strings: same("region+store")},
-		{Name: "node", Type: tableio.String, Strings: node},
+		{Name: names[0], Type: tableio.String, Strings: same("total")},
+		{Name: names[1], Type: tableio.String, Strings: anc},
+		{Name: names[2], Type: tableio.String, Strings: same("region+store")},
+		{Name: names[3], Type: tableio.String, Strings: node},
 		{Name: "rank", Type: tableio.Int64, Ints: rank},
 		{Name: "abs_error", Type: tableio.Float64, Floats: share},
 		{Name: "net_error", Type: tableio.Float64, Floats: share},
@@ -385,8 +393,11 @@ func TestAccuracyTablesShownWhenPresent(t *testing.T) {
 	if len(sc.Rows) != 6 || sc.Rows[0][0] != nil || sc.Rows[2][0] != "total" || sc.Rows[2][4] != 0.7 || sc.Rows[0][6] != -10.0 {
 		t.Fatalf("scores carried as %v", sc.Rows)
 	}
-	if len(dr.Rows) != 10 || dr.Rows[9][4] != "store 10" {
+	if len(dr.Rows) != 10 || dr.Rows[9][4] != "region=Saltcoast store=Juniperhollow10" {
 		t.Fatalf("drivers carried as %v", dr.Rows)
+	}
+	if want := []string{"method", "parent_level", "parent", "child_level", "child", "rank", "abs_error", "net_error", "share"}; !slices.Equal(dr.Columns, want) {
+		t.Fatalf("drivers columns %v, want %v", dr.Columns, want)
 	}
 	if none, _ := FromResult(res, t.TempDir()); len(none.Accuracy) != 0 {
 		t.Fatal("accuracy tables from an empty folder")
@@ -404,6 +415,59 @@ func TestAccuracyTablesShownWhenPresent(t *testing.T) {
 	}
 	if !strings.Contains(buf.String(), "trueup backtest report") {
 		t.Fatal("the backtest's report is not titled as such")
+	}
+}
+
+// TestOldDriverColumnsRead: a drivers table written before the parent and
+// child columns were named so (ancestor_level, ancestor, level, node) is
+// read back under the names the page draws.
+func TestOldDriverColumnsRead(t *testing.T) {
+	dir := t.TempDir()
+	accuracyFolderNamed(t, dir, [4]string{"ancestor_level", "ancestor", "level", "node"})
+	tables, err := readAccuracy(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	dr := tables[1]
+	if want := []string{"method", "parent_level", "parent", "child_level", "child", "rank", "abs_error", "net_error", "share"}; dr.Name != "drivers" || !slices.Equal(dr.Columns, want) {
+		t.Fatalf("%s columns %v, want %v", dr.Name, dr.Columns, want)
+	}
+	if sc := tables[0]; !slices.Contains(sc.Columns, "level") {
+		t.Fatalf("the scores table's level column was renamed: %v", sc.Columns)
+	}
+}
+
+// TestNodesNamedByTheirLabel: the report names every node as the tables
+// and commands do (hierarchy.Label: region=North store=N01, total), from
+// the run and from its folder read back. It once wrote "North · N01".
+func TestNodesNamedByTheirLabel(t *testing.T) {
+	res := forecastDemo(t, families.Spec{Family: "drift"})
+	fromRes, err := FromResult(res, "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	if _, err := output.Write(dir, res, []string{"csv"}); err != nil {
+		t.Fatal(err)
+	}
+	fromDir, err := FromDir(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, in := range []*Input{fromRes, fromDir} {
+		d, err := build(in)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(d.Meta.Nodes) != len(res.Structure.Nodes) {
+			t.Fatalf("%d nodes, want %d", len(d.Meta.Nodes), len(res.Structure.Nodes))
+		}
+		// Nodes are in the forecasts table's order, which is the structure's.
+		for i, nd := range d.Meta.Nodes {
+			if want := res.Structure.Label(i); nd.Label != want {
+				t.Fatalf("node %d is named %q, want %q", i, nd.Label, want)
+			}
+		}
 	}
 }
 

@@ -86,21 +86,23 @@ func WriteBacktest(dir string, bt *engine.BacktestResult, formats []string, rend
 //     not scored), scaled_error (error / scale: its mean is the bias, the
 //     mean of its absolute value the MASE), scaled_squared_error (error²
 //     over the seasonal naive MSE, behind the RMSSE), the interval bounds
-//     piL_lower, piL_upper, inside_L (1 when the actual lies in the
-//     interval), interval_score_L (over the scale) and crps (the CRPS of
+//     piL_lower, piL_upper, coverage_L (1 when the actual lies in the
+//     interval, 0 when not: the coverage of one actual, whose mean over
+//     rows is the scores table's coverage_L), interval_score_L (over the scale) and crps (the CRPS of
 //     the Gaussian predictive distribution, over the scale);
 //   - scores: level, method, step (null: all steps), count, mase, rmsse,
 //     bias, crps, and coverage_L and interval_score_L per interval level,
 //     and energy_score (the joint forecast's, see engine.Headline); rows
 //     with a null level are the headline (mean over levels), the only rows
 //     with an energy score (null elsewhere: it scores all levels at once);
-//   - contributions: per coherent method, origin, step, aggregate and
-//     child, the child's error and its share of the split's absolute
-//     error, the parent's error and the cancellation;
-//   - drivers: per coherent method, aggregate and finer level, the nodes
-//     under the aggregate ranked by absolute error over origins and steps;
+//   - contributions: per coherent method, origin, step, parent and
+//     child (one split finer), the child's error and its share of the
+//     split's absolute error, the parent's error and the cancellation;
+//   - drivers: per coherent method, parent and finer child level
+//     (parent_level, parent, child_level, child), the children under the
+//     parent ranked by absolute error over origins and steps;
 //   - node_scores: each node's MASE per method and its change from base;
-//   - incoherence: per origin, step, aggregate and split, the base
+//   - incoherence: per origin, step, parent and split, the base
 //     forecast, the sum of the children's base forecasts and the
 //     difference.
 func BacktestTables(bt *engine.BacktestResult) []Table {
@@ -159,13 +161,13 @@ func backtestTable(bt *engine.BacktestResult) *tableio.Table {
 	actual, forecast, errc, scale := fltCol("actual"), fltCol("forecast"), fltCol("error"), fltCol("scale")
 	scaled, squared, crps := fltCol("scaled_error"), fltCol("scaled_squared_error"), fltCol("crps")
 	bounds := make([]tableio.Column, 2*len(bt.Levels))
-	inside := make([]tableio.Column, len(bt.Levels))
+	covered := make([]tableio.Column, len(bt.Levels))
 	score := make([]tableio.Column, len(bt.Levels))
 	for l, lv := range bt.Levels {
 		name := "pi" + engine.LevelLabel(lv)
 		bounds[2*l], bounds[2*l+1] = fltCol(name+"_lower"), fltCol(name+"_upper")
-		inside[l] = intCol("inside_" + engine.LevelLabel(lv))
-		inside[l].Null = []bool{}
+		covered[l] = intCol("coverage_" + engine.LevelLabel(lv))
+		covered[l].Null = []bool{}
 		score[l] = fltCol("interval_score_" + engine.LevelLabel(lv))
 	}
 	for _, org := range bt.Origins {
@@ -211,8 +213,8 @@ func backtestTable(bt *engine.BacktestResult) *tableio.Table {
 						if accuracy.Covered(lo, hi, a) {
 							in = 1
 						}
-						inside[l].Ints = append(inside[l].Ints, in)
-						inside[l].Null = append(inside[l].Null, !scored)
+						covered[l].Ints = append(covered[l].Ints, in)
+						covered[l].Null = append(covered[l].Null, !scored)
 						score[l].Floats = append(score[l].Floats, accuracy.IntervalScore(lo, hi, a, lv)/s)
 					}
 				}
@@ -221,7 +223,7 @@ func backtestTable(bt *engine.BacktestResult) *tableio.Table {
 	}
 	cols := append(keys, origin, period, start, step, method, actual, forecast, errc, scale, scaled, squared)
 	cols = append(cols, bounds...)
-	cols = append(cols, inside...)
+	cols = append(cols, covered...)
 	cols = append(cols, score...)
 	return &tableio.Table{Columns: append(cols, crps)}
 }
@@ -290,20 +292,20 @@ func contributionsTable(bt *engine.BacktestResult) *tableio.Table {
 }
 
 func driversTable(at *engine.Attribution) *tableio.Table {
-	method, alevel, anc, level, node := strCol("method"), strCol("ancestor_level"), strCol("ancestor"), strCol("level"), strCol("node")
+	method, plevel, parent, clevel, child := strCol("method"), strCol("parent_level"), strCol("parent"), strCol("child_level"), strCol("child")
 	rank, abs, net, share := intCol("rank"), fltCol("abs_error"), fltCol("net_error"), fltCol("share")
 	for _, d := range at.Drivers {
 		method.Strings = append(method.Strings, d.Method)
-		alevel.Strings = append(alevel.Strings, d.AncestorLevel)
-		anc.Strings = append(anc.Strings, d.Ancestor)
-		level.Strings = append(level.Strings, d.Level)
-		node.Strings = append(node.Strings, d.Node)
+		plevel.Strings = append(plevel.Strings, d.ParentLevel)
+		parent.Strings = append(parent.Strings, d.Parent)
+		clevel.Strings = append(clevel.Strings, d.ChildLevel)
+		child.Strings = append(child.Strings, d.Child)
 		rank.Ints = append(rank.Ints, int64(d.Rank))
 		abs.Floats = append(abs.Floats, d.AbsError)
 		net.Floats = append(net.Floats, d.NetError)
 		share.Floats = append(share.Floats, d.Share)
 	}
-	return &tableio.Table{Columns: []tableio.Column{method, alevel, anc, level, node, rank, abs, net, share}}
+	return &tableio.Table{Columns: []tableio.Column{method, plevel, parent, clevel, child, rank, abs, net, share}}
 }
 
 func nodeScoresTable(at *engine.Attribution) *tableio.Table {

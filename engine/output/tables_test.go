@@ -188,3 +188,47 @@ func TestHistoryTotalsAreTheSumOfTheirParts(t *testing.T) {
 func null(c *tableio.Column, r int) bool {
 	return c.Null != nil && c.Null[r] || c.Type == tableio.Float64 && math.IsNaN(c.Floats[r])
 }
+
+// TestCoverageHasOneName: the backtest table's coverage_L (1 when the
+// actual lies in the L% interval, per row) and the scores table's
+// coverage_L (the share of actuals inside it) are one measure under one
+// name: the mean of the first over a level's scored rows of a method is
+// the second. (The per-row column was once inside_L.)
+func TestCoverageHasOneName(t *testing.T) {
+	d := smallChain(t)
+	opt := engine.Options{Horizon: 3, Model: families.Spec{Family: "drift"}, Levels: []float64{80, 97.5}}
+	bt, err := engine.Backtest(context.Background(), d, engine.BacktestOptions{Options: opt, Origins: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	tables := map[string]*tableio.Table{}
+	for _, tb := range output.BacktestTables(bt) {
+		tables[tb.Name] = tb.Table
+	}
+	rows, scores := tables["backtest"], tables["scores"]
+	for _, name := range []string{"coverage_80", "coverage_97_5"} {
+		sum, n := map[[2]string]float64{}, map[[2]string]int{}
+		level, method, cov := columnOf(t, rows, "level"), columnOf(t, rows, "method"), columnOf(t, rows, name)
+		for r := range cov.Ints {
+			if !cov.Null[r] {
+				k := [2]string{level.Strings[r], method.Strings[r]}
+				sum[k] += float64(cov.Ints[r])
+				n[k]++
+			}
+		}
+		slevel, smethod, step, share := columnOf(t, scores, "level"), columnOf(t, scores, "method"), columnOf(t, scores, "step"), columnOf(t, scores, name)
+		checked := 0
+		for r := range share.Floats {
+			if step.Null[r] && !slevel.Null[r] {
+				k := [2]string{slevel.Strings[r], smethod.Strings[r]}
+				if want := sum[k] / float64(n[k]); math.Abs(share.Floats[r]-want) > 1e-12 {
+					t.Errorf("%s %s %s: scores %v, mean of the backtest rows %v", name, k[0], k[1], share.Floats[r], want)
+				}
+				checked++
+			}
+		}
+		if checked == 0 {
+			t.Errorf("%s: no score over all steps checked", name)
+		}
+	}
+}

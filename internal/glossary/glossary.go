@@ -1,5 +1,5 @@
 // Package glossary reads docs/glossary.md, the one list of every name a
-// user sees (flags, table columns, run.json keys, report labels), and
+// user sees (flags, table columns, JSON keys, report labels), and
 // checks the names a program actually shows against it.
 //
 // The file is Markdown: a "## " heading opens a section, and every line

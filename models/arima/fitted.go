@@ -498,7 +498,7 @@ func (f *Fitted) XRegCoef() []float64 {
 //
 //   - "orders": {"nonseasonal": {"ar": p, "differences": d, "ma": q}} and,
 //     for a seasonal model, "seasonal": {"ar": P, "differences": D, "ma":
-//     Q, "period": m};
+//     Q, "season_length": m};
 //   - "constant": "none", "mean" (d+D = 0) or "drift" (d+D = 1);
 //   - "transform": {"kind": "log"} when the model is fitted to ln y;
 //   - "fourier_pairs": K when Fourier regressors stand in for seasonal
@@ -512,7 +512,7 @@ func (f *Fitted) Params() map[string]any {
 		"nonseasonal": map[string]int{"ar": s.P, "differences": s.D, "ma": s.Q},
 	}
 	if s.seasonal() {
-		orders["seasonal"] = map[string]int{"ar": s.SP, "differences": s.SD, "ma": s.SQ, "period": s.Period}
+		orders["seasonal"] = map[string]int{"ar": s.SP, "differences": s.SD, "ma": s.SQ, "season_length": s.Period}
 	}
 	var est []models.Estimate
 	add := func(sym string, v []float64) {

@@ -75,11 +75,11 @@ func (c *Combination) Spec() string {
 }
 
 // Params implements models.Model: "combination" ("median"; "mean" for two
-// members) and "components", each with its "family", "form" and "params".
+// members) and "components", each with its "family", "model" and "params".
 func (c *Combination) Params() map[string]any {
 	comps := make([]any, len(c.parts))
 	for i, m := range c.parts {
-		comps[i] = map[string]any{"family": m.Family(), "form": m.Spec(), "params": m.Params()}
+		comps[i] = map[string]any{"family": m.Family(), "model": m.Spec(), "params": m.Params()}
 	}
 	kind := "median"
 	if len(c.parts) == 2 {

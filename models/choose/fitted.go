@@ -60,7 +60,7 @@ func (f *Fitted) Reason() string {
 
 // Params implements models.Model: the winner's parameters plus "choice":
 // {"winner": family, "reason": in words, "origins": validation origins,
-// "validation_horizon": steps scored, "candidates": one {"family", "form",
+// "validation_horizon": steps scored, "candidates": one {"family", "model",
 // "mase" (null when the candidate failed), "error"} per candidate}. A
 // series chosen for without validation (too short) has only "winner" and
 // "reason".
@@ -76,7 +76,7 @@ func (f *Fitted) Params() map[string]any {
 		if !math.IsInf(s.MASE, 1) {
 			m = s.MASE
 		}
-		c := map[string]any{"family": s.Family, "form": s.Spec, "mase": m}
+		c := map[string]any{"family": s.Family, "model": s.Spec, "mase": m}
 		if s.Err != "" {
 			c["error"] = s.Err
 		}

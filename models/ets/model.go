@@ -149,14 +149,16 @@ func (f *Fitted) Parameters() Params {
 // forecastability condition (see admissible).
 func (f *Fitted) Admissible() bool { return f.admissible }
 
-// Params implements models.Model. Keys: "period" (the seasonal period
-// used, 1 for non-seasonal forms), "estimates" (α, then β, γ and the
-// damping φ when the form has them) and "initial_states": "level", and
-// "trend" and "season" when the form has them — the m initial seasonal
-// states in order of first use, s_{1−m}..s_0.
+// Params implements models.Model. Keys: "season_length" (the seasonal
+// period used, 1 for non-seasonal forms), "estimates" (α, then β, γ and
+// the damping φ when the form has them) and "starting_states":
+// "underlying" (the textbook's level ℓ0, named so that "level" keeps its
+// one meaning, a level of the structure), and "trend" and "season" when
+// the form has them — the m initial seasonal states in order of first
+// use, s_{1−m}..s_0.
 func (f *Fitted) Params() map[string]any {
 	est := []models.Estimate{{Name: "α", Value: f.par.Alpha}}
-	init := map[string]any{"level": f.par.Level}
+	init := map[string]any{"underlying": f.par.Level}
 	if f.spec.HasTrend() {
 		est = append(est, models.Estimate{Name: "β", Value: f.par.Beta})
 		init["trend"] = f.par.Trend
@@ -168,7 +170,7 @@ func (f *Fitted) Params() map[string]any {
 	if f.spec.Damped() {
 		est = append(est, models.Estimate{Name: "φ", Value: f.par.Phi})
 	}
-	return map[string]any{"period": f.m, "estimates": est, "initial_states": init}
+	return map[string]any{"season_length": f.m, "estimates": est, "starting_states": init}
 }
 
 // Residuals implements models.Model: y_t − ŷ_{t|t−1} on the data scale,

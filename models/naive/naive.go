@@ -126,7 +126,8 @@ func (f *Fitted) Spec() string {
 }
 
 // Params implements models.Model: "estimates" holds the drift c of the
-// random walk with drift; the seasonal naive method gives its "lag" m; the
+// random walk with drift; the seasonal naive method gives its
+// "season_length" m (the lag it repeats); the
 // last-value fallback has no parameters.
 func (f *Fitted) Params() map[string]any {
 	switch f.family {
@@ -137,7 +138,7 @@ func (f *Fitted) Params() map[string]any {
 	case MeanName:
 		return map[string]any{"estimates": []models.Estimate{{Name: "mean", Value: f.level}}}
 	}
-	return map[string]any{"lag": f.m}
+	return map[string]any{"season_length": f.m}
 }
 
 // Forecast implements models.Model.

@@ -246,7 +246,9 @@ func (f *Fitted) Spec() string {
 
 // Params implements models.Model: "estimates" α and the trend slope b0
 // ("slope"), the "seasonal_adjustment" (none, multiplicative, additive),
-// its "seasonal_indices" by position in the season, and the "level" ℓ_T.
+// its "seasonal_indices" by position in the season with their
+// "season_length", and the "underlying" ℓ_T (the smoothed level, named so
+// that "level" keeps its one meaning, a level of the structure).
 func (f *Fitted) Params() map[string]any {
 	p := map[string]any{
 		"estimates": []models.Estimate{
@@ -254,11 +256,11 @@ func (f *Fitted) Params() map[string]any {
 			{Name: "slope", Value: f.b0},
 		},
 		"seasonal_adjustment": f.season.String(),
-		"level":               f.level,
+		"underlying":          f.level,
 	}
 	if f.season != NotSeasonal {
 		p["seasonal_indices"] = append([]float64(nil), f.index...)
-		p["period"] = f.m
+		p["season_length"] = f.m
 	}
 	return p
 }

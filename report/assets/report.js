@@ -87,11 +87,9 @@
     for (const k of kids) e.append(k instanceof Node ? k : String(k));
     return e;
   };
-  const nodeName = i => {
-    const nd = meta.nodes[i];
-    const parts = nd.key.filter(k => k !== "");
-    return parts.length ? parts.join(" · ") : "Total";
-  };
+  // nodeName is the node's one name, as every table and command gives it
+  // (region=North store=N01, total): report/data.go makes it.
+  const nodeName = i => meta.nodes[i].label;
   // pValue writes a p-value as a plain decimal; below 0.0001 it says so.
   const pValue = p => p < 1e-4 ? "< 0.0001" : p.toFixed(4);
   // seriesColours gives each labelled series of a chart its colour: the
@@ -318,7 +316,8 @@
       const start = performance.now();
       const nd = meta.nodes[i];
       api.selected = i;
-      document.getElementById("node-title").textContent = `${nodeName(i)} (${levelName(i)})`;
+      // The total's name is its level's; any other node's heading adds its level.
+      document.getElementById("node-title").textContent = nodeName(i) === levelName(i) ? nodeName(i) : `${nodeName(i)} (${levelName(i)})`;
       const chart = document.getElementById("node-chart");
       draw(chart, tsOptions(width(chart), 320, false), seriesData(i));
       chart.dataset.node = String(i);
@@ -399,28 +398,29 @@
     const htmlTable = (head, rows) => el("div", { class: "scroll" }, el("table", {},
       el("tr", {}, ...head.map((h, j) => el("th", { class: j ? "num" : "" }, h))),
       ...rows.map(r => el("tr", {}, ...r.map((v, j) => el("td", { class: j ? "num" : "" }, v))))));
-    const short14 = s => s.length > 16 ? s.slice(0, 15) + "…" : s;
-    const short28 = s => s.length > 28 ? s.slice(0, 27) + "…" : s;
-    // keyValues shows a node label of the tables ("region=North store=N1")
-    // as the report names nodes everywhere else: "North · N1".
-    const keyValues = s => /^[^=\s]+=/.test(s) ? s.split(/\s+(?=[^=\s]+=)/).map(p => p.slice(p.indexOf("=") + 1)).join(" · ") : s;
+    const short24 = s => s.length > 24 ? s.slice(0, 23) + "…" : s;
+    // Slanted labels keep up to 44 characters: a node's label names its
+    // attributes (region=Saltcoast store=Wrengate category=toys).
+    const short44 = s => s.length > 44 ? s.slice(0, 43) + "…" : s;
     // categoryAxis labels one tick per category; when the labels would
-    // not fit side by side, they are turned to a slant so none overlaps.
+    // not fit side by side, they are turned to a slant so none overlaps,
+    // and padLeft leaves room for the first label's slant left of the plot.
     const categoryAxis = (cats, target) => {
-      const flat = cats.length * (7 * Math.max(0, ...cats.map(c => short14(String(c ?? "")).length)) + 12) <= 0.8 * width(target);
-      const cut = flat ? short14 : short28, slant = !flat;
+      const flat = cats.length * (7 * Math.max(0, ...cats.map(c => short24(String(c ?? "")).length)) + 12) <= 0.8 * width(target);
+      const cut = flat ? short24 : short44, slant = !flat;
       const longest = Math.max(0, ...cats.map(c => cut(String(c ?? "")).length));
+      const first = cut(String(cats[0] ?? "")).length;
       return { values: (u, sp) => sp.map(k => Number.isInteger(k) ? cut(String(cats[k] ?? "")) : ""), incrs: [1], grid: { show: false },
-        rotate: slant ? 35 : 0, size: slant ? 20 + 5 * longest : 50 };
+        rotate: slant ? 35 : 0, size: slant ? 20 + 5 * longest : 50, padLeft: slant ? Math.max(0, Math.round(5.5 * first) - 60) : 0 };
     };
     // dotChart draws one dot per category and series (no lines), with
     // optional dashed reference lines.
     function dotChart(target, title, catLabel, cats, series, yLabel, refs, yfmt) {
-      const xAxis = categoryAxis(cats, target);
+      const { padLeft, ...xAxis } = categoryAxis(cats, target);
       const colours = seriesColours(series.map(sr => sr.label));
       const x = cats.map((_, k) => k);
       const opts = {
-        width: width(target), height: 210 + xAxis.size, title, scales: { x: { time: false, range: [-0.5, cats.length - 0.5] } },
+        width: width(target), height: 210 + xAxis.size, title, padding: [null, null, null, padLeft || null], scales: { x: { time: false, range: [-0.5, cats.length - 0.5] } },
         series: [{ label: catLabel, value: (u, k) => k == null ? "" : cats[k] }],
         axes: [xAxis,
           { values: (u, sp) => sp.map(yfmt), size: 60, label: yLabel, grid: { stroke: "#e6e9ee" } }],
@@ -438,9 +438,9 @@
       draw(target, opts, data);
     }
     function barChart(target, title, names, values, yLabel, yfmt) {
-      const xAxis = categoryAxis(names, target);
+      const { padLeft, ...xAxis } = categoryAxis(names, target);
       draw(target, {
-        width: width(target), height: 210 + xAxis.size, title, scales: { x: { time: false, range: [-0.5, names.length - 0.5] }, y: { range: (u, lo, hi) => [Math.min(0, lo), Math.max(0, hi) * 1.1 || 1] } },
+        width: width(target), height: 210 + xAxis.size, title, padding: [null, null, null, padLeft || null], scales: { x: { time: false, range: [-0.5, names.length - 0.5] }, y: { range: (u, lo, hi) => [Math.min(0, lo), Math.max(0, hi) * 1.1 || 1] } },
         series: [{ label: "node", value: (u, k) => k == null ? "" : names[k] },
           { label: yLabel, stroke: color("--forecast"), fill: color("--band80"), paths: uPlot.paths.bars({ size: [0.7, 60] }), points: { show: false }, value: (u, v) => v == null ? "" : yfmt(v) }],
         axes: [xAxis,
@@ -467,7 +467,7 @@
         el("p", { class: "note" }, "CRPS scores each node's whole forecast distribution and the energy score the joint forecast of all nodes, both over the node's scale; lower is better. A method whose intervals hold their level with a lower CRPS gives the more useful ranges."));
       if (covCols.length && levels.length) {
         box.append(el("h3", {}, "Interval coverage by level"),
-          el("p", { class: "note" }, "The share of actual values inside each interval at each level, over all steps and origins; nominal is the interval's level."),
+          el("p", { class: "note" }, "The share of actual values inside each interval at each level, over all steps and origins; an 80% interval should hold 80% of them."),
           htmlTable(["level", ...methods.flatMap(m => covCols.map(c => `${m} ${c.slice(9)}%`))],
             levels.map(lv => [lv, ...methods.flatMap(m => covCols.map(c => pct(byLevel.find(r => r.level === lv && r.method === m)?.[c])))])));
       }
@@ -479,7 +479,7 @@
       }
       if (covCols.length && head.length) {
         const t2 = el("div", { class: "chart" });
-        box.append(el("h3", {}, "Interval coverage against its nominal level"),
+        box.append(el("h3", {}, "Interval coverage against the share it should hold"),
           el("p", { class: "note" }, "The share of actual values inside each interval; a dot below its dashed line means the intervals were too narrow."), t2);
         dotChart(t2, "coverage (mean over levels)", "method", head.map(r => r.method),
           covCols.map(c => ({ label: c.slice(9) + "% interval", values: head.map(r => r[c] ?? null) })), "coverage",
@@ -491,20 +491,20 @@
       const method = rec && rec.method && dr.some(r => r.method === rec.method) ? rec.method : (dr[0] || {}).method;
       const groups = new Map();
       for (const r of dr.filter(r => r.method === method)) {
-        const key = `${r.ancestor_level}\u0000${r.ancestor}\u0000${r.level}`;
+        const key = `${r.parent_level}\u0000${r.parent}\u0000${r.child_level}`;
         if (!groups.has(key)) groups.set(key, []);
         groups.get(key).push(r);
       }
-      const label = g => (g[0].ancestor_level === "total" ? "the total" : `${g[0].ancestor} (${g[0].ancestor_level})`) + ` by ${g[0].level}`;
-      const chartOf = (target, g) => { g.sort((a, b) => a.rank - b.rank); barChart(target, `Drivers of the error of ${label(g)}`, g.map(r => keyValues(r.node)), g.map(r => r.share), "share of absolute error", v => nf2.format(100 * v) + "%"); };
+      const label = g => (g[0].parent_level === "total" ? "the total" : `${g[0].parent} (${g[0].parent_level})`) + ` by ${g[0].child_level}`;
+      const chartOf = (target, g) => { g.sort((a, b) => a.rank - b.rank); barChart(target, `Drivers of the error of ${label(g)}`, g.map(r => r.child), g.map(r => r.share), "share of absolute error", v => nf2.format(100 * v) + "%"); };
       box.append(el("h3", {}, `Drivers of the error (${method})`),
-        el("p", { class: "note" }, "The nodes whose errors make up most of an aggregate's absolute error over the backtest, largest first."));
+        el("p", { class: "note" }, "The children whose errors make up most of a parent's absolute error over the backtest (a parent is any node above them), largest first."));
       const all = [...groups.values()];
-      const totals = all.filter(g => g[0].ancestor_level === "total");
+      const totals = all.filter(g => g[0].parent_level === "total");
       for (const g of totals) { const t = el("div", { class: "chart" }); box.append(t); chartOf(t, g); }
-      const others = all.filter(g => g[0].ancestor_level !== "total");
+      const others = all.filter(g => g[0].parent_level !== "total");
       if (others.length) {
-        const pick = el("select", { "aria-label": "drivers of another aggregate" }, el("option", { value: "" }, `Drivers of another aggregate (${others.length})…`),
+        const pick = el("select", { "aria-label": "drivers of another parent" }, el("option", { value: "" }, `Drivers of another parent (${others.length})…`),
           ...others.map((g, k) => el("option", { value: k }, label(g))));
         const t = el("div", { class: "chart" });
         pick.addEventListener("change", () => { if (pick.value !== "") chartOf(t, others[+pick.value]); });

@@ -31,7 +31,8 @@ leaves exactly one horizon of actuals), fits every node as forecast would
 at each, reconciles those same fits with every --compare method and scores
 the forecasts against what happened: MASE, RMSSE, bias, interval coverage
 and interval score per node, level, method, origin and step. Shows which
-nodes drive the error of each aggregate, and recommends the method with
+children (the nodes under a parent) drive each parent's error, and how
+much the children's errors cancel, and recommends the method with
 the best mean score over levels.
 
 Writes backtest, scores, contributions, drivers, node_scores and
@@ -203,9 +204,9 @@ func printBacktest(w io.Writer, bt *engine.BacktestResult, files []string, asJSO
 			fmt.Fprintf(w, "\nHow much the children's errors cancel (%s; 0: they add up, 1: they cancel out):\n", rec.Method)
 			var rows [][]string
 			for _, c := range rep.Cancellation {
-				rows = append(rows, []string{c.Level + " into " + c.Split, fmt.Sprintf("%.2f", c.Mean)})
+				rows = append(rows, []string{c.ParentLevel, c.ChildLevel, fmt.Sprintf("%.2f", c.Mean)})
 			}
-			textTable(w, []string{"aggregate level into children", "cancellation"}, rows)
+			textTable(w, []string{"parent level", "child level", "cancellation"}, rows)
 		}
 		if len(rep.Helped) > 0 || len(rep.Hurt) > 0 {
 			fmt.Fprintf(w, "\nWhere %s changed the base forecasts' MASE most:\n", rec.Method)
@@ -249,7 +250,7 @@ func printBacktest(w io.Writer, bt *engine.BacktestResult, files []string, asJSO
 
 // printCoverageByLevel prints, per level, the coverage of each method's
 // intervals at every level of the run (all steps), the check that
-// intervals hold their nominal level where each reader looks.
+// intervals hold their nominal share where each reader looks.
 func printCoverageByLevel(w io.Writer, bt *engine.BacktestResult) {
 	for l, lv := range bt.Levels {
 		fmt.Fprintf(w, "\nShare of actuals inside the %s%% intervals by level (all steps):\n", engine.LevelLabel(lv))
@@ -303,13 +304,13 @@ func printDrivers(w io.Writer, bt *engine.BacktestResult, method string) {
 	amount := amountFormat(nets)
 	var rows [][]string
 	for _, d := range top {
-		rows = append(rows, []string{d.Node, fmt.Sprintf("%.1f%%", 100*d.Share), amount(d.AbsError), amount(d.NetError)})
+		rows = append(rows, []string{d.Child, fmt.Sprintf("%.1f%%", 100*d.Share), amount(d.AbsError), amount(d.NetError)})
 	}
 	textTable(w, []string{"node", "share", "abs. error", "net error"}, rows)
 	var parts []string
 	for _, level := range levels[1 : len(levels)-1] {
 		if d := at.TopDrivers(method, "total", level, 1); len(d) == 1 {
-			parts = append(parts, fmt.Sprintf("%s %s (%.1f%%)", shownKey(level), shownKey(strings.TrimPrefix(d[0].Node, level+"=")), 100*d[0].Share))
+			parts = append(parts, fmt.Sprintf("%s (%.1f%%)", shownKey(d[0].Child), 100*d[0].Share))
 		}
 	}
 	if len(parts) > 0 {

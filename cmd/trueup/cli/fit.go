@@ -18,6 +18,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"trueup/engine"
+	"trueup/hierarchy"
 	"trueup/models/families"
 )
 
@@ -73,8 +74,9 @@ forecasts and bounds are always on the scale of the data.
 Intervals are the forecast ± z·standard error for each --intervals value.
 Forecasts are estimates: review them before they go into a plan.
 
-With --json each series gives one JSON object per line with the groups
-series, model, estimates, fit_quality, forecast, residuals and warning.`,
+With --json each series gives one JSON object per line: series (named as
+nodes are, store=N01), family, model, params (as the models table writes
+them), fit_quality, forecasts, residuals and warning.`,
 		Example: `  trueup fit --input sales.csv --time month --value sales
   trueup fit --input sales.parquet --time month --value sales --key store --json
   trueup fit --input sales.parquet --time month --value sales --key store \
@@ -105,7 +107,17 @@ series, model, estimates, fit_quality, forecast, residuals and warning.`,
 type fitRun struct {
 	data   *engine.Data
 	keys   []string // per series, its key value ("" without --key)
+	column string   // the --key column, "" without
 	levels []float64
+}
+
+// label is series i's name, as a node with that key is named everywhere
+// (hierarchy.KeyLabel: store=N01), or "" without --key.
+func (r *fitRun) label(i int) string {
+	if r.column == "" {
+		return ""
+	}
+	return hierarchy.KeyLabel([]string{r.column}, []string{r.keys[i]})
 }
 
 func runFit(ctx context.Context, w, errw io.Writer, fl *fitFlags) error {
@@ -140,7 +152,7 @@ func runFit(ctx context.Context, w, errw io.Writer, fl *fitFlags) error {
 	if err := (engine.Options{Period: fl.period, Horizon: fl.horizon}).Supported(data.Panel.T, data.Panel.Grain.SeasonalPeriod()); err != nil {
 		return err
 	}
-	run := fitRun{data: data, levels: levels}
+	run := fitRun{data: data, column: fl.key, levels: levels}
 	order := seriesOrder(data.Panel, fl.key != "")
 	period := fl.period
 	if period == 0 {
@@ -164,7 +176,7 @@ func runFit(ctx context.Context, w, errw io.Writer, fl *fitFlags) error {
 	if errors.As(err, &fe) {
 		name := "the series"
 		if fl.key != "" {
-			name = fmt.Sprintf("series %s=%q", fl.key, run.keys[fe.Node])
+			name = "series " + shownKey(run.label(fe.Node))
 		}
 		return fe.Named(name)
 	}
@@ -200,10 +212,11 @@ func seriesOrder(p *engine.Panel, keyed bool) []int {
 }
 
 // fitView is one fitted series prepared for output: the model's parameters
-// split into the estimates and the other details, the interval bounds and
-// the period labels.
+// as a whole and split into the estimates and the other details, the
+// interval bounds and the period labels.
 type fitView struct {
-	key       any // the key value, or nil without --key
+	series    any // the series' label, or nil without --key
+	params    json.RawMessage
 	estimates []estimate
 	details   map[string]json.RawMessage
 	periods   []string
@@ -224,13 +237,14 @@ type estimate struct {
 // computed in another process renders the same as a local one.
 func (r *fitRun) view(i int, nf *engine.NodeFit) (*fitView, error) {
 	v := &fitView{}
-	if r.keys[i] != "" {
-		v.key = r.keys[i]
+	if r.column != "" {
+		v.series = r.label(i)
 	}
 	raw, err := json.Marshal(nf.Params)
 	if err != nil {
 		return nil, fmt.Errorf("series %d: parameters of %s: %w", i+1, nf.Spec, err)
 	}
+	v.params = raw
 	if err := json.Unmarshal(raw, &v.details); err != nil {
 		return nil, err
 	}
@@ -318,23 +332,22 @@ func (r *fitRun) writeJSON(w io.Writer, i int, nf *engine.NodeFit) error {
 		return err
 	}
 	c := nf.Criteria
-	forecast := object{{"periods", v.periods}, {"mean", nf.Mean}, {"std_error", v.stdErr}}
+	// The forecasts and residuals are named as the forecasts and
+	// residuals tables name their columns.
+	forecasts := object{{"period", v.periods}, {"forecast", nf.Mean}, {"std_error", v.stdErr}}
 	for j, l := range r.levels {
 		label := "pi" + engine.LevelLabel(l)
-		forecast = append(forecast, member{label + "_lower", v.lower[j]}, member{label + "_upper", v.upper[j]})
-	}
-	estimates := v.estimates
-	if estimates == nil {
-		estimates = []estimate{}
+		forecasts = append(forecasts, member{label + "_lower", v.lower[j]}, member{label + "_upper", v.upper[j]})
 	}
 	var first, last any
 	if v.firstObs != "" {
 		first, last = v.firstObs, v.lastObs
 	}
 	rec := object{
-		{"series", v.key},
-		{"model", object{{"family", nf.Family}, {"form", nf.Spec}, {"details", v.details}}},
-		{"estimates", estimates},
+		{"series", v.series},
+		{"family", nf.Family},
+		{"model", nf.Spec},
+		{"params", v.params},
 		{"fit_quality", object{
 			{"observations", nf.NObs},
 			{"innovation_variance", nf.Sigma2},
@@ -345,8 +358,8 @@ func (r *fitRun) writeJSON(w io.Writer, i int, nf *engine.NodeFit) error {
 			{"bic", c.BIC},
 			{"log_likelihood", c.LogLik},
 		}},
-		{"forecast", forecast},
-		{"residuals", object{{"first_period", first}, {"last_period", last}, {"one_step", nf.Residuals}}},
+		{"forecasts", forecasts},
+		{"residuals", object{{"first_period", first}, {"last_period", last}, {"residual", nf.Residuals}}},
 		{"warning", nf.Warning},
 	}
 	line, err := json.Marshal(rec)
@@ -365,8 +378,8 @@ func (r *fitRun) writeText(w io.Writer, i int, nf *engine.NodeFit) error {
 		return err
 	}
 	name := "series"
-	if v.key != nil {
-		name += " " + shownKey(r.keys[i])
+	if v.series != nil {
+		name += " " + shownKey(r.label(i))
 	}
 	fmt.Fprintf(w, "%s: %s\n", name, nf.Spec)
 	fmt.Fprintf(w, "  family   %s\n", nf.Family)
@@ -571,7 +584,7 @@ func (r *fitRun) writeSeasonal(w io.Writer, nf *engine.NodeFit, v *fitView) map[
 	switch nf.Family {
 	case "ets":
 		var init map[string]json.RawMessage
-		if json.Unmarshal(rest["initial_states"], &init) != nil {
+		if json.Unmarshal(rest["starting_states"], &init) != nil {
 			return rest
 		}
 		season, ok := floats(init["season"])
@@ -584,7 +597,6 @@ func (r *fitRun) writeSeasonal(w io.Writer, nf *engine.NodeFit, v *fitView) map[
 		delete(init, "season")
 		if b, err := json.Marshal(init); err == nil {
 			rest["starting_states"] = b
-			delete(rest, "initial_states")
 		}
 	case "theta":
 		index, ok := floats(rest["seasonal_indices"])

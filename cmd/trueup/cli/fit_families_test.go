@@ -8,7 +8,7 @@ import (
 )
 
 // TestFitETSJSON: a fixed ETS form through the command reports its
-// smoothing parameters and initial states; its log-likelihood reaches the
+// smoothing parameters and starting states; its log-likelihood reaches the
 // one statsmodels 0.13.5 reaches for ETS(M,A,M) on AirPassengers (−522.49,
 // fixtures/reference/ets/statsmodels_ets.json).
 func TestFitETSJSON(t *testing.T) {
@@ -19,9 +19,8 @@ func TestFitETSJSON(t *testing.T) {
 		t.Fatalf("%d records", len(recs))
 	}
 	r := recs[0]
-	model := r["model"].(map[string]any)
-	if model["family"] != "ets" || model["form"] != "ETS(M,A,M)" {
-		t.Errorf("model %v", model)
+	if r["family"] != "ets" || r["model"] != "ETS(M,A,M)" {
+		t.Errorf("family %v, model %v", r["family"], r["model"])
 	}
 	est := estimates(t, r)
 	for _, k := range []string{"α", "β", "γ"} {
@@ -35,9 +34,27 @@ func TestFitETSJSON(t *testing.T) {
 	if ll := r["fit_quality"].(map[string]any)["log_likelihood"].(float64); ll < -522.49-0.05 {
 		t.Errorf("log-likelihood %v", ll)
 	}
-	init := model["details"].(map[string]any)["initial_states"].(map[string]any)
+	init := r["params"].(map[string]any)["starting_states"].(map[string]any)
 	if len(init["season"].([]any)) != 12 {
-		t.Errorf("initial seasonal states %v", init["season"])
+		t.Errorf("starting seasonal states %v", init["season"])
+	}
+	// The smoothed level is "underlying": "level" means a level of the
+	// structure only.
+	if _, ok := init["underlying"].(float64); !ok || init["level"] != nil {
+		t.Errorf("starting states %v: want underlying, not level", init)
+	}
+	// The season's length is season_length, as in run.json's options:
+	// "period" is a period of the calendar.
+	if p := r["params"].(map[string]any); p["season_length"] != 12.0 || p["period"] != nil {
+		t.Errorf("params %v: want season_length 12, not period", p)
+	}
+	// Theta's smoothed level is "underlying" too.
+	recs = fitRecords(t, "fit", "--input", path, "--time", "month", "--value", "sales",
+		"--key", "store", "--family", "theta", "--horizon", "12", "--json")
+	if p := recs[0]["params"].(map[string]any); p["level"] != nil || p["period"] != nil || p["season_length"] != 12.0 {
+		t.Errorf("Theta params %v: want underlying and season_length, not level and period", p)
+	} else if _, ok := p["underlying"].(float64); !ok {
+		t.Errorf("Theta params %v: no underlying value", p)
 	}
 }
 
@@ -48,7 +65,7 @@ func TestFitAutoJSON(t *testing.T) {
 	path := writeAirCSV(t, false)
 	recs := fitRecords(t, "fit", "--input", path, "--time", "month", "--value", "sales",
 		"--key", "store", "--horizon", "12", "--json")
-	choice := recs[0]["model"].(map[string]any)["details"].(map[string]any)["choice"].(map[string]any)
+	choice := recs[0]["params"].(map[string]any)["choice"].(map[string]any)
 	cands, ok := choice["candidates"].([]any)
 	if !ok || len(cands) != 6 {
 		t.Fatalf("candidates %v", choice["candidates"])
@@ -57,7 +74,7 @@ func TestFitAutoJSON(t *testing.T) {
 	for _, c := range cands {
 		m := c.(map[string]any)
 		names[m["family"].(string)] = true
-		if m["form"] == nil {
+		if m["model"] == nil || m["form"] != nil {
 			t.Errorf("candidate %v", m)
 		}
 	}
@@ -69,7 +86,7 @@ func TestFitAutoJSON(t *testing.T) {
 	}
 	recs = fitRecords(t, "fit", "--input", path, "--time", "month", "--value", "sales",
 		"--key", "store", "--family", "ets", "--transform", "boxcox", "--horizon", "12", "--json")
-	tr := recs[0]["model"].(map[string]any)["details"].(map[string]any)["transform"].(map[string]any)
+	tr := recs[0]["params"].(map[string]any)["transform"].(map[string]any)
 	if l, ok := tr["lambda"].(float64); !ok || l >= 1 || tr["kind"] != "boxcox" {
 		t.Errorf("Box-Cox transform %v", tr)
 	}

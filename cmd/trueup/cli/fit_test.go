@@ -78,7 +78,7 @@ func fitRecords(t *testing.T, args ...string) []map[string]any {
 func estimates(t *testing.T, rec map[string]any) map[string]float64 {
 	t.Helper()
 	out := map[string]float64{}
-	for _, e := range rec["estimates"].([]any) {
+	for _, e := range rec["params"].(map[string]any)["estimates"].([]any) {
 		m := e.(map[string]any)
 		out[m["name"].(string)] = m["value"].(float64)
 	}
@@ -94,18 +94,17 @@ func TestFitJSONAirline(t *testing.T) {
 	path := writeAirCSV(t, false)
 	recs := fitRecords(t, "fit", "--input", path, "--time", "month", "--value", "sales",
 		"--key", "store", "--model", "ARIMA(0,1,1)(0,1,1)", "--transform", "log", "--horizon", "12", "--json")
-	if len(recs) != 2 || recs[0]["series"] != "north" || recs[1]["series"] != "south" {
+	if len(recs) != 2 || recs[0]["series"] != "store=north" || recs[1]["series"] != "store=south" {
 		t.Fatalf("records: %v", recs)
 	}
 	r := recs[0]
-	model := r["model"].(map[string]any)
-	if model["form"] != "log ARIMA(0,1,1)(0,1,1) m=12" || model["family"] != "arima" {
-		t.Errorf("model %v", model)
+	if r["model"] != "log ARIMA(0,1,1)(0,1,1) m=12" || r["family"] != "arima" || r["form"] != nil {
+		t.Errorf("family %v, model %v", r["family"], r["model"])
 	}
-	orders := model["details"].(map[string]any)["orders"].(map[string]any)
+	orders := r["params"].(map[string]any)["orders"].(map[string]any)
 	want := map[string]any{
 		"nonseasonal": map[string]any{"ar": 0.0, "differences": 1.0, "ma": 1.0},
-		"seasonal":    map[string]any{"ar": 0.0, "differences": 1.0, "ma": 1.0, "period": 12.0},
+		"seasonal":    map[string]any{"ar": 0.0, "differences": 1.0, "ma": 1.0, "season_length": 12.0},
 	}
 	if !reflect.DeepEqual(orders, want) {
 		t.Errorf("orders %v", orders)
@@ -119,13 +118,13 @@ func TestFitJSONAirline(t *testing.T) {
 	if q["observations"].(float64) != 144 {
 		t.Errorf("observations %v", q["observations"])
 	}
-	fc := r["forecast"].(map[string]any)
-	mean := fc["mean"].([]any)
+	fc := r["forecasts"].(map[string]any)
+	mean := fc["forecast"].([]any)
 	lo, hi := fc["pi95_lower"].([]any), fc["pi95_upper"].([]any)
 	lo80, hi80 := fc["pi80_lower"].([]any), fc["pi80_upper"].([]any)
-	periods := fc["periods"].([]any)
+	periods := fc["period"].([]any)
 	res := r["residuals"].(map[string]any)
-	if len(mean) != 12 || len(res["one_step"].([]any)) != 144 || periods[0] != "1961-01" || res["first_period"] != "1949-01" {
+	if len(mean) != 12 || len(res["residual"].([]any)) != 144 || periods[0] != "1961-01" || res["first_period"] != "1949-01" {
 		t.Fatalf("forecast %d, residuals %v", len(mean), res["first_period"])
 	}
 	for k := range mean {
@@ -137,7 +136,7 @@ func TestFitJSONAirline(t *testing.T) {
 	// The south store ends in 1953-12, before the table's last period:
 	// as in forecast, it is closed and forecast as zero.
 	s := recs[1]
-	if !strings.Contains(s["warning"].(string), "closed") || s["forecast"].(map[string]any)["mean"].([]any)[0].(float64) != 0 {
+	if !strings.Contains(s["warning"].(string), "closed") || s["forecasts"].(map[string]any)["forecast"].([]any)[0].(float64) != 0 {
 		t.Errorf("south: warning %q", s["warning"])
 	}
 }
@@ -166,16 +165,12 @@ func TestFitMatchesEngine(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		model := recs[0]["model"].(map[string]any)
-		if model["form"] != nf.Spec || model["family"] != nf.Family {
-			t.Errorf("%+v: fit gave %v %v, engine %s %s", spec, model["family"], model["form"], nf.Family, nf.Spec)
+		if recs[0]["model"] != nf.Spec || recs[0]["family"] != nf.Family {
+			t.Errorf("%+v: fit gave %v %v, engine %s %s", spec, recs[0]["family"], recs[0]["model"], nf.Family, nf.Spec)
 		}
-		// The command's details and estimates together are the engine's
-		// parameters.
-		got := model["details"].(map[string]any)
-		if e := recs[0]["estimates"].([]any); len(e) > 0 {
-			got["estimates"] = e
-		}
+		// The command's params are the engine's parameters, as the
+		// models table writes them.
+		got := recs[0]["params"].(map[string]any)
 		var want map[string]any
 		raw, _ := json.Marshal(nf.Params)
 		if err := json.Unmarshal(raw, &want); err != nil {
@@ -184,7 +179,7 @@ func TestFitMatchesEngine(t *testing.T) {
 		if !reflect.DeepEqual(got, want) {
 			t.Errorf("%+v: parameters differ:\nfit    %v\nengine %v", spec, got, want)
 		}
-		mean := recs[0]["forecast"].(map[string]any)["mean"].([]any)
+		mean := recs[0]["forecasts"].(map[string]any)["forecast"].([]any)
 		for k, m := range mean {
 			if m.(float64) != nf.Mean[k] {
 				t.Errorf("%+v: forecast %d: %v vs %v", spec, k+1, m, nf.Mean[k])
@@ -252,8 +247,8 @@ func TestFitMonthEndDates(t *testing.T) {
 	// The seasonal naive forecast of 1953-01 is the value of 1952-01
 	// (the method's definition).
 	r := fitRecords(t, "fit", "--input", datesPath, "--time", "day", "--value", "sales", "--family", "seasonal-naive", "--json")[0]
-	fc := r["forecast"].(map[string]any)
-	if fc["periods"].([]any)[0] != "1953-01" || fc["mean"].([]any)[0].(float64) != air[36] {
+	fc := r["forecasts"].(map[string]any)
+	if fc["period"].([]any)[0] != "1953-01" || fc["forecast"].([]any)[0].(float64) != air[36] {
 		t.Errorf("forecast %v", fc)
 	}
 }
@@ -302,7 +297,7 @@ func TestFixedFormFitsOrExits2(t *testing.T) {
 	}{
 		{[]string{"--model", "ARIMA(2,1,1)(1,1,1)", "--constant"}, "--constant: model \"ARIMA(2,1,1)(1,1,1)\" differences d+D = 2 times"},
 		{[]string{"--model", "ARIMA(0,1,1)(0,1,1) m=12 + drift"}, "--model: model \"ARIMA(0,1,1)(0,1,1) m=12 + drift\" differences d+D = 2 times"},
-		{[]string{"--model", "ARIMA(0,1,1)(0,1,1) m=60"}, `cannot be fitted to series store="south"`},
+		{[]string{"--model", "ARIMA(0,1,1)(0,1,1) m=60"}, `cannot be fitted to series store=south`},
 	} {
 		args := append(append([]string{}, base...), c.extra...)
 		stderr := captureStderr(t, func() {
@@ -316,9 +311,8 @@ func TestFixedFormFitsOrExits2(t *testing.T) {
 	}
 	recs := fitRecords(t, append(append([]string{}, base...), "--model", "ARIMA(0,0,1)(0,1,1) m=12 + drift", "--json")...)
 	for _, r := range recs {
-		model := r["model"].(map[string]any)
-		if w, _ := r["warning"].(string); model["family"] != "arima" || strings.Contains(w, "fell back") {
-			t.Errorf("series %v: fitted %v with warning %q, want the fixed ARIMA form", r["series"], model, r["warning"])
+		if w, _ := r["warning"].(string); r["family"] != "arima" || strings.Contains(w, "fell back") {
+			t.Errorf("series %v: fitted %v %v with warning %q, want the fixed ARIMA form", r["series"], r["family"], r["model"], r["warning"])
 		}
 	}
 }

@@ -12,9 +12,12 @@ import (
 
 // smoothingStates names, for exponential smoothing and Theta, the state
 // each smoothing weight updates, so that fit prints the weights in words.
+// The textbook's level ℓ is "underlying" (the smoothed sales without the
+// season), as in the families' parameters: "level" means a level of the
+// structure only.
 var smoothingStates = map[string]map[string]string{
-	"ets":   {"α": "level", "β": "trend", "γ": "season"},
-	"theta": {"α": "level"},
+	"ets":   {"α": "underlying", "β": "trend", "γ": "season"},
+	"theta": {"α": "underlying"},
 }
 
 // smoothingWeights splits a fit's estimates into the smoothing weights
@@ -93,9 +96,9 @@ func writeSeason(w io.Writer, indent, title string, values []float64, labels []s
 // terms (additive).
 func seasonTitle(multiplicative bool) string {
 	if multiplicative {
-		return "seasonal factors (× the level: 1.10 is 10% above it), by the period each applies to"
+		return "seasonal factors (× the underlying value: 1.10 is 10% above it), by the period each applies to"
 	}
-	return "seasonal terms (added to the level), by the period each applies to"
+	return "seasonal terms (added to the underlying value), by the period each applies to"
 }
 
 // floats reads a JSON array of numbers.

@@ -28,8 +28,13 @@ func TestFitLabelsSeasonalFactorsByMonth(t *testing.T) {
 	}
 	path := writeFile(t, t.TempDir(), "march.csv", b.String())
 	out := runOK(t, "fit", "--input", path, "--model", "ETS(M,N,M)", "--horizon", "3")
-	if !strings.Contains(out, "smoothing weights") || !regexp.MustCompile(`(?m)^\s+level\s+[0-9.]+\s+(held almost fixed|moves slowly|moves with recent periods|follows the latest periods closely)$`).MatchString(out) {
+	if !strings.Contains(out, "smoothing weights") || !regexp.MustCompile(`(?m)^\s+underlying\s+[0-9.]+\s+(held almost fixed|moves slowly|moves with recent periods|follows the latest periods closely)$`).MatchString(out) {
 		t.Errorf("no smoothing weights in words:\n%s", out)
+	}
+	// "level" is a level of the structure only; the smoothed state is
+	// "underlying" in the text as in the parameters.
+	if regexp.MustCompile(`\blevel\b`).MatchString(out) {
+		t.Errorf("fit's text says level for the smoothed state:\n%s", out)
 	}
 	factors := map[string]float64{}
 	for _, m := range regexp.MustCompile(`\b(Jan|Feb|Mar|Apr|May|Jun|Jul|Aug|Sep|Oct|Nov|Dec)\s+([0-9.]+)`).FindAllStringSubmatch(out, -1) {
@@ -48,6 +53,6 @@ func TestFitLabelsSeasonalFactorsByMonth(t *testing.T) {
 		}
 	}
 	if factors["Mar"] < 2 {
-		t.Errorf("March's factor %v, want about 2.5 (300 against a level near 117)", factors["Mar"])
+		t.Errorf("March's factor %v, want about 2.5 (300 against an underlying value near 117)", factors["Mar"])
 	}
 }

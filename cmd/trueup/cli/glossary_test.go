@@ -12,7 +12,9 @@ import (
 	"github.com/spf13/cobra"
 	"github.com/spf13/pflag"
 
+	"trueup/engine"
 	"trueup/internal/glossary"
+	"trueup/models/families"
 )
 
 // glossaryPath is the one list of user-visible names.
@@ -113,8 +115,58 @@ func TestGlossaryTablesAndRunJSON(t *testing.T) {
 		}
 		keys = append(keys, jsonKeys(doc, "")...)
 	}
+	keys = append(keys, printedJSONKeys(t, in)...)
+	// The factors of an applied calibration, which run.json holds only
+	// when calibration helped (the run above need not apply it).
+	applied, err := json.Marshal(engine.CalibrationRecord{Applied: true, Calibration: &engine.Calibration{
+		Levels: []string{"total"}, Groups: [][2]int{{1, 4}}, Intervals: []float64{80}, Factor: [][][]float64{{{1.1}}}, Count: [][]int{{12}}}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var rec any
+	if err := json.Unmarshal(applied, &rec); err != nil {
+		t.Fatal(err)
+	}
+	keys = append(keys, jsonKeys(rec, "")...)
 	checkGlossary(t, g, "Table columns", columns)
-	checkGlossary(t, g, "run.json keys", keys)
+	checkGlossary(t, g, "JSON keys", keys)
+}
+
+// printedJSONKeys runs inspect --json and fit --json (every family, and a
+// transform, so that every family's parameters show) on the input and
+// returns every key they print. forecast --json and backtest --json print
+// their run.json, read above.
+func printedJSONKeys(t *testing.T, in string) []string {
+	t.Helper()
+	out, err := runCapture("inspect", "--input", in, "--hierarchy", "region,store", "--hierarchy", "category", "--json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var doc any
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatalf("inspect --json: %v", err)
+	}
+	keys := jsonKeys(doc, "")
+	fits := [][]string{{"--family", "arima", "--transform", "boxcox"}, {"--model", "ARIMA(0,0,1)(0,1,1)", "--constant"}}
+	for _, f := range families.Registry().Names() {
+		fits = append(fits, []string{"--family", f})
+	}
+	for _, f := range fits {
+		args := append([]string{"fit", "--input", in, "--key", "store", "--sum-duplicates", "--horizon", "3", "--json"}, f...)
+		for _, rec := range fitRecords(t, args...) {
+			keys = append(keys, jsonKeys(rec, "")...)
+		}
+	}
+	// A strongly seasonal series, so that Theta's seasonal adjustment
+	// and a trended, damped, seasonal ETS form show their parameters.
+	air := writeAirCSV(t, false)
+	for _, f := range [][]string{{"--family", "theta"}, {"--model", "ETS(M,Ad,M)"}} {
+		args := append([]string{"fit", "--input", air, "--time", "month", "--key", "store", "--horizon", "3", "--json"}, f...)
+		for _, rec := range fitRecords(t, args...) {
+			keys = append(keys, jsonKeys(rec, "")...)
+		}
+	}
+	return keys
 }
 
 // csvRecord returns the column named column of the first data row of the

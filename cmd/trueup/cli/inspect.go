@@ -49,10 +49,10 @@ partial last period set aside. Nothing is written.`,
 			fmt.Fprintf(w, "periods: %s to %s, %s %ss (grain from %s)\n", rep.FirstPeriod, rep.LastPeriod, n(rep.Periods), rep.Grain, rep.GrainFrom)
 			fmt.Fprintf(w, "bottom series: %s, nodes: %s\n\n", n(rep.BottomSeries), n(rep.Nodes))
 			var levels [][]string
-			for _, l := range rep.SeriesByLevel {
+			for _, l := range rep.NodesPerLevel {
 				levels = append(levels, []string{l.Level, n(l.Nodes), n(l.LateStarts), n(l.EarlyEnds)})
 			}
-			textTable(w, []string{"level", "series", "opened late", "closed"}, levels)
+			textTable(w, []string{"level", "nodes", "opened late", "closed"}, levels)
 			fmt.Fprintln(w)
 			textTable(w, []string{"input check", "count"}, [][]string{
 				{"duplicate rows (same key and period)", n(rep.DuplicateRows)},
@@ -79,7 +79,7 @@ partial last period set aside. Nothing is written.`,
 						fmt.Fprintf(w, "  … and %d more (--json lists all)\n", len(group.spans)-listMax)
 						break
 					}
-					fmt.Fprintf(w, "  %s: %s to %s\n", shownKey(s.Key), s.First, s.Last)
+					fmt.Fprintf(w, "  %s: %s to %s\n", shownKey(s.Node), s.First, s.Last)
 				}
 			}
 			return nil

@@ -295,20 +295,32 @@ func TestInspectReportsOpeningsAndClosures(t *testing.T) {
 	}
 	var rep struct {
 		Rows          int `json:"bottom_series"`
-		SeriesByLevel []struct {
+		NodesPerLevel []struct {
 			Level      string `json:"level"`
 			LateStarts int    `json:"opened_late"`
 			EarlyEnds  int    `json:"closed"`
-		} `json:"series_per_level"`
-		LateStarts []struct{ Level, Key string } `json:"opened_late"`
+		} `json:"nodes_per_level"`
+		LateStarts []struct {
+			Level string `json:"level"`
+			Node  string `json:"node"`
+		} `json:"opened_late"`
 	}
 	if err := json.Unmarshal([]byte(out.String()), &rep); err != nil {
 		t.Fatal(err)
 	}
 	// The demo chain opens three stores and closes one (fixtures/demo/README.md).
-	stores := rep.SeriesByLevel[4]
+	if len(rep.NodesPerLevel) < 5 {
+		t.Fatalf("inspect report: %s", out.String())
+	}
+	stores := rep.NodesPerLevel[4]
 	if rep.Rows != 224 || stores.Level != "region+store" || stores.LateStarts != 3 || stores.EarlyEnds != 1 || len(rep.LateStarts) != 3 {
 		t.Errorf("inspect report: %s", out.String())
+	}
+	// Each opening names its node as every table and command does.
+	for _, sp := range rep.LateStarts {
+		if !strings.HasPrefix(sp.Node, "region=") || !strings.Contains(sp.Node, " store=") {
+			t.Errorf("an opening is named %q, not by its label (region=… store=…)", sp.Node)
+		}
 	}
 
 	out.Reset()
