@@ -7,6 +7,7 @@ import (
 	"testing"
 
 	"github.com/apache/beam/sdks/v2/go/pkg/beam"
+	"github.com/apache/beam/sdks/v2/go/pkg/beam/core/graph"
 	"github.com/apache/beam/sdks/v2/go/pkg/beam/x/beamx"
 
 	"trueup/engine"
@@ -65,4 +66,45 @@ func TestFitterNoJobs(t *testing.T) {
 	if err != nil || len(fits) != 0 {
 		t.Errorf("got %v, %v", fits, err)
 	}
+}
+
+// The fit stage's output leads to a grouping (here a combine), which a
+// runner never fuses into the stage, so the stage has an output that is
+// read outside it and prism waits for its bundles blocked, not in the
+// busy loop it uses for a stage with none (see pipeline).
+func TestFitStageOutputLeadsToAGrouping(t *testing.T) {
+	edges, _, err := pipeline([]string{"a", "b"}, "fits", 2).Build()
+	if err != nil {
+		t.Fatal(err)
+	}
+	var fit *graph.MultiEdge
+	for _, e := range edges {
+		if e.Op == graph.ParDo {
+			if _, ok := e.DoFn.Recv.(*fitShard); ok {
+				fit = e
+			}
+		}
+	}
+	if fit == nil || len(fit.Output) != 1 {
+		t.Fatalf("no fit ParDo with one output in %v", edges)
+	}
+	// Follow the fit's output through the transforms that read it.
+	reached := map[*graph.Node]bool{fit.Output[0].To: true}
+	for grew := true; grew; {
+		grew = false
+		for _, e := range edges {
+			if len(e.Input) == 0 || !reached[e.Input[0].From] {
+				continue
+			}
+			if e.Op == graph.Combine || e.Op == graph.CoGBK {
+				return
+			}
+			for _, out := range e.Output {
+				if !reached[out.To] {
+					reached[out.To], grew = true, true
+				}
+			}
+		}
+	}
+	t.Errorf("the fit stage's output reaches no grouping")
 }

@@ -2,11 +2,13 @@
 # The Beam fit stage against the local one on a large invented monthly
 # chain (the generator of bench/chain/run.sh: 8 regions, 8 categories,
 # STORES stores, six years of months): runs `trueup forecast --family auto`
-# and `trueup-beam forecast` (prism, this machine) on the same file,
-# alternating ROUNDS times, each with two workers, writing Parquet and
-# CSV; prints wall time, CPU and peak memory of each run and the stages
-# from run.json, compares every output file (samesets.py) and prints the
-# ratio of the median wall times.
+# and `trueup-beam forecast` (prism, this machine) on the same file, one
+# after the other in each of ROUNDS rounds (local first in odd rounds,
+# Beam first in even ones, so that neither always meets the same load),
+# each with two workers, writing Parquet and CSV; prints wall time, CPU
+# and peak memory of each run and the stages from run.json, compares
+# every output file (samesets.py) and prints each round's ratio of wall
+# time and of user CPU, with their median and range.
 #
 #   sh dist/beam/bench/run.sh [STORES [ROUNDS [FAMILY]]]
 #
@@ -35,7 +37,9 @@ PY
 }
 round=1
 while [ "$round" -le "$rounds" ]; do
-	for bin in trueup trueup-beam; do
+	order="trueup trueup-beam"
+	[ $((round % 2)) -eq 0 ] && order="trueup-beam trueup"
+	for bin in $order; do
 		echo "== round $round, $bin; load average before: $(cut -d' ' -f1-3 /proc/loadavg)"
 		# Both write to the same folder name, so run.json and the report
 		# name the same paths; the set is then moved aside.
@@ -53,7 +57,10 @@ while [ "$round" -le "$rounds" ]; do
 done
 python3 - "$dir/time-trueup" "$dir/time-trueup-beam" <<'PY'
 import statistics, sys
-walls = [[float(l.split()[0]) for l in open(p)] for p in sys.argv[1:]]
-local, beam = (statistics.median(w) for w in walls)
-print(f"median wall: local {local:.1f} s, beam (prism) {beam:.1f} s; ratio {beam / local:.2f}")
+# One line a round in each file: "WALL s wall, USER s user CPU, ...".
+runs = [[(float(l.split()[0]), float(l.split()[3])) for l in open(p)] for p in sys.argv[1:]]
+for what, k in (("wall", 0), ("user CPU", 1)):
+    ratios = [b[k] / l[k] for l, b in zip(*runs)]
+    print(f"{what}: beam/local by round " + ", ".join(f"{r:.2f}" for r in ratios)
+          + f"; median {statistics.median(ratios):.2f}, range {min(ratios):.2f} to {max(ratios):.2f}")
 PY
