@@ -5,6 +5,7 @@ import (
 	"strings"
 	"testing"
 
+	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 
 	"trueup/inputerr"
@@ -402,6 +403,83 @@ func TestLockedNonnegative(t *testing.T) {
 		for i := range unl.Forecast {
 			if relDiff(sol.Unlocked[i][0], unl.Forecast[i][0]) > 1e-9 {
 				t.Errorf("%v: %s: unlocked %g, non-negative reconcile without locks %g", solver, st.Label(i), sol.Unlocked[i][0], unl.Forecast[i][0])
+			}
+		}
+	}
+}
+
+// TestLockPreconditioner checks the block elimination of coupleLocks:
+// applied to M·v, with M = [P̃ B; Bᵀ W_LL] formed here term by term
+// (P̃ = D0 + Y·Yᵀ, B = UcᵀW·E_L, W_LL the locked nodes' block of W), the
+// preconditioner gives v back. A wrong sign or a missing term in the
+// elimination breaks the identity; the locked solves would still
+// converge, only slower, so the non-negative tests cannot see it.
+func TestLockPreconditioner(t *testing.T) {
+	st := tree(t, 2, 2, 3)
+	p := problemFor(st, 60, 1, 4)
+	n := len(st.Nodes)
+	nodes := []int{0, 1, 3} // the total and two aggregates below it
+	for _, cov := range []Covariance{CovShrink, CovVariance} {
+		errc, err := p.errorCov()
+		if err != nil {
+			t.Fatal(err)
+		}
+		w, err := Projection{Cov: cov}.weights(&p, errc, n)
+		if err != nil {
+			t.Fatal(err)
+		}
+		lp, err := newLargeProjector(st, w)
+		if err != nil {
+			t.Fatal(err)
+		}
+		k, L := lp.k, len(nodes)
+		T := w.rank()
+		inv := make([]float64, k)
+		for a := range inv {
+			inv[a] = 1 / lp.dq[a]
+		}
+		small, tmp := make([]float64, max(T, 1)), make([]float64, k)
+		c := lp.coupleLocks(nodes, small, tmp, inv)
+		if c == nil {
+			t.Fatalf("%s: the Schur complement was refused", cov)
+		}
+		v := make([]float64, k+L)
+		for i := range v {
+			v[i] = math.Sin(float64(3*i + 1))
+		}
+		// r = M·v.
+		r := make([]float64, k+L)
+		for a := 0; a < k; a++ {
+			r[a] = lp.dq[a] * v[a]
+		}
+		if lp.core != nil {
+			for a := 0; a < k; a++ {
+				for b := 0; b < k; b++ {
+					r[a] += floats.Dot(lp.y.Data[a*T:(a+1)*T], lp.y.Data[b*T:(b+1)*T]) * v[b]
+				}
+			}
+		}
+		for l, i := range nodes {
+			wcol := make([]float64, n)
+			for j := range wcol {
+				wcol[j] = w.at(j, i)
+			}
+			bcol := make([]float64, k)
+			lp.ucTMul(bcol, wcol, 1)
+			for a := 0; a < k; a++ {
+				r[a] += bcol[a] * v[k+l]
+			}
+			r[k+l] = floats.Dot(bcol, v[:k])
+			for q, j := range nodes {
+				r[k+l] += w.at(i, j) * v[k+q]
+			}
+		}
+		z := make([]float64, k+L)
+		lp.precond(z[:k], r[:k], small, tmp, inv, 1)
+		c.apply(z[:k], z[k:], r[k:])
+		for i := range v {
+			if math.Abs(z[i]-v[i]) > 1e-9 {
+				t.Errorf("%s: entry %d: M⁻¹·M·v = %g, v = %g", cov, i, z[i], v[i])
 			}
 		}
 	}
