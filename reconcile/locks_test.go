@@ -484,3 +484,65 @@ func TestLockPreconditioner(t *testing.T) {
 		}
 	}
 }
+
+// TestLockedSampledVariance: on the large path with more late-starting
+// nodes than sample paths, the late nodes' part of each variance is
+// sampled (factorVariance), and the locks' correction M is applied to the
+// sampled columns as to the exact ones. Locked nodes come out with zero
+// variance exactly, and every other variance agrees with the dense path's
+// exact one (itself checked against the published formula by
+// TestLockedMinTMatchesDenseFormula) within the sampling error.
+//
+// The tolerance: a node's sampled part is the mean of N squared Gaussian
+// path values, whose relative standard deviation is √(2/N) (the variance
+// of χ²_N/N is 2/N; common statistics); the control variate only lowers
+// it, and the exact rank-T part adds no error, so the relative error of
+// the whole variance is at most that of the sampled part. Five standard
+// deviations, 5·√(2/N), bound every node's error here: a chance of about
+// 6e-7 a node under a normal approximation, and the paths are seeded, so
+// the outcome does not vary between runs.
+func TestLockedSampledVariance(t *testing.T) {
+	st := retail(t, 2, 3, 2, 4, 26) // 1,971 nodes, 1,248 bottom
+	p := problemFor(st, 60, 3, 29)
+	late := lateStarts(&p, 1, 11)
+	const paths = 1000
+	if late <= paths {
+		t.Fatalf("%d late nodes: the test wants more than %d, so that the variances are sampled", late, paths)
+	}
+	p.Paths = paths
+	state, _ := st.Lookup([]string{"S1", "", "", "", ""})
+	dept, _ := st.Lookup([]string{"", "", "C0", "C0D2", ""})
+	item, _ := st.Lookup([]string{"S0", "S0T1", "C1", "C1D3", "C1D3I7"})
+	p.Locks = []Lock{
+		{Node: 0, Step: 0, Value: 1.05 * p.Base[0][0]},
+		{Node: state, Step: 1, Value: 0.9 * p.Base[state][1]},
+		{Node: dept, Step: 1, Value: p.Base[dept][1] + 10},
+		{Node: item, Step: 1, Value: 0},
+	}
+	d, l := denseAndLarge(t, Projection{Cov: CovShrink}, p)
+	if l.Notes["variance_paths"] != paths {
+		t.Fatalf("variance_paths %v, want %d: the variances were not sampled", l.Notes["variance_paths"], paths)
+	}
+	locked := map[[2]int]bool{}
+	for _, lk := range p.Locks {
+		locked[[2]int{lk.Node, lk.Step}] = true
+		if v := l.Variance[lk.Node][lk.Step]; v != 0 {
+			t.Errorf("locked %s step %d: sampled variance %g, want 0", st.Label(lk.Node), lk.Step+1, v)
+		}
+	}
+	tol := 5 * math.Sqrt(2.0/paths)
+	worst := 0.0
+	for i := range d.Variance {
+		for k, v := range d.Variance[i] {
+			if locked[[2]int{i, k}] {
+				continue
+			}
+			r := math.Abs(l.Variance[i][k]-v) / v
+			worst = math.Max(worst, r)
+			if r > tol {
+				t.Errorf("%s step %d: sampled variance %g, dense %g (%.3f relative, bound %.3f)", st.Label(i), k+1, l.Variance[i][k], v, r, tol)
+			}
+		}
+	}
+	t.Logf("%d late nodes, %d paths: worst relative error %.4f, bound %.3f", late, paths, worst, tol)
+}
