@@ -22,7 +22,7 @@ const KeyPrefix = "key_"
 // (forecasts, plans, models, residuals, history, backtest) write beside them.
 var resultColumns = map[string]bool{
 	"level": true, "period": true, "period_start": true, "step": true, "base": true, "base_variance": true,
-	"forecast": true, "residual": true, "value": true, "like_for_like": true,
+	"forecast": true, "locked": true, "residual": true, "value": true, "like_for_like": true,
 	"status": true, "family": true, "model": true, "params": true, "aicc": true, "innovation_variance": true,
 	"variance_scale": true, "observations": true, "warning": true,
 	"ljung_box_lags": true, "ljung_box_q": true, "ljung_box_p": true,

@@ -168,7 +168,10 @@ func (r *Result) plans(grains []tableio.Grain) *Plans {
 // over plan period k for a level in percent: actual + forecast part ±
 // z·sd, sd from the forecast part's variance. Under non-negative
 // reconciliation the lower bound is at least the actual part, since no
-// forecast is below zero. Without variances both bounds are NaN.
+// forecast is below zero. Without variances both bounds are NaN. The
+// interval is not calibrated: r.Calibration's factors are estimated from
+// errors of single periods per horizon group, and none is estimated for
+// totals over several periods (README, Plans by quarter and year).
 func (r *Result) PlanBounds(i, k int, level float64) (lo, hi float64) {
 	p := r.Plans
 	if p == nil || p.Variance == nil {

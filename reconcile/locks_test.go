@@ -5,6 +5,7 @@ import (
 	"strings"
 	"testing"
 
+	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 
 	"trueup/inputerr"
@@ -405,4 +406,143 @@ func TestLockedNonnegative(t *testing.T) {
 			}
 		}
 	}
+}
+
+// TestLockPreconditioner checks the block elimination of coupleLocks:
+// applied to M·v, with M = [P̃ B; Bᵀ W_LL] formed here term by term
+// (P̃ = D0 + Y·Yᵀ, B = UcᵀW·E_L, W_LL the locked nodes' block of W), the
+// preconditioner gives v back. A wrong sign or a missing term in the
+// elimination breaks the identity; the locked solves would still
+// converge, only slower, so the non-negative tests cannot see it.
+func TestLockPreconditioner(t *testing.T) {
+	st := tree(t, 2, 2, 3)
+	p := problemFor(st, 60, 1, 4)
+	n := len(st.Nodes)
+	nodes := []int{0, 1, 3} // the total and two aggregates below it
+	for _, cov := range []Covariance{CovShrink, CovVariance} {
+		errc, err := p.errorCov()
+		if err != nil {
+			t.Fatal(err)
+		}
+		w, err := Projection{Cov: cov}.weights(&p, errc, n)
+		if err != nil {
+			t.Fatal(err)
+		}
+		lp, err := newLargeProjector(st, w)
+		if err != nil {
+			t.Fatal(err)
+		}
+		k, L := lp.k, len(nodes)
+		T := w.rank()
+		inv := make([]float64, k)
+		for a := range inv {
+			inv[a] = 1 / lp.dq[a]
+		}
+		small, tmp := make([]float64, max(T, 1)), make([]float64, k)
+		c := lp.coupleLocks(nodes, small, tmp, inv)
+		if c == nil {
+			t.Fatalf("%s: the Schur complement was refused", cov)
+		}
+		v := make([]float64, k+L)
+		for i := range v {
+			v[i] = math.Sin(float64(3*i + 1))
+		}
+		// r = M·v.
+		r := make([]float64, k+L)
+		for a := 0; a < k; a++ {
+			r[a] = lp.dq[a] * v[a]
+		}
+		if lp.core != nil {
+			for a := 0; a < k; a++ {
+				for b := 0; b < k; b++ {
+					r[a] += floats.Dot(lp.y.Data[a*T:(a+1)*T], lp.y.Data[b*T:(b+1)*T]) * v[b]
+				}
+			}
+		}
+		for l, i := range nodes {
+			wcol := make([]float64, n)
+			for j := range wcol {
+				wcol[j] = w.at(j, i)
+			}
+			bcol := make([]float64, k)
+			lp.ucTMul(bcol, wcol, 1)
+			for a := 0; a < k; a++ {
+				r[a] += bcol[a] * v[k+l]
+			}
+			r[k+l] = floats.Dot(bcol, v[:k])
+			for q, j := range nodes {
+				r[k+l] += w.at(i, j) * v[k+q]
+			}
+		}
+		z := make([]float64, k+L)
+		lp.precond(z[:k], r[:k], small, tmp, inv, 1)
+		c.apply(z[:k], z[k:], r[k:])
+		for i := range v {
+			if math.Abs(z[i]-v[i]) > 1e-9 {
+				t.Errorf("%s: entry %d: M⁻¹·M·v = %g, v = %g", cov, i, z[i], v[i])
+			}
+		}
+	}
+}
+
+// TestLockedSampledVariance: on the large path with more late-starting
+// nodes than sample paths, the late nodes' part of each variance is
+// sampled (factorVariance), and the locks' correction M is applied to the
+// sampled columns as to the exact ones. Locked nodes come out with zero
+// variance exactly, and every other variance agrees with the dense path's
+// exact one (itself checked against the published formula by
+// TestLockedMinTMatchesDenseFormula) within the sampling error.
+//
+// The tolerance: a node's sampled part is the mean of N squared Gaussian
+// path values, whose relative standard deviation is √(2/N) (the variance
+// of χ²_N/N is 2/N; common statistics); the control variate only lowers
+// it, and the exact rank-T part adds no error, so the relative error of
+// the whole variance is at most that of the sampled part. Five standard
+// deviations, 5·√(2/N), bound every node's error here: a chance of about
+// 6e-7 a node under a normal approximation, and the paths are seeded, so
+// the outcome does not vary between runs.
+func TestLockedSampledVariance(t *testing.T) {
+	st := retail(t, 2, 3, 2, 4, 26) // 1,971 nodes, 1,248 bottom
+	p := problemFor(st, 60, 3, 29)
+	late := lateStarts(&p, 1, 11)
+	const paths = 1000
+	if late <= paths {
+		t.Fatalf("%d late nodes: the test wants more than %d, so that the variances are sampled", late, paths)
+	}
+	p.Paths = paths
+	state, _ := st.Lookup([]string{"S1", "", "", "", ""})
+	dept, _ := st.Lookup([]string{"", "", "C0", "C0D2", ""})
+	item, _ := st.Lookup([]string{"S0", "S0T1", "C1", "C1D3", "C1D3I7"})
+	p.Locks = []Lock{
+		{Node: 0, Step: 0, Value: 1.05 * p.Base[0][0]},
+		{Node: state, Step: 1, Value: 0.9 * p.Base[state][1]},
+		{Node: dept, Step: 1, Value: p.Base[dept][1] + 10},
+		{Node: item, Step: 1, Value: 0},
+	}
+	d, l := denseAndLarge(t, Projection{Cov: CovShrink}, p)
+	if l.Notes["variance_paths"] != paths {
+		t.Fatalf("variance_paths %v, want %d: the variances were not sampled", l.Notes["variance_paths"], paths)
+	}
+	locked := map[[2]int]bool{}
+	for _, lk := range p.Locks {
+		locked[[2]int{lk.Node, lk.Step}] = true
+		if v := l.Variance[lk.Node][lk.Step]; v != 0 {
+			t.Errorf("locked %s step %d: sampled variance %g, want 0", st.Label(lk.Node), lk.Step+1, v)
+		}
+	}
+	tol := 5 * math.Sqrt(2.0/paths)
+	worst := 0.0
+	for i := range d.Variance {
+		for k, v := range d.Variance[i] {
+			if locked[[2]int{i, k}] {
+				continue
+			}
+			r := math.Abs(l.Variance[i][k]-v) / v
+			worst = math.Max(worst, r)
+			if r > tol {
+				t.Errorf("%s step %d: sampled variance %g, dense %g (%.3f relative, bound %.3f)", st.Label(i), k+1, l.Variance[i][k], v, r, tol)
+			}
+		}
+	}
+	t.Logf("%d late nodes, %d paths: worst relative error %.4f, bound %.3f", late, paths, worst, tol)
 }

@@ -650,6 +650,7 @@ func (q *largeQP) solveBordered(free []bool, y []float64, lockNodes []int, lockV
 	for l, i := range lockNodes {
 		ldiag[l] = 1 / wii(i)
 	}
+	coupled := lp.coupleLocks(lockNodes, small, tmp, inv)
 	pre := func(dst, r []float64) {
 		lp.precond(dst[:k], r[:k], small, tmp, inv, 1)
 		for j, f := range free {
@@ -657,6 +658,10 @@ func (q *largeQP) solveBordered(free []bool, y []float64, lockNodes []int, lockV
 			if !f {
 				dst[k+j] = wdiag[j] * r[k+j]
 			}
+		}
+		if coupled != nil {
+			coupled.apply(dst[:k], dst[k+m:], r[k+m:])
+			return
 		}
 		for l := range lockNodes {
 			dst[k+m+l] = ldiag[l] * r[k+m+l]
@@ -731,6 +736,90 @@ func (q *largeQP) solveBordered(free []bool, y []float64, lockNodes []int, lockV
 		out[j] = v
 	}
 	return out, x[k+m:], nil
+}
+
+// lockCoupling is the part of solveBordered's preconditioner for the
+// rows of the locked nodes. They are coupled to the aggregation
+// constraints through B = UcᵀW·E_L (k × L), strongly for a locked
+// aggregate such as the total: preconditioned by the diagonal of W
+// alone, a restricted solve of BenchmarkMinTRetailLocked's locked
+// programme took 235 conjugate-gradient iterations on average against
+// 164 without locks; with the preconditioner below, 195. It is
+//
+//	M = [P̃ B; Bᵀ W_LL]
+//
+// (P̃ the Woodbury preconditioner of Q, W_LL the locked nodes' block of
+// W), applied by block elimination with the L × L Schur complement
+// S = W_LL − Bᵀ·P̃⁻¹·B: z_L = S⁻¹(r_L − Bᵀ·P̃⁻¹r_k), z_k = P̃⁻¹r_k −
+// P̃⁻¹B·z_L (Saad 2003, Iterative Methods for Sparse Linear Systems,
+// 2nd ed., §14.1 on block preconditioners, cited from memory). M is
+// positive definite exactly when S is, which the Cholesky factorization
+// checks; the bound series keep their diagonal.
+type lockCoupling struct {
+	b, pb [][]float64 // per lock: B's column and P̃⁻¹ applied to it
+	s     mat.Cholesky
+	v     *mat.VecDense // L scratch
+}
+
+// coupleLocks returns the coupled preconditioner of the locked nodes'
+// rows, or nil for none, or when S is not positive definite (the caller
+// then keeps the diagonal). small, tmp and inv are precond's scratch and
+// inverse diagonal.
+func (lp *largeProjector) coupleLocks(nodes []int, small, tmp, inv []float64) *lockCoupling {
+	L, k, n := len(nodes), lp.k, lp.n
+	w := lp.w
+	T := w.rank()
+	if L == 0 || k == 0 {
+		return nil
+	}
+	c := &lockCoupling{b: make([][]float64, L), pb: make([][]float64, L), v: mat.NewVecDense(L, nil)}
+	col := make([]float64, n)
+	for l, i := range nodes {
+		// W·e_i = Δ_i·e_i + U·U_iᵀ.
+		clear(col)
+		if T > 0 {
+			blas64.Gemv(blas.NoTrans, 1, blas64.General{Rows: n, Cols: T, Stride: T, Data: w.U},
+				blas64.Vector{N: T, Inc: 1, Data: w.U[i*T : (i+1)*T]}, 0, blas64.Vector{N: n, Inc: 1, Data: col})
+		}
+		col[i] += w.Delta[i]
+		c.b[l] = make([]float64, k)
+		lp.ucTMul(c.b[l], col, 1)
+		c.pb[l] = make([]float64, k)
+		lp.precond(c.pb[l], c.b[l], small, tmp, inv, 1)
+	}
+	s := mat.NewSymDense(L, nil)
+	for l, i := range nodes {
+		for q := l; q < L; q++ {
+			j := nodes[q]
+			v := -floats.Dot(c.b[l], c.pb[q])
+			if T > 0 {
+				v += floats.Dot(w.U[i*T:(i+1)*T], w.U[j*T:(j+1)*T])
+			}
+			if i == j {
+				v += w.Delta[i]
+			}
+			s.SetSym(l, q, v)
+		}
+	}
+	if !c.s.Factorize(s) {
+		return nil
+	}
+	return c
+}
+
+// apply completes the preconditioner: dk holds P̃⁻¹r_k on entry and
+// z_k on return; zl is set to z_L for the locks' residual rl.
+func (c *lockCoupling) apply(dk, zl, rl []float64) {
+	for l := range c.b {
+		c.v.SetVec(l, rl[l]-floats.Dot(c.b[l], dk))
+	}
+	if err := c.s.SolveVecTo(c.v, c.v); err != nil {
+		panic("reconcile: lock preconditioner solve: " + err.Error())
+	}
+	for l := range c.b {
+		zl[l] = c.v.AtVec(l)
+		floats.AddScaled(dk, -zl[l], c.pb[l])
+	}
 }
 
 func dot(a, b []float64) float64 { return floats.Dot(a, b) }

@@ -128,6 +128,8 @@ func cell(c *tableio.Column, r int) string {
 		return strconv.FormatInt(c.Ints[r], 10)
 	case tableio.Date:
 		return time.Unix(c.Ints[r]*86400, 0).UTC().Format("2006-01-02")
+	case tableio.Bool:
+		return strconv.FormatBool(c.Ints[r] != 0)
 	default:
 		v := c.Floats[r]
 		if math.IsNaN(v) {
@@ -148,7 +150,7 @@ func number(c *tableio.Column, r int) float64 {
 		return c.Floats[r]
 	case tableio.Int64:
 		return float64(c.Ints[r])
-	case tableio.Date:
+	case tableio.Date, tableio.Bool:
 		return math.NaN()
 	}
 	v, err := strconv.ParseFloat(c.Strings[r], 64)

@@ -73,10 +73,13 @@ const (
 	// written as a Parquet DATE (INT32), an Arrow date32 and YYYY-MM-DD
 	// text in CSV.
 	Date
+	// Bool is true or false: Ints holds 1 or 0. It is written as a
+	// Parquet BOOLEAN, an Arrow bool and true or false in CSV.
+	Bool
 )
 
 // Column is one output column. Exactly one of Strings, Floats, Ints is used,
-// according to Type (Ints for Int64 and Date). Null, when non-nil, marks null entries; a NaN float is
+// according to Type (Ints for Int64, Date and Bool). Null, when non-nil, marks null entries; a NaN float is
 // also written as null.
 type Column struct {
 	Name    string

@@ -84,7 +84,7 @@ func checkTable(t *Table) (int, error) {
 			m, other = len(c.Strings), len(c.Floats)+len(c.Ints)
 		case Float64:
 			m, other = len(c.Floats), len(c.Strings)+len(c.Ints)
-		case Int64, Date:
+		case Int64, Date, Bool:
 			m, other = len(c.Ints), len(c.Strings)+len(c.Floats)
 		default:
 			return 0, fmt.Errorf("column %q: unknown type %d", c.Name, c.Type)
@@ -137,6 +137,8 @@ func writeCSV(w io.Writer, t *Table, n int, text func(string) string) error {
 				rec[j] = string(appendCSVFloat(buf[:0], c.Floats[i]))
 			case c.Type == Date:
 				rec[j] = Period{Day, int(c.Ints[i])}.String()
+			case c.Type == Bool:
+				rec[j] = strconv.FormatBool(c.Ints[i] != 0)
 			default:
 				rec[j] = strconv.FormatInt(c.Ints[i], 10)
 			}
@@ -185,6 +187,18 @@ func record(t *Table, n int) arrow.RecordBatch {
 			cols[j] = b.NewArray()
 			b.Release()
 			fields[j] = arrow.Field{Name: c.Name, Type: arrow.FixedWidthTypes.Date32, Nullable: true}
+		case Bool:
+			b := array.NewBooleanBuilder(mem)
+			for i, v := range c.Ints {
+				if valid[i] {
+					b.Append(v != 0)
+				} else {
+					b.AppendNull()
+				}
+			}
+			cols[j] = b.NewArray()
+			b.Release()
+			fields[j] = arrow.Field{Name: c.Name, Type: arrow.FixedWidthTypes.Boolean, Nullable: true}
 		default:
 			b := array.NewInt64Builder(mem)
 			b.AppendValues(c.Ints, valid)
@@ -206,7 +220,7 @@ const rowGroupRows = 1 << 20
 
 // writeParquet writes t with parquet/file's column chunk writers: every
 // column optional (nulls as definition level 0), text as UTF-8 String,
-// Date as INT32 DATE, dictionary pages where they pay, Snappy pages. The
+// Date as INT32 DATE, Bool as BOOLEAN, dictionary pages where they pay, Snappy pages. The
 // file carries no timestamps, so the same table gives the same bytes.
 func writeParquet(w io.Writer, t *Table, n int) error {
 	fields := make(schema.FieldList, len(t.Columns))
@@ -220,6 +234,8 @@ func writeParquet(w io.Writer, t *Table, n int) error {
 			fields[j], err = schema.NewPrimitiveNode(c.Name, parquet.Repetitions.Optional, parquet.Types.Double, -1, -1)
 		case Int64:
 			fields[j], err = schema.NewPrimitiveNode(c.Name, parquet.Repetitions.Optional, parquet.Types.Int64, -1, -1)
+		case Bool:
+			fields[j], err = schema.NewPrimitiveNode(c.Name, parquet.Repetitions.Optional, parquet.Types.Boolean, -1, -1)
 		default: // Date
 			fields[j], err = schema.NewPrimitiveNodeLogical(c.Name, parquet.Repetitions.Optional, schema.DateLogicalType{}, parquet.Types.Int32, -1, -1)
 		}
@@ -237,7 +253,7 @@ func writeParquet(w io.Writer, t *Table, n int) error {
 		parquet.WithMaxRowGroupLength(rowGroupRows),
 	}
 	for _, c := range t.Columns {
-		if !dictionaryFits(c) {
+		if c.Type == Bool || !dictionaryFits(c) { // no dictionary for BOOLEAN
 			opts = append(opts, parquet.WithDictionaryFor(c.Name, false))
 		}
 	}
@@ -350,6 +366,14 @@ func writeRowGroup(fw *file.Writer, t *Table, lo, hi int) error {
 				}
 			}
 			_, err = cw.(*file.Int64ColumnChunkWriter).WriteBatch(v, def, nil)
+		case Bool:
+			v := make([]bool, 0, hi-lo)
+			for i := lo; i < hi; i++ {
+				if def[i-lo] == 1 {
+					v = append(v, c.Ints[i] != 0)
+				}
+			}
+			_, err = cw.(*file.BooleanColumnChunkWriter).WriteBatch(v, def, nil)
 		default: // Date
 			v := make([]int32, 0, hi-lo)
 			for i := lo; i < hi; i++ {

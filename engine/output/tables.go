@@ -101,9 +101,11 @@ func periodColumns(res *engine.Result, first, count int) (label, start tableio.C
 }
 
 // ForecastTable has one row per node and step: level, key columns,
-// period, step, base forecast and its variance, the reconciled forecast
-// and, per interval level L, the bounds piL_lower and piL_upper (see
-// engine.Result.Bounds; left out when the result has no variances).
+// period, step, base forecast and its variance, the reconciled forecast,
+// whether a lock fixed it (locked: true where the lock table gave the
+// value, so its interval has no width) and, per interval level L, the
+// bounds piL_lower and piL_upper (see engine.Result.Bounds; left out
+// when the result has no variances).
 func ForecastTable(res *engine.Result) *tableio.Table {
 	h := res.Horizon
 	st := res.Structure
@@ -114,6 +116,10 @@ func ForecastTable(res *engine.Result) *tableio.Table {
 	base := tableio.Column{Name: "base", Type: tableio.Float64, Floats: make([]float64, 0, n*h)}
 	baseVar := tableio.Column{Name: "base_variance", Type: tableio.Float64, Floats: make([]float64, 0, n*h)}
 	fc := tableio.Column{Name: "forecast", Type: tableio.Float64, Floats: make([]float64, 0, n*h)}
+	locked := tableio.Column{Name: "locked", Type: tableio.Bool, Ints: make([]int64, n*h)}
+	for _, l := range res.Locks {
+		locked.Ints[l.Node*h+l.Step] = 1
+	}
 	levels := res.Levels
 	if res.Solution.Variance == nil {
 		levels = nil // no variances, no intervals: the columns are left out
@@ -141,7 +147,7 @@ func ForecastTable(res *engine.Result) *tableio.Table {
 			}
 		}
 	}
-	cols = append(cols, period, periodStart, step, base, baseVar, fc)
+	cols = append(cols, period, periodStart, step, base, baseVar, fc, locked)
 	cols = append(cols, bounds...)
 	return &tableio.Table{Columns: cols}
 }

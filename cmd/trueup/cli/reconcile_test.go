@@ -12,6 +12,11 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/apache/arrow-go/v18/arrow"
+	"github.com/apache/arrow-go/v18/arrow/ipc"
+	"github.com/apache/arrow-go/v18/parquet"
+	"github.com/apache/arrow-go/v18/parquet/file"
+
 	"trueup/tableio"
 )
 
@@ -347,5 +352,72 @@ func TestReconcileLocks(t *testing.T) {
 	}
 	if _, err := os.Stat(out2); !os.IsNotExist(err) {
 		t.Errorf("contradictory locks left %s behind (%v)", out2, err)
+	}
+}
+
+// TestLockedColumn: the forecasts table marks the locked rows, in every
+// output format: locked is true exactly at the two locks given (the total
+// in 2026-02, store S1 in 2026-01), whose forecasts are the locked values,
+// and false at every other row; Parquet stores it as BOOLEAN, Arrow as
+// bool, CSV as true/false.
+func TestLockedColumn(t *testing.T) {
+	dir := t.TempDir()
+	base, res := baseCSV(t, dir, -1, nil), residualCSV(t, dir, false)
+	locks := writeFile(t, dir, "locks.csv", "region,store,period,value\n,,2026-02-01,120\nR1,S1,2026-01-01,10\n")
+	out := filepath.Join(dir, "out")
+	if code := run([]string{"reconcile", "--base", base, "--residuals", res, "--hierarchy", "region,store", "--lock", locks, "--out", out, "--format", "csv,parquet,arrow", "--no-report", "--quiet"}); code != 0 {
+		t.Fatalf("exit %d", code)
+	}
+	want := map[string]float64{"//2026-02": 120, "R1/S1/2026-01": 10}
+	for _, name := range []string{"forecasts.csv", "forecasts.parquet", "forecasts.arrow"} {
+		tb, err := tableio.ReadTable(filepath.Join(out, name), "")
+		if err != nil {
+			t.Fatal(err)
+		}
+		cols := map[string]tableio.Column{}
+		for _, c := range tb.Columns {
+			cols[c.Name] = c
+		}
+		locked, ok := cols["locked"]
+		if !ok {
+			t.Fatalf("%s has no locked column", name)
+		}
+		rows := 0
+		for r := range cols["forecast"].Floats {
+			rows++
+			key := cellString(cols["region"], r) + "/" + cellString(cols["store"], r) + "/" + cellString(cols["period"], r)
+			v, isLocked := want[key]
+			if got := cellString(locked, r); got != fmt.Sprint(isLocked) {
+				t.Errorf("%s, %s: locked %q, want %v", name, key, got, isLocked)
+			}
+			if fc := cols["forecast"].Floats[r]; isLocked && fc != v {
+				t.Errorf("%s, %s: forecast %g, want the locked %g", name, key, fc, v)
+			}
+		}
+		if rows != len(reconcileNodes)*2 {
+			t.Errorf("%s: %d rows, want %d", name, rows, len(reconcileNodes)*2)
+		}
+	}
+	pf, err := file.OpenParquetFile(filepath.Join(out, "forecasts.parquet"), false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer pf.Close()
+	sc := pf.MetaData().Schema
+	if i := sc.ColumnIndexByName("locked"); i < 0 || sc.Column(i).PhysicalType() != parquet.Types.Boolean {
+		t.Errorf("the Parquet locked column is not BOOLEAN (column %d)", i)
+	}
+	af, err := os.Open(filepath.Join(out, "forecasts.arrow"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer af.Close()
+	ar, err := ipc.NewFileReader(af)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer ar.Close()
+	if fs := ar.Schema().FieldIndices("locked"); len(fs) != 1 || ar.Schema().Field(fs[0]).Type.ID() != arrow.BOOL {
+		t.Errorf("the Arrow locked column is not bool (%v)", fs)
 	}
 }
