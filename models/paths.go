@@ -1,11 +1,15 @@
 package models
 
-import "math"
+import (
+	"math"
+	"slices"
+)
 
 // PathForm is a fitted model's future written as a function of its
 // innovations, so that future sample paths can be simulated from any
 // innovations, in particular from the model's own in-sample residuals
-// (a bootstrap). A path over steps k = 0..h−1 is
+// (a bootstrap). It is plain data, so that it travels with a fit made
+// in another process. A path over steps k = 0..h−1 of a linear form is
 //
 //	z_k = Mean_k + Scale_k · Σ_{j=0..k} Psi_j · ε_{k−j},   y_k = back(z_k),
 //
@@ -26,9 +30,23 @@ type PathForm struct {
 	// Innovations holds the in-sample one-step errors on the scale of ε,
 	// one per observation, NaN where the model has none.
 	Innovations []float64
-	// BoxCox, when not nil, is the λ of the Box–Cox transform z is on
-	// (0: the log).
-	BoxCox *float64
+	// BoxCox says that z is on the scale of the Box–Cox transform with
+	// λ = Lambda (0: the log). (A flag and a number rather than a
+	// pointer: encodings such as gob drop a pointer to zero.)
+	BoxCox bool
+	Lambda float64
+	// Smoothing, when not nil, makes the form an exponential smoothing
+	// recursion, for the forms that are not linear in their innovations
+	// (multiplicative errors or seasonality), whose paths are then
+	// back-transformed as above; Mean, Psi and Scale are unused.
+	Smoothing *SmoothingForm
+	// Members, when not nil, makes the form a median combination: a path
+	// is the median, step by step, of the members' paths, each driven by
+	// its own innovations at the same periods (the other fields are then
+	// unused).
+	Members []*PathForm
+
+	valid []int // observations with an innovation, found on first use
 }
 
 // Simulator is implemented by fitted models whose future can be
@@ -38,9 +56,131 @@ type Simulator interface {
 	PathForm(h int) *PathForm
 }
 
+// Simulate fills dst (h values) with the path driven by the model's own
+// innovations at the observations at (0-based, one per step): a
+// bootstrap path when at is drawn from the sample. An observation with no
+// innovation (NaN, or outside the sample) is replaced by the valid
+// observation at the same position modulo their number; with none at all
+// the innovations are zero. Not safe for concurrent use before its first
+// call.
+func (p *PathForm) Simulate(dst []float64, at []int) {
+	if p.Members != nil {
+		paths := make([][]float64, len(p.Members))
+		for m, q := range p.Members {
+			paths[m] = make([]float64, len(dst))
+			q.Simulate(paths[m], at)
+		}
+		buf := make([]float64, len(paths))
+		for k := range dst {
+			for m := range paths {
+				buf[m] = paths[m][k]
+			}
+			dst[k] = median(buf)
+		}
+		return
+	}
+	if p.valid == nil {
+		p.valid = []int{}
+		for t, v := range p.Innovations {
+			if !math.IsNaN(v) {
+				p.valid = append(p.valid, t)
+			}
+		}
+	}
+	eps := make([]float64, len(dst))
+	for k, t := range at {
+		if t >= 0 && t < len(p.Innovations) && !math.IsNaN(p.Innovations[t]) {
+			eps[k] = p.Innovations[t]
+		} else if len(p.valid) > 0 {
+			eps[k] = p.Innovations[p.valid[((t%len(p.valid))+len(p.valid))%len(p.valid)]]
+		}
+	}
+	p.Path(dst, eps)
+}
+
+// SmoothingForm is an exponential smoothing model's state after the
+// sample and its parameters, from which paths follow by the recursions
+// of the innovations state-space model in error-correction form (Hyndman,
+// Koehler, Ord & Snyder 2008, Table 2.3, as models/ets fits them):
+//
+//	q = ℓ + φb,  ŷ = q (+ or ×) s,  y = ŷ + ε or ŷ(1 + ε),
+//	ℓ' = q + α(p − q),  b' = φb + β(p − q),  s' = s + γ((y (− or ÷) q) − s),
+//
+// with p = y (− or ÷) s. The innovations are on the error's own scale:
+// y − ŷ for additive errors, (y − ŷ)/ŷ for multiplicative ones.
+type SmoothingForm struct {
+	MulError, MulSeason bool
+	// Level and Trend are the final states (Trend 0 without a trend);
+	// Season the final seasonal states in the order of use (nil
+	// without a season).
+	Level, Trend            float64
+	Season                  []float64
+	Alpha, Beta, Gamma, Phi float64
+}
+
+func (f *SmoothingForm) path(dst, eps []float64) {
+	l, b := f.Level, f.Trend
+	ring := slices.Clone(f.Season)
+	j := 0
+	for k := range dst {
+		q := l + f.Phi*b
+		s := 0.0
+		if ring != nil {
+			s = ring[j]
+		}
+		mu, pt := q+s, 0.0
+		if f.MulSeason {
+			mu = q * s
+		}
+		y := mu + eps[k]
+		if f.MulError {
+			y = mu * (1 + eps[k])
+		}
+		dst[k] = y
+		if f.MulSeason && (q <= 0 || s <= 0) {
+			// The path has left the positive region where the
+			// multiplicative recursions are defined: hold its states.
+			continue
+		}
+		pt = y - s
+		if f.MulSeason {
+			pt = y / s
+		}
+		d := pt - q
+		l = q + f.Alpha*d
+		b = f.Phi*b + f.Beta*d
+		if ring != nil {
+			if f.MulSeason {
+				ring[j] = s + f.Gamma*(y/q-s)
+			} else {
+				ring[j] = s + f.Gamma*(y-q-s)
+			}
+			j = (j + 1) % len(ring)
+		}
+	}
+}
+
+// median returns the median of x, reordering it.
+func median(x []float64) float64 {
+	slices.Sort(x)
+	n := len(x)
+	if n%2 == 1 {
+		return x[n/2]
+	}
+	return (x[n/2-1] + x[n/2]) / 2
+}
+
 // Path fills dst (h values) with the path driven by the innovations eps
-// (h values).
+// (h values). A median combination (Members) is driven by its members'
+// own innovations only: use Simulate.
 func (p *PathForm) Path(dst, eps []float64) {
+	if p.Smoothing != nil {
+		p.Smoothing.path(dst, eps)
+		for k, v := range dst {
+			dst[k] = p.back(v)
+		}
+		return
+	}
 	for k := range dst {
 		var s float64
 		for j := 0; j <= k; j++ {
@@ -60,10 +200,10 @@ const maxBack = 700
 // λ = 0, (λz + 1)^{1/λ} otherwise; where λz + 1 ≤ 0 has no inverse it
 // gives 0 (the bottom of the transform's range for λ > 0).
 func (p *PathForm) back(z float64) float64 {
-	if p.BoxCox == nil {
+	if !p.BoxCox {
 		return z
 	}
-	l := *p.BoxCox
+	l := p.Lambda
 	if l == 0 {
 		return math.Exp(math.Min(z, maxBack))
 	}

@@ -34,8 +34,7 @@ func (f *Fitted) PathForm(h int) *models.PathForm {
 	}
 	pf := &models.PathForm{Mean: mean, Psi: models.PsiFromARMA(ar, f.rv[1:], h)}
 	if f.spec.Log {
-		zero := 0.0
-		pf.BoxCox = &zero
+		pf.BoxCox = true
 		pf.Innovations = append([]float64(nil), f.lnRes...)
 	} else {
 		pf.Innovations = append([]float64(nil), f.resid...)

@@ -29,10 +29,10 @@ func TestPathFormAgainstR(t *testing.T) {
 			}
 			h := len(c.SE)
 			pf := f.PathForm(h)
-			if c.Log != (pf.BoxCox != nil) {
-				t.Fatalf("log case %v, path form transform %v", c.Log, pf.BoxCox)
+			if c.Log != pf.BoxCox || pf.Lambda != 0 {
+				t.Fatalf("log case %v, path form transform %v (λ %g)", c.Log, pf.BoxCox, pf.Lambda)
 			}
-			pf.BoxCox = nil // compare on the modelled scale, as R's se are
+			pf.BoxCox = false // compare on the modelled scale, as R's se are
 			rng := rand.New(rand.NewPCG(1, 2))
 			sd := math.Sqrt(f.Sigma2())
 			sum, sum2 := make([]float64, h), make([]float64, h)
