@@ -244,3 +244,53 @@ func PsiFromARMA(ar, ma []float64, h int) []float64 {
 	}
 	return psi
 }
+
+// tailSDs is how many standard deviations from the centre Bounded
+// checks: beyond 4σ lies less than 0.01% of a Gaussian's mass (common
+// practice for a plausibility check).
+const tailSDs = 4
+
+// Bounded reports whether the form's paths stay within ±bound: for a
+// linear form on a Box–Cox scale, whether back(z) is defined and within
+// bound at z = Mean ± tailSDs standard deviations at every step (σ² the
+// mean square of the innovations); for a combination, whether every
+// member is. A negative λ puts a pole in the back-transform (y → ∞ as
+// λz + 1 → 0), and a model whose own paths reach it has no usable upper
+// tail there. Untransformed linear forms and recursions are bounded
+// (their single values are only clamped).
+func (p *PathForm) Bounded(bound float64) bool {
+	for _, m := range p.Members {
+		if !m.Bounded(bound) {
+			return false
+		}
+	}
+	if !p.BoxCox || p.Smoothing != nil || p.Members != nil {
+		return true
+	}
+	var ss float64
+	n := 0
+	for _, v := range p.Innovations {
+		if !math.IsNaN(v) {
+			ss += v * v
+			n++
+		}
+	}
+	s2 := ss / float64(max(n, 1))
+	var acc float64
+	for k, psi := range p.Psi {
+		acc += psi * psi
+		sd := math.Sqrt(s2 * acc)
+		if p.Scale != nil {
+			sd *= math.Abs(p.Scale[k])
+		}
+		for _, z := range []float64{p.Mean[k] - tailSDs*sd, p.Mean[k] + tailSDs*sd} {
+			if p.Lambda*z+1 <= 0 && p.Lambda != 0 {
+				return false
+			}
+			if y := p.back(z); !(math.Abs(y) <= bound) {
+				return false
+			}
+		}
+	}
+	return true
+}
