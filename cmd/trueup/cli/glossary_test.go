@@ -59,9 +59,9 @@ func TestGlossaryFlags(t *testing.T) {
 	checkGlossary(t, g, "Flags", flags)
 }
 
-// TestGlossaryTablesAndRunJSON writes a forecast (with plan totals) and a
-// backtest as CSV, reads every table's header and every key of each
-// run.json, and checks them against the glossary. The sales table's own
+// TestGlossaryTablesAndRunJSON writes a forecast (with plan totals and
+// bootstrap intervals) and a backtest as CSV, reads every table's header
+// and every key of each run.json, and checks them against the glossary. The sales table's own
 // key columns (region, store, category) are the user's names, not ours.
 func TestGlossaryTablesAndRunJSON(t *testing.T) {
 	g, err := glossary.Load(glossaryPath)
@@ -71,7 +71,7 @@ func TestGlossaryTablesAndRunJSON(t *testing.T) {
 	in := smallInput(t)
 	source := []string{"--input", in, "--hierarchy", "region,store", "--hierarchy", "category", "--family", "drift", "--horizon", "4", "--quiet", "--format", "csv", "--no-report"}
 	fc := filepath.Join(t.TempDir(), "fc")
-	if code := run(append([]string{"forecast", "--out", fc, "--plan-grain", "quarter", "--method", "auto", "--origins", "2", "--calibrate", "2"}, source...)); code != 0 {
+	if code := run(append([]string{"forecast", "--out", fc, "--plan-grain", "quarter", "--method", "auto", "--origins", "2", "--calibrate", "2", "--interval-method", "bootstrap"}, source...)); code != 0 {
 		t.Fatalf("forecast exited %d", code)
 	}
 	bt := filepath.Join(t.TempDir(), "bt")
