@@ -140,7 +140,15 @@ func bootstrapIntervals(method reconcile.Method, prob reconcile.Problem, sol rec
 	sim := newPathSims(fits, prob.Residuals, prob.History, h)
 	out := &Sampled{Draws: draws, Block: block, Fallback: sim.fallback, levels: levels, h: h}
 	store := make([]float32, nFull*h*draws)
-	_, linear := method.(reconcile.Projection)
+	// A projection is linear: its map is set up once for every batch.
+	var apply func([][]float64) ([][]float64, error)
+	if pr, ok := method.(reconcile.Projection); ok {
+		var err error
+		if apply, err = pr.Map(reconcile.Problem{Structure: prob.Structure, Residuals: prob.Residuals, Solver: prob.Solver}); err != nil {
+			return nil, err
+		}
+	}
+	linear := apply != nil
 
 	perDraw := max(1, n*h*8)
 	batch := max(1, min(draws, batchBytes/perDraw))
@@ -175,17 +183,26 @@ func bootstrapIntervals(method reconcile.Method, prob reconcile.Problem, sol rec
 				}
 			}
 		}
-		p := reconcile.Problem{Structure: prob.Structure, Base: base, Residuals: prob.Residuals, History: prob.History,
-			Solver: prob.Solver}
-		r, err := method.Reconcile(p)
-		if err != nil {
-			return nil, err
+		var rec [][]float64
+		if linear {
+			var err error
+			if rec, err = apply(base); err != nil {
+				return nil, err
+			}
+		} else {
+			p := reconcile.Problem{Structure: prob.Structure, Base: base, Residuals: prob.Residuals, History: prob.History,
+				Solver: prob.Solver}
+			r, err := method.Reconcile(p)
+			if err != nil {
+				return nil, err
+			}
+			rec = r.Forecast
 		}
 		for i := 0; i < n; i++ {
 			f := trading.toFull[i]
 			for q := 0; q < b; q++ {
 				for k := 0; k < h; k++ {
-					v := r.Forecast[i][q*h+k]
+					v := rec[i][q*h+k]
 					if linear {
 						v += sol.Forecast[i][k]
 					}
@@ -249,12 +266,18 @@ func newPathSims(fits []NodeFit, resid, history [][]float64, h int) *pathSims {
 		scale: make([][]float64, len(fits)), bound: make([]float64, len(fits)), at: make([]int, h)}
 	for i, f := range fits {
 		s.simulated[i] = true
-		// The plausibility bound of usable: a back-transformed path
-		// (Box–Cox with λ < 0, say) can leave the float range.
+		// The plausibility bound of usable (on the history, or the
+		// forecasts without one): a back-transformed path (Box–Cox with
+		// λ < 0, say) can leave the float range.
 		top := 1.0
-		for _, v := range history[i] {
-			if !math.IsNaN(v) {
-				top = math.Max(top, math.Abs(v))
+		for _, v := range f.Mean {
+			top = math.Max(top, math.Abs(v))
+		}
+		if history != nil {
+			for _, v := range history[i] {
+				if !math.IsNaN(v) {
+					top = math.Max(top, math.Abs(v))
+				}
 			}
 		}
 		s.bound[i] = explosionFactor * top

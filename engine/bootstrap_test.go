@@ -111,7 +111,8 @@ func TestBootstrapIsDeterministic(t *testing.T) {
 }
 
 // TestBootstrapRefusals: the interval method is checked, a temporal
-// method and locks are refused with input errors naming the option, and
+// method and calibration (whose factors scale a Gaussian z) are refused
+// with input errors naming the option, and
 // the draws are refused when they would not fit the memory budget.
 func TestBootstrapRefusals(t *testing.T) {
 	d := smallData(t)
@@ -120,11 +121,12 @@ func TestBootstrapRefusals(t *testing.T) {
 		"unknown method": {Intervals: "resampled"},
 		"few draws":      {Intervals: IntervalsBootstrap, Draws: 10},
 		"temporal":       {Intervals: IntervalsBootstrap, Horizon: 4, Reconcile: Reconciliation{Method: "temporal"}, Model: families.Spec{Family: "drift"}},
+		"calibrated":     {Intervals: IntervalsBootstrap, Horizon: 4, Reconcile: Reconciliation{Calibrate: 2}, Model: families.Spec{Family: "drift"}},
 	} {
 		_, err := Forecast(ctx, d, opt)
 		var ie *inputerr.Error
-		if !errors.As(err, &ie) || ie.Option != "Intervals" && ie.Option != "Draws" {
-			t.Errorf("%s: error %v, want an input error naming Intervals or Draws", name, err)
+		if !errors.As(err, &ie) || ie.Option != "Intervals" && ie.Option != "Draws" && ie.Option != "Calibrate" {
+			t.Errorf("%s: error %v, want an input error naming Intervals, Draws or Calibrate", name, err)
 		}
 	}
 	err := checkBootstrapMemory(1<<30, 39442, 28, 1000)

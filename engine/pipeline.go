@@ -309,6 +309,10 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	if err != nil {
 		return nil, err
 	}
+	if rc.Calibrate > 0 && opt.Intervals == IntervalsBootstrap {
+		// The calibration's factors scale z of a Gaussian interval.
+		return nil, inputerr.ForOption("Calibrate", "calibration applies to %s intervals only, not to %s ones", IntervalsGaussian, IntervalsBootstrap)
+	}
 	budget, err := memoryBudget()
 	if err != nil {
 		return nil, err
@@ -461,29 +465,26 @@ func Quantile(level float64) float64 {
 // bound below zero is raised to zero (values below zero cannot occur, so
 // coverage is unchanged). Without variances both bounds are NaN. With a
 // calibration (Result.Calibration) z is multiplied by the factor of the
-// node's level, the step's horizon group and the interval level.
+// node's level, the step's horizon group and the interval level. With
+// bootstrap intervals (Result.Sampled) the bounds are the empirical
+// quantiles of the reconciled draws, the lower one raised to zero as
+// above.
 func (r *Result) Bounds(i, k int, level float64) (lo, hi float64) {
-	z, c := Quantile(level), 1.0
-	if cal := r.Calibration; cal != nil {
-		if q := slices.Index(cal.Intervals, level); q >= 0 {
-			c = cal.factor(r.Structure.Levels[r.Structure.Nodes[i].Level].Name, k, q)
-		}
-	}
 	if r.Sampled != nil {
 		if lo, hi, ok := r.Sampled.bounds(i, k, level); ok {
-			// A calibration factor widens or narrows the bootstrap
-			// interval about the forecast.
-			if c != 1 {
-				f := r.Solution.Forecast[i][k]
-				lo, hi = f-c*(f-lo), f+c*(hi-f)
-			}
 			if r.Nonnegative {
 				lo = math.Max(lo, 0)
 			}
 			return lo, hi
 		}
 	}
-	return r.bounds(i, k, z*c)
+	z := Quantile(level)
+	if c := r.Calibration; c != nil {
+		if q := slices.Index(c.Intervals, level); q >= 0 {
+			z *= c.factor(r.Structure.Levels[r.Structure.Nodes[i].Level].Name, k, q)
+		}
+	}
+	return r.bounds(i, k, z)
 }
 
 func (r *Result) bounds(i, k int, z float64) (lo, hi float64) {

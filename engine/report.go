@@ -125,9 +125,9 @@ type BootstrapRecord struct {
 	Draws        int `json:"draws"`
 	BlockPeriods int `json:"block_periods"`
 	// NoSimulator counts the nodes whose model has no path form, or one
-	// whose paths leave its transform's range: their
-	// paths are their own residuals at the same periods scaled to their
-	// forecast variance (see Sampled.Fallback).
+	// whose paths leave its transform's range: their paths are their own
+	// residuals at the same periods scaled to their forecast variance
+	// (see Sampled.Fallback).
 	NoSimulator int `json:"nodes_without_simulator"`
 }
 
