@@ -449,6 +449,7 @@ func baseResult(r *Result) (*Result, error) {
 	}
 	b.Solution.Joint = joint
 	b.Nonnegative = false
+	b.Sampled = nil // the base forecasts keep their Gaussian intervals
 	return &b, nil
 }
 

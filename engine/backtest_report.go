@@ -73,7 +73,7 @@ type LevelIncoherence struct {
 func (r *BacktestReport) fill(res *BacktestResult, opt Options, origins, every int) {
 	r.Options = map[string]any{"family": familyOrDefault(opt.Model.Family), "model": opt.Model.Form, "transform": opt.Model.Transform,
 		"season_length": res.Period, "horizon": res.Horizon, "intervals": res.Levels,
-		"origins": origins, "every": every, "compare": append(append([]string{}, res.Methods...), skippedNames(res.Skipped)...)}
+		"interval_method": intervalMethod(opt), "origins": origins, "every": every, "compare": append(append([]string{}, res.Methods...), skippedNames(res.Skipped)...)}
 	for _, o := range res.Origins {
 		r.Origins = append(r.Origins, OriginReport{FirstForecast: o.Start.String(), HistoryEnd: o.Start.Next(-1).String(),
 			Periods: o.Periods, Nodes: len(o.Structure.Nodes)})

@@ -143,8 +143,12 @@ func (res *BacktestResult) score() {
 
 // nodeCRPS is the CRPS of node i's Gaussian predictive distribution
 // N(forecast, variance) at step k for the actual a (accuracy.CRPSGaussian),
-// NaN without variances.
+// NaN without variances; with bootstrap intervals, that of the sample of
+// reconciled draws (computed by scoreSampled).
 func nodeCRPS(r *Result, i, k int, a float64) float64 {
+	if r.Sampled != nil && r.Sampled.crps != nil {
+		return r.Sampled.crps[i*r.Sampled.h+k]
+	}
 	if r.Solution.Variance == nil {
 		return math.NaN()
 	}
@@ -197,6 +201,10 @@ func (o *BacktestOrigin) scoreEnergy(method string, origin, position, h int) {
 	r := o.Results[method]
 	joint := r.Solution.Joint
 	r.Solution.Joint = nil
+	if r.Sampled != nil && r.Sampled.samples != nil {
+		o.scoreSampled(method, h)
+		return
+	}
 	if joint == nil {
 		return
 	}
@@ -329,4 +337,54 @@ func (res *BacktestResult) recommend() {
 	}
 	rec.Reason = strings.Join(why, "; ")
 	res.Recommendation = rec
+}
+
+// scoreSampled scores a method with bootstrap intervals from its
+// reconciled draws: the CRPS of every node and step (the energy score in
+// one dimension, accuracy.EnergyScore, over all draws) and the energy
+// score of the joint forecast of every scored node at each step from the
+// first EnergyDraws draws (each an independent joint path), values
+// divided by each node's scale as in scoreEnergy. It then drops the draws.
+func (o *BacktestOrigin) scoreSampled(method string, h int) {
+	r := o.Results[method]
+	sp := r.Sampled
+	defer func() { sp.samples = nil }()
+	n := len(o.Structure.Nodes)
+	sp.crps = make([]float64, n*h)
+	x := make([]float64, sp.Draws)
+	for i := 0; i < n; i++ {
+		for k := 0; k < h; k++ {
+			for d, v := range sp.draws(i, k) {
+				x[d] = float64(v)
+			}
+			sp.crps[i*h+k] = accuracy.EnergyScore(x, []float64{o.Actual[i][k]})
+		}
+	}
+	var scored []int
+	for i := range o.Structure.Nodes {
+		if o.Scored(i) {
+			scored = append(scored, i)
+		}
+	}
+	if len(scored) == 0 {
+		return
+	}
+	N, d := min(EnergyDraws, sp.Draws), len(scored)
+	draws := make([]float64, N*d)
+	y := make([]float64, d)
+	out := make([]float64, h)
+	for k := 0; k < h; k++ {
+		for q, i := range scored {
+			all := sp.draws(i, k)
+			for s := 0; s < N; s++ {
+				draws[s*d+q] = float64(all[s]) / o.ScaleMAE[i]
+			}
+			y[q] = o.Actual[i][k] / o.ScaleMAE[i]
+		}
+		out[k] = accuracy.EnergyScore(draws, y)
+	}
+	if o.Energy == nil {
+		o.Energy = map[string][]float64{}
+	}
+	o.Energy[method] = out
 }

@@ -85,11 +85,14 @@ func FitOne(job FitJob) (NodeFit, error) {
 	nf.Family, nf.Spec, nf.Params = model.Family(), model.Spec(), model.Params()
 	nf.Criteria, nf.Sigma2, nf.NObs = model.Criteria(), model.Sigma2(), model.NObs()
 	nf.Residuals = model.Residuals()
+	if sm, ok := model.(models.Simulator); ok {
+		nf.Path = sm.PathForm(h)
+	}
 	if last < len(y)-1 {
 		// Closed: the fit still supplies in-sample residuals for
 		// reconciliation, but the forecast is zero with no uncertainty.
 		nf.Closed = true
-		nf.Mean, nf.Variance = make([]float64, h), make([]float64, h)
+		nf.Mean, nf.Variance, nf.Path = make([]float64, h), make([]float64, h), nil
 		warn = append([]string{"closed: no sales in the latest periods, forecast as zero"}, warn...)
 	}
 	nf.Warning = strings.Join(warn, "; ")

@@ -44,8 +44,12 @@ type NodeFit struct {
 	// Residuals are the in-sample one-step errors over First..Last, NaN
 	// where the model has no one-step forecast.
 	Residuals []float64
-	Warning   string
-	Closed    bool // the node stopped trading before the panel's last period
+	// Path is the model's linear innovations form, from which the
+	// bootstrap intervals simulate paths; nil when the model has none
+	// (see models.Simulator) or the node is closed.
+	Path    *models.PathForm
+	Warning string
+	Closed  bool // the node stopped trading before the panel's last period
 	// Fitted reports whether a model was fitted at all (false only for a
 	// node with no observations).
 	Fitted bool

@@ -58,6 +58,15 @@ type Options struct {
 	// carries every node's totals (Result.Plans). Nil means none.
 	PlanGrains []tableio.Grain
 
+	// Intervals is the interval method: IntervalsGaussian (forecast ±
+	// z·sd from the coherent variances) or IntervalsBootstrap (quantiles
+	// of reconciled sample paths, see bootstrapIntervals); "" means
+	// DefaultIntervals. A backtest applies it to every compared method.
+	Intervals string
+	// Draws is the number of sample paths of the bootstrap intervals; 0
+	// means DefaultDraws.
+	Draws int
+
 	// joint keeps the joint distribution of the errors in the result's
 	// Solution.Joint (the backtest scores the joint forecast with it).
 	joint bool
@@ -138,6 +147,9 @@ type Result struct {
 	// Plans holds the totals by plan period when Options.PlanGrains
 	// asked for them, nil otherwise.
 	Plans *Plans
+	// Sampled holds the bootstrap intervals when Options.Intervals asked
+	// for them (Bounds then reads them); nil otherwise.
+	Sampled *Sampled
 	// Calibration holds the interval factors Bounds applies (see
 	// Reconciliation.Calibrate); nil: none.
 	Calibration *Calibration
@@ -193,6 +205,19 @@ func (o Options) resolve(period int) (Options, error) {
 	}
 	if o.Fitter == nil {
 		o.Fitter = Local{Workers: 1}
+	}
+	switch o.Intervals {
+	case "":
+		o.Intervals = DefaultIntervals
+	case IntervalsGaussian, IntervalsBootstrap:
+	default:
+		return o, inputerr.ForOption("Intervals", "unknown interval method %q (use %s or %s)", o.Intervals, IntervalsGaussian, IntervalsBootstrap)
+	}
+	if o.Draws < 0 || (o.Draws > 0 && o.Draws < 100) {
+		return o, inputerr.ForOption("Draws", "the bootstrap needs at least 100 sample paths, got %d", o.Draws)
+	}
+	if o.Draws == 0 {
+		o.Draws = DefaultDraws
 	}
 	if _, err := o.Model.Resolve(); err != nil {
 		return o, err
@@ -284,6 +309,10 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	if err != nil {
 		return nil, err
 	}
+	if rc.Calibrate > 0 && opt.Intervals == IntervalsBootstrap {
+		// The calibration's factors scale z of a Gaussian interval.
+		return nil, inputerr.ForOption("Calibrate", "calibration applies to %s intervals only, not to %s ones", IntervalsGaussian, IntervalsBootstrap)
+	}
 	budget, err := memoryBudget()
 	if err != nil {
 		return nil, err
@@ -343,9 +372,23 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 		return nil, lockError(rc, err)
 	}
 	stage("reconcile", start)
+	var sampled *Sampled
+	if opt.Intervals == IntervalsBootstrap {
+		start = time.Now()
+		if len(tradingLocks) > 0 {
+			return nil, inputerr.ForOption("Intervals", "bootstrap intervals cannot be combined with locked forecasts yet; use %s intervals", IntervalsGaussian)
+		}
+		open := sol
+		open.Forecast = trading.rows(sol.Forecast)
+		if sampled, err = bootstrapIntervals(method, prob, open, trading.fits(fits), trading, st, opt.Horizon, opt.Levels,
+			opt.Draws, opt.joint, budget); err != nil {
+			return nil, err
+		}
+		stage("bootstrap", start)
+	}
 
 	res := &Result{Structure: st, Calendar: Calendar{First: d.Panel.First, T: d.Panel.T}, History: history,
-		Fits: fits, Solution: sol, Levels: opt.Levels, Nonnegative: nonneg, Horizon: opt.Horizon, KeyTypes: d.KeyTypes}
+		Fits: fits, Solution: sol, Sampled: sampled, Levels: opt.Levels, Nonnegative: nonneg, Horizon: opt.Horizon, KeyTypes: d.KeyTypes}
 	if len(opt.PlanGrains) > 0 {
 		start = time.Now()
 		res.Plans = res.plans(opt.PlanGrains)
@@ -422,8 +465,19 @@ func Quantile(level float64) float64 {
 // bound below zero is raised to zero (values below zero cannot occur, so
 // coverage is unchanged). Without variances both bounds are NaN. With a
 // calibration (Result.Calibration) z is multiplied by the factor of the
-// node's level, the step's horizon group and the interval level.
+// node's level, the step's horizon group and the interval level. With
+// bootstrap intervals (Result.Sampled) the bounds are the empirical
+// quantiles of the reconciled draws, the lower one raised to zero as
+// above.
 func (r *Result) Bounds(i, k int, level float64) (lo, hi float64) {
+	if r.Sampled != nil {
+		if lo, hi, ok := r.Sampled.bounds(i, k, level); ok {
+			if r.Nonnegative {
+				lo = math.Max(lo, 0)
+			}
+			return lo, hi
+		}
+	}
 	z := Quantile(level)
 	if c := r.Calibration; c != nil {
 		if q := slices.Index(c.Intervals, level); q >= 0 {

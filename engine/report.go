@@ -88,6 +88,9 @@ type ReconcileReport struct {
 	// Calibration records the calibration of the intervals, when asked
 	// for (Reconciliation.Calibrate).
 	Calibration *CalibrationRecord `json:"interval_calibration,omitempty"`
+	// Bootstrap describes bootstrap intervals (Options.Intervals); nil
+	// for Gaussian ones.
+	Bootstrap *BootstrapRecord `json:"bootstrap_intervals,omitempty"`
 }
 
 // reconcileReport describes the method named method, as the table of
@@ -103,7 +106,29 @@ func optionsReport(opt Options, rc Reconciliation, nonneg bool) map[string]any {
 		"family": familyOrDefault(opt.Model.Family), "model": opt.Model.Form, "transform": opt.Model.Transform,
 		"season_length": opt.Period, "horizon": opt.Horizon, "intervals": opt.Levels,
 		"method": rc.Method, "cov": rc.Cov, "at": rc.At, "nonnegative": nonneg,
+		"interval_method": intervalMethod(opt),
 	}
+}
+
+// intervalMethod is opt's interval method, the default filled in.
+func intervalMethod(opt Options) string {
+	if opt.Intervals == "" {
+		return DefaultIntervals
+	}
+	return opt.Intervals
+}
+
+// BootstrapRecord describes bootstrap intervals in run.json.
+type BootstrapRecord struct {
+	// Draws is the number of reconciled sample paths; BlockPeriods the
+	// length of the blocks of consecutive residual periods they resample.
+	Draws        int `json:"draws"`
+	BlockPeriods int `json:"block_periods"`
+	// NoSimulator counts the nodes whose model has no path form, or one
+	// whose paths leave its transform's range: their paths are their own
+	// residuals at the same periods scaled to their forecast variance
+	// (see Sampled.Fallback).
+	NoSimulator int `json:"nodes_without_simulator"`
 }
 
 func familyOrDefault(name string) string {
@@ -152,6 +177,9 @@ func (r *RunReport) fill(d *Data, opt Options, rc Reconciliation, res *Result, m
 		}
 	}
 	r.Reconcile = reconcileReport(method, sol.Notes)
+	if sp := res.Sampled; sp != nil {
+		r.Reconcile.Bootstrap = &BootstrapRecord{Draws: sp.Draws, BlockPeriods: sp.Block, NoSimulator: sp.Fallback}
+	}
 	r.Warnings = []string{}
 	if pn.Stats.Negative > 0 {
 		r.Warnings = append(r.Warnings, fmt.Sprintf("%s negative (returns?); kept", words.Count(pn.Stats.Negative, "row is", "rows are")))

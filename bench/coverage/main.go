@@ -22,7 +22,7 @@
 //
 // Run from the repository root:
 //
-//	go run ./bench/coverage [-origins 12] [-sets texas,employment,demo] [-compare base,mint-shrink,temporal]
+//	go run ./bench/coverage [-origins 12] [-sets texas,employment,demo] [-compare base,mint-shrink,temporal] [-intervals bootstrap]
 package main
 
 import (
@@ -41,10 +41,14 @@ import (
 	"trueup/hierarchy"
 )
 
+// intervals is the interval method every backtest runs with.
+var intervals string
+
 func main() {
 	origins := flag.Int("origins", 12, "forecast origins, one month apart")
 	sets := flag.String("sets", "texas,employment,demo", "hierarchies to measure, comma-separated: texas, employment, demo")
 	compare := flag.String("compare", "", "methods to compare, comma-separated (default: the backtest's)")
+	flag.StringVar(&intervals, "intervals", "", "interval method: gaussian or bootstrap (default: the engine's)")
 	flag.Parse()
 	dir, err := os.MkdirTemp("", "trueup-coverage")
 	if err != nil {
@@ -132,7 +136,7 @@ func measure(title string, src engine.Source, origins int, compare string) {
 		methods = strings.Split(compare, ",")
 	}
 	bt, err := engine.Backtest(context.Background(), data, engine.BacktestOptions{
-		Options: engine.Options{Horizon: 12, Fitter: engine.Local{Workers: 2}}, Origins: origins, Compare: methods})
+		Options: engine.Options{Horizon: 12, Fitter: engine.Local{Workers: 2}, Intervals: intervals}, Origins: origins, Compare: methods})
 	if err != nil {
 		fail(err)
 	}

@@ -30,6 +30,7 @@ type Fitted struct {
 	crit   models.Criteria
 	nObs   int
 	resid  []float64 // response scale
+	lnRes  []float64 // with the log transform: the residuals on the log scale
 	warn   []string
 
 	// Forecast state on the transformed scale.
@@ -211,9 +212,16 @@ func (f *Fitted) finish(pr *problem, x []float64) error {
 	for t := 0; t < nd; t++ {
 		f.resid[t] = math.NaN()
 	}
+	if f.spec.Log {
+		f.lnRes = make([]float64, T)
+		for t := 0; t < nd; t++ {
+			f.lnRes[t] = math.NaN()
+		}
+	}
 	for t := nd; t < T; t++ {
 		e := v[t-nd]
 		if f.spec.Log {
+			f.lnRes[t] = e
 			f.resid[t] = pr.y[t] - math.Exp(pr.z[t]-e)
 		} else {
 			f.resid[t] = e

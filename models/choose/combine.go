@@ -213,3 +213,23 @@ func join(parts ...string) string {
 	}
 	return out
 }
+
+var _ models.Simulator = (*Combination)(nil)
+
+// PathForm implements models.Simulator: the median, step by step, of the
+// members' simulated paths, each member driven by its own innovations at
+// the same periods (the combination of the paths, as the point forecast
+// combines the members' means). Nil when a member has no form.
+func (c *Combination) PathForm(h int) *models.PathForm {
+	members := make([]*models.PathForm, len(c.parts))
+	for i, p := range c.parts {
+		s, ok := p.(models.Simulator)
+		if !ok {
+			return nil
+		}
+		if members[i] = s.PathForm(h); members[i] == nil {
+			return nil
+		}
+	}
+	return &models.PathForm{Members: members}
+}

@@ -124,3 +124,14 @@ func short(err string) string {
 	}
 	return "failed"
 }
+
+var _ models.Simulator = (*Fitted)(nil)
+
+// PathForm implements models.Simulator with the winner's form (nil when
+// the winner, the median combination say, has none).
+func (f *Fitted) PathForm(h int) *models.PathForm {
+	if s, ok := f.Model.(models.Simulator); ok {
+		return s.PathForm(h)
+	}
+	return nil
+}

@@ -61,10 +61,11 @@ func TestGlossaryFlags(t *testing.T) {
 	checkGlossary(t, g, "Flags", flags)
 }
 
-// TestGlossaryTablesAndRunJSON writes a forecast (with plan totals) and a
-// backtest as CSV, reads every table's header and every key of each
-// run.json, and checks them against the glossary. The sales table's own
-// key columns (region, store, category) are the user's names, not ours.
+// TestGlossaryTablesAndRunJSON writes forecasts (with plan totals, with
+// a lock, with bootstrap intervals) and a backtest as CSV, reads every
+// table's header and every key of each run.json, and checks them against
+// the glossary. The sales table's own key columns (region, store,
+// category) are the user's names, not ours.
 func TestGlossaryTablesAndRunJSON(t *testing.T) {
 	g, err := glossary.Load(glossaryPath)
 	if err != nil {
@@ -91,9 +92,13 @@ func TestGlossaryTablesAndRunJSON(t *testing.T) {
 	if code := run(append([]string{"forecast", "--out", lk, "--lock", locks}, source...)); code != 0 {
 		t.Fatalf("forecast with a lock exited %d", code)
 	}
+	bs := filepath.Join(t.TempDir(), "bs")
+	if code := run(append([]string{"forecast", "--out", bs, "--interval-method", "bootstrap"}, source...)); code != 0 {
+		t.Fatalf("forecast with bootstrap intervals exited %d", code)
+	}
 	userKeys := map[string]bool{"region": true, "store": true, "category": true}
 	var columns, keys []string
-	for _, dir := range []string{fc, bt, lk} {
+	for _, dir := range []string{fc, bt, lk, bs} {
 		tables, _ := filepath.Glob(filepath.Join(dir, "*.csv"))
 		if len(tables) == 0 {
 			t.Fatalf("no tables in %s", dir)

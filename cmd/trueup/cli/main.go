@@ -107,7 +107,7 @@ var optionFlags = map[string]string{
 	"Constant": "--constant", "Method": "--method", "Cov": "--cov", "At": "--at",
 	"Nonnegative": "--nonnegative", "Paths": "--paths", "History": "--history",
 	"Formats": "--format", "Out": "--out", "SumDuplicates": "--sum-duplicates", "Grain": "--grain",
-	"Origins": "--origins", "Every": "--every", "Compare": "--compare", "Calibrate": "--calibrate",
+	"Origins": "--origins", "Every": "--every", "Compare": "--compare", "Calibrate": "--calibrate", "Intervals": "--interval-method",
 	"From": "--from", "Until": "--until", "TimeKind": "--integer-time", "PlanGrains": "--plan-grain", "Locks": "--lock",
 }
 

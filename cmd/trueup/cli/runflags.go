@@ -24,9 +24,11 @@ type runFlags struct {
 	horizon int
 	family  string
 	reconcileFlags
-	levels  string
-	workers int
-	origins int // backtest origins behind --method auto
+	levels string
+	// intervalMethod is --interval-method: gaussian or bootstrap.
+	intervalMethod string
+	workers        int
+	origins        int // backtest origins behind --method auto
 	// planGrain is --plan-grain (forecast, demo): grains of plan totals.
 	planGrain string
 	// calibrate is the number of backtest origins the intervals are
@@ -160,8 +162,11 @@ func (f *runFlags) registerModel(cmd *cobra.Command) {
 	fl.IntVar(&f.horizon, "horizon", 0, "periods to forecast (default: one seasonal cycle, e.g. 12 months)")
 	fl.StringVar(&f.family, "family", "", "model family for every node: "+familyNames())
 	fl.StringVar(&f.levels, "intervals", "80,95", "prediction intervals to write, in percent, comma-separated")
+	fl.StringVar(&f.intervalMethod, "interval-method", engine.DefaultIntervals, "how intervals are made:\n  "+
+		engine.IntervalsGaussian+": forecast ± z·sd from the reconciled variances\n  "+
+		engine.IntervalsBootstrap+fmt.Sprintf(": quantiles of %d sample paths simulated from each node's model with residuals\n  resampled at the same periods for every node, each path reconciled", engine.DefaultDraws))
 	fl.IntVar(&f.workers, "workers", runtime.NumCPU(), "nodes fitted in parallel")
-	groupFlags(cmd, "Model", "season-length", "horizon", "family", "intervals", "workers")
+	groupFlags(cmd, "Model", "season-length", "horizon", "family", "intervals", "interval-method", "workers")
 	keepOldNames(cmd)
 }
 
@@ -187,6 +192,7 @@ func (f *runFlags) options(cmd *cobra.Command) (engine.Options, error) {
 		Horizon:   f.horizon,
 		Reconcile: f.reconcileFlags.options(cmd),
 		Levels:    levels,
+		Intervals: f.intervalMethod,
 		Fitter:    newFitter(f.workers),
 	}
 	if opt.PlanGrains, err = f.planGrains(); err != nil {

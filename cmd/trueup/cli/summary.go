@@ -41,6 +41,14 @@ func printSummary(w io.Writer, res *engine.Result, files []string, asJSON bool) 
 	if a := rep.Reconcile.Auto; a != nil {
 		fmt.Fprintf(w, "Method chosen by a backtest at %s: %s (%s).\n", words.Count(a.Origins, "origin", "origins"), a.Method, a.Reason)
 	}
+	if b := rep.Reconcile.Bootstrap; b != nil {
+		fmt.Fprintf(w, "Intervals from %s, each simulated from every node's model with residuals resampled at the same periods (blocks of %s) and reconciled.\n",
+			words.Count(b.Draws, "sample path", "sample paths"), words.Count(b.BlockPeriods, "period", "periods"))
+		if b.NoSimulator > 0 {
+			fmt.Fprintf(w, "%s no simulator (such as Croston's method for intermittent series) or paths that leave the range of their transform: their paths take their own residuals at the same periods, scaled to their forecast variance.\n",
+				words.Count(b.NoSimulator, "node's model has", "nodes' models have"))
+		}
+	}
 	if c := rep.Reconcile.Calibration; c != nil {
 		if c.Applied {
 			fmt.Fprintf(w, "Intervals calibrated from a backtest at %s (it brought coverage nearer to nominal at its later origins; factors in run.json).\n", words.Count(c.Origins, "origin", "origins"))

@@ -38,6 +38,7 @@ type FitRow struct {
 	NObs, First, Last    int64
 	Mean, Variance       []float64
 	Residuals            []float64
+	Path                 []byte // gob-encoded models.PathForm, nil for none
 	Warning              string
 	Closed, Fitted       bool
 	HasMean, HasVariance bool // whether Mean, Variance were non-nil
@@ -81,8 +82,12 @@ func fitRow(index int64, f engine.NodeFit) (FitRow, error) {
 	if err != nil {
 		return FitRow{}, err
 	}
+	path, err := encodePath(f.Path)
+	if err != nil {
+		return FitRow{}, err
+	}
 	c := f.Criteria
-	return FitRow{Index: index, Family: f.Family, Spec: f.Spec, Params: params,
+	return FitRow{Path: path, Index: index, Family: f.Family, Spec: f.Spec, Params: params,
 		LogLik: c.LogLik, AIC: c.AIC, AICc: c.AICc, BIC: c.BIC, K: int64(c.K), N: int64(c.N),
 		Sigma2: f.Sigma2, NObs: int64(f.NObs), First: int64(f.First), Last: int64(f.Last),
 		Mean: f.Mean, Variance: f.Variance, Residuals: f.Residuals, Warning: f.Warning,
@@ -97,7 +102,11 @@ func (r FitRow) fit() (engine.NodeFit, error) {
 	if err != nil {
 		return engine.NodeFit{}, err
 	}
-	return engine.NodeFit{Family: r.Family, Spec: r.Spec, Params: params,
+	path, err := decodePath(r.Path)
+	if err != nil {
+		return engine.NodeFit{}, err
+	}
+	return engine.NodeFit{Family: r.Family, Spec: r.Spec, Params: params, Path: path,
 		Criteria: models.Criteria{LogLik: r.LogLik, AIC: r.AIC, AICc: r.AICc, BIC: r.BIC, K: int(r.K), N: int(r.N)},
 		Sigma2:   r.Sigma2, NObs: int(r.NObs), First: int(r.First), Last: int(r.Last),
 		Mean: slice(r.Mean, r.HasMean), Variance: slice(r.Variance, r.HasVariance),
@@ -136,6 +145,30 @@ func decodeParams(b []byte) (map[string]any, error) {
 	p := map[string]any{}
 	if err := gob.NewDecoder(bytes.NewReader(b)).Decode(&p); err != nil {
 		return nil, fmt.Errorf("decode parameters: %w", err)
+	}
+	return p, nil
+}
+
+// encodePath gob-encodes a fit's path form (models.PathForm: plain
+// numbers, flags and nested forms); nil stays nil.
+func encodePath(p *models.PathForm) ([]byte, error) {
+	if p == nil {
+		return nil, nil
+	}
+	var b bytes.Buffer
+	if err := gob.NewEncoder(&b).Encode(p); err != nil {
+		return nil, fmt.Errorf("encode path form: %w", err)
+	}
+	return b.Bytes(), nil
+}
+
+func decodePath(b []byte) (*models.PathForm, error) {
+	if len(b) == 0 {
+		return nil, nil
+	}
+	p := &models.PathForm{}
+	if err := gob.NewDecoder(bytes.NewReader(b)).Decode(p); err != nil {
+		return nil, fmt.Errorf("decode path form: %w", err)
 	}
 	return p, nil
 }

@@ -37,6 +37,14 @@ func TestFitRowRoundTrip(t *testing.T) {
 			Mean: []float64{0, 0}, Variance: []float64{0, 0}, Residuals: []float64{}},
 		{Family: "naive", Closed: true, Fitted: true},
 	}
+	// A path form travels too, a log transform (λ = 0) and the members
+	// of a median combination included.
+	withPath := cases[0]
+	withPath.Path = &models.PathForm{Members: []*models.PathForm{
+		{Mean: []float64{4.5, 4.6}, Psi: []float64{1, 0.6}, Innovations: []float64{math.NaN(), 0.01}, BoxCox: true},
+		{Smoothing: &models.SmoothingForm{MulError: true, Level: 90, Alpha: 0.3, Phi: 1, Season: []float64{0.9, 1.1}},
+			Innovations: []float64{0.02, -0.01}}}}
+	cases = append(cases, withPath)
 	for i, want := range cases {
 		row, err := fitRow(int64(i), want)
 		if err != nil {
@@ -54,7 +62,12 @@ func TestFitRowRoundTrip(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		// %#v shows types, nil against empty, and floats in full.
+		// %#v shows types, nil against empty, and floats in full; the
+		// path form (a pointer) is compared by its contents.
+		if g, w := pathText(got.Path), pathText(want.Path); g != w {
+			t.Errorf("case %d: path form\ngot  %s\nwant %s", i, g, w)
+		}
+		got.Path, want.Path = nil, nil
 		if g, w := fmt.Sprintf("%#v", got), fmt.Sprintf("%#v", want); g != w {
 			t.Errorf("case %d:\ngot  %s\nwant %s", i, g, w)
 		}
@@ -119,4 +132,23 @@ func TestReadFitsSkipsAFileCutShort(t *testing.T) {
 	if _, err := readFits(ctx, dir, 3); err == nil || !strings.Contains(err.Error(), "no fit came back for job 2") {
 		t.Errorf("a job with no whole fit: %v", err)
 	}
+}
+
+// pathText writes a path form's contents, nested forms included.
+func pathText(p *models.PathForm) string {
+	if p == nil {
+		return "nil"
+	}
+	q := *p
+	var members []string
+	for _, m := range q.Members {
+		members = append(members, pathText(m))
+	}
+	q.Members = nil
+	sm := "nil"
+	if q.Smoothing != nil {
+		sm = fmt.Sprintf("%#v", *q.Smoothing)
+	}
+	q.Smoothing = nil
+	return fmt.Sprintf("%#v smoothing %s members %v", q, sm, members)
 }
