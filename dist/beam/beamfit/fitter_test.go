@@ -44,7 +44,7 @@ func TestFitterMatchesLocal(t *testing.T) {
 			return nil, err
 		}
 		for i := range want {
-			if g, w := fmt.Sprintf("%#v", got[i]), fmt.Sprintf("%#v", want[i]); g != w {
+			if g, w := fitText(got[i]), fitText(want[i]); g != w {
 				t.Errorf("job %d (node %d):\nbeam  %s\nlocal %s", i, jobs[i].Node, g, w)
 			}
 		}
@@ -107,4 +107,13 @@ func TestFitStageOutputLeadsToAGrouping(t *testing.T) {
 		}
 	}
 	t.Errorf("the fit stage's output reaches no grouping")
+}
+
+// fitText writes a fit out in full, its path form followed through its
+// pointers by pathText (so that two fits compare by content, not by
+// address; %#v, not reflect.DeepEqual, so that NaN residuals compare equal).
+func fitText(fit engine.NodeFit) string {
+	path := fit.Path
+	fit.Path = nil
+	return fmt.Sprintf("%#v path %s", fit, pathText(path))
 }
