@@ -46,15 +46,30 @@ func horizonGroups(h int) [][2]int {
 type Calibration struct {
 	// Levels are the node levels; Groups the horizon groups as [first,
 	// last] steps; Intervals the interval levels in percent.
-	Levels    []string  `json:"levels"`
-	Groups    [][2]int  `json:"horizon_groups"`
-	Intervals []float64 `json:"intervals"`
+	Levels    []string
+	Groups    [][2]int
+	Intervals []float64
 	// Factor[l][g][q] multiplies z·sd of node level l, horizon group g and
 	// interval level q; Count[l][g] is the number of past errors behind it
 	// (0 where the factor is 1 for want of errors, and the level's count
 	// where it was pooled over steps).
-	Factor [][][]float64 `json:"factor"`
-	Count  [][]int       `json:"count"`
+	Factor [][][]float64
+	Count  [][]int
+}
+
+// MarshalJSON writes the factors as one object per node level and
+// horizon group: its first and last step, the past errors behind it
+// (errors) and one factor per interval (factor_80, factor_95).
+func (c *Calibration) MarshalJSON() ([]byte, error) {
+	var rows []map[string]any
+	for l, level := range c.Levels {
+		for g, gr := range c.Groups {
+			row := map[string]any{"level": level, "first_step": gr[0], "last_step": gr[1], "errors": c.Count[l][g]}
+			byInterval(row, "factor", c.Intervals, c.Factor[l][g])
+			rows = append(rows, row)
+		}
+	}
+	return json.Marshal(map[string]any{"factors": rows})
 }
 
 // calScores collects normalised scores |e|/sd per node level and step.

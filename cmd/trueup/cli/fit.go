@@ -63,6 +63,8 @@ simpler benchmarks are tried in turn and the warning says so.
                                       or the data's grain) is optional
   ARIMA(0,0,1)(0,1,1) m=12 + drift    "+ mean" (d+D = 0) or "+ drift"
                                       (d+D = 1) adds a constant
+  ARIMA(1,1,0) + 2 Fourier m=12       seasonality carried by K sine-cosine
+                                      pairs (the form chosen for long seasons)
   ETS(M,Ad,M)                         exponential smoothing, written
                                       error, trend, seasonality
 A fixed form is never swapped for a benchmark: it fits, or fit exits with

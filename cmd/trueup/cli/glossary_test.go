@@ -152,7 +152,8 @@ func printedJSONKeys(t *testing.T, in string) []string {
 		t.Fatalf("inspect --json: %v", err)
 	}
 	keys := jsonKeys(doc, "")
-	fits := [][]string{{"--family", "arima", "--transform", "boxcox"}, {"--model", "ARIMA(0,0,1)(0,1,1)", "--constant"}}
+	fits := [][]string{{"--family", "arima", "--transform", "boxcox"}, {"--model", "ARIMA(0,0,1)(0,1,1)", "--constant"},
+		{"--model", "ARIMA(1,1,0) + 2 Fourier"}}
 	for _, f := range families.Registry().Names() {
 		fits = append(fits, []string{"--family", f})
 	}
