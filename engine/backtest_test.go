@@ -316,20 +316,27 @@ func TestForecastCalibration(t *testing.T) {
 	cal := &engine.Calibration{Levels: res.Structure.LevelNames(), Groups: [][2]int{{1, 3}, {4, 6}}, Intervals: []float64{80, 95}}
 	for range cal.Levels {
 		cal.Factor = append(cal.Factor, [][]float64{{2, 1}, {0.5, 1}})
+		cal.Count = append(cal.Count, []int{12, 0})
 	}
 	res.Calibration = cal
-	// run.json names the factors' intervals "intervals", as everywhere
-	// else ("level" is a level of the structure).
+	// run.json writes one object per level and horizon group, each
+	// factor named by its interval ("level" is a level of the structure).
 	raw, err := json.Marshal(cal)
 	if err != nil {
 		t.Fatal(err)
 	}
-	var named map[string]any
+	var named struct {
+		Factors []map[string]any `json:"factors"`
+	}
 	if err := json.Unmarshal(raw, &named); err != nil {
 		t.Fatal(err)
 	}
-	if iv, ok := named["intervals"].([]any); !ok || len(iv) != 2 || named["interval_levels"] != nil {
-		t.Errorf("the calibration's intervals are written as %s", raw)
+	if len(named.Factors) != 2*len(cal.Levels) {
+		t.Fatalf("the calibration is written as %s", raw)
+	}
+	if f := named.Factors[1]; f["level"] != cal.Levels[0] || f["first_step"] != 4.0 || f["last_step"] != 6.0 ||
+		f["errors"] != 0.0 || f["factor_80"] != 0.5 || f["factor_95"] != 1.0 {
+		t.Errorf("the second horizon group of %s is written as %v", cal.Levels[0], f)
 	}
 	for i := range res.Structure.Nodes {
 		for k := 0; k < 6; k++ {
