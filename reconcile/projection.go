@@ -389,7 +389,12 @@ func denseRows(d *mat.Dense) [][]float64 {
 // not linear. For reconciling many sample paths at once (probabilistic
 // reconciliation, Panagiotelis, Gamakumara, Athanasopoulos & Hyndman
 // 2023): Reconcile would build the same setup for every batch.
-func (pr Projection) Map(p Problem) (func(y [][]float64) ([][]float64, error), error) {
+//
+// tol is the relative residual the iterative solver of the large path
+// reaches for each column (the dense path solves exactly); Reconcile
+// uses 1e-12. Sample paths can take a looser one: their quantiles carry
+// a Monte Carlo error far above it.
+func (pr Projection) Map(p Problem, tol float64) (func(y [][]float64) ([][]float64, error), error) {
 	n := len(p.Structure.Nodes)
 	var errc *errCov
 	if p.Residuals != nil {
@@ -419,7 +424,7 @@ func (pr Projection) Map(p Problem) (func(y [][]float64) ([][]float64, error), e
 		for i, row := range y {
 			ym.SetRow(i, row)
 		}
-		bottom, err := g.apply(ym, solveTol)
+		bottom, err := g.apply(ym, tol)
 		if err != nil {
 			return nil, err
 		}
