@@ -408,17 +408,27 @@ func TestLockedNonnegative(t *testing.T) {
 	}
 }
 
-// TestLockPreconditioner checks the block elimination of coupleLocks:
-// applied to M·v, with M = [P̃ B; Bᵀ W_LL] formed here term by term
-// (P̃ = D0 + Y·Yᵀ, B = UcᵀW·E_L, W_LL the locked nodes' block of W), the
-// preconditioner gives v back. A wrong sign or a missing term in the
-// elimination breaks the identity; the locked solves would still
-// converge, only slower, so the non-negative tests cannot see it.
+// TestLockPreconditioner checks the restricted solve's pieces against
+// dense matrices formed here from their definitions, with some bottom
+// series bound at zero. W' is the conditional covariance
+// W_RR − W_RA·W_AA⁻¹·W_AR and y' = y_R − W_RA·W_AA⁻¹·y_A, both formed
+// with a dense inverse (common linear algebra, the Schur complement);
+// restricted computes them through K_A and the Woodbury identity. The
+// preconditioner M = [P̃ B; Bᵀ W'_LL] (P̃ = D0' + Uc'ᵀ(W' − Δ_R)Uc',
+// B = Uc'ᵀW'·E_L) is formed term by term, and applied to M·v the
+// preconditioner must give v back. A wrong sign or a missing term breaks
+// the identity; the solves would still converge, only slower, so the
+// non-negative tests cannot see it.
 func TestLockPreconditioner(t *testing.T) {
 	st := tree(t, 2, 2, 3)
 	p := problemFor(st, 60, 1, 4)
 	n := len(st.Nodes)
-	nodes := []int{0, 1, 3} // the total and two aggregates below it
+	off := st.BottomOffset()
+	nodes := []int{0, 1, 3, off + 1} // the total, two aggregates, a bottom series
+	free := make([]bool, st.NumBottom())
+	for j := range free {
+		free[j] = j%3 != 0
+	}
 	for _, cov := range []Covariance{CovShrink, CovVariance} {
 		errc, err := p.errorCov()
 		if err != nil {
@@ -432,51 +442,128 @@ func TestLockPreconditioner(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		k, L := lp.k, len(nodes)
-		T := w.rank()
-		inv := make([]float64, k)
-		for a := range inv {
-			inv[a] = 1 / lp.dq[a]
+		qp, err := lp.qp()
+		if err != nil {
+			t.Fatal(err)
 		}
-		small, tmp := make([]float64, max(T, 1)), make([]float64, k)
-		c := lp.coupleLocks(nodes, small, tmp, inv)
-		if c == nil {
-			t.Fatalf("%s: the Schur complement was refused", cov)
+		r, err := qp.(*largeQP).restrict(free)
+		if err != nil {
+			t.Fatal(err)
+		}
+		k, L := lp.k, len(nodes)
+		var rIdx, aIdx []int
+		for i := 0; i < n; i++ {
+			if i >= off && !free[i-off] {
+				aIdx = append(aIdx, i)
+			} else {
+				rIdx = append(rIdx, i)
+			}
+		}
+		sub := func(rows, cols []int) *mat.Dense {
+			m := mat.NewDense(len(rows), len(cols), nil)
+			for a, i := range rows {
+				for b, j := range cols {
+					m.Set(a, b, w.at(i, j))
+				}
+			}
+			return m
+		}
+		var waaInv, tmp, cond mat.Dense
+		if err := waaInv.Inverse(sub(aIdx, aIdx)); err != nil {
+			t.Fatal(err)
+		}
+		tmp.Mul(sub(rIdx, aIdx), &waaInv)
+		cond.Mul(&tmp, sub(aIdx, rIdx))
+		wr := mat.NewDense(n, n, nil) // W' at full size, zero on A
+		for a, i := range rIdx {
+			for b, j := range rIdx {
+				wr.Set(i, j, w.at(i, j)-cond.At(a, b))
+			}
+		}
+		// y' against the dense conditional mean.
+		y := make([]float64, n)
+		for i := range y {
+			y[i] = 10 * math.Cos(float64(i))
+		}
+		yA := make([]float64, len(aIdx))
+		for a, i := range aIdx {
+			yA[a] = y[i]
+		}
+		var shift mat.VecDense
+		shift.MulVec(&tmp, mat.NewVecDense(len(yA), yA))
+		got := r.target(y)
+		for a, i := range rIdx {
+			if want := y[i] - shift.AtVec(a); math.Abs(got[i]-want) > 1e-9*math.Max(1, math.Abs(want)) {
+				t.Errorf("%s: y' at %s = %g, dense %g", cov, st.Label(i), got[i], want)
+			}
+		}
+		for _, i := range aIdx {
+			if got[i] != 0 {
+				t.Errorf("%s: y' at bound %s = %g", cov, st.Label(i), got[i])
+			}
+		}
+		// Uc'ᵀ·X·Uc' for an n × n X, column by column.
+		ucT := func(x *mat.Dense, j int) []float64 { // Uc'ᵀ·X·e_j for node j
+			col := make([]float64, n)
+			for i := 0; i < n; i++ {
+				col[i] = x.At(i, j)
+			}
+			out := make([]float64, k)
+			lp.ucTMul(out, col, 1)
+			return out
+		}
+		lowRank := mat.DenseCopyOf(wr)
+		for _, i := range rIdx {
+			lowRank.Set(i, i, lowRank.At(i, i)-w.Delta[i])
+		}
+		// lowRank·Uc' (n × k), then Uc'ᵀ of each column.
+		luc := mat.NewDense(n, k, nil)
+		for c := 0; c < k; c++ {
+			e := make([]float64, k)
+			e[c] = 1
+			ucol := make([]float64, n)
+			r.ucMul(ucol, e)
+			var v mat.VecDense
+			v.MulVec(lowRank, mat.NewVecDense(n, ucol))
+			luc.SetCol(c, v.RawVector().Data)
 		}
 		v := make([]float64, k+L)
 		for i := range v {
 			v[i] = math.Sin(float64(3*i + 1))
 		}
-		// r = M·v.
-		r := make([]float64, k+L)
+		rv := make([]float64, k+L) // M·v
 		for a := 0; a < k; a++ {
-			r[a] = lp.dq[a] * v[a]
-		}
-		if lp.core != nil {
-			for a := 0; a < k; a++ {
-				for b := 0; b < k; b++ {
-					r[a] += floats.Dot(lp.y.Data[a*T:(a+1)*T], lp.y.Data[b*T:(b+1)*T]) * v[b]
+			dq := w.Delta[a]
+			for _, j := range st.S.Row(a) {
+				if free[j] {
+					dq += w.Delta[off+j]
 				}
+			}
+			rv[a] = dq * v[a]
+		}
+		for c := 0; c < k; c++ {
+			pc := ucT(luc, c)
+			for a := 0; a < k; a++ {
+				rv[a] += pc[a] * v[c]
 			}
 		}
 		for l, i := range nodes {
-			wcol := make([]float64, n)
-			for j := range wcol {
-				wcol[j] = w.at(j, i)
-			}
-			bcol := make([]float64, k)
-			lp.ucTMul(bcol, wcol, 1)
+			bcol := ucT(wr, i)
 			for a := 0; a < k; a++ {
-				r[a] += bcol[a] * v[k+l]
+				rv[a] += bcol[a] * v[k+l]
 			}
-			r[k+l] = floats.Dot(bcol, v[:k])
+			rv[k+l] = floats.Dot(bcol, v[:k])
 			for q, j := range nodes {
-				r[k+l] += w.at(i, j) * v[k+q]
+				rv[k+l] += wr.At(i, j) * v[k+q]
 			}
 		}
+		c := r.coupleLocks(nodes)
+		if c == nil {
+			t.Fatalf("%s: the Schur complement was refused", cov)
+		}
 		z := make([]float64, k+L)
-		lp.precond(z[:k], r[:k], small, tmp, inv, 1)
-		c.apply(z[:k], z[k:], r[k:])
+		r.precond(z[:k], rv[:k])
+		c.apply(z[:k], z[k:], rv[k:])
 		for i := range v {
 			if math.Abs(z[i]-v[i]) > 1e-9 {
 				t.Errorf("%s: entry %d: M⁻¹·M·v = %g, v = %g", cov, i, z[i], v[i])

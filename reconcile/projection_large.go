@@ -468,6 +468,13 @@ func (lp *largeProjector) qp() (qpProblem, error) {
 		return nil, fmt.Errorf("reconcile: I + UᵀΔ⁻¹U not positive definite")
 	}
 	q.s = make([]float64, T)
+	g := blas64.Symmetric{N: T, Stride: T, Uplo: blas.Upper, Data: make([]float64, T*T)}
+	blas64.Syrk(blas.Trans, 1, scaledRows(lp.y.Data, T, func(yield func(row int, f float64)) {
+		for a, v := range lp.dq {
+			yield(a, 1/math.Sqrt(v))
+		}
+	}), 0, g)
+	q.gram = g.Data
 	return q, nil
 }
 
@@ -480,10 +487,12 @@ type largeQP struct {
 	t1 []float64      // n scratch
 	t2 []float64      // n scratch
 	t3 []float64      // n scratch
-	// warm keeps the constraint-form solution of the last restricted
-	// solve of each right-hand side (the forecast column, and the
-	// columns of W of the locked nodes), by its first element's address:
-	// the next solve of the same column starts from it.
+	// gram is YᵀD0⁻¹Y (T × T, upper triangle), the low-rank part of the
+	// preconditioner's core, which restricted solves update.
+	gram []float64
+	// warm keeps the aggregation constraints' part x_k of the last
+	// restricted solve of each right-hand side, by its first element's
+	// address: the next solve of the same column starts from it.
 	warm map[*float64][]float64
 }
 
@@ -527,299 +536,44 @@ func (q *largeQP) mul(dst, v []float64) {
 	q.lp.st.S.MulTransVec(dst, q.t3)
 }
 
-// solveFree solves the projection restricted to the free bottom series in
-// the constraint form of largeProjector, with the bound ones as further
-// constraints: with A the bound set and E_A its bottom unit vectors
-// (n × |A|), V = [Uc, E_A] and
-//
-//	ỹ = y − W·V·(VᵀWV)⁻¹·Vᵀy
-//
-// ỹ is the W⁻¹-projection of y onto the coherent forecasts whose bottom
-// series in A are zero, so its bottom rows are the minimizer of ½bᵀPb − qᵀb
-// with b_A = 0 (the same argument as for Uc alone). VᵀWV (k + |A| square)
-// is solved by conjugate gradients preconditioned block-diagonally: the
-// Woodbury preconditioner of Q for the Uc block, the diagonal of W_AA for
-// the other; like Q, it is applied through Y = UcᵀU and the rows U_A, so
-// that no product costs more than the sparse S and k × T. The unknowns
-// are held as a (k + m)-vector, zero off A.
+// solveFree solves the projection restricted to the free bottom series
+// (restricted), started from the last restricted solve of the same
+// right-hand side.
 func (q *largeQP) solveFree(free []bool, _, y, _ []float64) ([]float64, error) {
 	b, _, err := q.solveBordered(free, y, nil, nil)
 	return b, err
 }
 
-// solveFreeLocked implements lockedQP: the locks are unit rows e_i of
-// the locked nodes added to V, with right-hand side Vᵀy − d, d zero but
-// for the locks' values (the projection onto an affine set). Their
+// solveFreeLocked implements qpProblem's locked solve: the locks are unit
+// rows e_i of the locked nodes added to the constraint form, with
+// right-hand side y'_i − c_i (the projection onto an affine set). Their
 // multipliers are the Lagrange multipliers μ of C·b = c in the bottom
-// form: P·b − q = −Sᵀ·V·x = −x_A − Cᵀ·x_L, so P·b − q + Cᵀμ = 0 on the
-// free series with μ = x_L.
+// form: P·b − q = −Sᵀ·V·x = −Cᵀ·x_L on the free series, so
+// P·b − q + Cᵀμ = 0 there with μ = x_L.
 func (q *largeQP) solveFreeLocked(free []bool, _, y, _ []float64, nodes []int, values []float64) ([]float64, []float64, error) {
 	return q.solveBordered(free, y, nodes, values)
 }
 
-// solveBordered is solveFree with the rows of V at the locked nodes
-// (nil for none) added; it returns the bottom rows and the locks'
-// multipliers.
+// solveBordered is the restricted solve with the rows of the locked nodes
+// (nil for none); it returns the bottom rows and the locks' multipliers.
+// The aggregation constraints' part of the solution is kept per
+// right-hand side (by its first element's address) to start the next
+// solve of the same column: between free sets that differ in a few
+// series it changes little.
 func (q *largeQP) solveBordered(free []bool, y []float64, lockNodes []int, lockValues []float64) ([]float64, []float64, error) {
-	lp := q.lp
-	k, m, n := lp.k, lp.m, lp.n
-	d := lp.w.Delta
-	T := q.T
-	u := lp.w.U
-	L := len(lockNodes)
-	size := k + m + L
-	bound := func(v []float64) { // zero the μ part off A
-		for j, f := range free {
-			if f {
-				v[k+j] = 0
-			}
-		}
+	r, err := q.restrict(free)
+	if err != nil {
+		return nil, nil, err
 	}
-	vn := make([]float64, n)
-	small := make([]float64, T)
-	// vmul sets vn = V·x (n-vector).
-	vmul := func(x []float64) {
-		lp.ucMul(vn, x[:k], 1)
-		for j, f := range free {
-			if !f {
-				vn[k+j] += x[k+j]
-			}
-		}
-		for l, i := range lockNodes {
-			vn[i] += x[k+m+l]
-		}
-	}
-	// mulV sets dst = VᵀWV·x.
-	mulV := func(dst, x []float64) {
-		vmul(x)
-		for i, di := range d {
-			vn[i] *= di
-		}
-		lp.ucTMul(dst[:k], vn, 1)
-		for j, f := range free {
-			dst[k+j] = 0
-			if !f {
-				dst[k+j] = vn[k+j]
-			}
-		}
-		for l, i := range lockNodes {
-			dst[k+m+l] = vn[i]
-		}
-		if T == 0 {
-			return
-		}
-		// Uᵀ·V·x = Yᵀ·x_k + U_Aᵀ·x_A + U_Lᵀ·x_L, then add [Y; U_A; U_L]·that.
-		sv := blas64.Vector{N: T, Inc: 1, Data: small}
-		blas64.Gemv(blas.Trans, 1, lp.y, blas64.Vector{N: k, Inc: 1, Data: x[:k]}, 0, sv)
-		for j, f := range free {
-			if !f {
-				floats.AddScaled(small, x[k+j], u[(k+j)*T:(k+j+1)*T])
-			}
-		}
-		for l, i := range lockNodes {
-			floats.AddScaled(small, x[k+m+l], u[i*T:(i+1)*T])
-		}
-		blas64.Gemv(blas.NoTrans, 1, lp.y, sv, 1, blas64.Vector{N: k, Inc: 1, Data: dst[:k]})
-		for j, f := range free {
-			if !f {
-				dst[k+j] += floats.Dot(u[(k+j)*T:(k+j+1)*T], small)
-			}
-		}
-		for l, i := range lockNodes {
-			dst[k+m+l] += floats.Dot(u[i*T:(i+1)*T], small)
-		}
-	}
-	tmp := make([]float64, k)
-	inv := make([]float64, k)
-	for a := range inv {
-		inv[a] = 1 / lp.dq[a]
-	}
-	wii := func(i int) float64 { // W_ii
-		v := d[i]
-		if T > 0 {
-			r := u[i*T : (i+1)*T]
-			v += floats.Dot(r, r)
-		}
-		return v
-	}
-	wdiag := make([]float64, m) // 1 / W_jj of the bottom series
-	for j := range wdiag {
-		wdiag[j] = 1 / wii(k+j)
-	}
-	ldiag := make([]float64, L)
-	for l, i := range lockNodes {
-		ldiag[l] = 1 / wii(i)
-	}
-	coupled := lp.coupleLocks(lockNodes, small, tmp, inv)
-	pre := func(dst, r []float64) {
-		lp.precond(dst[:k], r[:k], small, tmp, inv, 1)
-		for j, f := range free {
-			dst[k+j] = 0
-			if !f {
-				dst[k+j] = wdiag[j] * r[k+j]
-			}
-		}
-		if coupled != nil {
-			coupled.apply(dst[:k], dst[k+m:], r[k+m:])
-			return
-		}
-		for l := range lockNodes {
-			dst[k+m+l] = ldiag[l] * r[k+m+l]
-		}
-	}
-	b := make([]float64, size) // Vᵀy − d
-	lp.ucTMul(b[:k], y, 1)
-	for j, f := range free {
-		if !f {
-			b[k+j] = y[k+j]
-		}
-	}
-	for l, i := range lockNodes {
-		b[k+m+l] = y[i] - lockValues[l]
-	}
-	x := make([]float64, size)
-	if prev, ok := q.warm[&y[0]]; ok {
-		copy(x[:k+m], prev)
-		bound(x)
-	}
-	res := make([]float64, size)
-	mulV(res, x)
-	for i := range res {
-		res[i] = b[i] - res[i]
-	}
-	bn := math.Sqrt(dot(b, b))
-	z := make([]float64, size)
-	ap := make([]float64, size)
-	if bn > 0 {
-		pre(z, res)
-		p := append([]float64(nil), z...)
-		rz := dot(res, z)
-		for it := 0; math.Sqrt(dot(res, res)) > solveTol*bn; it++ {
-			if it == maxCGIter {
-				return nil, nil, fmt.Errorf("conjugate gradients did not converge in %d iterations", maxCGIter)
-			}
-			mulV(ap, p)
-			alpha := rz / dot(p, ap)
-			floats.AddScaled(x, alpha, p)
-			floats.AddScaled(res, -alpha, ap)
-			pre(z, res)
-			old := rz
-			rz = dot(res, z)
-			for i := range p {
-				p[i] = z[i] + rz/old*p[i]
-			}
-		}
+	bottom, mu, xk, err := r.solve(y, lockNodes, lockValues, q.warm[&y[0]])
+	if err != nil {
+		return nil, nil, err
 	}
 	if q.warm == nil {
 		q.warm = map[*float64][]float64{}
 	}
-	q.warm[&y[0]] = x[:k+m]
-	// Bottom rows of ỹ = y − W·V·x.
-	vmul(x)
-	out := make([]float64, m)
-	if T > 0 {
-		clear(small)
-		for i := 0; i < n; i++ {
-			if vn[i] != 0 {
-				floats.AddScaled(small, vn[i], u[i*T:(i+1)*T])
-			}
-		}
-	}
-	for j := range out {
-		if !free[j] {
-			continue // zero by its constraint
-		}
-		v := y[k+j] - d[k+j]*vn[k+j]
-		if T > 0 {
-			v -= floats.Dot(u[(k+j)*T:(k+j+1)*T], small)
-		}
-		out[j] = v
-	}
-	return out, x[k+m:], nil
-}
-
-// lockCoupling is the part of solveBordered's preconditioner for the
-// rows of the locked nodes. They are coupled to the aggregation
-// constraints through B = UcᵀW·E_L (k × L), strongly for a locked
-// aggregate such as the total: preconditioned by the diagonal of W
-// alone, a restricted solve of BenchmarkMinTRetailLocked's locked
-// programme took 235 conjugate-gradient iterations on average against
-// 164 without locks; with the preconditioner below, 195. It is
-//
-//	M = [P̃ B; Bᵀ W_LL]
-//
-// (P̃ the Woodbury preconditioner of Q, W_LL the locked nodes' block of
-// W), applied by block elimination with the L × L Schur complement
-// S = W_LL − Bᵀ·P̃⁻¹·B: z_L = S⁻¹(r_L − Bᵀ·P̃⁻¹r_k), z_k = P̃⁻¹r_k −
-// P̃⁻¹B·z_L (Saad 2003, Iterative Methods for Sparse Linear Systems,
-// 2nd ed., §14.1 on block preconditioners, cited from memory). M is
-// positive definite exactly when S is, which the Cholesky factorization
-// checks; the bound series keep their diagonal.
-type lockCoupling struct {
-	b, pb [][]float64 // per lock: B's column and P̃⁻¹ applied to it
-	s     mat.Cholesky
-	v     *mat.VecDense // L scratch
-}
-
-// coupleLocks returns the coupled preconditioner of the locked nodes'
-// rows, or nil for none, or when S is not positive definite (the caller
-// then keeps the diagonal). small, tmp and inv are precond's scratch and
-// inverse diagonal.
-func (lp *largeProjector) coupleLocks(nodes []int, small, tmp, inv []float64) *lockCoupling {
-	L, k, n := len(nodes), lp.k, lp.n
-	w := lp.w
-	T := w.rank()
-	if L == 0 || k == 0 {
-		return nil
-	}
-	c := &lockCoupling{b: make([][]float64, L), pb: make([][]float64, L), v: mat.NewVecDense(L, nil)}
-	col := make([]float64, n)
-	for l, i := range nodes {
-		// W·e_i = Δ_i·e_i + U·U_iᵀ.
-		clear(col)
-		if T > 0 {
-			blas64.Gemv(blas.NoTrans, 1, blas64.General{Rows: n, Cols: T, Stride: T, Data: w.U},
-				blas64.Vector{N: T, Inc: 1, Data: w.U[i*T : (i+1)*T]}, 0, blas64.Vector{N: n, Inc: 1, Data: col})
-		}
-		col[i] += w.Delta[i]
-		c.b[l] = make([]float64, k)
-		lp.ucTMul(c.b[l], col, 1)
-		c.pb[l] = make([]float64, k)
-		lp.precond(c.pb[l], c.b[l], small, tmp, inv, 1)
-	}
-	s := mat.NewSymDense(L, nil)
-	for l, i := range nodes {
-		for q := l; q < L; q++ {
-			j := nodes[q]
-			v := -floats.Dot(c.b[l], c.pb[q])
-			if T > 0 {
-				v += floats.Dot(w.U[i*T:(i+1)*T], w.U[j*T:(j+1)*T])
-			}
-			if i == j {
-				v += w.Delta[i]
-			}
-			s.SetSym(l, q, v)
-		}
-	}
-	if !c.s.Factorize(s) {
-		return nil
-	}
-	return c
-}
-
-// apply completes the preconditioner: dk holds P̃⁻¹r_k on entry and
-// z_k on return; zl is set to z_L for the locks' residual rl.
-func (c *lockCoupling) apply(dk, zl, rl []float64) {
-	for l := range c.b {
-		c.v.SetVec(l, rl[l]-floats.Dot(c.b[l], dk))
-	}
-	if err := c.s.SolveVecTo(c.v, c.v); err != nil {
-		panic("reconcile: lock preconditioner solve: " + err.Error())
-	}
-	for l := range c.b {
-		zl[l] = c.v.AtVec(l)
-		floats.AddScaled(dk, -zl[l], c.pb[l])
-	}
+	q.warm[&y[0]] = xk
+	return bottom, mu, nil
 }
 
 func dot(a, b []float64) float64 { return floats.Dot(a, b) }
