@@ -103,13 +103,19 @@ func relDiff(a, b float64) float64 {
 // checkCoherent fails unless every node equals the sum of its bottom series.
 func checkCoherent(t *testing.T, st *hierarchy.Structure, sol Solution) {
 	t.Helper()
+	checkCoherentWithin(t, st, sol, 1e-12)
+}
+
+// checkCoherentWithin is checkCoherent to relative difference tol.
+func checkCoherentWithin(t *testing.T, st *hierarchy.Structure, sol Solution, tol float64) {
+	t.Helper()
 	for i := range st.Nodes {
 		for k := range sol.Forecast[i] {
 			var s float64
 			for _, j := range st.S.Row(i) {
 				s += sol.Bottom[j][k]
 			}
-			if relDiff(s, sol.Forecast[i][k]) > 1e-12 {
+			if relDiff(s, sol.Forecast[i][k]) > tol {
 				t.Fatalf("%s step %d: %g is not the sum of its parts %g", st.Label(i), k+1, sol.Forecast[i][k], s)
 			}
 		}

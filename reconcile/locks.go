@@ -414,7 +414,7 @@ func (lp *lockPlan) equalities(k int) *equalities {
 // this free set: its series are freed (freed = true) for the caller to
 // solve again; a lock of zero with none left already holds and is left
 // out.
-func (eq *equalities) solve(qp qpProblem, free []bool, rhs, y, x0 []float64) (x, mu []float64, freed bool, err error) {
+func (eq *equalities) solve(qp qpProblem, free []bool, rhs, y []float64, tol float64) (x, mu []float64, freed bool, err error) {
 	var use []int
 	for l, row := range eq.rows {
 		any := false
@@ -439,7 +439,7 @@ func (eq *equalities) solve(qp qpProblem, free []bool, rhs, y, x0 []float64) (x,
 	for a, l := range use {
 		nodes[a], values[a] = eq.nodes[l], eq.values[l]
 	}
-	x, muUse, err := qp.solveFreeLocked(free, rhs, y, x0, nodes, values)
+	x, muUse, err := qp.solveFreeLocked(free, rhs, y, tol, nodes, values)
 	if err != nil {
 		return nil, nil, false, err
 	}

@@ -539,8 +539,8 @@ func (q *largeQP) mul(dst, v []float64) {
 // solveFree solves the projection restricted to the free bottom series
 // (restricted), started from the last restricted solve of the same
 // right-hand side.
-func (q *largeQP) solveFree(free []bool, _, y, _ []float64) ([]float64, error) {
-	b, _, err := q.solveBordered(free, y, nil, nil)
+func (q *largeQP) solveFree(free []bool, _, y []float64, tol float64) ([]float64, error) {
+	b, _, err := q.solveBordered(free, y, tol, nil, nil)
 	return b, err
 }
 
@@ -550,22 +550,24 @@ func (q *largeQP) solveFree(free []bool, _, y, _ []float64) ([]float64, error) {
 // multipliers are the Lagrange multipliers μ of C·b = c in the bottom
 // form: P·b − q = −Sᵀ·V·x = −Cᵀ·x_L on the free series, so
 // P·b − q + Cᵀμ = 0 there with μ = x_L.
-func (q *largeQP) solveFreeLocked(free []bool, _, y, _ []float64, nodes []int, values []float64) ([]float64, []float64, error) {
-	return q.solveBordered(free, y, nodes, values)
+func (q *largeQP) solveFreeLocked(free []bool, _, y []float64, tol float64, nodes []int, values []float64) ([]float64, []float64, error) {
+	return q.solveBordered(free, y, tol, nodes, values)
 }
 
-// solveBordered is the restricted solve with the rows of the locked nodes
-// (nil for none); it returns the bottom rows and the locks' multipliers.
+func (*largeQP) exact() bool { return false }
+
+// solveBordered is the restricted solve, to relative residual tol, with
+// the rows of the locked nodes (nil for none); it returns the bottom rows and the locks' multipliers.
 // The aggregation constraints' part of the solution is kept per
 // right-hand side (by its first element's address) to start the next
 // solve of the same column: between free sets that differ in a few
 // series it changes little.
-func (q *largeQP) solveBordered(free []bool, y []float64, lockNodes []int, lockValues []float64) ([]float64, []float64, error) {
+func (q *largeQP) solveBordered(free []bool, y []float64, tol float64, lockNodes []int, lockValues []float64) ([]float64, []float64, error) {
 	r, err := q.restrict(free)
 	if err != nil {
 		return nil, nil, err
 	}
-	bottom, mu, xk, err := r.solve(y, lockNodes, lockValues, q.warm[&y[0]])
+	bottom, mu, xk, err := r.solve(y, tol, lockNodes, lockValues, q.warm[&y[0]])
 	if err != nil {
 		return nil, nil, err
 	}

@@ -253,7 +253,8 @@ func (r *restricted) wAt(i, j int) float64 {
 	return v
 }
 
-// solve solves the restricted projection of y subject also to the locks
+// solve solves the restricted projection of y, to relative residual tol,
+// subject also to the locks
 // (nodes outside A, nil for none): the constraint-form system
 //
 //	[Q' B; Bᵀ W'_LL]·[x_k; x_L] = [Uc'ᵀy'; y'_L − values],
@@ -262,7 +263,7 @@ func (r *restricted) wAt(i, j int) float64 {
 // by preconditioned conjugate gradients started from x0 (the x_k of an
 // earlier solve, nil for zero). It returns the bottom rows of
 // ỹ = y' − W'·V'·x (zero on A), the locks' multipliers x_L and x_k.
-func (r *restricted) solve(y []float64, nodes []int, values []float64, x0 []float64) (bottom, mu, xk []float64, err error) {
+func (r *restricted) solve(y []float64, tol float64, nodes []int, values []float64, x0 []float64) (bottom, mu, xk []float64, err error) {
 	lp := r.lp
 	k, m, n, T := lp.k, lp.m, lp.n, r.T
 	d := lp.w.Delta
@@ -339,7 +340,7 @@ func (r *restricted) solve(y []float64, nodes []int, values []float64, x0 []floa
 		pre(z, res)
 		p := append([]float64(nil), z...)
 		rz := dot(res, z)
-		for it := 0; math.Sqrt(dot(res, res)) > solveTol*bn; it++ {
+		for it := 0; math.Sqrt(dot(res, res)) > tol*bn; it++ {
 			if it == maxCGIter {
 				return nil, nil, nil, fmt.Errorf("conjugate gradients did not converge in %d iterations", maxCGIter)
 			}
