@@ -5,7 +5,6 @@ import (
 	"strings"
 	"testing"
 
-	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 
 	"trueup/inputerr"
@@ -415,23 +414,24 @@ func TestLockedNonnegative(t *testing.T) {
 	}
 }
 
-// TestLockPreconditioner checks the restricted solve's pieces against
+// TestRestrictedPieces checks the restricted solve's pieces against
 // dense matrices formed here from their definitions, with some bottom
-// series bound at zero. W' is the conditional covariance
-// W_RR − W_RA·W_AA⁻¹·W_AR and y' = y_R − W_RA·W_AA⁻¹·y_A, both formed
-// with a dense inverse (common linear algebra, the Schur complement);
-// restricted computes them through K_A and the Woodbury identity. The
-// preconditioner M = [P̃ B; Bᵀ W'_LL] (P̃ = D0' + Uc'ᵀ(W' − Δ_R)Uc',
-// B = Uc'ᵀW'·E_L) is formed term by term, and applied to M·v the
-// preconditioner must give v back. A wrong sign or a missing term breaks
-// the identity; the solves would still converge, only slower, so the
-// non-negative tests cannot see it.
-func TestLockPreconditioner(t *testing.T) {
+// series bound at zero and some nodes locked (F, values v_F). W' is the
+// conditional covariance W_RR − W_RF·W_FF⁻¹·W_FR and
+// y' = y_R − W_RF·W_FF⁻¹·(y_F − v_F), both formed with a dense inverse
+// (common linear algebra, the Schur complement); restricted computes them
+// through K_F and the Woodbury identity. The preconditioner
+// P̃ = D0' + Uc_Rᵀ(W' − Δ_R)Uc_R is formed term by term, and applied to
+// P̃·v it must give v back. A wrong sign or a missing term in the
+// preconditioner breaks the identity; the solves would still converge,
+// only slower, so the non-negative tests cannot see it.
+func TestRestrictedPieces(t *testing.T) {
 	st := tree(t, 2, 2, 3)
 	p := problemFor(st, 60, 1, 4)
 	n := len(st.Nodes)
 	off := st.BottomOffset()
-	nodes := []int{0, 1, 3, off + 1} // the total, two aggregates, a bottom series
+	nodes := []int{0, 1, off + 1} // the total, an aggregate, a bottom series
+	values := []float64{50, 20, 3}
 	free := make([]bool, st.NumBottom())
 	for j := range free {
 		free[j] = j%3 != 0
@@ -453,15 +453,23 @@ func TestLockPreconditioner(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		r, err := qp.(*largeQP).restrict(free)
+		r, err := qp.(*largeQP).restrict(free, nodes, values)
 		if err != nil {
 			t.Fatal(err)
 		}
-		k, L := lp.k, len(nodes)
-		var rIdx, aIdx []int
-		for i := 0; i < n; i++ {
-			if i >= off && !free[i-off] {
-				aIdx = append(aIdx, i)
+		k := lp.k
+		v := make([]float64, n)
+		fixed := make([]bool, n)
+		for j, f := range free {
+			fixed[off+j] = !f
+		}
+		for l, i := range nodes {
+			fixed[i], v[i] = true, values[l]
+		}
+		var rIdx, fIdx []int
+		for i, f := range fixed {
+			if f {
+				fIdx = append(fIdx, i)
 			} else {
 				rIdx = append(rIdx, i)
 			}
@@ -475,105 +483,77 @@ func TestLockPreconditioner(t *testing.T) {
 			}
 			return m
 		}
-		var waaInv, tmp, cond mat.Dense
-		if err := waaInv.Inverse(sub(aIdx, aIdx)); err != nil {
+		var wffInv, tmp, cond mat.Dense
+		if err := wffInv.Inverse(sub(fIdx, fIdx)); err != nil {
 			t.Fatal(err)
 		}
-		tmp.Mul(sub(rIdx, aIdx), &waaInv)
-		cond.Mul(&tmp, sub(aIdx, rIdx))
-		wr := mat.NewDense(n, n, nil) // W' at full size, zero on A
-		for a, i := range rIdx {
-			for b, j := range rIdx {
-				wr.Set(i, j, w.at(i, j)-cond.At(a, b))
-			}
-		}
+		tmp.Mul(sub(rIdx, fIdx), &wffInv)
+		cond.Mul(&tmp, sub(fIdx, rIdx))
 		// y' against the dense conditional mean.
 		y := make([]float64, n)
 		for i := range y {
 			y[i] = 10 * math.Cos(float64(i))
 		}
-		yA := make([]float64, len(aIdx))
-		for a, i := range aIdx {
-			yA[a] = y[i]
+		dF := make([]float64, len(fIdx))
+		for a, i := range fIdx {
+			dF[a] = y[i] - v[i]
 		}
 		var shift mat.VecDense
-		shift.MulVec(&tmp, mat.NewVecDense(len(yA), yA))
+		shift.MulVec(&tmp, mat.NewVecDense(len(dF), dF))
 		got := r.target(y)
 		for a, i := range rIdx {
 			if want := y[i] - shift.AtVec(a); math.Abs(got[i]-want) > 1e-9*math.Max(1, math.Abs(want)) {
 				t.Errorf("%s: y' at %s = %g, dense %g", cov, st.Label(i), got[i], want)
 			}
 		}
-		for _, i := range aIdx {
+		for _, i := range fIdx {
 			if got[i] != 0 {
-				t.Errorf("%s: y' at bound %s = %g", cov, st.Label(i), got[i])
+				t.Errorf("%s: y' at fixed %s = %g", cov, st.Label(i), got[i])
 			}
 		}
-		// Uc'ᵀ·X·Uc' for an n × n X, column by column.
-		ucT := func(x *mat.Dense, j int) []float64 { // Uc'ᵀ·X·e_j for node j
-			col := make([]float64, n)
-			for i := 0; i < n; i++ {
-				col[i] = x.At(i, j)
+		// The low-rank part of W' at full size (zero on F): W' − Δ_R.
+		lowRank := mat.NewDense(n, n, nil)
+		for a, i := range rIdx {
+			for b, j := range rIdx {
+				x := w.at(i, j) - cond.At(a, b)
+				if i == j {
+					x -= w.Delta[i]
+				}
+				lowRank.Set(i, j, x)
 			}
-			out := make([]float64, k)
-			lp.ucTMul(out, col, 1)
-			return out
 		}
-		lowRank := mat.DenseCopyOf(wr)
-		for _, i := range rIdx {
-			lowRank.Set(i, i, lowRank.At(i, i)-w.Delta[i])
-		}
-		// lowRank·Uc' (n × k), then Uc'ᵀ of each column.
-		luc := mat.NewDense(n, k, nil)
-		for c := 0; c < k; c++ {
-			e := make([]float64, k)
-			e[c] = 1
-			ucol := make([]float64, n)
-			r.ucMul(ucol, e)
-			var v mat.VecDense
-			v.MulVec(lowRank, mat.NewVecDense(n, ucol))
-			luc.SetCol(c, v.RawVector().Data)
-		}
-		v := make([]float64, k+L)
-		for i := range v {
-			v[i] = math.Sin(float64(3*i + 1))
-		}
-		rv := make([]float64, k+L) // M·v
+		ucR := mat.NewDense(n, k, nil) // Uc_R: Uc with the rows of F zero
 		for a := 0; a < k; a++ {
-			dq := w.Delta[a]
+			if !fixed[a] {
+				ucR.Set(a, a, 1)
+			}
 			for _, j := range st.S.Row(a) {
-				if free[j] {
-					dq += w.Delta[off+j]
+				if !fixed[off+j] {
+					ucR.Set(off+j, a, -1)
 				}
 			}
-			rv[a] = dq * v[a]
 		}
-		for c := 0; c < k; c++ {
-			pc := ucT(luc, c)
-			for a := 0; a < k; a++ {
-				rv[a] += pc[a] * v[c]
+		var pre, lu mat.Dense
+		lu.Mul(lowRank, ucR)
+		pre.Mul(ucR.T(), &lu)
+		for a := 0; a < k; a++ {
+			var d0 float64
+			for i := 0; i < n; i++ {
+				d0 += ucR.At(i, a) * ucR.At(i, a) * w.Delta[i]
 			}
+			pre.Set(a, a, pre.At(a, a)+d0)
 		}
-		for l, i := range nodes {
-			bcol := ucT(wr, i)
-			for a := 0; a < k; a++ {
-				rv[a] += bcol[a] * v[k+l]
-			}
-			rv[k+l] = floats.Dot(bcol, v[:k])
-			for q, j := range nodes {
-				rv[k+l] += wr.At(i, j) * v[k+q]
-			}
+		x := make([]float64, k)
+		for i := range x {
+			x[i] = math.Sin(float64(3*i + 1))
 		}
-		c := r.coupleLocks(nodes)
-		if c == nil {
-			t.Fatalf("%s: the Schur complement was refused", cov)
-		}
-		z := make([]float64, k+L)
-		r.precond(z[:k], rv[:k])
-		c.apply(z[:k], z[k:], rv[k:])
-		for i := range v {
-			if math.Abs(z[i]-v[i]) > 1e-9 {
-				t.Errorf("%s: entry %d: M⁻¹·M·v = %g, v = %g", cov, i, z[i], v[i])
+		var px mat.VecDense
+		px.MulVec(&pre, mat.NewVecDense(k, x))
+		back := make([]float64, k)
+		r.precond(back, px.RawVector().Data)
+		for i := range x {
+			if math.Abs(back[i]-x[i]) > 1e-9 {
+				t.Errorf("%s: entry %d: P̃⁻¹·P̃·x = %g, x = %g", cov, i, back[i], x[i])
 			}
 		}
 	}

@@ -469,11 +469,11 @@ func (lp *largeProjector) qp() (qpProblem, error) {
 	}
 	q.s = make([]float64, T)
 	g := blas64.Symmetric{N: T, Stride: T, Uplo: blas.Upper, Data: make([]float64, T*T)}
-	blas64.Syrk(blas.Trans, 1, scaledRows(lp.y.Data, T, func(yield func(row int, f float64)) {
-		for a, v := range lp.dq {
-			yield(a, 1/math.Sqrt(v))
-		}
-	}), 0, g)
+	all := make([]int, lp.k)
+	for a := range all {
+		all[a] = a
+	}
+	blas64.Syrk(blas.Trans, 1, scaledRows(lp.y.Data, T, all, func(a int) float64 { return 1 / math.Sqrt(lp.dq[a]) }), 0, g)
 	q.gram = g.Data
 	return q, nil
 }
@@ -540,41 +540,59 @@ func (q *largeQP) mul(dst, v []float64) {
 // (restricted), started from the last restricted solve of the same
 // right-hand side.
 func (q *largeQP) solveFree(free []bool, _, y []float64, tol float64) ([]float64, error) {
-	b, _, err := q.solveBordered(free, y, tol, nil, nil)
+	b, _, err := q.solveFixed(free, y, tol, nil, nil)
 	return b, err
 }
 
-// solveFreeLocked implements qpProblem's locked solve: the locks are unit
-// rows e_i of the locked nodes added to the constraint form, with
-// right-hand side y'_i − c_i (the projection onto an affine set). Their
-// multipliers are the Lagrange multipliers μ of C·b = c in the bottom
-// form: P·b − q = −Sᵀ·V·x = −Cᵀ·x_L on the free series, so
-// P·b − q + Cᵀμ = 0 there with μ = x_L.
+// solveFreeLocked implements qpProblem's locked solve: the locked nodes
+// are fixed at their values like the bound series (restricted).
 func (q *largeQP) solveFreeLocked(free []bool, _, y []float64, tol float64, nodes []int, values []float64) ([]float64, []float64, error) {
-	return q.solveBordered(free, y, tol, nodes, values)
+	return q.solveFixed(free, y, tol, nodes, values)
 }
 
 func (*largeQP) exact() bool { return false }
 
-// solveBordered is the restricted solve, to relative residual tol, with
-// the rows of the locked nodes (nil for none); it returns the bottom rows and the locks' multipliers.
-// The aggregation constraints' part of the solution is kept per
-// right-hand side (by its first element's address) to start the next
-// solve of the same column: between free sets that differ in a few
-// series it changes little.
-func (q *largeQP) solveBordered(free []bool, y []float64, tol float64, lockNodes []int, lockValues []float64) ([]float64, []float64, error) {
-	r, err := q.restrict(free)
+// solveFixed is the restricted solve, to relative residual tol, with the
+// locked nodes (nil for none) fixed at their values; it returns the
+// bottom series and the locks' Lagrange multipliers μ. The aggregation
+// constraints' multipliers z are kept per right-hand side (by its first
+// element's address) to start the next solve of the same column: between
+// free sets that differ in a few series they change little.
+//
+// The multipliers: the optimality conditions of the projection in the
+// nodes with F fixed are W⁻¹(y − x) = Uc·z + E_F·ν, x the reconciled
+// forecasts, so ν_F = [W⁻¹(y − x)]_F − (Uc·z)_F. In the bottom form
+// P·b − q = −SᵀW⁻¹(y − x) = −SᵀE_F·ν (SᵀUc = 0), so on the free series
+// P·b − q + Cᵀμ = 0 with μ the ν of the locked nodes.
+func (q *largeQP) solveFixed(free []bool, y []float64, tol float64, nodes []int, values []float64) ([]float64, []float64, error) {
+	r, err := q.restrict(free, nodes, values)
 	if err != nil {
 		return nil, nil, err
 	}
-	bottom, mu, xk, err := r.solve(y, tol, lockNodes, lockValues, q.warm[&y[0]])
+	bottom, z, err := r.solve(y, tol, q.warm[&y[0]])
 	if err != nil {
 		return nil, nil, err
 	}
 	if q.warm == nil {
 		q.warm = map[*float64][]float64{}
 	}
-	q.warm[&y[0]] = xk
+	q.warm[&y[0]] = z
+	if len(nodes) == 0 {
+		return bottom, nil, nil
+	}
+	n := q.lp.n
+	x := q.lp.st.S.MulVec(make([]float64, n), bottom)
+	for i := range x {
+		x[i] = y[i] - x[i]
+	}
+	g := make([]float64, n)
+	q.winv(g, x)
+	ucz := make([]float64, n)
+	q.lp.ucMul(ucz, z, 1)
+	mu := make([]float64, len(nodes))
+	for l, i := range nodes {
+		mu[l] = g[i] - ucz[i]
+	}
 	return bottom, mu, nil
 }
 
