@@ -420,9 +420,10 @@ func TestLockedNonnegative(t *testing.T) {
 // conditional covariance W_RR − W_RF·W_FF⁻¹·W_FR and
 // y' = y_R − W_RF·W_FF⁻¹·(y_F − v_F), both formed with a dense inverse
 // (common linear algebra, the Schur complement); restricted computes them
-// through K_F and the Woodbury identity. The preconditioner
-// P̃ = D0' + Uc_Rᵀ(W' − Δ_R)Uc_R is formed term by term, and applied to
-// P̃·v it must give v back. A wrong sign or a missing term in the
+// through K_F and the Woodbury identity. Q' = Uc_RᵀW'Uc_R, the Woodbury
+// preconditioner P̃ = D0' + Uc_Rᵀ(W' − Δ_R)Uc_R and M (P̃ with the rows
+// and columns of the locked aggregates exact) are formed term by term;
+// applied to P̃·v and M·v the preconditioners must give v back. A wrong sign or a missing term in the
 // preconditioner breaks the identity; the solves would still converge,
 // only slower, so the non-negative tests cannot see it.
 func TestRestrictedPieces(t *testing.T) {
@@ -533,7 +534,7 @@ func TestRestrictedPieces(t *testing.T) {
 				}
 			}
 		}
-		var pre, lu mat.Dense
+		var pre, lu, q, wu mat.Dense
 		lu.Mul(lowRank, ucR)
 		pre.Mul(ucR.T(), &lu)
 		for a := 0; a < k; a++ {
@@ -543,6 +544,12 @@ func TestRestrictedPieces(t *testing.T) {
 			}
 			pre.Set(a, a, pre.At(a, a)+d0)
 		}
+		wr := mat.DenseCopyOf(lowRank) // W' = lowRank + Δ_R
+		for _, i := range rIdx {
+			wr.Set(i, i, wr.At(i, i)+w.Delta[i])
+		}
+		wu.Mul(wr, ucR)
+		q.Mul(ucR.T(), &wu) // Q' = Uc_RᵀW'Uc_R
 		x := make([]float64, k)
 		for i := range x {
 			x[i] = math.Sin(float64(3*i + 1))
@@ -550,10 +557,58 @@ func TestRestrictedPieces(t *testing.T) {
 		var px mat.VecDense
 		px.MulVec(&pre, mat.NewVecDense(k, x))
 		back := make([]float64, k)
-		r.precond(back, px.RawVector().Data)
+		r.woodbury(back, px.RawVector().Data, r.inv, r.core)
 		for i := range x {
 			if math.Abs(back[i]-x[i]) > 1e-9 {
 				t.Errorf("%s: entry %d: P̃⁻¹·P̃·x = %g, x = %g", cov, i, back[i], x[i])
+			}
+		}
+		// The balancing preconditioner with Z the unit columns of the
+		// locked aggregates (the total and node 1), formed densely:
+		// (I − Z·E⁻¹·ZᵀQ')·P̃⁻¹·(I − Q'Z·E⁻¹·Zᵀ) + Z·E⁻¹·Zᵀ, E = ZᵀQ'Z.
+		if r.agg == nil || len(r.agg.rows) != 2 || r.agg.rows[0] != 0 || r.agg.rows[1] != 1 {
+			t.Fatalf("%s: the coarse correction is not on the locked aggregates", cov)
+		}
+		z := mat.NewDense(k, 2, nil)
+		z.Set(0, 0, 1)
+		z.Set(1, 1, 1)
+		var qz, e, eInv, pInv, ze, zezq, left, right, bal, zez mat.Dense
+		qz.Mul(&q, z)
+		e.Mul(z.T(), &qz)
+		if err := eInv.Inverse(&e); err != nil {
+			t.Fatal(err)
+		}
+		if err := pInv.Inverse(&pre); err != nil {
+			t.Fatal(err)
+		}
+		ze.Mul(z, &eInv)
+		zezq.Mul(&ze, qz.T())
+		id := mat.NewDense(k, k, nil)
+		for i := 0; i < k; i++ {
+			id.Set(i, i, 1)
+		}
+		left.Sub(id, &zezq)
+		right.Mul(&left, &pInv)
+		bal.Mul(&right, left.T())
+		zez.Mul(&ze, z.T())
+		bal.Add(&bal, &zez)
+		var wantB mat.VecDense
+		wantB.MulVec(&bal, mat.NewVecDense(k, x))
+		gotB := make([]float64, k)
+		r.precond(gotB, x)
+		for i := range x {
+			if math.Abs(gotB[i]-wantB.AtVec(i)) > 1e-9*math.Max(1, math.Abs(wantB.AtVec(i))) {
+				t.Errorf("%s: entry %d: balancing preconditioner %g, dense %g", cov, i, gotB[i], wantB.AtVec(i))
+			}
+		}
+		// Q' itself, against mulQ.
+		qx := make([]float64, k)
+		r.mulQ(qx, x)
+		var want mat.VecDense
+		want.MulVec(&q, mat.NewVecDense(k, x))
+		for i := range x {
+			if math.Abs(qx[i]-want.AtVec(i)) > 1e-9*math.Max(1, math.Abs(want.AtVec(i))) {
+				t.Errorf("%s: (Q'·x)_%d = %g, dense %g", cov, i, qx[i], want.AtVec(i))
 			}
 		}
 	}

@@ -54,8 +54,11 @@ type restricted struct {
 	yR    blas64.General // k × T, Uc_RᵀU
 	inv   []float64      // 1 / D0', 0 for a constraint with no node left
 	core  *mat.Cholesky  // K_F + Y_RᵀD0'⁻¹Y_R; nil when T = 0
-	small []float64      // T scratch
-	tmp   []float64      // k scratch
+	agg   *fixedAggregates
+	small []float64 // T scratch
+	tmp   []float64 // k scratch
+	vn    []float64 // n scratch of mulQ
+	sm    []float64 // T scratch of mulQ
 }
 
 // restrict builds the restricted projection for the free bottom series
@@ -66,7 +69,7 @@ func (q *largeQP) restrict(free []bool, nodes []int, values []float64) (*restric
 	k, n, T := lp.k, lp.n, q.T
 	d := lp.w.Delta
 	r := &restricted{lp: lp, fixed: make([]bool, n), value: make([]float64, n), T: T,
-		small: make([]float64, T), tmp: make([]float64, k)}
+		small: make([]float64, T), tmp: make([]float64, k), vn: make([]float64, n), sm: make([]float64, T)}
 	for j, f := range free {
 		r.fixed[k+j] = !f
 	}
@@ -120,7 +123,9 @@ func (q *largeQP) restrict(free []bool, nodes []int, values []float64) (*restric
 		}
 	}
 	if T == 0 || k == 0 {
-		return r, nil
+		var err error
+		r.agg, err = r.fixAggregates()
+		return r, err
 	}
 	u := lp.w.U
 	r.yR = blas64.General{Rows: k, Cols: T, Stride: T, Data: append([]float64(nil), lp.y.Data...)}
@@ -177,7 +182,9 @@ func (q *largeQP) restrict(free []bool, nodes []int, values []float64) (*restric
 	if !r.core.Factorize(&cs) {
 		return nil, fmt.Errorf("reconcile: restricted preconditioner core not positive definite")
 	}
-	return r, nil
+	var err error
+	r.agg, err = r.fixAggregates()
+	return r, err
 }
 
 // scaledRows stacks the given rows of the row-major matrix x (T columns),
@@ -214,26 +221,128 @@ func (r *restricted) ucMul(dst, z []float64) {
 	}
 }
 
-// precond sets dst = (D0' + Y_R·K_F⁻¹·Y_Rᵀ)⁻¹·v (k-vectors) by the
-// Woodbury identity: D0'⁻¹v − D0'⁻¹Y_R·core⁻¹·Y_RᵀD0'⁻¹v. A constraint
-// with no node left gets 0.
+// precond applies the preconditioner of Q' to v (k-vectors): the
+// Woodbury one, with the rows of fixed aggregates coupled exactly
+// (fixedAggregates) when there are any.
 func (r *restricted) precond(dst, v []float64) {
-	for a, f := range r.inv {
+	if r.agg != nil {
+		r.agg.apply(r, dst, v)
+		return
+	}
+	r.woodbury(dst, v, r.inv, r.core)
+}
+
+// woodbury sets dst = (D + Y_R·K_F⁻¹·Y_Rᵀ)⁻¹·v (k-vectors), D⁻¹ = inv, by
+// the Woodbury identity: D⁻¹v − D⁻¹Y_R·core⁻¹·Y_RᵀD⁻¹v with
+// core = K_F + Y_RᵀD⁻¹Y_R. Rows where inv is 0 get 0.
+func (r *restricted) woodbury(dst, v, inv []float64, core *mat.Cholesky) {
+	for a, f := range inv {
 		dst[a] = f * v[a]
 	}
-	if r.core == nil {
+	if core == nil {
 		return
 	}
 	k := r.lp.k
 	sv := blas64.Vector{N: r.T, Inc: 1, Data: r.small}
 	blas64.Gemv(blas.Trans, 1, r.yR, blas64.Vector{N: k, Inc: 1, Data: dst}, 0, sv)
 	x := mat.NewVecDense(r.T, r.small)
-	if err := r.core.SolveVecTo(x, x); err != nil {
+	if err := core.SolveVecTo(x, x); err != nil {
 		panic("reconcile: preconditioner solve: " + err.Error())
 	}
 	blas64.Gemv(blas.NoTrans, 1, r.yR, sv, 0, blas64.Vector{N: k, Inc: 1, Data: r.tmp})
-	for a, f := range r.inv {
+	for a, f := range inv {
 		dst[a] -= f * r.tmp[a]
+	}
+}
+
+// fixedAggregates is the part of the preconditioner for the constraints
+// of locked aggregates. Fixing an aggregate removes its own term from its
+// constraint, which then ties only bottom series shared with every
+// aggregate below it, a coupling the Woodbury preconditioner P̃ (a
+// diagonal plus rank T) does not see. Their rows L are few, so their
+// directions are solved exactly by a coarse correction, the balancing
+// preconditioner (Tang, Nabben, Vuik & Erlangga 2009, "Comparison of
+// two-level preconditioners derived from deflation, domain decomposition
+// and multigrid methods", J. Sci. Comput. 39:340–370, P_BNN; cited from
+// memory) with Z = E_L, E = ZᵀQ'Z = Q'_LL:
+//
+//	M⁻¹ = (I − Z·E⁻¹·ZᵀQ')·P̃⁻¹·(I − Q'Z·E⁻¹·Zᵀ) + Z·E⁻¹·Zᵀ,
+//
+// symmetric and positive definite with P̃. It needs Q'Z (one product with
+// Q' per locked aggregate) and costs O(k·L) more per application.
+type fixedAggregates struct {
+	rows []int       // the constraints of fixed aggregates
+	qz   [][]float64 // per row of L: Q'·e_l
+	e    mat.Cholesky
+	v    *mat.VecDense // L scratch
+	t    []float64     // k scratch
+}
+
+// fixAggregates returns the coarse correction for the fixed aggregates'
+// constraints, or nil when there are none.
+func (r *restricted) fixAggregates() (*fixedAggregates, error) {
+	k := r.lp.k
+	c := &fixedAggregates{}
+	for a := 0; a < k; a++ {
+		if r.fixed[a] && r.inv[a] > 0 {
+			c.rows = append(c.rows, a)
+		}
+	}
+	L := len(c.rows)
+	if L == 0 {
+		return nil, nil
+	}
+	e := make([]float64, k)
+	c.qz = make([][]float64, L)
+	em := mat.NewSymDense(L, nil)
+	for l, a := range c.rows {
+		e[a] = 1
+		c.qz[l] = make([]float64, k)
+		r.mulQ(c.qz[l], e)
+		e[a] = 0
+	}
+	for l := range c.rows {
+		for m := l; m < L; m++ {
+			em.SetSym(l, m, 0.5*(c.qz[l][c.rows[m]]+c.qz[m][c.rows[l]]))
+		}
+	}
+	if !c.e.Factorize(em) {
+		return nil, fmt.Errorf("reconcile: the locked aggregates' block of the restricted system is not positive definite")
+	}
+	c.v = mat.NewVecDense(L, nil)
+	c.t = make([]float64, k)
+	return c, nil
+}
+
+// apply sets dst = M⁻¹·v.
+func (c *fixedAggregates) apply(r *restricted, dst, v []float64) {
+	// c.v = E⁻¹·Zᵀv; t = v − Q'Z·c.v.
+	for l, a := range c.rows {
+		c.v.SetVec(l, v[a])
+	}
+	c.solveE()
+	copy(c.t, v)
+	for l := range c.rows {
+		floats.AddScaled(c.t, -c.v.AtVec(l), c.qz[l])
+	}
+	coarse := make([]float64, len(c.rows))
+	for l := range coarse {
+		coarse[l] = c.v.AtVec(l)
+	}
+	r.woodbury(dst, c.t, r.inv, r.core)
+	// dst −= Z·E⁻¹·(Q'Z)ᵀ·dst, then += Z·E⁻¹·Zᵀv.
+	for l := range c.rows {
+		c.v.SetVec(l, floats.Dot(c.qz[l], dst))
+	}
+	c.solveE()
+	for l, a := range c.rows {
+		dst[a] += coarse[l] - c.v.AtVec(l)
+	}
+}
+
+func (c *fixedAggregates) solveE() {
+	if err := c.e.SolveVecTo(c.v, c.v); err != nil {
+		panic("reconcile: coarse correction solve: " + err.Error())
 	}
 }
 
@@ -262,43 +371,44 @@ func (r *restricted) target(y []float64) []float64 {
 	return out
 }
 
+// vmul sets r.vn = Uc_R·x and, with T > 0, r.sm = K_F⁻¹·Uᵀ·Uc_R·x.
+func (r *restricted) vmul(x []float64) {
+	r.ucMul(r.vn, x)
+	if r.T == 0 {
+		return
+	}
+	blas64.Gemv(blas.Trans, 1, r.yR, blas64.Vector{N: r.lp.k, Inc: 1, Data: x}, 0, blas64.Vector{N: r.T, Inc: 1, Data: r.sm})
+	r.kfSolve(r.sm)
+}
+
+// mulQ sets dst = Q'·x (k-vectors), through r.vn and r.sm.
+func (r *restricted) mulQ(dst, x []float64) {
+	r.vmul(x)
+	for i, di := range r.lp.w.Delta {
+		r.vn[i] *= di
+	}
+	r.lp.ucTMul(dst, r.vn, 1)
+	if r.T > 0 {
+		blas64.Gemv(blas.NoTrans, 1, r.yR, blas64.Vector{N: r.T, Inc: 1, Data: r.sm}, 1, blas64.Vector{N: r.lp.k, Inc: 1, Data: dst})
+	}
+	for a, f := range r.inv {
+		if f == 0 {
+			dst[a] = 0 // a constraint with no node left
+		}
+	}
+}
+
 // solve solves the restricted projection of y to relative residual tol:
 // Q'·z = Uc_Rᵀ(y' + v) with Q' = Uc_RᵀW'Uc_R, by preconditioned conjugate
 // gradients started from z0 (the z of an earlier solve, nil for zero). It
 // returns the bottom series (the fixed ones at their values) and z.
 func (r *restricted) solve(y []float64, tol float64, z0 []float64) (bottom, z []float64, err error) {
 	lp := r.lp
-	k, m, n, T := lp.k, lp.m, lp.n, r.T
+	k, m, T := lp.k, lp.m, r.T
 	d := lp.w.Delta
 	u := lp.w.U
 	yr := r.target(y)
-	vn := make([]float64, n)
-	sm := make([]float64, T)
-	// vmul sets vn = Uc_R·x and, with T > 0, sm = K_F⁻¹·Uᵀ·Uc_R·x.
-	vmul := func(x []float64) {
-		r.ucMul(vn, x)
-		if T == 0 {
-			return
-		}
-		blas64.Gemv(blas.Trans, 1, r.yR, blas64.Vector{N: k, Inc: 1, Data: x}, 0, blas64.Vector{N: T, Inc: 1, Data: sm})
-		r.kfSolve(sm)
-	}
-	// mulQ sets dst = Q'·x.
-	mulQ := func(dst, x []float64) {
-		vmul(x)
-		for i, di := range d {
-			vn[i] *= di
-		}
-		lp.ucTMul(dst, vn, 1)
-		if T > 0 {
-			blas64.Gemv(blas.NoTrans, 1, r.yR, blas64.Vector{N: T, Inc: 1, Data: sm}, 1, blas64.Vector{N: k, Inc: 1, Data: dst})
-		}
-		for a, f := range r.inv {
-			if f == 0 {
-				dst[a] = 0 // a constraint with no node left
-			}
-		}
-	}
+	vn, sm, mulQ := r.vn, r.sm, r.mulQ
 	b := make([]float64, k)
 	for i, f := range r.fixed {
 		if f {
@@ -347,7 +457,7 @@ func (r *restricted) solve(y []float64, tol float64, z0 []float64) (bottom, z []
 		}
 	}
 	// Bottom rows of x_R = y' − W'·Uc_R·z; the fixed ones at their values.
-	vmul(x)
+	r.vmul(x)
 	bottom = make([]float64, m)
 	for j := range bottom {
 		if r.fixed[k+j] {
