@@ -414,16 +414,38 @@ func (lp *lockPlan) equalities(k int) *equalities {
 // this free set: its series are freed (freed = true) for the caller to
 // solve again; a lock of zero with none left already holds and is left
 // out.
+//
+// A series is fixed by a lock on it alone (a locked bottom series); a
+// lock whose free series are all fixed so is met only if its other series
+// may move, so those are freed too. (The plan has already refused locks
+// that contradict each other, so freeing them is always possible.)
 func (eq *equalities) solve(qp qpProblem, free []bool, rhs, y []float64, tol float64) (x, mu []float64, freed bool, err error) {
+	fixed := map[int]bool{}
+	for _, row := range eq.rows {
+		if len(row) == 1 {
+			fixed[row[0]] = true
+		}
+	}
 	var use []int
 	for l, row := range eq.rows {
-		any := false
+		any, movable := false, len(row) == 1
 		for _, j := range row {
 			any = any || free[j]
+			movable = movable || free[j] && !fixed[j]
 		}
 		switch {
-		case any:
+		case any && movable:
 			use = append(use, l)
+		case any:
+			some := false
+			for _, j := range row {
+				some = some || !free[j]
+				free[j] = true
+			}
+			if !some {
+				use = append(use, l) // every series fixed: the plan found it implied
+			}
+			freed = freed || some
 		case eq.values[l] != 0:
 			for _, j := range row {
 				free[j] = true

@@ -7,6 +7,8 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
+	"trueup/hierarchy"
+
 	"trueup/inputerr"
 )
 
@@ -279,8 +281,23 @@ func TestLockedNonnegative(t *testing.T) {
 	r0, _ := st.Lookup([]string{"R0", "", ""})
 	c1, _ := st.Lookup([]string{"", "", "C1"})
 	closed, _ := st.Lookup([]string{"R1", "R1S1", ""}) // a store locked to zero
-	p.Locks = []Lock{{Node: 0, Step: 0, Value: 120}, {Node: r0, Step: 0, Value: 70}, {Node: c1, Step: 0, Value: 20}, {Node: closed, Step: 0, Value: 0}}
 	p.Nonnegative = true
+	// Bottom series 0 (R0, R0S0, C0) has a base of −40: locking its store
+	// to 30 and its sibling to 25 leaves it 5, which the programme must
+	// free from zero.
+	store, _ := st.Lookup([]string{"R0", "R0S0", ""})
+	t.Run("aggregates", func(t *testing.T) {
+		checkLockedNonnegative(t, st, p, []Lock{{Node: 0, Step: 0, Value: 120}, {Node: r0, Step: 0, Value: 70}, {Node: c1, Step: 0, Value: 20}, {Node: closed, Step: 0, Value: 0}})
+	})
+	t.Run("a parent and a child", func(t *testing.T) {
+		checkLockedNonnegative(t, st, p, []Lock{{Node: store, Step: 0, Value: 30}, {Node: off + 1, Step: 0, Value: 25}})
+	})
+}
+
+// checkLockedNonnegative is TestLockedNonnegative for one set of locks.
+func checkLockedNonnegative(t *testing.T, st *hierarchy.Structure, p Problem, locks []Lock) {
+	p.Locks = locks
+	off := st.BottomOffset()
 	s, w := denseSW(t, p, CovShrink)
 	n, m := s.Dims()
 	wi := inverse(t, w)
@@ -674,4 +691,19 @@ func TestLockedSampledVariance(t *testing.T) {
 		}
 	}
 	t.Logf("%d late nodes, %d paths: worst relative error %.4f, bound %.3f", late, paths, worst, tol)
+}
+
+// TestLockFreesSeriesItNeeds: a store locked to 30 with one of its two
+// series locked to 25 needs the other at 5; on a free set that holds that
+// other one at zero the restricted solve could not meet the store's lock,
+// so equalities.solve frees it (and asks for another solve) instead.
+func TestLockFreesSeriesItNeeds(t *testing.T) {
+	eq := &equalities{nodes: []int{10, 21}, rows: [][]int{{0, 1}, {1}}, values: []float64{30, 25}}
+	free := []bool{false, true, true}
+	if _, _, freed, err := eq.solve(nil, free, nil, nil, 0); err != nil || !freed {
+		t.Fatalf("freed %v, err %v; want the held series freed", freed, err)
+	}
+	if !free[0] {
+		t.Fatal("series 0 is still held at zero")
+	}
 }
