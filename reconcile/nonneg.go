@@ -3,6 +3,7 @@ package reconcile
 import (
 	"fmt"
 	"math"
+	"sync/atomic"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -101,16 +102,18 @@ func nonnegativeFrom(g projector, base, unc *mat.Dense, locks *lockPlan, tol flo
 			}
 		}
 	}
-	// Steps are independent: two workers, each with its own scratch, and
-	// each step's answer written to its own column (deterministic).
+	// Steps are independent: two workers, each with its own scratch,
+	// taking the next step when done with one, and each step's answer
+	// kept apart (deterministic).
 	const workers = 2
 	errs := make([]error, len(todo))
 	cols := make([][]float64, len(todo))
+	var next atomic.Int64
 	var grp crash.Group
 	for w := 0; w < workers && w < len(todo); w++ {
 		grp.Go(func() {
 			qp, err := g.qp()
-			for t := w; t < len(todo); t += workers {
+			for t := int(next.Add(1)) - 1; t < len(todo); t = int(next.Add(1)) - 1 {
 				if err != nil {
 					errs[t] = err
 					continue
