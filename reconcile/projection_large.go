@@ -179,6 +179,10 @@ func (lp *largeProjector) qMul(dst, z, scratch, small []float64, r int) {
 // D0⁻¹v − D0⁻¹Y·(I + YᵀD0⁻¹Y)⁻¹·YᵀD0⁻¹v, with scratch small (T × r) and
 // tmp (k × r).
 func (lp *largeProjector) precond(dst, v, small, tmp []float64, inv []float64, r int) {
+	if r == 1 { // the same with matrix-vector products
+		woodburyVec(dst, v, inv, lp.y, lp.core, small, tmp)
+		return
+	}
 	for a := 0; a < lp.k; a++ {
 		f := inv[a]
 		for q := a * r; q < (a+1)*r; q++ {
@@ -189,19 +193,6 @@ func (lp *largeProjector) precond(dst, v, small, tmp []float64, inv []float64, r
 		return
 	}
 	T := lp.y.Cols
-	if r == 1 { // the same with matrix-vector products
-		sv := blas64.Vector{N: T, Inc: 1, Data: small}
-		blas64.Gemv(blas.Trans, 1, lp.y, blas64.Vector{N: lp.k, Inc: 1, Data: dst}, 0, sv)
-		x := mat.NewVecDense(T, small)
-		if err := lp.core.SolveVecTo(x, x); err != nil {
-			panic("reconcile: preconditioner solve: " + err.Error())
-		}
-		blas64.Gemv(blas.NoTrans, 1, lp.y, sv, 0, blas64.Vector{N: lp.k, Inc: 1, Data: tmp})
-		for a, f := range inv {
-			dst[a] -= f * tmp[a]
-		}
-		return
-	}
 	dm := blas64.General{Rows: lp.k, Cols: r, Stride: r, Data: dst}
 	sm := blas64.General{Rows: T, Cols: r, Stride: r, Data: small}
 	blas64.Gemm(blas.Trans, blas.NoTrans, 1, lp.y, dm, 0, sm)
@@ -217,6 +208,31 @@ func (lp *largeProjector) precond(dst, v, small, tmp []float64, inv []float64, r
 		for q := a * r; q < (a+1)*r; q++ {
 			dst[q] -= f * tmp[q]
 		}
+	}
+}
+
+// woodburyVec sets dst = (D + Y·C⁻¹·Yᵀ)⁻¹·v for one vector by the
+// Woodbury identity: D⁻¹v − D⁻¹Y·(C + YᵀD⁻¹Y)⁻¹·YᵀD⁻¹v, where core is
+// the Cholesky factor of C + YᵀD⁻¹Y (nil: no Y term) and D⁻¹ = inv (rows
+// where inv is 0 get 0). small (Y's columns) and tmp (Y's rows) are
+// scratch. Both the projector's preconditioner (C = I) and the restricted
+// one's (C = K_F) use it.
+func woodburyVec(dst, v, inv []float64, y blas64.General, core *mat.Cholesky, small, tmp []float64) {
+	for a, f := range inv {
+		dst[a] = f * v[a]
+	}
+	if core == nil {
+		return
+	}
+	sv := blas64.Vector{N: y.Cols, Inc: 1, Data: small}
+	blas64.Gemv(blas.Trans, 1, y, blas64.Vector{N: y.Rows, Inc: 1, Data: dst}, 0, sv)
+	x := mat.NewVecDense(y.Cols, small[:y.Cols])
+	if err := core.SolveVecTo(x, x); err != nil {
+		panic("reconcile: preconditioner solve: " + err.Error())
+	}
+	blas64.Gemv(blas.NoTrans, 1, y, sv, 0, blas64.Vector{N: y.Rows, Inc: 1, Data: tmp})
+	for a, f := range inv {
+		dst[a] -= f * tmp[a]
 	}
 }
 

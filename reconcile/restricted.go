@@ -232,27 +232,10 @@ func (r *restricted) precond(dst, v []float64) {
 	r.woodbury(dst, v, r.inv, r.core)
 }
 
-// woodbury sets dst = (D + Y_R·K_F⁻¹·Y_Rᵀ)⁻¹·v (k-vectors), D⁻¹ = inv, by
-// the Woodbury identity: D⁻¹v − D⁻¹Y_R·core⁻¹·Y_RᵀD⁻¹v with
-// core = K_F + Y_RᵀD⁻¹Y_R. Rows where inv is 0 get 0.
+// woodbury sets dst = (D + Y_R·K_F⁻¹·Y_Rᵀ)⁻¹·v (k-vectors), D⁻¹ = inv:
+// woodburyVec with core = K_F + Y_RᵀD⁻¹Y_R. Rows where inv is 0 get 0.
 func (r *restricted) woodbury(dst, v, inv []float64, core *mat.Cholesky) {
-	for a, f := range inv {
-		dst[a] = f * v[a]
-	}
-	if core == nil {
-		return
-	}
-	k := r.lp.k
-	sv := blas64.Vector{N: r.T, Inc: 1, Data: r.small}
-	blas64.Gemv(blas.Trans, 1, r.yR, blas64.Vector{N: k, Inc: 1, Data: dst}, 0, sv)
-	x := mat.NewVecDense(r.T, r.small)
-	if err := core.SolveVecTo(x, x); err != nil {
-		panic("reconcile: preconditioner solve: " + err.Error())
-	}
-	blas64.Gemv(blas.NoTrans, 1, r.yR, sv, 0, blas64.Vector{N: k, Inc: 1, Data: r.tmp})
-	for a, f := range inv {
-		dst[a] -= f * r.tmp[a]
-	}
+	woodburyVec(dst, v, inv, r.yR, core, r.small, r.tmp)
 }
 
 // fixedAggregates is the part of the preconditioner for the constraints
