@@ -245,14 +245,16 @@ func PsiFromARMA(ar, ma []float64, h int) []float64 {
 	return psi
 }
 
-// tailSDs is how many standard deviations from the centre Bounded
-// checks: beyond 4σ lies less than 0.01% of a Gaussian's mass (common
-// practice for a plausibility check).
-const tailSDs = 4
+// TailSDs is how many standard deviations from the centre the checks of
+// a forecast distribution's tails look (PathForm.Bounded, and the
+// automatic choice's check of the Box–Cox pole): beyond 4σ lies less
+// than 0.01% of a Gaussian's mass (common practice for a plausibility
+// check).
+const TailSDs = 4
 
 // Bounded reports whether the form's paths stay within ±bound: for a
 // linear form on a Box–Cox scale, whether back(z) is defined and within
-// bound at z = Mean ± tailSDs standard deviations at every step (σ² the
+// bound at z = Mean ± TailSDs standard deviations at every step (σ² the
 // mean square of the innovations); for a combination, whether every
 // member is. A negative λ puts a pole in the back-transform (y → ∞ as
 // λz + 1 → 0), and a model whose own paths reach it has no usable upper
@@ -283,7 +285,7 @@ func (p *PathForm) Bounded(bound float64) bool {
 		if p.Scale != nil {
 			sd *= math.Abs(p.Scale[k])
 		}
-		for _, z := range []float64{p.Mean[k] - tailSDs*sd, p.Mean[k] + tailSDs*sd} {
+		for _, z := range []float64{p.Mean[k] - TailSDs*sd, p.Mean[k] + TailSDs*sd} {
 			if p.Lambda*z+1 <= 0 && p.Lambda != 0 {
 				return false
 			}

@@ -22,7 +22,12 @@
 // whose method or fitted form has no seasonal component — drift, a
 // non-seasonal ETS form or ARIMA order, Theta without seasonal adjustment —
 // is not offered, alone or in the combination. One lucky stretch therefore
-// cannot hand a strongly seasonal series to a random walk. Combining is the safer default because a median of
+// cannot hand a strongly seasonal series to a random walk. Nor is a
+// candidate whose forecast distribution at the horizon reaches the pole
+// of its Box–Cox back-transform (λ < 0), at a validation origin or on
+// the whole series (clearOfPole): its forecasts and variances on the data
+// scale grow without bound there, and one such node inflates every
+// aggregate's reconciled variance above it. Combining is the safer default because a median of
 // reasonable methods is rarely far from the best of them (Petropoulos &
 // Svetunkov 2020, "A simple combination of univariate models", IJF
 // 36:110–115); README's "Accuracy of the automatic choice" gives the
@@ -30,6 +35,7 @@
 package choose
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"slices"
@@ -144,10 +150,7 @@ func (f *Family) Fit(y []float64, opt models.FitOptions) (models.Model, error) {
 		return nil, inputerr.New("the series is empty")
 	}
 	m := max(opt.Period, 1)
-	h := opt.Horizon
-	if h <= 0 {
-		h = m
-	}
+	h := horizon(opt)
 	if mod, ok := oddSeries(y, m); ok {
 		return mod, nil
 	}
@@ -161,15 +164,15 @@ func (f *Family) Fit(y []float64, opt models.FitOptions) (models.Model, error) {
 		return f.fallback(y, opt, join(v.note, "every candidate failed in validation"))
 	}
 	note := v.note
-	model, err := f.refit(win, frozen, scores, y, opt)
-	if err != nil {
+	model, err := f.refit(win, frozen, scores, y, opt, h)
+	if first := err; err != nil {
 		// The winner failed on the full data: take the next best.
 		for _, i := range rank(scores)[1:] {
 			if math.IsInf(scores[i].MASE, 1) {
 				break
 			}
-			if model, err = f.refit(i, frozen, scores, y, opt); err == nil {
-				note = join(note, fmt.Sprintf("%s won validation but failed on the full series; next best used", scores[win].Family))
+			if model, err = f.refit(i, frozen, scores, y, opt, h); err == nil {
+				note = join(note, fmt.Sprintf("%s won validation but failed on the full series (%v); next best used", scores[win].Family, first))
 				win = i
 				break
 			}
@@ -204,22 +207,44 @@ func (f *Family) pick(scores []Score) int {
 
 // refit fits candidate i's validated form on y (the combination refits
 // the form of each member that went through validation).
-func (f *Family) refit(i int, frozen []models.Family, scores []Score, y []float64, opt models.FitOptions) (models.Model, error) {
+func (f *Family) refit(i int, frozen []models.Family, scores []Score, y []float64, opt models.FitOptions, h int) (models.Model, error) {
+	var mod models.Model
 	if i < len(f.cands) {
-		return frozen[i].Fit(y, opt)
-	}
-	var parts []models.Model
-	for _, k := range f.members {
-		if scores[k].Err != "" {
-			continue // failed or not offered in validation
-		}
-		mod, err := frozen[k].Fit(y, opt)
-		if err != nil {
+		var err error
+		if mod, err = frozen[i].Fit(y, opt); err != nil {
 			return nil, err
 		}
-		parts = append(parts, mod)
+	} else {
+		var parts []models.Model
+		for _, k := range f.members {
+			if scores[k].Err != "" {
+				continue // failed or not offered in validation
+			}
+			part, err := frozen[k].Fit(y, opt)
+			if err != nil {
+				return nil, err
+			}
+			parts = append(parts, part)
+		}
+		mod = Median(parts...)
 	}
-	return Median(parts...), nil
+	if !clearOfPole(mod, h) {
+		return nil, errors.New(poleNote)
+	}
+	return mod, nil
+}
+
+// poleNote explains why a candidate whose forecast distribution reaches
+// the pole of its Box–Cox back-transform is not used: its forecasts and
+// variances on the data scale grow without bound (clearOfPole).
+const poleNote = "not offered: its forecast distribution on the Box-Cox scale (lambda < 0) reaches the pole of the back-transform, where forecasts and variances grow without bound"
+
+// horizon is the run's horizon, or one season when none is given.
+func horizon(opt models.FitOptions) int {
+	if opt.Horizon > 0 {
+		return opt.Horizon
+	}
+	return max(opt.Period, 1)
 }
 
 // minTrain is the shortest training window used for validation: three full
@@ -310,6 +335,10 @@ func (f *Family) validate(y []float64, m int, v design, opt models.FitOptions) (
 			mod, err := fam.Fit(train, vopt)
 			if err != nil {
 				scores[i].Err = err.Error()
+				continue
+			}
+			if !clearOfPole(mod, v.horizon) {
+				scores[i].Err = poleNote
 				continue
 			}
 			if o == 0 {
@@ -414,7 +443,7 @@ func (f *Family) fallback(y []float64, opt models.FitOptions, note string) (mode
 		if !member && !(seasonal && c.Name() == naive.SeasonalNaiveName) {
 			continue
 		}
-		if mod, err := c.Fit(y, opt); err == nil && (!seasonal || hasSeason(mod)) {
+		if mod, err := c.Fit(y, opt); err == nil && (!seasonal || hasSeason(mod)) && clearOfPole(mod, horizon(opt)) {
 			parts = append(parts, mod)
 			names = append(names, c.Name())
 		}
@@ -428,8 +457,12 @@ func (f *Family) fallback(y []float64, opt models.FitOptions, note string) (mode
 	}
 	for i := len(f.cands) - 1; i >= 0; i-- {
 		mod, err := f.cands[i].Fit(y, opt)
-		if err == nil && seasonal && !hasSeason(mod) {
+		switch {
+		case err != nil:
+		case seasonal && !hasSeason(mod):
 			err = fmt.Errorf("the series is strongly seasonal and the fitted form is not")
+		case !clearOfPole(mod, horizon(opt)):
+			err = errors.New(poleNote)
 		}
 		if err == nil {
 			return &Fitted{Model: mod, winner: -1, combined: -1, note: join(note, "chose "+f.cands[i].Name()+" without validation")}, nil

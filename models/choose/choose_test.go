@@ -12,6 +12,7 @@ import (
 	"trueup/models/arima"
 	"trueup/models/ets"
 	"trueup/models/naive"
+	"trueup/models/transform"
 )
 
 // series reads one R dataset (R 4.2.2 datasets package) committed with
@@ -249,6 +250,39 @@ func TestSeasonalSeriesKeepSeason(t *testing.T) {
 					t.Errorf("%s minus %d: drift offered (%+v)", c.name, cut, s)
 				}
 			}
+		}
+	}
+}
+
+// TestPoleNotChosen checks that a candidate whose forecast distribution
+// reaches the pole of its Box–Cox back-transform (λ < 0) is not used
+// (transform.Fitted.ClearOfPole; the pole of y = (λz + 1)^{1/λ} at
+// z = −1/λ is a fact of the formula, Box & Cox 1964). The series' values
+// on the reciprocal scale rise in a straight line, which ARIMA(0,2,0)
+// forecasts almost exactly, far better than seasonal naive; with larger
+// wiggles its forecast variance carries the upper tail across the pole
+// within the year, and seasonal naive must be chosen instead.
+func TestPoleNotChosen(t *testing.T) {
+	lambda := -1.0
+	fam := New(Options{},
+		Candidate{Family: naive.SeasonalNaive{}},
+		Candidate{Family: transform.Family{Inner: arima.Fixed{Spec: arima.Spec{D: 2}},
+			Opt: transform.Options{Kind: transform.BoxCox, Lambda: &lambda}}})
+	for _, c := range []struct {
+		wiggle float64
+		want   string
+	}{{0.0002, "arima"}, {0.005, naive.SeasonalNaiveName}} {
+		y := make([]float64, 60)
+		for i := range y {
+			z := 0.5 + 0.004*float64(i) + c.wiggle*math.Sin(1.3*float64(i))
+			y[i] = 1 / (1 - z)
+		}
+		mod, err := fam.Fit(y, models.FitOptions{Period: 12, Horizon: 12})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if got := mod.(*Fitted).Model.Family(); got != c.want {
+			t.Errorf("wiggle %g: chose %s (%s), want %s", c.wiggle, got, mod.Spec(), c.want)
 		}
 	}
 }

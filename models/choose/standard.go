@@ -104,3 +104,21 @@ func hasSeason(mod models.Model) bool {
 	}
 	return true
 }
+
+// clearOfPole reports whether mod's forecast distribution over steps
+// 1..h stays clear of the pole of a Box–Cox back-transform with λ < 0
+// (transform.Fitted.ClearOfPole); a combination is clear when every
+// member is, models without a transform always are.
+func clearOfPole(mod models.Model, h int) bool {
+	switch m := mod.(type) {
+	case *transform.Fitted:
+		return m.ClearOfPole(h)
+	case *Combination:
+		for _, p := range m.parts {
+			if !clearOfPole(p, h) {
+				return false
+			}
+		}
+	}
+	return true
+}

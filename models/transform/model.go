@@ -192,6 +192,29 @@ func finite(x float64) float64 {
 	return x
 }
 
+// ClearOfPole reports whether the forecast distribution at steps 1..h
+// keeps its upper tail inside the back-transform's domain. For Box–Cox
+// with λ < 0 the back-transform has a pole, y → ∞ as λz + 1 → 0, so a
+// Gaussian forecast on the transformed scale that reaches it has no
+// finite mean or variance on the data scale, and the delta-method
+// variance of Forecast grows without bound as the forecast nears it
+// (with ARIMA differencing twice, say). Clear means μ + TailSDs·√v <
+// −1/λ at every step (models.TailSDs). Every other transform is clear:
+// the log has no pole, and λ > 0 only clamps the lower tail at zero.
+func (f *Fitted) ClearOfPole(h int) bool {
+	if f.tr.Identity || f.tr.Lambda >= 0 || h <= 0 {
+		return true
+	}
+	mu, v := f.inner.Forecast(h)
+	pole := -1 / f.tr.Lambda
+	for i := range mu {
+		if !(mu[i]+models.TailSDs*math.Sqrt(math.Max(v[i], 0)) < pole) {
+			return false
+		}
+	}
+	return true
+}
+
 // Interval back-transforms the inner model's central interval (its own
 // Interval if it has one, else μ ± z√v with Gaussian z); monotone maps keep
 // quantiles, so the limits are exact and not symmetric about the forecast.

@@ -8,6 +8,7 @@ import (
 	"trueup/fixtures/reference"
 
 	"trueup/models"
+	"trueup/models/arima"
 	"trueup/models/ets"
 )
 
@@ -196,5 +197,49 @@ func TestInvertibleDomain(t *testing.T) {
 	}
 	if !(Transform{Identity: true}).invertible(1e300) {
 		t.Error("identity must invert every finite value")
+	}
+}
+
+// TestClearOfPole checks the pole of the Box–Cox back-transform with
+// λ < 0: y = (λz + 1)^{1/λ} is finite only for z < −1/λ (Box & Cox 1964;
+// a fact of the formula). ARIMA(0,2,0) on the reciprocal scale (λ = −1,
+// pole at z = 1) of a series whose transformed values rise in a straight
+// line extrapolates that line, with a forecast variance that grows with
+// the cube of the step; small wiggles keep its tail clear of the pole
+// over a year, larger ones carry it across within the year.
+func TestClearOfPole(t *testing.T) {
+	line := func(wiggle float64) []float64 {
+		y := make([]float64, 60)
+		for i := range y {
+			z := 0.5 + 0.004*float64(i) + wiggle*math.Sin(1.3*float64(i))
+			y[i] = 1 / (1 - z) // the inverse of z = (y^−1 − 1)/−1
+		}
+		return y
+	}
+	fit := func(y []float64, tr Transform) *Fitted {
+		t.Helper()
+		mod, err := FitWith(arima.Fixed{Spec: arima.Spec{D: 2}}, tr, "", false, y, models.FitOptions{Horizon: 12})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return mod.(*Fitted)
+	}
+	reciprocal := Transform{Lambda: -1}
+	for _, c := range []struct {
+		wiggle float64
+		h      int
+		clear  bool
+	}{{0.0002, 12, true}, {0.005, 1, true}, {0.005, 12, false}} {
+		f := fit(line(c.wiggle), reciprocal)
+		if got := f.ClearOfPole(c.h); got != c.clear {
+			mu, v := f.inner.Forecast(c.h)
+			t.Errorf("wiggle %g, %d steps: clear = %v, want %v (last step z = %.3f ± 4·%.3f, pole at 1)", c.wiggle, c.h, got, c.clear, mu[c.h-1], math.Sqrt(v[c.h-1]))
+		}
+	}
+	// The log and a positive λ have no pole above: always clear.
+	for _, tr := range []Transform{{Lambda: 0}, {Lambda: 0.5}} {
+		if f := fit(line(0.005), tr); !f.ClearOfPole(12) {
+			t.Errorf("%v: not clear of a pole it does not have", tr)
+		}
 	}
 }
