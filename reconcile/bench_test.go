@@ -134,3 +134,33 @@ func BenchmarkMinTRetailLocked(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkMinTNodeGrowth times the variances with every node's growth
+// (one factor of G per step) against the bottom series' growth (one
+// factor for all steps) on a structure just under exactGrowthMaxNodes
+// (T = 60, h = 28), alternating within each iteration. Run with
+// go test -bench MinTNodeGrowth -run '^$' -benchtime 2x ./reconcile
+func BenchmarkMinTNodeGrowth(b *testing.B) {
+	st := retail(b, 2, 5, 3, 10, 11)
+	if n := len(st.Nodes); n > exactGrowthMaxNodes {
+		b.Fatalf("%d nodes, over %d", n, exactGrowthMaxNodes)
+	}
+	p := problemFor(st, 60, 28, 1)
+	var wall [2]time.Duration // every node's growth, bottom growth
+	for b.Loop() {
+		for r, limit := range []int{exactGrowthMaxNodes, 0} {
+			old := exactGrowthMaxNodes
+			exactGrowthMaxNodes = limit
+			start := time.Now()
+			_, err := Projection{Cov: CovShrink}.Reconcile(p)
+			wall[r] += time.Since(start)
+			exactGrowthMaxNodes = old
+			if err != nil {
+				b.Fatal(err)
+			}
+		}
+	}
+	b.ReportMetric(float64(len(st.Nodes)), "nodes")
+	b.ReportMetric(wall[0].Seconds()/float64(b.N), "node-growth-s")
+	b.ReportMetric(wall[1].Seconds()/float64(b.N), "bottom-growth-s")
+}

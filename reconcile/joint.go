@@ -31,7 +31,10 @@ type Joint struct {
 	factor *mat.Dense           // rows × r, may be nil (r = 0)
 	diag   []float64            // per factor row, nil for none
 	row    []int                // per series: its factor row
-	scale  [][]float64          // per series × step
+	scale  [][]float64          // per series × step; nil: all 1
+	// steps, when not nil, replaces factor: one per step (a projection
+	// with every node's growth).
+	steps []*mat.Dense
 	// toFull maps the nodes to those of a larger structure of full
 	// nodes (nil: the identity).
 	toFull []int
@@ -65,27 +68,44 @@ func (j *Joint) Expand(toFull []int, full int) *Joint {
 	return &out
 }
 
+// stepFactor returns the factor at step k.
+func (j *Joint) stepFactor(k int) *mat.Dense {
+	if j.steps != nil {
+		return j.steps[k]
+	}
+	return j.factor
+}
+
+// scaleAt is series s's scale at step k.
+func (j *Joint) scaleAt(s, k int) float64 {
+	if j.scale == nil {
+		return 1
+	}
+	return j.scale[s][k]
+}
+
 // Draw fills dst (Nodes long) with one draw of every node's error at step
 // k (0-based), taking its normals from rng.
 func (j *Joint) Draw(dst []float64, k int, rng *rand.Rand) {
+	factor := j.stepFactor(k)
 	r := 0
-	if j.factor != nil {
-		_, r = j.factor.Dims()
+	if factor != nil {
+		_, r = factor.Dims()
 	}
 	z := make([]float64, r)
 	for q := range z {
 		z[q] = rng.NormFloat64()
 	}
 	rows := len(j.row)
-	if j.factor != nil {
-		rows, _ = j.factor.Dims()
+	if factor != nil {
+		rows, _ = factor.Dims()
 	} else if j.diag != nil {
 		rows = len(j.diag)
 	}
 	u := make([]float64, rows)
 	for q := range u {
-		if j.factor != nil {
-			u[q] = floats.Dot(j.factor.RawRowView(q), z)
+		if factor != nil {
+			u[q] = floats.Dot(factor.RawRowView(q), z)
 		}
 		if j.diag != nil {
 			u[q] += j.diag[q] * rng.NormFloat64()
@@ -93,7 +113,7 @@ func (j *Joint) Draw(dst []float64, k int, rng *rand.Rand) {
 	}
 	e := make([]float64, len(j.row))
 	for s, q := range j.row {
-		e[s] = j.scale[s][k] * u[q]
+		e[s] = j.scaleAt(s, k) * u[q]
 	}
 	nodes := e
 	if j.st != nil {
@@ -117,6 +137,7 @@ func (j *Joint) variance(k int) []float64 {
 	if j.st != nil {
 		n = len(j.st.Nodes)
 	}
+	factor := j.stepFactor(k)
 	out := make([]float64, n)
 	for i := range out {
 		members := []int{i}
@@ -126,17 +147,17 @@ func (j *Joint) variance(k int) []float64 {
 		// Σ over factor rows: a_ρ = Σ_{s∈i, row(s)=ρ} scale_sk.
 		a := map[int]float64{}
 		for _, s := range members {
-			a[j.row[s]] += j.scale[s][k]
+			a[j.row[s]] += j.scaleAt(s, k)
 		}
 		r := 0
-		if j.factor != nil {
-			_, r = j.factor.Dims()
+		if factor != nil {
+			_, r = factor.Dims()
 		}
 		col := make([]float64, r)
 		var v float64
 		for q, w := range a {
-			if j.factor != nil {
-				floats.AddScaled(col, w, j.factor.RawRowView(q))
+			if factor != nil {
+				floats.AddScaled(col, w, factor.RawRowView(q))
 			}
 			if j.diag != nil {
 				v += w * w * j.diag[q] * j.diag[q]
@@ -150,7 +171,32 @@ func (j *Joint) variance(k int) []float64 {
 // projectionJoint is the joint distribution of a projection from the
 // factor of G·W·Gᵀ and the bottom growth c (m × h).
 func projectionJoint(st *hierarchy.Structure, f *factor, c [][]float64) *Joint {
-	m := st.NumBottom()
+	j := &Joint{st: st, row: identityRows(st.NumBottom()), scale: c}
+	j.factor = joinedFactor(f)
+	return j
+}
+
+// stepsJoint is the joint distribution of a projection with every node's
+// growth, from its factor at each step (fs[k] of G·C_k·W·C_k·Gᵀ).
+func stepsJoint(st *hierarchy.Structure, fs []*factor) *Joint {
+	j := &Joint{st: st, row: identityRows(st.NumBottom()), steps: make([]*mat.Dense, len(fs))}
+	for k, f := range fs {
+		j.steps[k] = joinedFactor(f)
+	}
+	return j
+}
+
+func identityRows(m int) []int {
+	out := make([]int, m)
+	for s := range out {
+		out[s] = s
+	}
+	return out
+}
+
+// joinedFactor returns f's exact columns and sample paths side by side
+// (nil when it has none).
+func joinedFactor(f *factor) *mat.Dense {
 	var blocks []*mat.Dense
 	for _, b := range []*mat.Dense{f.exact, f.paths} {
 		if b != nil {
@@ -162,20 +208,18 @@ func projectionJoint(st *hierarchy.Structure, f *factor, c [][]float64) *Joint {
 		_, w := b.Dims()
 		r += w
 	}
-	j := &Joint{st: st, row: make([]int, m), scale: c}
-	for s := range j.row {
-		j.row[s] = s
+	if r == 0 {
+		return nil
 	}
-	if r > 0 {
-		j.factor = mat.NewDense(m, r, nil)
-		c0 := 0
-		for _, b := range blocks {
-			_, w := b.Dims()
-			j.factor.Slice(0, m, c0, c0+w).(*mat.Dense).Copy(b)
-			c0 += w
-		}
+	m, _ := blocks[0].Dims()
+	out := mat.NewDense(m, r, nil)
+	c0 := 0
+	for _, b := range blocks {
+		_, w := b.Dims()
+		out.Slice(0, m, c0, c0+w).(*mat.Dense).Copy(b)
+		c0 += w
 	}
-	return j
+	return out
 }
 
 // splitJoint is the joint distribution of a split method: the middle

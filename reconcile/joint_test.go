@@ -3,15 +3,16 @@ package reconcile
 import (
 	"math"
 	"math/rand/v2"
+	"strings"
 	"testing"
 )
 
 // TestJointMatchesVariance: the diagonal of every method's joint
 // distribution, computed from its factor, is the method's variance
-// (Solution.Variance, itself checked against the direct formula
-// S·C_h·G·W·Gᵀ·C_h·Sᵀ in TestProjectionVarianceExact and
-// TestSplitVariance), on the dense and the large path and with residuals
-// that start late.
+// (Solution.Variance, itself checked against the direct formulas in
+// TestProjectionVarianceExact and TestSplitVariance), on the dense and
+// the large path, with every node's growth or the bottom series' (above
+// exactGrowthMaxNodes), and with residuals that start late.
 func TestJointMatchesVariance(t *testing.T) {
 	st := grouped(t, 2, 2, 3)
 	p := problemFor(st, 30, 3, 13)
@@ -24,6 +25,7 @@ func TestJointMatchesVariance(t *testing.T) {
 	}{
 		{"mint-shrink dense", Projection{Cov: CovShrink}, SolverDense},
 		{"mint-shrink large", Projection{Cov: CovShrink}, SolverLarge},
+		{"mint-shrink large, bottom growth", Projection{Cov: CovShrink}, SolverLarge},
 		{"mint-variance", Projection{Cov: CovVariance}, SolverDense},
 		{"bottom-up", BottomUp{}, SolverAuto},
 		{"top-down", TopDown{Proportions: ProportionsOfAverages}, SolverAuto},
@@ -32,6 +34,9 @@ func TestJointMatchesVariance(t *testing.T) {
 	for _, c := range methods {
 		q := p
 		q.Solver = c.solver
+		if strings.HasSuffix(c.name, "bottom growth") {
+			bottomGrowthOnly(t)
+		}
 		sol, err := c.method.Reconcile(q)
 		if err != nil {
 			t.Fatalf("%s: %v", c.name, err)

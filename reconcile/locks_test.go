@@ -147,7 +147,6 @@ func TestLockedMinTMatchesDenseFormula(t *testing.T) {
 				w1.Set(i, j, vc.at(i, j))
 			}
 		}
-		off := st.BottomOffset()
 		for _, solver := range []Solver{SolverDense, SolverLarge} {
 			p.Solver = solver
 			sol, err := Projection{Cov: cov}.Reconcile(p)
@@ -178,12 +177,12 @@ func TestLockedMinTMatchesDenseFormula(t *testing.T) {
 				}
 				var y mat.VecDense
 				y.MulVec(s, mat.NewVecDense(m, bt))
-				// Variance: F = M·C_h·G, V = diag(S·F·W1·Fᵀ·Sᵀ).
+				// Variance: F = M·G·C_h, V = diag(S·F·W1·Fᵀ·Sᵀ).
 				cg := mat.DenseCopyOf(g)
 				for j := 0; j < m; j++ {
 					row := cg.RawRowView(j)
-					for q := range row {
-						row[q] *= math.Sqrt(p.BaseVar[off+j][k] / vc.D[off+j])
+					for i := range row {
+						row[i] *= math.Sqrt(p.BaseVar[i][k] / vc.D[i])
 					}
 				}
 				var f, sf, v mat.Dense

@@ -3,7 +3,9 @@ package reconcile
 import (
 	"fmt"
 	"math"
+	"sync/atomic"
 
+	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 
 	"trueup/hierarchy"
@@ -228,29 +230,72 @@ func projectionVariance(p *Problem, g projector, h int, planned <-chan *lockPlan
 	if err != nil {
 		return nil, nil, 0, err
 	}
-	f, err := g.errorFactor(vc, p.Paths, p.Seed)
-	if err != nil {
-		return nil, nil, 0, err
-	}
-	off := p.Structure.BottomOffset()
-	bidx := make([]int, p.Structure.NumBottom())
-	for j := range bidx {
-		bidx[j] = off + j
+	st := p.Structure
+	off := st.BottomOffset()
+	var step func(k int) *factor
+	var joint func() *Joint
+	if nodeGrowth(len(st.Nodes)) {
+		// One factor of G·C_k·W·C_k·Gᵀ per step, two steps at a time.
+		all := make([]int, len(st.Nodes))
+		for i := range all {
+			all[i] = i
+		}
+		c := growth(p, vc, all, h)
+		fs := make([]*factor, h)
+		errs := make([]error, h)
+		var next atomic.Int64
+		var grp crash.Group
+		for w := 0; w < 2 && w < h; w++ {
+			grp.Go(func() {
+				a := make([]float64, len(all))
+				for k := int(next.Add(1)) - 1; k < h; k = int(next.Add(1)) - 1 {
+					for i := range a {
+						a[i] = c[i][k]
+					}
+					if fs[k], errs[k] = g.errorFactor(vc, a, p.Paths, p.Seed); errs[k] == nil && fs[k].deltaB != nil {
+						d := make([]float64, len(fs[k].deltaB))
+						for j, v := range fs[k].deltaB {
+							d[j] = a[off+j] * a[off+j] * v
+						}
+						fs[k].deltaB = d
+					}
+				}
+			})
+		}
+		grp.Wait()
+		for _, err := range errs {
+			if err != nil {
+				return nil, nil, 0, err
+			}
+		}
+		step = func(k int) *factor { return fs[k] }
+		joint = func() *Joint { return stepsJoint(st, fs) }
+	} else {
+		f, err := g.errorFactor(vc, nil, p.Paths, p.Seed)
+		if err != nil {
+			return nil, nil, 0, err
+		}
+		bidx := make([]int, st.NumBottom())
+		for j := range bidx {
+			bidx[j] = off + j
+		}
+		c := growth(p, vc, bidx, h)
+		step = func(k int) *factor { return scaledFactor(f, c, k) }
+		joint = func() *Joint { return projectionJoint(st, f, c) }
 	}
 	paths := 0
-	if f.ctrl != nil {
+	if f := step(0); f.ctrl != nil {
 		_, paths = f.ctrl.Dims()
 	}
 	locks := <-planned
 	if locks == nil && len(p.Locks) > 0 {
 		return nil, nil, 0, nil // the locks were refused; Reconcile reports why
 	}
-	c := growth(p, vc, bidx, h)
-	var joint *Joint
+	var j *Joint
 	if p.Joint {
-		joint = projectionJoint(p.Structure, f, c)
+		j = joint()
 	}
-	return factorVariance(p.Structure, c, f, locks), joint, paths, nil
+	return factorVariance(st, step, h, locks), j, paths, nil
 }
 
 // projector applies G for one choice of W. Its methods may be called
@@ -259,11 +304,13 @@ type projector interface {
 	// apply returns G·Y for Y with n rows (any number of columns), to a
 	// relative tolerance tol where the solver is iterative.
 	apply(y *mat.Dense, tol float64) (*mat.Dense, error)
-	// errorFactor returns the factor of G·W·Gᵀ for the residual
-	// covariance W: exact, except on the large path when more than paths
-	// nodes have a diagonal part in W (residuals that start late), where
-	// that part is represented by paths seeded Gaussian sample paths.
-	errorFactor(w *errCov, paths int, seed uint64) (*factor, error)
+	// errorFactor returns the factor of G·diag(a)·W·diag(a)·Gᵀ for the
+	// residual covariance W and node multipliers a (nil: all 1): exact,
+	// except on the large path when more than paths nodes have a
+	// diagonal part in W (residuals that start late), where that part is
+	// represented by paths seeded Gaussian sample paths; its deltaB is
+	// the bottom rows of Δ, without a.
+	errorFactor(w *errCov, a []float64, paths int, seed uint64) (*factor, error)
 	// qp returns the quadratic programme of the non-negative projection.
 	qp() (qpProblem, error)
 	notes() map[string]float64
@@ -343,9 +390,15 @@ func (d *denseProjector) apply(y *mat.Dense, _ float64) (*mat.Dense, error) {
 	return &out, nil
 }
 
-func (d *denseProjector) errorFactor(w *errCov, _ int, _ uint64) (*factor, error) {
+func (d *denseProjector) errorFactor(w *errCov, a []float64, _ int, _ uint64) (*factor, error) {
 	m, _ := d.g.Dims()
 	r := w.rank()
+	mult := func(i int) float64 {
+		if a == nil {
+			return 1
+		}
+		return a[i]
+	}
 	var late []int
 	for i, v := range w.Delta {
 		if v > 0 {
@@ -355,17 +408,22 @@ func (d *denseProjector) errorFactor(w *errCov, _ int, _ uint64) (*factor, error
 	if len(late)+r == 0 {
 		return &factor{}, nil
 	}
-	// F = [G·diag(√Δ), G·U], the first block only where Δ > 0: G's
+	// F = G·diag(a)·[diag(√Δ), U], the first block only where Δ > 0: G's
 	// columns of those nodes, scaled.
 	f := mat.NewDense(m, len(late)+r, nil)
 	for j := 0; j < m; j++ {
 		for q, i := range late {
-			f.Set(j, q, d.g.At(j, i)*math.Sqrt(w.Delta[i]))
+			f.Set(j, q, d.g.At(j, i)*mult(i)*math.Sqrt(w.Delta[i]))
 		}
 	}
 	if r > 0 {
+		n := len(w.Delta)
+		au := mat.NewDense(n, r, nil)
+		for i := 0; i < n; i++ {
+			floats.ScaleTo(au.RawRowView(i), mult(i), w.U[i*r:(i+1)*r])
+		}
 		gu := f.Slice(0, m, len(late), len(late)+r).(*mat.Dense)
-		gu.Mul(d.g, mat.NewDense(len(w.Delta), r, w.U))
+		gu.Mul(d.g, au)
 	}
 	return &factor{exact: f}, nil
 }

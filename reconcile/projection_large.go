@@ -393,9 +393,15 @@ func (lp *largeProjector) apply(ym *mat.Dense, tol float64) (*mat.Dense, error) 
 // score optimisation", EJOR 306(2), §5: reconcile sample paths by the
 // same G), sharpened by a control variate (factorVariance). All columns
 // are solved together, to the forecasts' tolerance.
-func (lp *largeProjector) errorFactor(w *errCov, paths int, seed uint64) (*factor, error) {
+func (lp *largeProjector) errorFactor(w *errCov, a []float64, paths int, seed uint64) (*factor, error) {
 	if paths <= 0 {
 		paths = DefaultPaths
+	}
+	mult := func(i int) float64 {
+		if a == nil {
+			return 1
+		}
+		return a[i]
 	}
 	T := w.rank()
 	var late []int
@@ -413,7 +419,7 @@ func (lp *largeProjector) errorFactor(w *errCov, paths int, seed uint64) (*facto
 	rhs := mat.NewDense(lp.n, r, nil)
 	raw := rhs.RawMatrix()
 	for i := 0; i < lp.n; i++ {
-		copy(raw.Data[i*raw.Stride:i*raw.Stride+T], w.U[i*T:(i+1)*T])
+		floats.ScaleTo(raw.Data[i*raw.Stride:i*raw.Stride+T], mult(i), w.U[i*T:(i+1)*T])
 	}
 	var ctrl *mat.Dense
 	if sampled {
@@ -423,7 +429,7 @@ func (lp *largeProjector) errorFactor(w *errCov, paths int, seed uint64) (*facto
 		for i := 0; i < lp.n; i++ {
 			s := math.Sqrt(w.Delta[i]) * scale
 			for q := 0; q < paths; q++ {
-				v := s * rng.NormFloat64()
+				v := mult(i) * s * rng.NormFloat64()
 				rhs.Set(i, T+q, v)
 				if i >= lp.k {
 					ctrl.Set(i-lp.k, q, v)
@@ -432,7 +438,7 @@ func (lp *largeProjector) errorFactor(w *errCov, paths int, seed uint64) (*facto
 		}
 	} else {
 		for q, i := range late {
-			rhs.Set(i, T+q, math.Sqrt(w.Delta[i]))
+			rhs.Set(i, T+q, mult(i)*math.Sqrt(w.Delta[i]))
 		}
 	}
 	if r == 0 {

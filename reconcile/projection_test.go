@@ -180,38 +180,58 @@ func TestMinTTrace(t *testing.T) {
 }
 
 // TestProjectionVarianceExact checks the dense variance against the
-// direct matrix product diag(S·C·G·W1·Gᵀ·C·Sᵀ), G from the shrinkage W and
-// W1 the sample covariance.
+// direct matrix product diag(S·G·C_k·W1·C_k·Gᵀ·Sᵀ), G from the shrinkage
+// W, W1 the sample covariance and C_k every node's growth at step k; and,
+// above exactGrowthMaxNodes (lowered here), against
+// diag(S·C_k·G·W1·Gᵀ·C_k·Sᵀ) with the bottom series' growth.
 func TestProjectionVarianceExact(t *testing.T) {
 	st := grouped(t, 2, 2, 3)
 	p := problemFor(st, 30, 2, 13)
 	p.Solver = SolverDense
-	sol, err := Projection{Cov: CovShrink}.Reconcile(p)
-	if err != nil {
-		t.Fatal(err)
-	}
 	g := denseG(t, p, CovShrink)
 	w, _ := p.varianceCov()
 	wd := denseW(w)
 	s := denseS(st)
-	off := st.BottomOffset()
-	m := st.NumBottom()
-	for k := 0; k < 2; k++ {
-		c := mat.NewDiagDense(m, nil)
-		for j := 0; j < m; j++ {
-			c.SetDiag(j, math.Sqrt(p.BaseVar[off+j][k]/w.D[off+j]))
+	n := len(st.Nodes)
+	for _, every := range []bool{true, false} {
+		if !every {
+			bottomGrowthOnly(t)
 		}
-		var sc, a, b, v mat.Dense
-		sc.Mul(s, c)
-		a.Mul(&sc, g)
-		b.Mul(&a, wd)
-		v.Mul(&b, a.T())
-		for i := range st.Nodes {
-			if relDiff(sol.Variance[i][k], v.At(i, i)) > 1e-9 {
-				t.Fatalf("%s: variance %g, direct %g", st.Label(i), sol.Variance[i][k], v.At(i, i))
+		sol, err := Projection{Cov: CovShrink}.Reconcile(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for k := 0; k < 2; k++ {
+			c := mat.NewDiagDense(n, nil)
+			for i := 0; i < n; i++ {
+				c.SetDiag(i, math.Sqrt(p.BaseVar[i][k]/w.D[i]))
+			}
+			var sg, a, b, v mat.Dense
+			if every {
+				sg.Mul(s, g)
+				a.Mul(&sg, c)
+			} else {
+				cb := mat.NewDiagDense(st.NumBottom(), c.RawBand().Data[st.BottomOffset():])
+				sg.Mul(s, cb)
+				a.Mul(&sg, g)
+			}
+			b.Mul(&a, wd)
+			v.Mul(&b, a.T())
+			for i := range st.Nodes {
+				if relDiff(sol.Variance[i][k], v.At(i, i)) > 1e-9 {
+					t.Fatalf("every node's growth %v: %s: variance %g, direct %g", every, st.Label(i), sol.Variance[i][k], v.At(i, i))
+				}
 			}
 		}
 	}
+}
+
+// bottomGrowthOnly makes the rest of the test treat every structure as
+// above exactGrowthMaxNodes.
+func bottomGrowthOnly(t *testing.T) {
+	old := exactGrowthMaxNodes
+	exactGrowthMaxNodes = 0
+	t.Cleanup(func() { exactGrowthMaxNodes = old })
 }
 
 // lateStarts marks every step-th node's residuals missing (NaN) before a

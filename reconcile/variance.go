@@ -17,12 +17,33 @@ import (
 // with E exact columns and F the reconciled sample paths G·ε_s/√N of the
 // diagonal part of W (nil when everything is exact). ctrl holds the same
 // paths before reconciliation, their bottom rows ε_s,bottom/√N, whose
-// second moments are known exactly (diag(Δ_bottom)); they serve as a
-// control variate (see factorVariance). deltaB is Δ_bottom.
+// second moments are known exactly (deltaB, per bottom series); they
+// serve as a control variate (see factorVariance).
 type factor struct {
 	exact       *mat.Dense
 	paths, ctrl *mat.Dense
 	deltaB      []float64
+	// rowScale, when not nil, multiplies every bottom row of exact, paths
+	// and ctrl (scaledFactor).
+	rowScale []float64
+}
+
+// scaledFactor returns f with every bottom row j multiplied by c[j][k]
+// (exact, paths and ctrl alike, through rowScale) and deltaB by c[j][k]²:
+// the factor of C_k·G·W·Gᵀ·C_k at step k, the bottom series' growth
+// applied after G.
+func scaledFactor(f *factor, c [][]float64, k int) *factor {
+	out := &factor{exact: f.exact, paths: f.paths, ctrl: f.ctrl, rowScale: make([]float64, len(c))}
+	for j := range c {
+		out.rowScale[j] = c[j][k]
+	}
+	if f.deltaB != nil {
+		out.deltaB = make([]float64, len(f.deltaB))
+		for j, v := range f.deltaB {
+			out.deltaB[j] = c[j][k] * c[j][k] * v
+		}
+	}
+	return out
 }
 
 // sumPlan adds bottom-level rows up to every node through the levels
@@ -80,50 +101,52 @@ func (pl *sumPlan) sum(buf []float64, w int) {
 // scratch memory at n × 2·chunk floats per worker.
 const chunk = 32
 
-// factorVariance returns, for every node i and step h, the diagonal of
-// S·C_h·(G·W·Gᵀ)·C_h·Sᵀ: exactly Σ_r (Σ_{j∈i} c_hj E_jr)² for the exact
-// columns, plus the sampled part.
+// factorVariance returns, for every node i and step k, the diagonal of
+// S·G·W_k·Gᵀ·Sᵀ from the step's factor (step(k)): exactly
+// Σ_r (Σ_{j∈i} E_jr)² for the exact columns, plus the sampled part.
 //
-// The sampled part a_i = Σ_s (Σ_{j∈i} c_j F_js)² is improved by a control
+// The sampled part a_i = Σ_s (Σ_{j∈i} F_js)² is improved by a control
 // variate (Glasserman 2004, Monte Carlo Methods in Financial Engineering,
-// §4.1): with α_is = Σ_{j∈i} c_j ctrl_js, whose mean square
-// μ_i = Σ_{j∈i} c_j² Δ_j is known, the estimate is
-// a_i − β_i (Σ_s α_is² − μ_i), β_i the least-squares coefficient of the
-// per-path squares (a_is² on α_is²). Reconciliation changes bottom
-// series' errors little, so for them and for small aggregates the sampling
-// error largely cancels; where it does not, β_i ≈ 0 and the plain estimate
-// is kept. The estimate falls back to the plain one if not positive.
-// Steps are independent and shared between two goroutines.
+// §4.1): with α_is = Σ_{j∈i} ctrl_js, whose mean square μ_i = Σ_{j∈i}
+// deltaB_j is known, the estimate is a_i − β_i (Σ_s α_is² − μ_i), β_i
+// the least-squares coefficient of the per-path squares (a_is² on
+// α_is²). Reconciliation changes bottom series' errors little, so for
+// them and for small aggregates the sampling error largely cancels; where
+// it does not, β_i ≈ 0 and the plain estimate is kept. The estimate falls
+// back to the plain one if not positive. Steps are independent and shared
+// between two goroutines.
 //
 // With locks (nil for none), the bottom error columns of a step with
 // locks are multiplied by that step's M = I − P⁻¹Cᵀ(CP⁻¹Cᵀ)⁻¹C (see
 // lockPlan) before the sums: locked nodes get zero variance, the others
 // the variance of the constrained projection. The control variate's
 // columns are left as they are: it stays a valid, if weaker, control.
-func factorVariance(st *hierarchy.Structure, c [][]float64, f *factor, locks *lockPlan) [][]float64 {
+func factorVariance(st *hierarchy.Structure, step func(k int) *factor, h int, locks *lockPlan) [][]float64 {
 	n, m := st.S.Dims()
 	off := n - m
-	h := len(c[0])
 	out := newRows(n, h)
 	pl := newSumPlan(st)
-	N := 0
-	if f.paths != nil {
-		_, N = f.paths.Dims()
-	}
-	// fill sets the bottom rows of buf (width w) to c_j·F_j[c0:c0+k] for
-	// each matrix, side by side.
-	fill := func(buf []float64, w, k, step, c0 int, ms ...*mat.Dense) {
+	// fill sets the bottom rows of buf (width w) to s_j·F_j[c0:c0+k] for
+	// each matrix, side by side, s the factor's rowScale (1 without).
+	fill := func(buf []float64, w, k, c0 int, scale []float64, ms ...*mat.Dense) {
 		for j := 0; j < m; j++ {
-			cj := c[j][step]
+			sj := 1.0
+			if scale != nil {
+				sj = scale[j]
+			}
 			row := buf[(off+j)*w : (off+j+1)*w]
 			for q, fm := range ms {
 				raw := fm.RawMatrix()
-				src := raw.Data[j*raw.Stride+c0 : j*raw.Stride+c0+k]
-				floats.ScaleTo(row[q*k:(q+1)*k], cj, src)
+				floats.ScaleTo(row[q*k:(q+1)*k], sj, raw.Data[j*raw.Stride+c0:j*raw.Stride+c0+k])
 			}
 		}
 	}
 	one := func(k int, buf []float64, mom [4][]float64) {
+		f := step(k)
+		N := 0
+		if f.paths != nil {
+			_, N = f.paths.Dims()
+		}
 		col := make([]float64, n)
 		var sl *stepLocks
 		if locks != nil {
@@ -133,7 +156,7 @@ func factorVariance(st *hierarchy.Structure, c [][]float64, f *factor, locks *lo
 			_, r := f.exact.Dims()
 			for c0 := 0; c0 < r; c0 += 2 * chunk {
 				w := min(2*chunk, r-c0)
-				fill(buf, w, w, k, c0, f.exact)
+				fill(buf, w, w, c0, f.rowScale, f.exact)
 				pl.sum(buf, w)
 				if sl != nil {
 					locks.correctRows(sl, buf, w, w, off)
@@ -152,7 +175,7 @@ func factorVariance(st *hierarchy.Structure, c [][]float64, f *factor, locks *lo
 			for c0 := 0; c0 < N; c0 += chunk {
 				k0 := min(chunk, N-c0)
 				w := 2 * k0
-				fill(buf, w, k0, k, c0, f.paths, f.ctrl)
+				fill(buf, w, k0, c0, f.rowScale, f.paths, f.ctrl)
 				pl.sum(buf, w)
 				if sl != nil {
 					locks.correctRows(sl, buf, w, k0, off)
@@ -169,10 +192,8 @@ func factorVariance(st *hierarchy.Structure, c [][]float64, f *factor, locks *lo
 					}
 				}
 			}
-			// μ_i = Σ_{j∈i} c_j² Δ_j, added up the same way.
-			for j := 0; j < m; j++ {
-				buf[off+j] = c[j][k] * c[j][k] * f.deltaB[j]
-			}
+			// μ_i = Σ_{j∈i} deltaB_j, added up the same way.
+			copy(buf[off:off+m], f.deltaB)
 			pl.sum(buf, 1)
 			for i := 0; i < n; i++ {
 				col[i] += controlled(float64(N), mom[0][i], mom[1][i], mom[2][i], mom[3][i], buf[i])
