@@ -120,9 +120,9 @@ func restrictedGLS(t *testing.T, s, w *mat.Dense, yhat []float64, locked []int, 
 
 // TestLockedMinTMatchesDenseFormula checks locked MinT on both solvers
 // against restrictedGLS, forecasts and variances to 1e-8: the variance
-// of node i at step k is the diagonal of S·M·C_h·G·W1·Gᵀ·C_h·Mᵀ·Sᵀ (see
-// Solution.Variance: C_h·G·e is the unlocked bottom error at step h,
-// and M moves it onto the locks), zero
+// of node i at step k is the diagonal of S·M·G·C_h·W1·C_h·Gᵀ·Mᵀ·Sᵀ (see
+// Solution.Variance: G·C_h·e is the unlocked bottom error at step h, C_h
+// every node's growth, and M moves it onto the locks), zero
 // at locked nodes. Locks: the total at step 1; a region, a category and
 // one bottom series at step 2; nothing at step 3.
 func TestLockedMinTMatchesDenseFormula(t *testing.T) {
