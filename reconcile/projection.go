@@ -155,10 +155,11 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 	// are solved in a goroutine of their own, beside the locks' columns
 	// and the forecasts, and take the locks when they need them.
 	type variances struct {
-		v     [][]float64
-		joint *Joint
-		paths int
-		err   error
+		v          [][]float64
+		joint      *Joint
+		paths      int
+		nodeGrowth bool
+		err        error
 	}
 	vdone := make(chan variances, 1)
 	planned := make(chan *lockPlan, 1)
@@ -168,6 +169,7 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 			defer func() { vdone <- out }()
 			defer crash.Catch(&out.err)
 			out.v, out.joint, out.paths, out.err = projectionVariance(&p, g, h, planned)
+			out.nodeGrowth = nodeGrowth(len(p.Structure.Nodes))
 		}()
 	} else {
 		vdone <- variances{}
@@ -212,6 +214,14 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 	sol.Variance, sol.Joint = vr.v, vr.joint
 	if vr.paths > 0 {
 		sol.Notes["variance_paths"] = float64(vr.paths)
+	}
+	if vr.v != nil {
+		// 1: every node's growth in the variances; 0: the bottom series'
+		// (above exactGrowthMaxNodes).
+		sol.Notes["variance_node_growth"] = 0
+		if vr.nodeGrowth {
+			sol.Notes["variance_node_growth"] = 1
+		}
 	}
 	for k, v := range g.notes() {
 		sol.Notes[k] = v

@@ -201,6 +201,9 @@ func TestProjectionVarianceExact(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
+		if got, want := sol.Notes["variance_node_growth"] == 1, every; got != want {
+			t.Errorf("every node's growth %v: note variance_node_growth %v", every, sol.Notes["variance_node_growth"])
+		}
 		for k := 0; k < 2; k++ {
 			c := mat.NewDiagDense(n, nil)
 			for i := 0; i < n; i++ {
