@@ -91,19 +91,28 @@ func printTail(w io.Writer, res *engine.Result, files []string) {
 	rep := res.Report
 	if len(rep.Reconcile.Notes) > 0 {
 		keys := make([]string, 0, len(rep.Reconcile.Notes))
+		// variance_node_growth is said in words, and only when 0.
 		for k := range rep.Reconcile.Notes {
 			keys = append(keys, k)
 		}
 		sort.Strings(keys)
 		var notes []string
 		for _, k := range keys {
+			if k == "variance_node_growth" {
+				if rep.Reconcile.Notes[k] == 0 {
+					notes = append(notes, "interval widths grow with the bottom series' base variances only (over 5,000 nodes; aggregates whose stores share persistent shocks may get intervals too narrow)")
+				}
+				continue
+			}
 			label := noteLabels[k]
 			if label == "" {
 				label = k
 			}
 			notes = append(notes, fmt.Sprintf("%s = %.4g", label, rep.Reconcile.Notes[k]))
 		}
-		fmt.Fprintf(w, "\nReconciliation: %s.\n", strings.Join(notes, ", "))
+		if len(notes) > 0 {
+			fmt.Fprintf(w, "\nReconciliation: %s.\n", strings.Join(notes, ", "))
+		}
 	}
 	if lk := rep.Locks; lk != nil {
 		fmt.Fprintf(w, "\nLocked forecasts: %d, from %s. They come out exactly as given, with no interval; every other forecast was reconciled around them (see run.json's locks and the report).\n",
