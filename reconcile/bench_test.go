@@ -137,24 +137,24 @@ func BenchmarkMinTRetailLocked(b *testing.B) {
 
 // BenchmarkMinTNodeGrowth times the variances with every node's growth
 // (one factor of G per step) against the bottom series' growth (one
-// factor for all steps) on a structure just under exactGrowthMaxNodes
-// (T = 60, h = 28), alternating within each iteration. Run with
+// factor for all steps) on a structure just under exactGrowthMaxWork at
+// T = 60, h = 28, alternating within each iteration. Run with
 // go test -bench MinTNodeGrowth -run '^$' -benchtime 2x ./reconcile
 func BenchmarkMinTNodeGrowth(b *testing.B) {
 	st := retail(b, 2, 5, 3, 10, 11)
-	if n := len(st.Nodes); n > exactGrowthMaxNodes {
-		b.Fatalf("%d nodes, over %d", n, exactGrowthMaxNodes)
+	if n := len(st.Nodes); !nodeGrowth(n, 28, 60) {
+		b.Fatalf("%d nodes, over the limit", n)
 	}
 	p := problemFor(st, 60, 28, 1)
 	var wall [2]time.Duration // every node's growth, bottom growth
 	for b.Loop() {
-		for r, limit := range []int{exactGrowthMaxNodes, 0} {
-			old := exactGrowthMaxNodes
-			exactGrowthMaxNodes = limit
+		for r, limit := range []int{exactGrowthMaxWork, 0} {
+			old := exactGrowthMaxWork
+			exactGrowthMaxWork = limit
 			start := time.Now()
 			_, err := Projection{Cov: CovShrink}.Reconcile(p)
 			wall[r] += time.Since(start)
-			exactGrowthMaxNodes = old
+			exactGrowthMaxWork = old
 			if err != nil {
 				b.Fatal(err)
 			}

@@ -12,7 +12,7 @@ import (
 // (Solution.Variance, itself checked against the direct formulas in
 // TestProjectionVarianceExact and TestSplitVariance), on the dense and
 // the large path, with every node's growth or the bottom series' (above
-// exactGrowthMaxNodes), and with residuals that start late.
+// exactGrowthMaxWork), and with residuals that start late.
 func TestJointMatchesVariance(t *testing.T) {
 	st := grouped(t, 2, 2, 3)
 	p := problemFor(st, 30, 3, 13)

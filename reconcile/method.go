@@ -128,11 +128,10 @@ type Solution struct {
 	// projections' reconciled bottom series by their own growth instead,
 	// S·C_h·G·W·Gᵀ·C_h·Sᵀ with bottom c_h, held the demo chain's 80%
 	// intervals at the total to 60% of outcomes over a 12-origin
-	// backtest; this formula, 81%.) On the large path the growth is
-	// written as a few separable terms (growthBasis), so that the factors
-	// of G cost a few block solves rather than one per step; the notes
-	// report how many and the relative error of the growth they leave.
-	// When every c_hi is 1 this is exactly S·G·W·Gᵀ·Sᵀ. Intervals are
+	// backtest; this formula, 81%.) It needs one factor of G per step, so
+	// above exactGrowthMaxWork the projections fall back to the bottom
+	// series' growth (notes: variance_node_growth 0). When every c_hi is
+	// 1 both are exactly S·G·W·Gᵀ·Sᵀ. Intervals are
 	// forecast ± z·√Variance.
 	Variance [][]float64
 	// Joint is the joint Gaussian distribution behind Variance, set when

@@ -3,7 +3,6 @@ package reconcile
 import (
 	"fmt"
 	"math"
-	"sync/atomic"
 
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
@@ -169,7 +168,7 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 			defer func() { vdone <- out }()
 			defer crash.Catch(&out.err)
 			out.v, out.joint, out.paths, out.err = projectionVariance(&p, g, h, planned)
-			out.nodeGrowth = nodeGrowth(len(p.Structure.Nodes))
+			out.nodeGrowth = nodeGrowth(len(p.Structure.Nodes), h, len(p.Residuals[0]))
 		}()
 	} else {
 		vdone <- variances{}
@@ -217,7 +216,7 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 	}
 	if vr.v != nil {
 		// 1: every node's growth in the variances; 0: the bottom series'
-		// (above exactGrowthMaxNodes).
+		// (above exactGrowthMaxWork).
 		sol.Notes["variance_node_growth"] = 0
 		if vr.nodeGrowth {
 			sol.Notes["variance_node_growth"] = 1
@@ -242,43 +241,42 @@ func projectionVariance(p *Problem, g projector, h int, planned <-chan *lockPlan
 	}
 	st := p.Structure
 	off := st.BottomOffset()
-	var step func(k int) *factor
+	var step func(k int) (*factor, error)
 	var joint func() *Joint
-	if nodeGrowth(len(st.Nodes)) {
-		// One factor of G·C_k·W·C_k·Gᵀ per step, two steps at a time.
+	if nodeGrowth(len(st.Nodes), h, vc.rank()) {
+		// One factor of G·C_k·W·C_k·Gᵀ per step, made when the step's
+		// variances are (factorVariance's workers) and kept only for the
+		// joint distribution.
 		all := make([]int, len(st.Nodes))
 		for i := range all {
 			all[i] = i
 		}
 		c := growth(p, vc, all, h)
-		fs := make([]*factor, h)
-		errs := make([]error, h)
-		var next atomic.Int64
-		var grp crash.Group
-		for w := 0; w < 2 && w < h; w++ {
-			grp.Go(func() {
-				a := make([]float64, len(all))
-				for k := int(next.Add(1)) - 1; k < h; k = int(next.Add(1)) - 1 {
-					for i := range a {
-						a[i] = c[i][k]
-					}
-					if fs[k], errs[k] = g.errorFactor(vc, a, p.Paths, p.Seed); errs[k] == nil && fs[k].deltaB != nil {
-						d := make([]float64, len(fs[k].deltaB))
-						for j, v := range fs[k].deltaB {
-							d[j] = a[off+j] * a[off+j] * v
-						}
-						fs[k].deltaB = d
-					}
-				}
-			})
+		var fs []*factor
+		if p.Joint {
+			fs = make([]*factor, h)
 		}
-		grp.Wait()
-		for _, err := range errs {
-			if err != nil {
-				return nil, nil, 0, err
+		step = func(k int) (*factor, error) {
+			a := make([]float64, len(all))
+			for i := range a {
+				a[i] = c[i][k]
 			}
+			f, err := g.errorFactor(vc, a, p.Paths, p.Seed)
+			if err != nil {
+				return nil, err
+			}
+			if f.deltaB != nil {
+				d := make([]float64, len(f.deltaB))
+				for j, v := range f.deltaB {
+					d[j] = a[off+j] * a[off+j] * v
+				}
+				f.deltaB = d
+			}
+			if fs != nil {
+				fs[k] = f
+			}
+			return f, nil
 		}
-		step = func(k int) *factor { return fs[k] }
 		joint = func() *Joint { return stepsJoint(st, fs) }
 	} else {
 		f, err := g.errorFactor(vc, nil, p.Paths, p.Seed)
@@ -290,22 +288,22 @@ func projectionVariance(p *Problem, g projector, h int, planned <-chan *lockPlan
 			bidx[j] = off + j
 		}
 		c := growth(p, vc, bidx, h)
-		step = func(k int) *factor { return scaledFactor(f, c, k) }
+		step = func(k int) (*factor, error) { return scaledFactor(f, c, k), nil }
 		joint = func() *Joint { return projectionJoint(st, f, c) }
-	}
-	paths := 0
-	if f := step(0); f.ctrl != nil {
-		_, paths = f.ctrl.Dims()
 	}
 	locks := <-planned
 	if locks == nil && len(p.Locks) > 0 {
 		return nil, nil, 0, nil // the locks were refused; Reconcile reports why
 	}
+	v, paths, err := factorVariance(st, step, h, locks)
+	if err != nil {
+		return nil, nil, 0, err
+	}
 	var j *Joint
 	if p.Joint {
 		j = joint()
 	}
-	return factorVariance(st, step, h, locks), j, paths, nil
+	return v, j, paths, nil
 }
 
 // projector applies G for one choice of W. Its methods may be called

@@ -182,7 +182,7 @@ func TestMinTTrace(t *testing.T) {
 // TestProjectionVarianceExact checks the dense variance against the
 // direct matrix product diag(S·G·C_k·W1·C_k·Gᵀ·Sᵀ), G from the shrinkage
 // W, W1 the sample covariance and C_k every node's growth at step k; and,
-// above exactGrowthMaxNodes (lowered here), against
+// above exactGrowthMaxWork (lowered here), against
 // diag(S·C_k·G·W1·Gᵀ·C_k·Sᵀ) with the bottom series' growth.
 func TestProjectionVarianceExact(t *testing.T) {
 	st := grouped(t, 2, 2, 3)
@@ -230,11 +230,11 @@ func TestProjectionVarianceExact(t *testing.T) {
 }
 
 // bottomGrowthOnly makes the rest of the test treat every structure as
-// above exactGrowthMaxNodes.
+// above exactGrowthMaxWork.
 func bottomGrowthOnly(t *testing.T) {
-	old := exactGrowthMaxNodes
-	exactGrowthMaxNodes = 0
-	t.Cleanup(func() { exactGrowthMaxNodes = old })
+	old := exactGrowthMaxWork
+	exactGrowthMaxWork = 0
+	t.Cleanup(func() { exactGrowthMaxWork = old })
 }
 
 // lateStarts marks every step-th node's residuals missing (NaN) before a

@@ -2,6 +2,7 @@ package reconcile
 
 import (
 	"math"
+	"slices"
 
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
@@ -102,7 +103,8 @@ func (pl *sumPlan) sum(buf []float64, w int) {
 const chunk = 32
 
 // factorVariance returns, for every node i and step k, the diagonal of
-// S·G·W_k·Gᵀ·Sᵀ from the step's factor (step(k)): exactly
+// S·G·W_k·Gᵀ·Sᵀ from the step's factor (step(k)), and the number of
+// sample paths behind it (0 when exact): exactly
 // Σ_r (Σ_{j∈i} E_jr)² for the exact columns, plus the sampled part.
 //
 // The sampled part a_i = Σ_s (Σ_{j∈i} F_js)² is improved by a control
@@ -121,7 +123,7 @@ const chunk = 32
 // lockPlan) before the sums: locked nodes get zero variance, the others
 // the variance of the constrained projection. The control variate's
 // columns are left as they are: it stays a valid, if weaker, control.
-func factorVariance(st *hierarchy.Structure, step func(k int) *factor, h int, locks *lockPlan) [][]float64 {
+func factorVariance(st *hierarchy.Structure, step func(k int) (*factor, error), h int, locks *lockPlan) ([][]float64, int, error) {
 	n, m := st.S.Dims()
 	off := n - m
 	out := newRows(n, h)
@@ -141,12 +143,19 @@ func factorVariance(st *hierarchy.Structure, step func(k int) *factor, h int, lo
 			}
 		}
 	}
+	errs := make([]error, h)
+	paths := make([]int, h)
 	one := func(k int, buf []float64, mom [4][]float64) {
-		f := step(k)
+		f, err := step(k)
+		if err != nil {
+			errs[k] = err
+			return
+		}
 		N := 0
 		if f.paths != nil {
 			_, N = f.paths.Dims()
 		}
+		paths[k] = N
 		col := make([]float64, n)
 		var sl *stepLocks
 		if locks != nil {
@@ -223,7 +232,12 @@ func factorVariance(st *hierarchy.Structure, step func(k int) *factor, h int, lo
 		})
 	}
 	g.Wait()
-	return out
+	for _, err := range errs {
+		if err != nil {
+			return nil, 0, err
+		}
+	}
+	return out, slices.Max(paths), nil
 }
 
 // controlled returns the control-variate estimate Σx − β(Σy − mu) from the

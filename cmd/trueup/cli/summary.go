@@ -100,7 +100,7 @@ func printTail(w io.Writer, res *engine.Result, files []string) {
 		for _, k := range keys {
 			if k == "variance_node_growth" {
 				if rep.Reconcile.Notes[k] == 0 {
-					notes = append(notes, "interval widths grow with the bottom series' base variances only (over 5,000 nodes; aggregates whose stores share persistent shocks may get intervals too narrow)")
+					notes = append(notes, "interval widths grow with the bottom series' base variances only (a large run: nodes × steps × history periods over 8.4 million; aggregates whose stores share persistent shocks may get intervals too narrow)")
 				}
 				continue
 			}
