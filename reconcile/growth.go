@@ -7,7 +7,7 @@ package reconcile
 // the growth is applied to the reconciled bottom series
 // (S·C_h·G·W·Gᵀ·C_h·Sᵀ, bottom c_h), one factor for all steps. The bound
 // is 5,000 nodes at 28 steps and 60 periods: at 4,732 nodes that took
-// 4.0 s against 0.26 s (BenchmarkMinTNodeGrowth); at the benchmark's
+// 3.7–4.0 s against 0.26 s (BenchmarkMinTNodeGrowth); at the benchmark's
 // 39,442 nodes it took 21 s against 2.1 s (BenchmarkMinTRetail), over the
 // 10 s a reconcile of that size must keep. (A variable so that tests can
 // try the other formula on small structures.)
