@@ -279,7 +279,11 @@ func projectionVariance(p *Problem, g projector, h int, planned <-chan *lockPlan
 		}
 		joint = func() *Joint { return stepsJoint(st, fs) }
 	} else {
-		f, err := g.errorFactor(vc, nil, p.Paths, p.Seed)
+		ones := make([]float64, len(st.Nodes))
+		for i := range ones {
+			ones[i] = 1
+		}
+		f, err := g.errorFactor(vc, ones, p.Paths, p.Seed)
 		if err != nil {
 			return nil, nil, 0, err
 		}
@@ -313,7 +317,7 @@ type projector interface {
 	// relative tolerance tol where the solver is iterative.
 	apply(y *mat.Dense, tol float64) (*mat.Dense, error)
 	// errorFactor returns the factor of G·diag(a)·W·diag(a)·Gᵀ for the
-	// residual covariance W and node multipliers a (nil: all 1): exact,
+	// residual covariance W and node multipliers a (one per node): exact,
 	// except on the large path when more than paths nodes have a
 	// diagonal part in W (residuals that start late), where that part is
 	// represented by paths seeded Gaussian sample paths; its deltaB is
@@ -401,12 +405,6 @@ func (d *denseProjector) apply(y *mat.Dense, _ float64) (*mat.Dense, error) {
 func (d *denseProjector) errorFactor(w *errCov, a []float64, _ int, _ uint64) (*factor, error) {
 	m, _ := d.g.Dims()
 	r := w.rank()
-	mult := func(i int) float64 {
-		if a == nil {
-			return 1
-		}
-		return a[i]
-	}
 	var late []int
 	for i, v := range w.Delta {
 		if v > 0 {
@@ -421,14 +419,14 @@ func (d *denseProjector) errorFactor(w *errCov, a []float64, _ int, _ uint64) (*
 	f := mat.NewDense(m, len(late)+r, nil)
 	for j := 0; j < m; j++ {
 		for q, i := range late {
-			f.Set(j, q, d.g.At(j, i)*mult(i)*math.Sqrt(w.Delta[i]))
+			f.Set(j, q, d.g.At(j, i)*a[i]*math.Sqrt(w.Delta[i]))
 		}
 	}
 	if r > 0 {
 		n := len(w.Delta)
 		au := mat.NewDense(n, r, nil)
 		for i := 0; i < n; i++ {
-			floats.ScaleTo(au.RawRowView(i), mult(i), w.U[i*r:(i+1)*r])
+			floats.ScaleTo(au.RawRowView(i), a[i], w.U[i*r:(i+1)*r])
 		}
 		gu := f.Slice(0, m, len(late), len(late)+r).(*mat.Dense)
 		gu.Mul(d.g, au)

@@ -397,12 +397,6 @@ func (lp *largeProjector) errorFactor(w *errCov, a []float64, paths int, seed ui
 	if paths <= 0 {
 		paths = DefaultPaths
 	}
-	mult := func(i int) float64 {
-		if a == nil {
-			return 1
-		}
-		return a[i]
-	}
 	T := w.rank()
 	var late []int
 	for i, d := range w.Delta {
@@ -419,7 +413,7 @@ func (lp *largeProjector) errorFactor(w *errCov, a []float64, paths int, seed ui
 	rhs := mat.NewDense(lp.n, r, nil)
 	raw := rhs.RawMatrix()
 	for i := 0; i < lp.n; i++ {
-		floats.ScaleTo(raw.Data[i*raw.Stride:i*raw.Stride+T], mult(i), w.U[i*T:(i+1)*T])
+		floats.ScaleTo(raw.Data[i*raw.Stride:i*raw.Stride+T], a[i], w.U[i*T:(i+1)*T])
 	}
 	var ctrl *mat.Dense
 	if sampled {
@@ -429,7 +423,7 @@ func (lp *largeProjector) errorFactor(w *errCov, a []float64, paths int, seed ui
 		for i := 0; i < lp.n; i++ {
 			s := math.Sqrt(w.Delta[i]) * scale
 			for q := 0; q < paths; q++ {
-				v := mult(i) * s * rng.NormFloat64()
+				v := a[i] * s * rng.NormFloat64()
 				rhs.Set(i, T+q, v)
 				if i >= lp.k {
 					ctrl.Set(i-lp.k, q, v)
@@ -438,7 +432,7 @@ func (lp *largeProjector) errorFactor(w *errCov, a []float64, paths int, seed ui
 		}
 	} else {
 		for q, i := range late {
-			rhs.Set(i, T+q, mult(i)*math.Sqrt(w.Delta[i]))
+			rhs.Set(i, T+q, a[i]*math.Sqrt(w.Delta[i]))
 		}
 	}
 	if r == 0 {
