@@ -19,9 +19,11 @@ import (
 //
 // the error of series j at step k is scale_jk·u_{row(j)}, and, when the
 // series are the bottom ones, the errors of all nodes are S times theirs.
-// For the projections F = G·[diag(√Δ) U] (the factor of G·W·Gᵀ; on the
-// large path above Problem.Paths late nodes its diagonal part is the
-// sampled paths, without the control variate the variances use), for
+// For the projections F = G·C_k·[diag(√Δ) U] at step k, one factor per
+// step, with scale 1 (every node's growth C_k; above exactGrowthMaxWork
+// F = G·[diag(√Δ) U] for every step with scale the bottom series' growth;
+// on the large path above Problem.Paths late nodes the diagonal part is
+// the sampled paths, without the control variate the variances use), for
 // bottom-up, top-down and middle-out the rows are the middle level's
 // (F = U, d = √Δ there), and for the base forecasts (BaseJoint) every
 // node is a row. Draws are Gaussian even under non-negative
