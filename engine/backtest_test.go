@@ -365,3 +365,40 @@ func TestForecastCalibration(t *testing.T) {
 		t.Errorf("negative calibration origins: %v", err)
 	}
 }
+
+// TestCoverageRange: the share CoverageRange returns is the scores
+// table's coverage at that level, its range holds it, and the same
+// backtest gives the same range.
+func TestCoverageRange(t *testing.T) {
+	d := chain(t, 4)
+	res, err := engine.Backtest(context.Background(), d, engine.BacktestOptions{
+		Options: engine.Options{Model: families.Spec{Family: "seasonal-naive"}, Horizon: 5},
+		Origins: 3, Compare: []string{"base", "mint-shrink"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, m := range res.Methods {
+		for _, level := range res.Structure.LevelNames() {
+			s, ok := res.LevelScore(level, m)
+			if !ok {
+				continue
+			}
+			for l, lv := range res.Levels {
+				share, lo, hi, ok := res.CoverageRange(m, level, lv)
+				if !ok {
+					t.Fatalf("%s %s: no range", m, level)
+				}
+				if math.Abs(share-s.Coverage[l]) > 1e-12 {
+					t.Errorf("%s %s %g%%: share %g, scores %g", m, level, lv, share, s.Coverage[l])
+				}
+				if !(lo <= share && share <= hi) {
+					t.Errorf("%s %s %g%%: range %g–%g does not hold %g", m, level, lv, lo, hi, share)
+				}
+				_, lo2, hi2, _ := res.CoverageRange(m, level, lv)
+				if lo2 != lo || hi2 != hi {
+					t.Errorf("%s %s %g%%: range %g–%g, then %g–%g", m, level, lv, lo, hi, lo2, hi2)
+				}
+			}
+		}
+	}
+}

@@ -30,10 +30,8 @@ import (
 	"context"
 	"flag"
 	"fmt"
-	"math/rand/v2"
 	"os"
 	"path/filepath"
-	"sort"
 	"strings"
 	"time"
 
@@ -215,81 +213,24 @@ func measure(title string, src engine.Source, origins int, compare string) {
 }
 
 // printSamplingError prints, per method and level, the share inside each
-// interval with a range for its sampling error: the 5th to 95th
-// percentile over 2,000 resamples of the target periods (months), each
-// period carrying every origin, step and node that forecast it — a
-// cluster bootstrap (Cameron & Miller 2015, "A practitioner's guide to
-// cluster-robust inference", J. Human Resources 50:317–372; cited from
-// memory). It
-// keeps the dependence among forecasts of the same month (the origins
-// overlap, and a level's nodes share shocks) but treats months as
-// independent, so the ranges are a lower bound on the sampling error
-// when errors persist from month to month.
+// interval with the range of its sampling error
+// (engine.BacktestResult.CoverageRange: the 5th to 95th percentile over
+// resampled target months, a lower bound).
 func printSamplingError(bt *engine.BacktestResult) {
-	type cell struct{ in, n []float64 } // per target period
-	fmt.Println("Sampling error of the shares inside, by level: all steps, 5th–95th percentile over resampled target months (a lower bound; see printSamplingError):")
+	fmt.Println("Sampling error of the shares inside, by level: all steps, 5th–95th percentile over resampled target months (a lower bound; engine.BacktestResult.CoverageRange):")
 	fmt.Println()
-	fmt.Println("| method | level | target months | inside 80% (range) | inside 95% (range) |")
-	fmt.Println("|---|---|---|---|---|")
-	rng := rand.New(rand.NewPCG(1, 2))
+	fmt.Println("| method | level | inside 80% (range) | inside 95% (range) |")
+	fmt.Println("|---|---|---|---|")
 	for _, m := range bt.Methods {
 		for _, level := range bt.Structure.LevelNames() {
-			cells := map[int]*cell{}
-			for _, o := range bt.Origins {
-				st := o.Structure
-				r := o.Results[m]
-				for i, node := range st.Nodes {
-					if !o.Scored(i) || st.Levels[node.Level].Name != level {
-						continue
-					}
-					for k := 0; k < bt.Horizon; k++ {
-						t := o.Periods + k // one origin a month: the target month
-						c := cells[t]
-						if c == nil {
-							c = &cell{in: make([]float64, len(bt.Levels)), n: make([]float64, len(bt.Levels))}
-							cells[t] = c
-						}
-						a := o.Actual[i][k]
-						for l, lv := range bt.Levels {
-							lo, hi := r.Bounds(i, k, lv)
-							c.n[l]++
-							if lo <= a && a <= hi {
-								c.in[l]++
-							}
-						}
-					}
+			fmt.Printf("| %s | %s |", m, level)
+			for _, lv := range bt.Levels {
+				share, lo, hi, ok := bt.CoverageRange(m, level, lv)
+				if !ok {
+					fmt.Print(" |")
+					continue
 				}
-			}
-			if len(cells) == 0 {
-				continue
-			}
-			months := make([]int, 0, len(cells))
-			for t := range cells {
-				months = append(months, t)
-			}
-			sort.Ints(months) // a fixed order, so that the resamples repeat
-			list := make([]*cell, len(months))
-			for q, t := range months {
-				list[q] = cells[t]
-			}
-			fmt.Printf("| %s | %s | %d |", m, level, len(list))
-			for l := range bt.Levels {
-				share := func(pick func(q int) *cell) float64 {
-					var in, n float64
-					for q := range list {
-						c := pick(q)
-						in += c.in[l]
-						n += c.n[l]
-					}
-					return 100 * in / n
-				}
-				all := share(func(q int) *cell { return list[q] })
-				reps := make([]float64, 2000)
-				for b := range reps {
-					reps[b] = share(func(int) *cell { return list[rng.IntN(len(list))] })
-				}
-				sort.Float64s(reps)
-				fmt.Printf(" %.0f%% (%.0f–%.0f) |", all, reps[len(reps)/20], reps[len(reps)-1-len(reps)/20])
+				fmt.Printf(" %.0f%% (%.0f–%.0f) |", 100*share, 100*lo, 100*hi)
 			}
 			fmt.Println()
 		}

@@ -250,7 +250,8 @@ func printBacktest(w io.Writer, bt *engine.BacktestResult, files []string, asJSO
 
 // printCoverageByLevel prints, per level, the coverage of each method's
 // intervals at every level of the run (all steps), the check that
-// intervals hold their nominal share where each reader looks.
+// intervals hold their nominal share where each reader looks, with the
+// range of its sampling error (engine.CoverageRange).
 func printCoverageByLevel(w io.Writer, bt *engine.BacktestResult) {
 	for l, lv := range bt.Levels {
 		fmt.Fprintf(w, "\nShare of actuals inside the %s%% intervals by level (all steps):\n", engine.LevelLabel(lv))
@@ -259,9 +260,15 @@ func printCoverageByLevel(w io.Writer, bt *engine.BacktestResult) {
 			if l >= len(s.Coverage) {
 				return ""
 			}
-			return fmt.Sprintf("%.1f%%", 100*s.Coverage[l])
+			_, lo, hi, ok := bt.CoverageRange(s.Method, s.Level, lv)
+			if !ok {
+				return fmt.Sprintf("%.1f%%", 100*s.Coverage[l])
+			}
+			return fmt.Sprintf("%.1f%% (%.0f–%.0f)", 100*s.Coverage[l], 100*lo, 100*hi)
 		}))
 	}
+	fmt.Fprintln(w, "In brackets: the 5th to 95th percentile of the share when the forecast periods are resampled, a lower bound on its sampling error.")
+	fmt.Fprintln(w, "Where the nominal share (80% for an 80% interval) lies inside that range, chance alone could explain the difference.")
 }
 
 // levelRows lays out one row per level of the backtest, led by the
