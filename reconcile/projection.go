@@ -167,8 +167,7 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 			var out variances
 			defer func() { vdone <- out }()
 			defer crash.Catch(&out.err)
-			out.v, out.joint, out.paths, out.err = projectionVariance(&p, g, h, planned)
-			out.nodeGrowth = nodeGrowth(len(p.Structure.Nodes), h, len(p.Residuals[0]))
+			out.v, out.joint, out.paths, out.nodeGrowth, out.err = projectionVariance(&p, g, h, planned)
 		}()
 	} else {
 		vdone <- variances{}
@@ -231,19 +230,21 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 // projectionVariance returns the reconciled variances of a projection
 // (see Solution.Variance), their joint distribution when p.Joint asks for
 // it (without the locks' correction: the backtest, its one user, ignores
-// locks), and the number of sample paths behind them (0 when exact).
+// locks), the number of sample paths behind them (0 when exact), and
+// whether they take every node's growth (every; see exactGrowthMaxWork).
 //
 // The locks arrive on planned (nil for none), once their plan is made.
-func projectionVariance(p *Problem, g projector, h int, planned <-chan *lockPlan) ([][]float64, *Joint, int, error) {
+func projectionVariance(p *Problem, g projector, h int, planned <-chan *lockPlan) (v [][]float64, j *Joint, paths int, every bool, err error) {
 	vc, err := p.varianceCov()
 	if err != nil {
-		return nil, nil, 0, err
+		return nil, nil, 0, false, err
 	}
 	st := p.Structure
 	off := st.BottomOffset()
 	var step func(k int) (*factor, error)
 	var joint func() *Joint
-	if nodeGrowth(len(st.Nodes), h, vc.rank()) {
+	every = nodeGrowth(len(st.Nodes), h, vc.rank())
+	if every {
 		// One factor of G·C_k·W·C_k·Gᵀ per step, made when the step's
 		// variances are (factorVariance's workers) and kept only for the
 		// joint distribution.
@@ -285,7 +286,7 @@ func projectionVariance(p *Problem, g projector, h int, planned <-chan *lockPlan
 		}
 		f, err := g.errorFactor(vc, ones, p.Paths, p.Seed)
 		if err != nil {
-			return nil, nil, 0, err
+			return nil, nil, 0, false, err
 		}
 		bidx := make([]int, st.NumBottom())
 		for j := range bidx {
@@ -297,17 +298,15 @@ func projectionVariance(p *Problem, g projector, h int, planned <-chan *lockPlan
 	}
 	locks := <-planned
 	if locks == nil && len(p.Locks) > 0 {
-		return nil, nil, 0, nil // the locks were refused; Reconcile reports why
+		return nil, nil, 0, false, nil // the locks were refused; Reconcile reports why
 	}
-	v, paths, err := factorVariance(st, step, h, locks)
-	if err != nil {
-		return nil, nil, 0, err
+	if v, paths, err = factorVariance(st, step, h, locks); err != nil {
+		return nil, nil, 0, false, err
 	}
-	var j *Joint
 	if p.Joint {
 		j = joint()
 	}
-	return v, j, paths, nil
+	return v, j, paths, every, nil
 }
 
 // projector applies G for one choice of W. Its methods may be called
