@@ -33,6 +33,8 @@ func main() {
 		out       = flag.String("out", ".", "output directory")
 		format    = flag.String("format", "parquet", "parquet, csv or arrow")
 		seed      = flag.Uint64("seed", 1, "random seed")
+		negEvery  = flag.Int("negative-every", 0, "set every Nth bottom series' base forecasts to -20, so that --nonnegative has work at every step (0: none)")
+		locks     = flag.Bool("locks", false, "also write locks: at every step the total 5% above its base forecast, state ST1 and category CAT2 at theirs, and twenty items of store ST2-02 at zero (23 locks a step)")
 	)
 	flag.Parse()
 	f := tableio.Format(*format)
@@ -150,8 +152,58 @@ func main() {
 		}
 		mse[i] /= float64(*T)
 	}
+	base := make([][]float64, n)
+	for i := range base {
+		base[i] = make([]float64, *h)
+		for k := range base[i] {
+			base[i][k] = nodeLevel[i] + math.Sqrt(mse[i])*rng.NormFloat64()
+			if j := i - off; *negEvery > 0 && j >= 0 && j%*negEvery == 0 {
+				base[i][k] = -20
+			}
+		}
+	}
 	write("base", *h, day, func(i, k int) (string, float64, float64) {
-		v := mse[i] * (1 + 0.5*math.Log1p(float64(k)))
-		return "base", nodeLevel[i] + math.Sqrt(mse[i])*rng.NormFloat64(), v
+		return "base", base[i][k], mse[i] * (1 + 0.5*math.Log1p(float64(k)))
 	})
+	if *locks {
+		writeLocks(filepath.Join(*out, "locks"+f.Ext()), f, st, base, *h, day)
+	}
+}
+
+// writeLocks writes the lock table of -locks: the key columns, period and
+// value.
+func writeLocks(path string, f tableio.Format, st *hierarchy.Structure, base [][]float64, h int, day func(int) string) {
+	type lock struct {
+		key   []string
+		share float64 // of the node's base forecast
+	}
+	ls := []lock{{[]string{"", "", "", "", ""}, 1.05}, {[]string{"ST1", "", "", "", ""}, 1}, {[]string{"", "", "CAT2", "", ""}, 1}}
+	for q := 1; q <= 20; q++ {
+		ls = append(ls, lock{[]string{"ST2", "ST2-02", "CAT3", "CAT3-D04", fmt.Sprintf("CAT3-D04-I%03d", q)}, 0})
+	}
+	cols := make([]tableio.Column, len(st.Attrs))
+	for a, name := range st.Attrs {
+		cols[a] = tableio.Column{Name: name, Type: tableio.String}
+	}
+	pc := tableio.Column{Name: "period", Type: tableio.String}
+	vc := tableio.Column{Name: "value", Type: tableio.Float64}
+	for k := 0; k < h; k++ {
+		for _, l := range ls {
+			i, ok := st.Lookup(l.key)
+			if !ok {
+				log.Fatalf("lock key %v is not a node", l.key)
+			}
+			for a, v := range l.key {
+				cols[a].Strings = append(cols[a].Strings, v)
+				cols[a].Null = append(cols[a].Null, v == "")
+			}
+			pc.Strings = append(pc.Strings, day(k))
+			vc.Floats = append(vc.Floats, l.share*base[i][k])
+		}
+	}
+	cols = append(cols, pc, vc)
+	if err := tableio.WriteTable(path, &tableio.Table{Columns: cols}, f); err != nil {
+		log.Fatal(err)
+	}
+	fmt.Println("wrote", path, len(vc.Floats), "rows")
 }
