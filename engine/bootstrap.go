@@ -328,14 +328,7 @@ func (s *pathSims) path(dst []float64, i int, idx []int, d uint64) {
 			s.at[k] = t - f.First
 		}
 		f.Path.Simulate(dst, s.at)
-		// The forecast variances' factor from the latest errors
-		// (NodeFit.SpreadRatio) scales the path's spread about the
-		// forecast as it scales the Gaussian intervals.
-		c := math.Sqrt(f.SpreadRatio)
 		for k, v := range dst {
-			if c != 1 && c > 0 {
-				v = f.Mean[k] + c*(v-f.Mean[k])
-			}
 			dst[k] = math.Max(-s.bound[i], math.Min(v, s.bound[i]))
 		}
 		return

@@ -34,7 +34,6 @@ func FitOne(job FitJob) (NodeFit, error) {
 	if first < 0 {
 		nf.Closed = true
 		nf.Family, nf.Spec, nf.Params = "closed", "no observations", map[string]any{}
-		nf.SpreadRatio = 1
 		nf.Sigma2 = math.NaN()
 		nf.Criteria = models.Criteria{LogLik: math.NaN(), AIC: math.NaN(), AICc: math.NaN(), BIC: math.NaN()}
 		nf.Mean, nf.Variance = make([]float64, h), make([]float64, h)
@@ -86,10 +85,6 @@ func FitOne(job FitJob) (NodeFit, error) {
 	nf.Family, nf.Spec, nf.Params = model.Family(), model.Spec(), model.Params()
 	nf.Criteria, nf.Sigma2, nf.NObs = model.Criteria(), model.Sigma2(), model.NObs()
 	nf.Residuals = model.Residuals()
-	nf.SpreadRatio = models.SpreadFactor(model, opt.Period)
-	for i := range nf.Variance {
-		nf.Variance[i] *= nf.SpreadRatio
-	}
 	if sm, ok := model.(models.Simulator); ok {
 		nf.Path = sm.PathForm(h)
 	}

@@ -36,10 +36,6 @@ type NodeFit struct {
 	Criteria models.Criteria
 	Sigma2   float64
 	NObs     int
-	// SpreadRatio is the factor by which the forecast variances were
-	// multiplied to match the spread of the latest errors
-	// (models.SpreadFactor); 1 when the history is too short for it.
-	SpreadRatio float64
 	// First and Last are the panel columns of the node's first and last
 	// observation; both −1 for a node with none.
 	First, Last int

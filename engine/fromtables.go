@@ -287,7 +287,7 @@ func Reconcile(ctx context.Context, bs *BaseSet, opt ReconcileOptions) (*Result,
 		warnings = append(warnings, "the base table has no base_variance column: intervals use the one-step residual variance at every step, so they do not widen with the horizon")
 	}
 	for i := range fits {
-		f := NodeFit{Mean: bs.Base[i], First: -1, Last: -1, SpreadRatio: 1}
+		f := NodeFit{Mean: bs.Base[i], First: -1, Last: -1}
 		if baseVar != nil {
 			f.Variance = baseVar[i]
 		}

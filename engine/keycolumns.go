@@ -24,7 +24,7 @@ var resultColumns = map[string]bool{
 	"level": true, "period": true, "period_start": true, "step": true, "base": true, "base_variance": true,
 	"forecast": true, "locked": true, "residual": true, "value": true, "like_for_like": true,
 	"status": true, "family": true, "model": true, "params": true, "aicc": true, "innovation_variance": true,
-	"variance_scale": true, "recent_spread_factor": true, "observations": true, "warning": true,
+	"variance_scale": true, "observations": true, "warning": true,
 	"ljung_box_lags": true, "ljung_box_q": true, "ljung_box_p": true,
 	"origin": true, "method": true, "actual": true, "error": true, "scale": true, "scaled_error": true,
 	"scaled_squared_error": true, "crps": true,

@@ -70,7 +70,6 @@ type Node struct {
 	AICc    *float64 `json:"aicc,omitempty"`
 	Sigma2  *float64 `json:"sigma2,omitempty"`
 	Scale   string   `json:"variance_scale,omitempty"`
-	Spread  *float64 `json:"recent_spread_factor,omitempty"`
 	Warning string   `json:"warning,omitempty"`
 	LBLags  int      `json:"lb_lags,omitempty"`
 	LBQ     *float64 `json:"lb_q,omitempty"`
@@ -426,7 +425,7 @@ func addModels(m *Meta, t *tableio.Table, attrs []string, idx nodeIndex) error {
 	}
 	family, spec, params, warn := get("family"), get("model", "spec"), get("params"), get("warning")
 	aicc, sigma2, lags, q, p := get("aicc"), get("innovation_variance", "sigma2"), get("ljung_box_lags"), get("ljung_box_q"), get("ljung_box_p")
-	status, scale, spread := get("status"), get("variance_scale"), get("recent_spread_factor")
+	status, scale := get("status"), get("variance_scale")
 	for r, i := range rows {
 		nd := &m.Nodes[i]
 		if status != nil {
@@ -434,9 +433,6 @@ func addModels(m *Meta, t *tableio.Table, attrs []string, idx nodeIndex) error {
 		}
 		if scale != nil {
 			nd.Scale = cell(scale, r)
-		}
-		if spread != nil {
-			nd.Spread = finitePtr(number(spread, r))
 		}
 		if family != nil {
 			nd.Family = cell(family, r)

@@ -104,12 +104,6 @@ func main() {
 	}
 	b.WriteString(" auto chose |\n|---|---|---|" + strings.Repeat("---|", len(methods)+1) + "\n")
 	var in80, in95, total int
-	// The same with the forecast variances scaled to the spread of the
-	// latest errors (models.SpreadFactor, as engine.FitOne applies it),
-	// and the 80% interval score of both, in units of the MASE scale.
-	var in80s, in95s int
-	var is80, is80s float64
-	var applied int
 	start := time.Now()
 	for _, s := range set {
 		y, err := reference.Series(s.file + ".csv")
@@ -143,35 +137,16 @@ func main() {
 			}
 			if i == 0 {
 				chose = fit.Family()
-				f := models.SpreadFactor(fit, s.period)
-				if f != 1 {
-					applied++
-				}
-				var seriesIS [2]float64
-
 				for j := range test {
 					sd := math.Sqrt(variance[j])
 					e := math.Abs(test[j] - mean[j])
-					if e <= z80*sd {
+					if e <= 1.2815515655446004*sd {
 						in80++
 					}
-					if e <= z95*sd {
+					if e <= 1.959963984540054*sd {
 						in95++
 					}
-					if e <= z80*sd*math.Sqrt(f) {
-						in80s++
-					}
-					if e <= z95*sd*math.Sqrt(f) {
-						in95s++
-					}
-					is80 += intervalScore80(e, z80*sd) / scale
-					is80s += intervalScore80(e, z80*sd*math.Sqrt(f)) / scale
-					seriesIS[0] += intervalScore80(e, z80*sd) / scale / float64(h)
-					seriesIS[1] += intervalScore80(e, z80*sd*math.Sqrt(f)) / scale / float64(h)
 					total++
-				}
-				if *explain {
-					fmt.Fprintf(os.Stderr, "%s: spread factor %.3f, 80%% interval score %.3f unscaled, %.3f scaled\n", name, f, seriesIS[0], seriesIS[1])
 				}
 			}
 		}
@@ -206,24 +181,7 @@ func main() {
 	fmt.Print(b.String())
 	fmt.Printf("\nauto's Gaussian intervals on the %d held-out values: %.1f%% inside the 80%% interval, %.1f%% inside the 95%% interval\n",
 		total, 100*float64(in80)/float64(total), 100*float64(in95)/float64(total))
-	fmt.Printf("with the variances scaled to the spread of the latest errors (models.SpreadFactor; %d of %d series have the errors for it): %.1f%% and %.1f%%; 80%% interval score (in MASE units) %.3f against %.3f unscaled\n",
-		applied, len(set), 100*float64(in80s)/float64(total), 100*float64(in95s)/float64(total), is80s/float64(total), is80/float64(total))
 	fmt.Fprintf(os.Stderr, "%d series in %.1f s\n", len(set), time.Since(start).Seconds())
-}
-
-// Standard normal quantiles of the 80% and 95% central intervals.
-const (
-	z80 = 1.2815515655446004
-	z95 = 1.959963984540054
-)
-
-// intervalScore80 is the interval score of the central 80% interval
-// mean ± half for an absolute error e (Gneiting & Raftery 2007, "Strictly
-// proper scoring rules, prediction, and estimation", JASA 102:359–378,
-// §6.2): its width plus 2/0.2 times the distance by which the actual falls
-// outside it.
-func intervalScore80(e, half float64) float64 {
-	return 2*half + 10*math.Max(e-half, 0)
 }
 
 // medianOnly is the median of ETS, ARIMA (the given family) and Theta,

@@ -199,9 +199,7 @@ func HistoryTable(res *engine.Result) *tableio.Table {
 // ModelTable has one row per node: its status (NodeStatus), the family
 // fitted and the model in the form --model accepts, its parameters as
 // JSON text, AICc, the innovation variance and the scale it is on
-// (VarianceScale), the factor its forecast variances took from the spread
-// of its latest errors (recent_spread_factor, engine.NodeFit.SpreadRatio),
-// the number of observations, any warning, and the
+// (VarianceScale), the number of observations, any warning, and the
 // Ljung–Box check of its residuals (engine.ResidualCheck at the run's
 // seasonal period): ljung_box_lags (0 when too few residuals),
 // ljung_box_q and ljung_box_p (null then). A closed node's family and
@@ -217,7 +215,6 @@ func ModelTable(res *engine.Result) *tableio.Table {
 	aicc := tableio.Column{Name: "aicc", Type: tableio.Float64, Floats: make([]float64, n)}
 	variance := tableio.Column{Name: "innovation_variance", Type: tableio.Float64, Floats: make([]float64, n)}
 	scale := tableio.Column{Name: "variance_scale", Type: tableio.String, Strings: make([]string, n)}
-	spread := tableio.Column{Name: "recent_spread_factor", Type: tableio.Float64, Floats: make([]float64, n)}
 	nobs := tableio.Column{Name: "observations", Type: tableio.Int64, Ints: make([]int64, n)}
 	warn := tableio.Column{Name: "warning", Type: tableio.String, Strings: make([]string, n), Null: make([]bool, n)}
 	lbLags := tableio.Column{Name: "ljung_box_lags", Type: tableio.Int64, Ints: make([]int64, n)}
@@ -238,10 +235,9 @@ func ModelTable(res *engine.Result) *tableio.Table {
 		params.Strings[i] = paramsJSON(f.Params)
 		aicc.Floats[i] = finiteOrNaN(f.Criteria.AICc)
 		variance.Floats[i] = f.Sigma2
-		spread.Floats[i] = f.SpreadRatio
 		nobs.Ints[i] = int64(f.NObs)
 	}
-	cols = append(cols, status, family, model, params, aicc, variance, scale, spread, nobs, warn, lbLags, lbQ, lbP)
+	cols = append(cols, status, family, model, params, aicc, variance, scale, nobs, warn, lbLags, lbQ, lbP)
 	return &tableio.Table{Columns: cols}
 }
 

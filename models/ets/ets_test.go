@@ -268,27 +268,3 @@ func TestAdmissible(t *testing.T) {
 		t.Error("non-seasonal forms are not checked")
 	}
 }
-
-// TestConstantScaleResiduals: a multiplicative-error model's errors on its
-// constant scale are the relative errors (y − ŷ)/ŷ, whose mean square is
-// its σ² (Hyndman, Koehler, Ord & Snyder 2008, §2.5: σ² = Σε²/n with ε the
-// relative error); an additive-error model's are its residuals, whose mean
-// square is its σ² as well. AirPassengers from R's datasets package.
-func TestConstantScaleResiduals(t *testing.T) {
-	y := loadSeries(t, "AirPassengers")
-	for _, form := range []string{"M,A,M", "A,A,A"} {
-		sp, _ := ParseSpec(form)
-		f, err := FitSpec(y, sp, 12)
-		if err != nil {
-			t.Fatal(err)
-		}
-		e := f.ConstantScaleResiduals()
-		ss := 0.0
-		for _, v := range e {
-			ss += v * v
-		}
-		if got := ss / float64(len(e)); math.Abs(got-f.Sigma2()) > 1e-9*f.Sigma2() {
-			t.Errorf("ETS(%s): mean square of the constant-scale errors %g, σ² %g", form, got, f.Sigma2())
-		}
-	}
-}

@@ -177,19 +177,6 @@ func (f *Fitted) Params() map[string]any {
 // for every observation (the first forecast comes from the initial states).
 func (f *Fitted) Residuals() []float64 { return append([]float64(nil), f.resid...) }
 
-// ConstantScaleResiduals implements models.ConstantScaleResiduals: the
-// relative errors (y − ŷ)/ŷ of a multiplicative-error model, whose
-// variance σ² is (HKOS §2.5); the errors themselves otherwise.
-func (f *Fitted) ConstantScaleResiduals() []float64 {
-	out := append([]float64(nil), f.resid...)
-	if f.spec.Error == Mul {
-		for t := range out {
-			out[t] /= f.yhat[t]
-		}
-	}
-	return out
-}
-
 // Fitted returns the one-step forecasts ŷ_{t|t−1}.
 func (f *Fitted) FittedValues() []float64 { return append([]float64(nil), f.yhat...) }
 

@@ -263,16 +263,6 @@ func (f *Fitted) Residuals() []float64 {
 	return out
 }
 
-// ConstantScaleResiduals implements models.ConstantScaleResiduals: the
-// inner model's errors, on the transformed scale (or on the inner model's
-// own constant scale).
-func (f *Fitted) ConstantScaleResiduals() []float64 {
-	if cs, ok := f.inner.(models.ConstantScaleResiduals); ok {
-		return cs.ConstantScaleResiduals()
-	}
-	return f.inner.Residuals()
-}
-
 // Sigma2 implements models.Model: the inner innovation variance, on the
 // transformed scale.
 func (f *Fitted) Sigma2() float64 { return f.inner.Sigma2() }

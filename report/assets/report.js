@@ -325,7 +325,6 @@
       const rows = [["Model", nd.family ? `${nd.family}: ${nd.spec}` : "none (base forecasts given)"],
         ["AICc", nd.aicc == null ? "–" : nf2.format(nd.aicc)],
         [`Innovation variance (${nd.variance_scale || "data"} scale)`, nd.sigma2 == null ? "–" : fmt(nd.sigma2)]];
-      if (nd.recent_spread_factor != null && nd.recent_spread_factor !== 1) rows.push(["Variances × (spread of the latest errors)", nf2.format(nd.recent_spread_factor)]);
       if (nd.status) rows.unshift(["Status", nd.status]);
       let params = null;
       try { params = nd.params ? JSON.parse(nd.params) : null; } catch (e) { params = null; }

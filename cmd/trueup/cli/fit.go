@@ -353,7 +353,6 @@ func (r *fitRun) writeJSON(w io.Writer, i int, nf *engine.NodeFit) error {
 		{"fit_quality", object{
 			{"observations", nf.NObs},
 			{"innovation_variance", nf.Sigma2},
-			{"recent_spread_factor", nf.SpreadRatio},
 			{"parameters", c.K},
 			{"likelihood_observations", c.N},
 			{"aicc", c.AICc},
@@ -425,9 +424,6 @@ func (r *fitRun) writeText(w io.Writer, i int, nf *engine.NodeFit) error {
 	fmt.Fprintln(w)
 	fmt.Fprintf(w, "  fit quality (%d parameters, %d observations in the likelihood)\n", c.K, c.N)
 	fmt.Fprintf(w, "    innovation variance  %.6g\n", nf.Sigma2)
-	if nf.SpreadRatio != 1 {
-		fmt.Fprintf(w, "    forecast variances × %.3g, the spread of the latest errors against all of them\n", nf.SpreadRatio)
-	}
 	crit := func(x float64) string { // criteria are compared to 0.01
 		if math.IsInf(x, 0) || math.IsNaN(x) {
 			return "undefined" // AICc with no more observations than parameters

@@ -34,7 +34,7 @@ type FitRow struct {
 	LogLik, AIC, AICc    float64
 	BIC                  float64
 	K, N                 int64
-	Sigma2, SpreadRatio  float64
+	Sigma2               float64
 	NObs, First, Last    int64
 	Mean, Variance       []float64
 	Residuals            []float64
@@ -89,7 +89,7 @@ func fitRow(index int64, f engine.NodeFit) (FitRow, error) {
 	c := f.Criteria
 	return FitRow{Path: path, Index: index, Family: f.Family, Spec: f.Spec, Params: params,
 		LogLik: c.LogLik, AIC: c.AIC, AICc: c.AICc, BIC: c.BIC, K: int64(c.K), N: int64(c.N),
-		Sigma2: f.Sigma2, SpreadRatio: f.SpreadRatio, NObs: int64(f.NObs), First: int64(f.First), Last: int64(f.Last),
+		Sigma2: f.Sigma2, NObs: int64(f.NObs), First: int64(f.First), Last: int64(f.Last),
 		Mean: f.Mean, Variance: f.Variance, Residuals: f.Residuals, Warning: f.Warning,
 		Closed: f.Closed, Fitted: f.Fitted,
 		HasMean: f.Mean != nil, HasVariance: f.Variance != nil, HasResiduals: f.Residuals != nil}, nil
@@ -108,7 +108,7 @@ func (r FitRow) fit() (engine.NodeFit, error) {
 	}
 	return engine.NodeFit{Family: r.Family, Spec: r.Spec, Params: params, Path: path,
 		Criteria: models.Criteria{LogLik: r.LogLik, AIC: r.AIC, AICc: r.AICc, BIC: r.BIC, K: int(r.K), N: int(r.N)},
-		Sigma2:   r.Sigma2, SpreadRatio: r.SpreadRatio, NObs: int(r.NObs), First: int(r.First), Last: int(r.Last),
+		Sigma2:   r.Sigma2, NObs: int(r.NObs), First: int(r.First), Last: int(r.Last),
 		Mean: slice(r.Mean, r.HasMean), Variance: slice(r.Variance, r.HasVariance),
 		Residuals: slice(r.Residuals, r.HasResiduals),
 		Warning:   r.Warning, Closed: r.Closed, Fitted: r.Fitted}, nil
