@@ -28,6 +28,10 @@ import (
 var (
 	locksMu sync.Mutex
 	locks   = map[string]*os.File{}
+	// stopped is set when the process is stopping (Interrupt): the main
+	// goroutine may still reach lock between the signal handler's Release
+	// and its exit, and must not leave a new lock file behind.
+	stopped bool
 )
 
 // lockPath is the lock file of the output folder dir: ".<name>.lock"
@@ -56,6 +60,9 @@ func lock(dir string) (bool, error) {
 	}
 	locksMu.Lock()
 	defer locksMu.Unlock()
+	if stopped {
+		return false, &inputerr.Error{File: dir, Option: "Out", Msg: "the run is stopping"}
+	}
 	if locks[path] != nil {
 		return false, nil
 	}

@@ -70,6 +70,9 @@ func Interrupt() (done []string) {
 		for i := 0; i < 3 && os.RemoveAll(gone) != nil; i++ {
 		}
 	}
+	locksMu.Lock()
+	stopped = true // no new lock from here to the exit
+	locksMu.Unlock()
 	Release()
 	return append([]string(nil), swapped...)
 }
