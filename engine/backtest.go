@@ -450,6 +450,17 @@ func baseResult(r *Result) (*Result, error) {
 	b.Solution.Joint = joint
 	b.Nonnegative = false
 	b.Sampled = nil // the base forecasts keep their Gaussian intervals
+	if r.Shape != nil {
+		errs := make([][]float64, n)
+		for i, f := range r.Fits {
+			errs[i] = make([]float64, r.Calendar.T)
+			f.ResidualsOnCalendar(errs[i])
+			if f.Closed || !f.Fitted {
+				errs[i] = nil
+			}
+		}
+		b.Shape = errorShape(r.Structure, errs, r.Horizon, r.Levels)
+	}
 	return &b, nil
 }
 

@@ -312,7 +312,7 @@ func TestForecastCalibration(t *testing.T) {
 		t.Fatalf("applied %v, helps %v, factors %v", rec.Applied, rec.Check.Helps, res.Calibration != nil)
 	}
 	plain := *res
-	plain.Calibration = nil
+	plain.Calibration, plain.Shape = nil, nil // Gaussian
 	cal := &engine.Calibration{Levels: res.Structure.LevelNames(), Groups: [][2]int{{1, 3}, {4, 6}}, Intervals: []float64{80, 95}}
 	for range cal.Levels {
 		cal.Factor = append(cal.Factor, [][]float64{{2, 1}, {0.5, 1}})

@@ -14,6 +14,10 @@ import (
 
 // The interval methods (Options.Intervals).
 const (
+	// IntervalsErrorQuantiles: forecast ± f_L·z_L·sd from the coherent
+	// variances, f_L from the quantiles of the in-sample errors of the
+	// reconciled forecasts, per node level (errorShape).
+	IntervalsErrorQuantiles = "error-quantiles"
 	// IntervalsGaussian: forecast ± z·sd from the coherent variances
 	// (reconcile.Solution.Variance).
 	IntervalsGaussian = "gaussian"
@@ -24,7 +28,7 @@ const (
 )
 
 // DefaultIntervals is the interval method used when none is named.
-const DefaultIntervals = IntervalsGaussian
+const DefaultIntervals = IntervalsErrorQuantiles
 
 // DefaultDraws is the number of sample paths of the bootstrap: the 2.5%
 // quantile of 1,000 draws has a standard error of about 0.5 percentage

@@ -309,8 +309,10 @@ func (res *BacktestResult) checkCalibration() {
 					a.n++
 					a.gn[g]++
 					for q, lv := range res.Levels {
+						// Uncalibrated: the run's own intervals (with
+						// error-quantiles, their shape factors).
 						z := Quantile(lv)
-						lo, hi := r.bounds(i, k, z)
+						lo, hi := r.bounds(i, k, z*r.Shape.factor(level, k, q))
 						clo, chi := r.bounds(i, k, z*cal.factor(level, k, q))
 						if accuracy.Covered(lo, hi, y) {
 							a.cov[q]++

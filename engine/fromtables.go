@@ -201,6 +201,10 @@ type ReconcileOptions struct {
 	Reconcile Reconciliation
 	// Levels are the interval levels in percent; nil means 80 and 95.
 	Levels []float64
+	// Intervals is the interval method: IntervalsErrorQuantiles (the
+	// default, "") or IntervalsGaussian; error quantiles need the
+	// residuals table and are Gaussian without it.
+	Intervals string
 }
 
 // Reconcile reconciles a base set under the same rules as Forecast:
@@ -215,6 +219,13 @@ func Reconcile(ctx context.Context, bs *BaseSet, opt ReconcileOptions) (*Result,
 	}
 	if opt.Levels == nil {
 		opt.Levels = DefaultLevels
+	}
+	switch opt.Intervals {
+	case "":
+		opt.Intervals = IntervalsErrorQuantiles
+	case IntervalsErrorQuantiles, IntervalsGaussian:
+	default:
+		return nil, inputerr.ForOption("Intervals", "unknown interval method %q for reconciling tables (use %s or %s)", opt.Intervals, IntervalsErrorQuantiles, IntervalsGaussian)
 	}
 	method, rc, err := opt.Reconcile.method()
 	if err != nil {
@@ -337,11 +348,23 @@ func Reconcile(ctx context.Context, bs *BaseSet, opt ReconcileOptions) (*Result,
 	first := bs.Periods[0].Next(-T)
 	res := &Result{Structure: st, Calendar: Calendar{First: first, T: T}, History: history, Fits: fits,
 		Solution: sol, Levels: opt.Levels, Nonnegative: nonneg, Horizon: h, KeyTypes: bs.KeyTypes}
+	if opt.Intervals == IntervalsErrorQuantiles && prob.Residuals != nil && sol.Variance != nil {
+		errs, err := reconciledErrors(method, prob, trading, st)
+		if err != nil {
+			return nil, err
+		}
+		res.Shape = errorShape(st, errs, h, opt.Levels)
+	}
 	res.Report = RunReport{Version: Version, Command: "reconcile", Input: bs.Input,
 		Options:  map[string]any{"method": rc.Method, "cov": rc.Cov, "at": rc.At, "nonnegative": nonneg, "intervals": opt.Levels},
 		Timings:  map[string]float64{"read": bs.ReadSeconds, "reconcile": time.Since(start).Seconds()},
 		Warnings: append([]string{}, warnings...), Models: map[string]int{},
 		Reconcile: reconcileReport(method.Name(), sol.Notes)}
+	res.Report.Reconcile.Shape = res.Shape
+	res.Report.Options["interval_method"] = IntervalsGaussian
+	if res.Shape != nil {
+		res.Report.Options["interval_method"] = IntervalsErrorQuantiles
+	}
 	c := &res.Report.Counts
 	c.BottomSeries, c.Nodes, c.Periods, c.Horizon = st.NumBottom(), n, T, h
 	c.Grain = bs.Periods[0].Grain.String()

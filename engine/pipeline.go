@@ -58,9 +58,11 @@ type Options struct {
 	// carries every node's totals (Result.Plans). Nil means none.
 	PlanGrains []tableio.Grain
 
-	// Intervals is the interval method: IntervalsGaussian (forecast ±
-	// z·sd from the coherent variances) or IntervalsBootstrap (quantiles
-	// of reconciled sample paths, see bootstrapIntervals); "" means
+	// Intervals is the interval method: IntervalsErrorQuantiles (forecast
+	// ± f·z·sd from the coherent variances, f from the in-sample errors'
+	// quantiles, see errorShape), IntervalsGaussian (forecast ± z·sd) or
+	// IntervalsBootstrap (quantiles of reconciled sample paths, see
+	// bootstrapIntervals); "" means
 	// DefaultIntervals. A backtest applies it to every compared method.
 	Intervals string
 	// Draws is the number of sample paths of the bootstrap intervals; 0
@@ -153,6 +155,10 @@ type Result struct {
 	// Calibration holds the interval factors Bounds applies (see
 	// Reconciliation.Calibrate); nil: none.
 	Calibration *Calibration
+	// Shape holds the factors of error-quantile intervals per node level
+	// and interval level (errorShape), which Bounds applies when there is
+	// no Calibration; nil for Gaussian and bootstrap intervals.
+	Shape *Calibration
 	// KeyTypes gives the type of each key attribute's column in the input
 	// (in Structure.Attrs order): tableio.Int64 for an integer column,
 	// whose values the writers give their integer type back.
@@ -209,9 +215,9 @@ func (o Options) resolve(period int) (Options, error) {
 	switch o.Intervals {
 	case "":
 		o.Intervals = DefaultIntervals
-	case IntervalsGaussian, IntervalsBootstrap:
+	case IntervalsErrorQuantiles, IntervalsGaussian, IntervalsBootstrap:
 	default:
-		return o, inputerr.ForOption("Intervals", "unknown interval method %q (use %s or %s)", o.Intervals, IntervalsGaussian, IntervalsBootstrap)
+		return o, inputerr.ForOption("Intervals", "unknown interval method %q (use %s, %s or %s)", o.Intervals, IntervalsErrorQuantiles, IntervalsGaussian, IntervalsBootstrap)
 	}
 	if o.Draws < 0 || (o.Draws > 0 && o.Draws < 100) {
 		return o, inputerr.ForOption("Draws", "the bootstrap needs at least 100 sample paths, got %d", o.Draws)
@@ -311,7 +317,7 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	}
 	if rc.Calibrate > 0 && opt.Intervals == IntervalsBootstrap {
 		// The calibration's factors scale z of a Gaussian interval.
-		return nil, inputerr.ForOption("Calibrate", "calibration applies to %s intervals only, not to %s ones", IntervalsGaussian, IntervalsBootstrap)
+		return nil, inputerr.ForOption("Calibrate", "calibration applies to %s and %s intervals, not to %s ones", IntervalsErrorQuantiles, IntervalsGaussian, IntervalsBootstrap)
 	}
 	budget, err := memoryBudget()
 	if err != nil {
@@ -376,7 +382,7 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	if opt.Intervals == IntervalsBootstrap {
 		start = time.Now()
 		if len(tradingLocks) > 0 {
-			return nil, inputerr.ForOption("Intervals", "bootstrap intervals cannot be combined with locked forecasts yet; use %s intervals", IntervalsGaussian)
+			return nil, inputerr.ForOption("Intervals", "bootstrap intervals cannot be combined with locked forecasts yet; use %s or %s intervals", IntervalsErrorQuantiles, IntervalsGaussian)
 		}
 		open := sol
 		open.Forecast = trading.rows(sol.Forecast)
@@ -389,6 +395,15 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 
 	res := &Result{Structure: st, Calendar: Calendar{First: d.Panel.First, T: d.Panel.T}, History: history,
 		Fits: fits, Solution: sol, Sampled: sampled, Levels: opt.Levels, Nonnegative: nonneg, Horizon: opt.Horizon, KeyTypes: d.KeyTypes}
+	if opt.Intervals == IntervalsErrorQuantiles {
+		start = time.Now()
+		errs, err := reconciledErrors(method, prob, trading, st)
+		if err != nil {
+			return nil, err
+		}
+		res.Shape = errorShape(st, errs, opt.Horizon, opt.Levels)
+		stage("reconcile", start)
+	}
 	if len(opt.PlanGrains) > 0 {
 		start = time.Now()
 		res.Plans = res.plans(opt.PlanGrains)
@@ -398,6 +413,7 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	if err := res.recordLocks(&rep, rc, locks); err != nil {
 		return nil, err
 	}
+	rep.Reconcile.Shape = res.Shape
 	res.Report = rep
 	if rc.Calibrate > 0 {
 		start := time.Now()
@@ -464,8 +480,9 @@ func Quantile(level float64) float64 {
 // from the coherent variance. Under non-negative reconciliation a lower
 // bound below zero is raised to zero (values below zero cannot occur, so
 // coverage is unchanged). Without variances both bounds are NaN. With a
-// calibration (Result.Calibration) z is multiplied by the factor of the
-// node's level, the step's horizon group and the interval level. With
+// calibration (Result.Calibration), or else with error-quantile intervals
+// (Result.Shape), z is multiplied by the factor of the node's level, the
+// step's horizon group and the interval level. With
 // bootstrap intervals (Result.Sampled) the bounds are the empirical
 // quantiles of the reconciled draws, the lower one raised to zero as
 // above.
@@ -479,7 +496,11 @@ func (r *Result) Bounds(i, k int, level float64) (lo, hi float64) {
 		}
 	}
 	z := Quantile(level)
-	if c := r.Calibration; c != nil {
+	c := r.Calibration
+	if c == nil {
+		c = r.Shape
+	}
+	if c != nil {
 		if q := slices.Index(c.Intervals, level); q >= 0 {
 			z *= c.factor(r.Structure.Levels[r.Structure.Nodes[i].Level].Name, k, q)
 		}

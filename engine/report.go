@@ -88,6 +88,9 @@ type ReconcileReport struct {
 	// Calibration records the calibration of the intervals, when asked
 	// for (Reconciliation.Calibrate).
 	Calibration *CalibrationRecord `json:"interval_calibration,omitempty"`
+	// Shape holds the factors of error-quantile intervals per node level
+	// (Result.Shape); nil for the other interval methods.
+	Shape *Calibration `json:"interval_error_quantiles,omitempty"`
 	// Bootstrap describes bootstrap intervals (Options.Intervals); nil
 	// for Gaussian ones.
 	Bootstrap *BootstrapRecord `json:"bootstrap_intervals,omitempty"`

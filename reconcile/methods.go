@@ -46,6 +46,13 @@ type MethodInfo struct {
 	// Locks says whether the method reconciles around locked forecasts
 	// (Problem.Locks); the others refuse them (lockOnly).
 	Locks bool
+	// FixedWeights says whether the reconciled forecasts are S·G·ŷ with G
+	// set by the history alone, not by the base forecasts ŷ: reconciling
+	// the base errors then gives the reconciled errors' part that comes
+	// from them (the engine's interval shape). The methods that split by
+	// forecast proportions, and the temporal method, whose G needs the
+	// coarser bases, have not.
+	FixedWeights bool
 
 	build func(cov Covariance, at string) Method
 }
@@ -53,13 +60,13 @@ type MethodInfo struct {
 // methods is the table, in the order help text lists the methods. The
 // sources of each method are cited on its type.
 var methods = []MethodInfo{
-	{Name: "bottom-up", Help: "add up the finest level's forecasts",
+	{Name: "bottom-up", FixedWeights: true, Help: "add up the finest level's forecasts",
 		Explanation: "the forecasts of the finest level are added up, so every total is the sum of its parts",
 		build:       func(Covariance, string) Method { return BottomUp{} }},
-	{Name: "top-down-hist", Help: "split the total by historical shares (needs the history)",
+	{Name: "top-down-hist", FixedWeights: true, Help: "split the total by historical shares (needs the history)",
 		Explanation: "the total's forecast is split down by each node's share of the history",
 		build:       func(Covariance, string) Method { return TopDown{Proportions: HistoricalProportions} }},
-	{Name: "top-down-avg", Help: "split the total by shares of the historical averages (needs the history)",
+	{Name: "top-down-avg", FixedWeights: true, Help: "split the total by shares of the historical averages (needs the history)",
 		Explanation: "the total's forecast is split down by each node's average share of the history",
 		build:       func(Covariance, string) Method { return TopDown{Proportions: ProportionsOfAverages} }},
 	{Name: "top-down-fcst", Help: "split the total by forecast proportions (one chain only)",
@@ -68,7 +75,7 @@ var methods = []MethodInfo{
 	{Name: "middle-out", Param: LevelParam, Help: "keep one level's forecasts, add up above, split below",
 		Explanation: "one level's forecasts are added up above it and split down below it",
 		build:       func(_ Covariance, at string) Method { return MiddleOut{Level: at} }},
-	{Name: "mint", Param: CovParam, NonNegativeDefault: true, Locks: true, Help: "combine every level's forecasts, weighted by how reliable their errors have been (MinT)",
+	{Name: "mint", Param: CovParam, NonNegativeDefault: true, Locks: true, FixedWeights: true, Help: "combine every level's forecasts, weighted by how reliable their errors have been (MinT)",
 		Explanation: "MinT combines every level's forecast, weighting each by how reliable its errors have been, so that totals equal the sum of their parts",
 		build:       func(cov Covariance, _ string) Method { return Projection{Cov: cov} }},
 	{Name: "temporal", NonNegativeDefault: true, Temporal: true, Help: "also forecast each node by quarter and by year, combine across time (temporal hierarchy), then MinT",

@@ -37,17 +37,18 @@ type Meta struct {
 	Forecast  []string       `json:"forecast"`  // forecast period labels
 	Intervals []string       `json:"intervals"` // interval labels, e.g. "80", "95"
 	// Z, when set, says that the bounds are not embedded but follow
-	// from Series.SD: forecast ∓ Z[l]·SD, the lower bound clamped at
-	// zero when ClampAtZero (see compactBounds).
-	Z           []float64 `json:"z,omitempty"`
-	ClampAtZero bool      `json:"clamp_at_zero,omitempty"`
-	Lags        int       `json:"lags"`               // ACF and PACF lags per node
-	Levels      []Level   `json:"levels"`             // in table order, the total first
-	Nodes       []Node    `json:"nodes"`              // in table order
-	Failing     []int     `json:"failing"`            // nodes whose residuals fail Ljung–Box, by p-value
-	FailP       float64   `json:"fail_p"`             // the significance level of Failing
-	Accuracy    []Table   `json:"accuracy,omitempty"` // backtest tables, when present
-	Plans       *Plans    `json:"plans,omitempty"`    // plan totals, when the run made them
+	// from Series.SD: forecast ∓ Z[v][l]·SD for a node of level v and
+	// interval l, the lower bound clamped at zero when ClampAtZero (see
+	// compactBounds).
+	Z           [][]float64 `json:"z,omitempty"`
+	ClampAtZero bool        `json:"clamp_at_zero,omitempty"`
+	Lags        int         `json:"lags"`               // ACF and PACF lags per node
+	Levels      []Level     `json:"levels"`             // in table order, the total first
+	Nodes       []Node      `json:"nodes"`              // in table order
+	Failing     []int       `json:"failing"`            // nodes whose residuals fail Ljung–Box, by p-value
+	FailP       float64     `json:"fail_p"`             // the significance level of Failing
+	Accuracy    []Table     `json:"accuracy,omitempty"` // backtest tables, when present
+	Plans       *Plans      `json:"plans,omitempty"`    // plan totals, when the run made them
 }
 
 // Level is one level of the structure with its nodes, largest first.
@@ -519,12 +520,16 @@ func addCorrelograms(d *Data, t *tableio.Table, attrs []string, idx nodeIndex) e
 }
 
 // compactBounds replaces the interval bounds by one standard deviation
-// per node and step when every bound in the table is Gaussian, as
-// engine.Result.Bounds makes them: forecast ∓ z·sd with z the normal
-// quantile of the level, the lower bound clamped at zero when no bound is
-// negative. The check runs on the table's float64 numbers to a relative
-// 1e-9; any bound of another form keeps the bounds as they are. This
-// embeds one number where there were two per interval.
+// per node and step when every bound in the table is of the form
+// engine.Result.Bounds makes Gaussian and error-quantile ones: forecast ∓
+// z·sd, z the same for every node of a level and step (the normal
+// quantile of the interval, times the level's factor for error
+// quantiles), the lower bound clamped at zero when no bound is negative.
+// The standard deviation embedded is the widest interval's half width
+// over its normal quantile, and each level's z is read off its first
+// row; the check runs on the table's float64 numbers to a relative 1e-9,
+// and any bound of another form keeps the bounds as they are. This embeds
+// one number where there were two per interval.
 func compactBounds(d *Data, fc *tableio.Table, rowNode, stepOf []int) {
 	m, s := &d.Meta, &d.Series
 	if len(m.Intervals) == 0 {
@@ -556,6 +561,7 @@ func compactBounds(d *Data, fc *tableio.Table, rowNode, stepOf []int) {
 	}
 	h := len(m.Forecast)
 	sd := nanSlice(len(s.Forecast))
+	levelZ := make([][]float64, len(m.Levels))
 	for r, i := range rowNode {
 		f := number(mean, r)
 		sig := (number(upper[widest], r) - f) / z[widest]
@@ -563,18 +569,34 @@ func compactBounds(d *Data, fc *tableio.Table, rowNode, stepOf []int) {
 			continue
 		}
 		sd[i*h+stepOf[r]] = float32(sig)
+		v := m.Nodes[i].Level
+		if levelZ[v] == nil && sig > 0 {
+			levelZ[v] = make([]float64, len(z))
+			for l := range z {
+				levelZ[v][l] = (number(upper[l], r) - f) / sig
+			}
+		}
+		zl := levelZ[v]
+		if zl == nil {
+			zl = z // no width yet: any z gives the bounds
+		}
 		for l := range z {
-			lo, hi := f-z[l]*sig, f+z[l]*sig
+			lo, hi := f-zl[l]*sig, f+zl[l]*sig
 			if clamp {
 				lo = math.Max(0, lo)
 			}
-			tol := 1e-9 * math.Max(1, math.Abs(f)+z[l]*math.Abs(sig))
+			tol := 1e-9 * math.Max(1, math.Abs(f)+zl[l]*math.Abs(sig))
 			if math.Abs(lo-number(lower[l], r)) > tol || math.Abs(hi-number(upper[l], r)) > tol {
-				return // not Gaussian: keep the bounds
+				return // not of that form: keep the bounds
 			}
 		}
 	}
-	m.Z, m.ClampAtZero = z, clamp
+	for v := range levelZ {
+		if levelZ[v] == nil {
+			levelZ[v] = z
+		}
+	}
+	m.Z, m.ClampAtZero = levelZ, clamp
 	s.SD, s.Lower, s.Upper = sd, nil, nil
 }
 

@@ -163,7 +163,7 @@ func pageBounds(d *Data, l, j int) (lo, hi float64) {
 	if d.Meta.Z == nil {
 		return float64(s.Lower[l][j]), float64(s.Upper[l][j])
 	}
-	f, sd, z := float64(s.Forecast[j]), float64(s.SD[j]), d.Meta.Z[l]
+	f, sd, z := float64(s.Forecast[j]), float64(s.SD[j]), d.Meta.Z[d.Meta.Nodes[j/len(d.Meta.Forecast)].Level][l]
 	lo, hi = f-z*sd, f+z*sd
 	if d.Meta.ClampAtZero {
 		lo = math.Max(0, lo)

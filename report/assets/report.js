@@ -51,7 +51,7 @@
   // the embedded bounds or from forecast ∓ z·sd (see compactBounds).
   function bounds(l, i) {
     if (!meta.z) return [slice(S.lower[l], i, H), slice(S.upper[l], i, H)];
-    const lo = [], hi = [], z = meta.z[l];
+    const lo = [], hi = [], z = meta.z[meta.nodes[i].level][l];
     for (let k = 0; k < H; k++) {
       const f = S.forecast[i * H + k], sd = S.sd[i * H + k];
       if (Number.isNaN(f) || Number.isNaN(sd)) { lo.push(null); hi.push(null); continue; }

@@ -18,7 +18,7 @@ func newReconcileCmd() *cobra.Command {
 		inputFormat              string
 		time, value              string
 		nest                     []string
-		levels                   string
+		levels, intervalMethod   string
 		rf                       reconcileFlags
 		of                       outputFlags
 	)
@@ -86,7 +86,7 @@ into a plan.`,
 			for _, w := range bs.Warnings {
 				fmt.Fprintln(cmd.ErrOrStderr(), "trueup:", w)
 			}
-			res, err := engine.Reconcile(context.Background(), bs, engine.ReconcileOptions{Reconcile: rf.options(cmd), Levels: lv})
+			res, err := engine.Reconcile(context.Background(), bs, engine.ReconcileOptions{Reconcile: rf.options(cmd), Levels: lv, Intervals: intervalMethod})
 			if err != nil {
 				return err
 			}
@@ -109,9 +109,12 @@ into a plan.`,
 	fl.StringVar(&value, "value", "sales", "value column of --history")
 	fl.StringArrayVar(&nest, "hierarchy", nil, "key columns of one hierarchy, coarse to fine, comma-separated (repeatable)")
 	fl.StringVar(&levels, "intervals", "80,95", "prediction intervals to write, in percent, comma-separated")
+	fl.StringVar(&intervalMethod, "interval-method", engine.IntervalsErrorQuantiles, "how intervals are made from the reconciled variances:\n  "+
+		engine.IntervalsErrorQuantiles+": z from the quantiles of the reconciled past one-step errors (per level; needs --residuals)\n  "+
+		engine.IntervalsGaussian+": z from the normal distribution")
 	groupFlags(cmd, "Input", "base", "residuals", "history", "input-format", "time", "value", "hierarchy")
 	rf.register(cmd)
-	groupFlags(cmd, "Reconciliation", "intervals")
+	groupFlags(cmd, "Reconciliation", "intervals", "interval-method")
 	keepOldNames(cmd)
 	of.register(cmd, "trueup-reconciled")
 	return cmd

@@ -163,7 +163,8 @@ func (f *runFlags) registerModel(cmd *cobra.Command) {
 	fl.StringVar(&f.family, "family", "", "model family for every node: "+familyNames())
 	fl.StringVar(&f.levels, "intervals", "80,95", "prediction intervals to write, in percent, comma-separated")
 	fl.StringVar(&f.intervalMethod, "interval-method", engine.DefaultIntervals, "how intervals are made:\n  "+
-		engine.IntervalsGaussian+": forecast ± z·sd from the reconciled variances\n  "+
+		engine.IntervalsErrorQuantiles+": forecast ± z·sd from the reconciled variances, z taken from the quantiles of the\n  reconciled forecasts' past one-step errors (per level) instead of the normal distribution's\n  "+
+		engine.IntervalsGaussian+": forecast ± z·sd from the reconciled variances, z from the normal distribution\n  "+
 		engine.IntervalsBootstrap+fmt.Sprintf(": quantiles of %d sample paths simulated from each node's model with residuals\n  resampled at the same periods for every node, each path reconciled", engine.DefaultDraws))
 	fl.IntVar(&f.workers, "workers", runtime.NumCPU(), "nodes fitted in parallel")
 	groupFlags(cmd, "Model", "season-length", "horizon", "family", "intervals", "interval-method", "workers")

@@ -49,6 +49,9 @@ func printSummary(w io.Writer, res *engine.Result, files []string, asJSON bool) 
 				words.Count(b.NoSimulator, "node's model has", "nodes' models have"))
 		}
 	}
+	if sh := rep.Reconcile.Shape; sh != nil && (rep.Reconcile.Calibration == nil || !rep.Reconcile.Calibration.Applied) {
+		fmt.Fprintf(w, "Intervals from the reconciled variances, their width per level set by the quantiles of the reconciled forecasts' past one-step errors (%s; factors in run.json).\n", shapeWords(sh))
+	}
 	if c := rep.Reconcile.Calibration; c != nil {
 		if c.Applied {
 			fmt.Fprintf(w, "Intervals calibrated from a backtest at %s (it brought coverage nearer to nominal at its later origins; factors in run.json).\n", words.Count(c.Origins, "origin", "origins"))
@@ -213,3 +216,16 @@ func printTotalPlans(w io.Writer, res *engine.Result) {
 func grouped(x float64) string { return groupedDecimals(x, 0) }
 
 func errMissing(flag string) error { return fmt.Errorf("%s is required", flag) }
+
+// shapeWords sums up error-quantile factors for the summary: the total's
+// factor at each interval level ("total: 80% ×0.93, 95% ×1.04").
+func shapeWords(sh *engine.Calibration) string {
+	if len(sh.Factor) == 0 || len(sh.Factor[0]) == 0 {
+		return "no errors to take them from"
+	}
+	var parts []string
+	for q, l := range sh.Intervals {
+		parts = append(parts, fmt.Sprintf("%s%% ×%.2f", engine.LevelLabel(l), sh.Factor[0][0][q]))
+	}
+	return sh.Levels[0] + ": " + strings.Join(parts, ", ")
+}
