@@ -83,7 +83,7 @@ func reconciledErrors(method reconcile.Method, prob reconcile.Problem, trading *
 		return full, nil
 	}
 	q := reconcile.Problem{Structure: prob.Structure, History: prob.History, Residuals: prob.Residuals,
-		Base: make([][]float64, len(prob.Residuals))}
+		Base: make([][]float64, len(prob.Residuals)), Statistics: true}
 	for i, r := range prob.Residuals {
 		q.Base[i] = make([]float64, len(r))
 		for t, e := range r {

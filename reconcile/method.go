@@ -63,7 +63,19 @@ type Problem struct {
 	// StepLabel names forecast step k (0-based) in messages, such as its
 	// period; nil means "step k+1".
 	StepLabel func(k int) string
+	// Statistics marks forecasts that feed a statistic rather than a plan
+	// (the in-sample errors behind the intervals' shape): the large-n
+	// projection's iterative solves may then stop at a relative residual
+	// of StatisticsTol instead of 1e-12. Locks and non-negativity are
+	// solved as always.
+	Statistics bool
 }
+
+// StatisticsTol is the relative residual of the large-n projection's
+// solves for a Problem marked Statistics: the answers agree with the
+// exact ones to about this fraction of the problem's scale, far below
+// the sampling error of any quantile of them.
+const StatisticsTol = 1e-6
 
 // stepLabel names step k for messages (see Problem.StepLabel).
 func (p *Problem) stepLabel(k int) string {

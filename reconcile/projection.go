@@ -188,7 +188,7 @@ func (pr Projection) Reconcile(p Problem) (Solution, error) {
 	var bottom, unlocked *mat.Dense
 	if p.Nonnegative {
 		bottom, unlocked, err = nonnegative(g, base, locks)
-	} else if bottom, err = g.apply(base, solveTol); err == nil && locks != nil {
+	} else if bottom, err = g.apply(base, p.tolerance()); err == nil && locks != nil {
 		unlocked = mat.DenseCopyOf(bottom)
 		locks.apply(bottom)
 	}
@@ -330,6 +330,15 @@ type projector interface {
 // solveTol is the relative residual the iterative solvers reach for
 // forecasts; tests hold dense and large paths to 1e-8 relative.
 const solveTol = 1e-12
+
+// tolerance is the relative residual of the plain projection's solves:
+// solveTol, or StatisticsTol for a Problem marked Statistics.
+func (p *Problem) tolerance() float64 {
+	if p.Statistics {
+		return StatisticsTol
+	}
+	return solveTol
+}
 
 // denseProjector forms G = (SᵀW⁻¹S)⁻¹SᵀW⁻¹ explicitly.
 type denseProjector struct {

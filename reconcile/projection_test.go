@@ -65,6 +65,32 @@ func TestDenseAndLargeAgree(t *testing.T) {
 	}
 }
 
+// TestStatisticsTolerance: a Problem marked Statistics (the in-sample
+// errors behind the intervals' shape) is solved on the large path to
+// StatisticsTol; its answers agree with the dense path's exact ones to a
+// small multiple of that fraction of the problem's scale, and stay
+// exactly coherent.
+func TestStatisticsTolerance(t *testing.T) {
+	st := grouped(t, 3, 8, 6) // 3 regions × 8 stores × 6 categories
+	p := problemFor(st, 40, 5, 8)
+	p.Statistics = true
+	var scale float64
+	for _, row := range p.Base {
+		for _, v := range row {
+			scale = math.Max(scale, math.Abs(v))
+		}
+	}
+	d, l := denseAndLarge(t, Projection{Cov: CovShrink}, p)
+	checkCoherent(t, st, l)
+	for i := range d.Forecast {
+		for k := range d.Forecast[i] {
+			if diff := math.Abs(d.Forecast[i][k] - l.Forecast[i][k]); diff > 100*StatisticsTol*scale {
+				t.Fatalf("%s step %d: dense %.12g large %.12g, %.2g of the scale", st.Label(i), k+1, d.Forecast[i][k], l.Forecast[i][k], diff/scale)
+			}
+		}
+	}
+}
+
 // denseG returns G for a covariance choice through the dense path.
 func denseG(t *testing.T, p Problem, cov Covariance) *mat.Dense {
 	t.Helper()
