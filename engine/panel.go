@@ -1,6 +1,7 @@
 package engine
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"sort"
@@ -104,6 +105,14 @@ func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
 		return nil, err
 	}
 	native, how, err := nativeGrain(rows)
+	var ambiguous ambiguousGrainError
+	if errors.As(err, &ambiguous) && opt.Grain != nil && *opt.Grain > tableio.Day {
+		// Dates on varying days (2024-03-01 in one row, 2024-03-15 in the
+		// next) with the grain stated: each date stands for the period of
+		// that grain it falls in, and two rows of a series in one period
+		// are duplicates like any others.
+		native, how, err = *opt.Grain, fmt.Sprintf("dates read as the %ss they fall in", *opt.Grain), nil
+	}
 	if err != nil {
 		return nil, err
 	}
@@ -469,8 +478,8 @@ func periodGrain(path string, periods []tableio.Period) (tableio.Grain, string, 
 	case gap >= 365 && gap <= 366:
 		grain, how = tableio.Year, "dates about a year apart"
 	default:
-		return 0, "", &inputerr.Error{File: path, Option: "Grain",
-			Msg: fmt.Sprintf("dates are %d days apart at the closest; cannot tell the grain, state it", gap)}
+		return 0, "", ambiguousGrainError{&inputerr.Error{File: path, Option: "Grain",
+			Msg: fmt.Sprintf("dates are %d days apart at the closest; cannot tell the grain, state it", gap)}}
 	}
 	// Distinct dates must be distinct periods: 2024-01-01 and 2024-01-31
 	// are a month apart by gap yet both in January.
@@ -478,14 +487,21 @@ func periodGrain(path string, periods []tableio.Period) (tableio.Grain, string, 
 	for i := 1; i < len(days); i++ {
 		p := tableio.FromDate(tableio.Period{Grain: tableio.Day, Index: days[i]}.Start(), grain)
 		if p == prev {
-			return 0, "", &inputerr.Error{File: path, Option: "Grain",
+			return 0, "", ambiguousGrainError{&inputerr.Error{File: path, Option: "Grain",
 				Msg: fmt.Sprintf("dates %s and %s are %s apart at the closest but fall in the same %s (%s); cannot tell the grain, state it",
-					tableio.Period{Grain: tableio.Day, Index: days[i-1]}, tableio.Period{Grain: tableio.Day, Index: days[i]}, grain, grain, p)}
+					tableio.Period{Grain: tableio.Day, Index: days[i-1]}, tableio.Period{Grain: tableio.Day, Index: days[i]}, grain, grain, p)}}
 		}
 		prev = p
 	}
 	return grain, how, nil
 }
+
+// ambiguousGrainError is periodGrain's input error for dates whose gaps
+// do not tell the grain; BuildPanel takes a stated grain instead.
+type ambiguousGrainError struct{ err *inputerr.Error }
+
+func (e ambiguousGrainError) Error() string { return e.err.Error() }
+func (e ambiguousGrainError) Unwrap() error { return e.err }
 
 func minMax(xs []int) (lo, hi int) {
 	lo, hi = xs[0], xs[0]

@@ -2,6 +2,7 @@ package engine
 
 import (
 	"math"
+	"slices"
 	"strings"
 	"testing"
 
@@ -203,6 +204,38 @@ func TestPanelRefusesAmbiguousDates(t *testing.T) {
 	_, err := BuildPanel(r, PanelOptions{})
 	if !inputerr.Is(err) || !strings.Contains(err.Error(), "same month") {
 		t.Fatalf("got %v, want an input error about dates in the same month", err)
+	}
+}
+
+// TestPanelStatedGrainReadsVaryingDays: monthly rows dated on varying
+// days (one export dates a month by its first day, another by the 15th)
+// cannot tell their grain; with the grain stated each date stands for its
+// month, and two rows of a series in one month are duplicates.
+func TestPanelStatedGrainReadsVaryingDays(t *testing.T) {
+	rows := [][3]string{{"2024-01-01", "A", ""}, {"2024-02-15", "A", ""}, {"2024-03-01", "A", ""},
+		{"2024-01-15", "B", ""}, {"2024-02-01", "B", ""}, {"2024-03-31", "B", ""}}
+	r := rowsOf(t, rows, []float64{1, 2, 3, 4, 5, 6})
+	if _, err := BuildPanel(r, PanelOptions{}); !inputerr.Is(err) || !strings.Contains(err.Error(), "cannot tell the grain") {
+		t.Fatalf("without a grain: got %v, want an input error asking for the grain", err)
+	}
+	month := tableio.Month
+	pn, err := BuildPanel(r, PanelOptions{Grain: &month})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if pn.T != 3 || pn.Grain != tableio.Month || pn.Period(0).String() != "2024-01" {
+		t.Fatalf("T=%d grain=%v first=%v", pn.T, pn.Grain, pn.Period(0))
+	}
+	for s, want := range map[string][]float64{"A": {1, 2, 3}, "B": {4, 5, 6}} {
+		for i, key := range pn.Keys {
+			if key[0] == s && !slices.Equal(pn.Values[i], want) {
+				t.Errorf("store %s: %v, want %v", s, pn.Values[i], want)
+			}
+		}
+	}
+	dup := rowsOf(t, append(rows, [3]string{"2024-02-20", "A", ""}), []float64{1, 2, 3, 4, 5, 6, 7})
+	if _, err := BuildPanel(dup, PanelOptions{Grain: &month}); !inputerr.Is(err) || !strings.Contains(err.Error(), "2024-02") {
+		t.Fatalf("two rows of A in February: got %v, want an input error naming 2024-02", err)
 	}
 }
 
