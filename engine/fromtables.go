@@ -254,7 +254,7 @@ func Reconcile(ctx context.Context, bs *BaseSet, opt ReconcileOptions) (*Result,
 	if err != nil {
 		return nil, err
 	}
-	if err := checkRunMemory(budget, n, len(st.Attrs), T, h,
+	if err := checkRunMemory(budget, n, len(st.Attrs), T, h, h,
 		bs.Periods[0].Next(-T).String()+" to "+bs.Periods[0].Next(-1).String(), isProjection(method)); err != nil {
 		return nil, err
 	}

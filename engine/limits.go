@@ -88,15 +88,16 @@ func checkHistoryMemory(budget int64, n, T int) error {
 // history periods (span names the first and last) and horizon h before
 // the fitting: the histories,
 // residuals and forecasts (8 bytes per node and period, several copies),
-// the output tables (one row per node and history or forecast period,
-// with a key per attribute) and, for a projection (mint), the T × T Gram
-// matrix of the shrinkage estimate.
-func checkRunMemory(budget int64, n, attrs, T, h int, span string, mint bool) error {
+// the output tables (rows per node: one per history period of the
+// history and residual tables that forecast writes and reconcile does
+// not, and one per forecast period, with a key per attribute) and, for a
+// projection (mint), the T × T Gram matrix of the shrinkage estimate.
+func checkRunMemory(budget int64, n, attrs, T, h, rows int, span string, mint bool) error {
 	N, TT, H := int64(n), int64(T), int64(h)
 	need := membudget.Add(
 		membudget.Mul(N, TT, 8*3),
 		membudget.Mul(N, H, 8*4),
-		membudget.Mul(N, 2*TT+H, 16*int64(attrs)+40))
+		membudget.Mul(N, int64(rows), 16*int64(attrs)+40))
 	if mint {
 		need = membudget.Add(need, membudget.Mul(TT, TT, 8))
 	}

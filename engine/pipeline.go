@@ -323,7 +323,7 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 	if err != nil {
 		return nil, err
 	}
-	if err := checkRunMemory(budget, len(d.Structure.Nodes), len(d.Structure.Attrs), d.Panel.T, opt.Horizon,
+	if err := checkRunMemory(budget, len(d.Structure.Nodes), len(d.Structure.Attrs), d.Panel.T, opt.Horizon, 2*d.Panel.T+opt.Horizon,
 		d.Panel.Period(0).String()+" to "+d.Panel.Period(d.Panel.T-1).String(), isProjection(method)); err != nil {
 		return nil, err
 	}

@@ -18,6 +18,7 @@ import (
 	"fmt"
 	"math"
 	"os"
+	"runtime/debug"
 	"strconv"
 	"strings"
 )
@@ -67,6 +68,27 @@ func Budget() (int64, error) {
 		return b, nil
 	}
 	return available(), nil
+}
+
+// LimitRuntime makes the budget the Go runtime's soft memory limit
+// (runtime/debug.SetMemoryLimit), unless the environment sets one with
+// GOMEMLIMIT, and returns the limit set (0 when none). Without a limit
+// the collector lets the heap grow to about twice the live data (GOGC's
+// default) before collecting, so a run whose live data fits the budget
+// (which is all the checks ask) could still be killed by the machine
+// for memory it would have freed; with it the collector works harder as
+// the heap nears the budget. A TRUEUP_MEMORY that is not a size sets no
+// limit here; the run's own checks report it.
+func LimitRuntime() int64 {
+	if _, ok := os.LookupEnv("GOMEMLIMIT"); ok {
+		return 0
+	}
+	b, err := Budget()
+	if err != nil || b <= 0 {
+		return 0
+	}
+	debug.SetMemoryLimit(b)
+	return b
 }
 
 // Parse reads a size: a number of bytes, or a number with the unit KB,

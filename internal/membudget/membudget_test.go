@@ -3,6 +3,7 @@ package membudget
 import (
 	"errors"
 	"math"
+	"runtime/debug"
 	"strings"
 	"testing"
 )
@@ -35,5 +36,26 @@ func TestParseFormatAndSaturation(t *testing.T) {
 	t.Setenv(Env, "3GB")
 	if b, err := Budget(); err != nil || b != 3e9 {
 		t.Errorf("Budget with %s=3GB: %d, %v", Env, b, err)
+	}
+}
+
+// TestLimitRuntime: the budget becomes the runtime's soft memory limit,
+// unless GOMEMLIMIT sets one or TRUEUP_MEMORY is not a size.
+func TestLimitRuntime(t *testing.T) {
+	before := debug.SetMemoryLimit(-1)
+	t.Cleanup(func() { debug.SetMemoryLimit(before) })
+	t.Setenv(Env, "3GiB")
+	if got := LimitRuntime(); got != 3<<30 || debug.SetMemoryLimit(-1) != 3<<30 {
+		t.Fatalf("set %d, runtime limit %d, want %d", got, debug.SetMemoryLimit(-1), 3<<30)
+	}
+	debug.SetMemoryLimit(before)
+	t.Setenv(Env, "lots")
+	if got := LimitRuntime(); got != 0 || debug.SetMemoryLimit(-1) != before {
+		t.Fatalf("a bad %s set %d, runtime limit %d", Env, got, debug.SetMemoryLimit(-1))
+	}
+	t.Setenv(Env, "3GiB")
+	t.Setenv("GOMEMLIMIT", "5GiB")
+	if got := LimitRuntime(); got != 0 || debug.SetMemoryLimit(-1) != before {
+		t.Fatalf("with GOMEMLIMIT set %d, runtime limit %d", got, debug.SetMemoryLimit(-1))
 	}
 }

@@ -20,6 +20,7 @@ import (
 	"trueup/engine/output"
 	"trueup/inputerr"
 	"trueup/internal/crash"
+	"trueup/internal/membudget"
 	"trueup/tableio"
 )
 
@@ -53,6 +54,7 @@ func Main(args []string, cfg Config) {
 	sig := make(chan os.Signal, 1)
 	signal.Notify(sig, syscall.SIGHUP, syscall.SIGINT, syscall.SIGTERM)
 	go exitOnSignal(sig)
+	membudget.LimitRuntime()
 	if cfg.Fitter != nil {
 		newFitter = cfg.Fitter
 	}
