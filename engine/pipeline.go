@@ -192,7 +192,7 @@ func DefaultHorizon(period int) int {
 // not need the data.
 func (o Options) resolve(period int) (Options, error) {
 	if o.Period < 0 {
-		return o, inputerr.ForOption("Period", "the seasonal period must be at least 1, got %d", o.Period)
+		return o, inputerr.ForOption("Period", "the season length must be at least 1, got %d", o.Period)
 	}
 	if o.Horizon < 0 {
 		return o, inputerr.ForOption("Horizon", "the horizon must be at least 1 period, got %d", o.Horizon)
@@ -240,7 +240,7 @@ func (o Options) resolve(period int) (Options, error) {
 // too short for them gets non-seasonal models, as before.
 func (o Options) Supported(t, grainPeriod int) error {
 	if o.Period > 1 && o.Period > t/2 {
-		return inputerr.ForOption("Period", "a seasonal period of %d needs at least %d periods of history (two cycles); the history has %d, which supports a period of at most %d",
+		return inputerr.ForOption("Period", "a season length of %d needs at least %d periods of history (two cycles); the history has %d, which supports a season length of at most %d",
 			o.Period, 2*o.Period, t, max(t/2, 1))
 	}
 	period := o.Period

@@ -57,7 +57,7 @@ func (Temporal) Name() string { return "temporal" }
 // Reconcile implements Method.
 func (Temporal) Reconcile(p Problem) (Solution, error) {
 	if len(p.Temporal) == 0 {
-		return Solution{}, inputerr.ForOption("Method", "the temporal method needs forecasts of the series summed over quarters and seasons, which a seasonal period above 1 gives")
+		return Solution{}, inputerr.ForOption("Method", "the temporal method needs forecasts of the series summed over quarters and seasons, which a season length above 1 gives")
 	}
 	m := 0
 	for _, tb := range p.Temporal {

@@ -66,7 +66,7 @@ func FitOrder(y []float64, spec Spec, opt Options) (*Fitted, error) {
 	}
 	if !spec.seasonal() {
 		if spec.SP > 0 || spec.SD > 0 || spec.SQ > 0 || spec.Fourier > 0 {
-			return nil, inputerr.New("model %s has seasonal terms but no seasonal period (give m=, or a period above 1)", spec)
+			return nil, inputerr.New("model %s has seasonal terms but no season length (give m=, or a season length above 1)", spec)
 		}
 		spec.Period = 0
 	}

@@ -210,7 +210,7 @@ func checkData(y []float64, sp Spec, m int) error {
 	}
 	if sp.Seasonal() {
 		if m < 2 {
-			return inputerr.New("%s needs a seasonal period of at least 2, have %d", sp, m)
+			return inputerr.New("%s needs a season length of at least 2, have %d", sp, m)
 		}
 		if len(y) < 2*m {
 			return inputerr.New("%s with period %d needs at least %d observations (two seasons), have %d", sp, m, 2*m, len(y))

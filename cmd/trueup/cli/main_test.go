@@ -187,7 +187,7 @@ func TestBadInputs(t *testing.T) {
 		{"negative workers", []string{"--input", goodCSV, "--workers", "-1"}, "", "--workers"},
 		{"level twice", []string{"--input", goodCSV, "--intervals", "80,80"}, "", "--intervals"},
 		{"horizon beyond the history", []string{"--input", goodCSV, "--horizon", "10000"}, "", "--horizon: a horizon of 10000"},
-		{"period beyond the history", []string{"--input", goodCSV, "--season-length", "3"}, "", "supports a period of at most 2"},
+		{"period beyond the history", []string{"--input", goodCSV, "--season-length", "3"}, "", "supports a season length of at most 2"},
 		{"plan grain no coarser than the data", []string{"--input", goodCSV, "--plan-grain", "quarter,month"}, "", "--plan-grain: the data is by month"},
 		{"unknown plan grain", []string{"--input", goodCSV, "--plan-grain", "fortnight"}, "", "--plan-grain: \"fortnight\""},
 		{"out is a file", []string{"--input", goodCSV, "--out", goodCSV}, "", "--out: " + goodCSV + ": is a file"},

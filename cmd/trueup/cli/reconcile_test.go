@@ -222,7 +222,7 @@ func cellString(c tableio.Column, r int) string {
 // TestReconcileRunRecordAndLambda checks reconcile's run.json: the base
 // table's SHA-256 (against Go's crypto/sha256 on the file's bytes), the
 // history's first and last period (12 months of residuals, 2025-01 to
-// 2025-12) and the seasonal period of months (12); and that the shrinkage
+// 2025-12) and the season length of months (12); and that the shrinkage
 // λ is reported, in run.json and the summary, for --cov shrink only: with
 // variance scaling (as with sample, the same code path) nothing is shrunk.
 func TestReconcileRunRecordAndLambda(t *testing.T) {
@@ -267,7 +267,7 @@ func TestReconcileRunRecordAndLambda(t *testing.T) {
 			t.Errorf("%s: input sha256 %q, want %x", cov, rec.Input.SHA256, sum)
 		}
 		if rec.Counts.First != "2025-01" || rec.Counts.Last != "2025-12" || rec.Counts.Seasonal != 12 {
-			t.Errorf("%s: history %q to %q, seasonal period %d; want 2025-01 to 2025-12, 12", cov, rec.Counts.First, rec.Counts.Last, rec.Counts.Seasonal)
+			t.Errorf("%s: history %q to %q, season length %d; want 2025-01 to 2025-12, 12", cov, rec.Counts.First, rec.Counts.Last, rec.Counts.Seasonal)
 		}
 		_, noted := rec.Reconcile.Notes["shrinkage"]
 		printed := strings.Contains(stdout, "shrinkage intensity")

@@ -23,7 +23,7 @@ func printSummary(w io.Writer, res *engine.Result, files []string, asJSON bool) 
 		return enc.Encode(rep)
 	}
 	c := rep.Counts
-	fmt.Fprintf(w, "Read %s rows: %s bottom series, %s to %s (%d %ss, seasonal period %d).\n",
+	fmt.Fprintf(w, "Read %s rows: %s bottom series, %s to %s (%d %ss, season length %d).\n",
 		grouped(float64(rep.Input.Rows)), grouped(float64(c.BottomSeries)), c.FirstPeriod, c.LastPeriod, c.Periods, c.Grain, c.SeasonalLag)
 	how := rep.Reconcile.Method
 	var extras []string
