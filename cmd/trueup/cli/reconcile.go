@@ -43,8 +43,10 @@ The rules are those of forecast: a bottom series whose history or
 residuals stop before the forecast origin has closed and is forecast as
 zero; mint is non-negative unless the history (or, without one, a bottom
 base forecast) is negative; lower bounds of non-negative forecasts stop
-at zero. Intervals come from one joint Gaussian distribution of the
-reconciled errors. Without a base_variance column every step uses the
+at zero. Intervals are forecast ± z·sd, sd from the joint distribution of
+the reconciled errors; with --residuals, z per level comes from the
+quantiles of the reconciled forecasts' past one-step errors (see
+--interval-method). Without a base_variance column every step uses the
 one-step residual variance, so intervals do not widen with the horizon.
 
 Forecasts are estimates. Review them, and their intervals, before they go

@@ -274,6 +274,11 @@ func TestReconcileRunRecordAndLambda(t *testing.T) {
 		if want := cov == "shrink"; noted != want || printed != want {
 			t.Errorf("--cov %s: shrinkage in run.json %v, in the summary %v; want %v", cov, noted, printed, want)
 		}
+		// The default intervals take their z from the residuals' quantiles,
+		// and the summary says so, as forecast's does.
+		if !strings.Contains(stdout, "quantiles of the reconciled forecasts' past one-step errors (total: 80% ×") {
+			t.Errorf("--cov %s: the summary does not say how the intervals were made:\n%s", cov, stdout)
+		}
 	}
 }
 

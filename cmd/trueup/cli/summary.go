@@ -49,9 +49,7 @@ func printSummary(w io.Writer, res *engine.Result, files []string, asJSON bool) 
 				words.Count(b.NoSimulator, "node's model has", "nodes' models have"))
 		}
 	}
-	if sh := rep.Reconcile.Shape; sh != nil && (rep.Reconcile.Calibration == nil || !rep.Reconcile.Calibration.Applied) {
-		fmt.Fprintf(w, "Intervals from the reconciled variances, their width per level set by the quantiles of the reconciled forecasts' past one-step errors (%s; factors in run.json).\n", shapeWords(sh))
-	}
+	printShape(w, rep)
 	if c := rep.Reconcile.Calibration; c != nil {
 		if c.Applied {
 			fmt.Fprintf(w, "Intervals calibrated from a backtest at %s (it brought coverage nearer to nominal at its later origins; factors in run.json).\n", words.Count(c.Origins, "origin", "origins"))
@@ -84,8 +82,17 @@ func printReconciled(w io.Writer, res *engine.Result, files []string) error {
 	}
 	fmt.Fprintf(w, "Reconciled %s (%s) × %s, %s to %s, with %s.\n",
 		words.Count(c.Nodes, "node", "nodes"), words.Count(c.BottomSeries, "bottom series", "bottom series"), words.Count(c.Horizon, "period", "periods"), c.ForecastRange[0], c.ForecastRange[1], how)
+	printShape(w, rep)
 	printTail(w, res, files)
 	return nil
+}
+
+// printShape says that the intervals are error-quantile ones, with the
+// total's factors, unless a calibration replaced them.
+func printShape(w io.Writer, rep engine.RunReport) {
+	if sh := rep.Reconcile.Shape; sh != nil && (rep.Reconcile.Calibration == nil || !rep.Reconcile.Calibration.Applied) {
+		fmt.Fprintf(w, "Intervals from the reconciled variances, their width per level set by the quantiles of the reconciled forecasts' past one-step errors (%s; factors in run.json).\n", shapeWords(sh))
+	}
 }
 
 // printTail prints the reconciliation facts, the total's forecast,
