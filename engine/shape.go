@@ -107,3 +107,49 @@ func reconciledErrors(method reconcile.Method, prob reconcile.Problem, trading *
 	}
 	return full, nil
 }
+
+// holdoutScale multiplies the factors of cal by the square root of the
+// mean of e²/v per node level and horizon group over the automatic
+// choice's validation errors e and their forecast variances v (NodeFit's
+// holdout record): how far the base models' variances were off on
+// periods held out of their fit.
+func holdoutScale(cal *Calibration, st *hierarchy.Structure, fits []NodeFit) {
+	sum := make([][]float64, len(cal.Levels))
+	cnt := make([][]int, len(cal.Levels))
+	for l := range sum {
+		sum[l], cnt[l] = make([]float64, len(cal.Groups)), make([]int, len(cal.Groups))
+	}
+	for i, f := range fits {
+		if f.Closed || !f.Fitted {
+			continue
+		}
+		l := st.Nodes[i].Level
+		for o, row := range f.HoldoutErrors {
+			for k, e := range row {
+				v := f.HoldoutVariances[o][k]
+				if !(v > 0) || math.IsNaN(e) {
+					continue
+				}
+				for g, gr := range cal.Groups {
+					if k+1 >= gr[0] && k+1 <= gr[1] {
+						sum[l][g] += e * e / v
+						cnt[l][g]++
+					}
+				}
+			}
+		}
+	}
+	for l := range cal.Levels {
+		for g := range cal.Groups {
+			if cnt[l][g] < CalibrationMin {
+				continue
+			}
+			r := math.Sqrt(sum[l][g] / float64(cnt[l][g]))
+			f := make([]float64, len(cal.Intervals))
+			for q := range f {
+				f[q] = cal.Factor[l][g][q] * r
+			}
+			cal.Factor[l][g] = f
+		}
+	}
+}
