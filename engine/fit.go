@@ -9,7 +9,6 @@ import (
 	"trueup/inputerr"
 	"trueup/internal/numeric"
 	"trueup/models"
-	"trueup/models/choose"
 	"trueup/models/families"
 )
 
@@ -88,10 +87,6 @@ func FitOne(job FitJob) (NodeFit, error) {
 	nf.Residuals = model.Residuals()
 	if sm, ok := model.(models.Simulator); ok {
 		nf.Path = sm.PathForm(h)
-	}
-	if ho, ok := model.(interface{ Holdout() choose.Holdout }); ok {
-		hx := ho.Holdout()
-		nf.HoldoutErrors, nf.HoldoutVariances = hx.Errors, hx.Variances
 	}
 	if last < len(y)-1 {
 		// Closed: the fit still supplies in-sample residuals for

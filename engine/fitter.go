@@ -47,14 +47,9 @@ type NodeFit struct {
 	// Path is the model's linear innovations form, from which the
 	// bootstrap intervals simulate paths; nil when the model has none
 	// (see models.Simulator) or the node is closed.
-	Path *models.PathForm
-	// HoldoutErrors and HoldoutVariances are the automatic choice's
-	// record at its validation origins (choose.Holdout): per origin and
-	// step, the chosen form's error on held-out periods and its forecast
-	// variance. Nil for other families.
-	HoldoutErrors, HoldoutVariances [][]float64
-	Warning                         string
-	Closed                          bool // the node stopped trading before the panel's last period
+	Path    *models.PathForm
+	Warning string
+	Closed  bool // the node stopped trading before the panel's last period
 	// Fitted reports whether a model was fitted at all (false only for a
 	// node with no observations).
 	Fitted bool

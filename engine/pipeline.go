@@ -215,7 +215,7 @@ func (o Options) resolve(period int) (Options, error) {
 	switch o.Intervals {
 	case "":
 		o.Intervals = DefaultIntervals
-	case IntervalsErrorQuantiles, IntervalsGaussian, IntervalsBootstrap, "holdout":
+	case IntervalsErrorQuantiles, IntervalsGaussian, IntervalsBootstrap:
 	default:
 		return o, inputerr.ForOption("Intervals", "unknown interval method %q (use %s, %s or %s)", o.Intervals, IntervalsErrorQuantiles, IntervalsGaussian, IntervalsBootstrap)
 	}
@@ -395,16 +395,13 @@ func Forecast(ctx context.Context, d *Data, opt Options) (*Result, error) {
 
 	res := &Result{Structure: st, Calendar: Calendar{First: d.Panel.First, T: d.Panel.T}, History: history,
 		Fits: fits, Solution: sol, Sampled: sampled, Levels: opt.Levels, Nonnegative: nonneg, Horizon: opt.Horizon, KeyTypes: d.KeyTypes}
-	if opt.Intervals == IntervalsErrorQuantiles || opt.Intervals == "holdout" {
+	if opt.Intervals == IntervalsErrorQuantiles {
 		start = time.Now()
 		errs, err := reconciledErrors(method, prob, trading, st)
 		if err != nil {
 			return nil, err
 		}
 		res.Shape = errorShape(st, errs, opt.Horizon, opt.Levels)
-		if opt.Intervals == "holdout" {
-			holdoutScale(res.Shape, st, fits)
-		}
 		stage("reconcile", start)
 	}
 	if len(opt.PlanGrains) > 0 {

@@ -136,28 +136,6 @@ func main() {
 				}
 			}
 			if i == 0 {
-				if ho, ok := fit.(interface{ Holdout() choose.Holdout }); ok {
-					hx := ho.Holdout()
-					var rec xrec
-					rec.scale = scale
-					rec.test, rec.mean, rec.variance = test, mean, variance
-					hv := 0
-					if len(hx.Errors) > 0 {
-						hv = len(hx.Errors[0])
-					}
-					rec.hv = hv
-					for o := range hx.Errors {
-						for k, e := range hx.Errors[o] {
-							v := hx.Variances[o][k]
-							if v > 0 && !math.IsNaN(e) {
-								g := 3 * k / hv
-								rec.sum[g] += e * e / v
-								rec.n[g]++
-							}
-						}
-					}
-					xrecs = append(xrecs, rec)
-				}
 				chose = fit.Family()
 				for j := range test {
 					sd := math.Sqrt(variance[j])
@@ -204,81 +182,6 @@ func main() {
 	fmt.Printf("\nauto's Gaussian intervals on the %d held-out values: %.1f%% inside the 80%% interval, %.1f%% inside the 95%% interval\n",
 		total, 100*float64(in80)/float64(total), 100*float64(in95)/float64(total))
 	fmt.Fprintf(os.Stderr, "%d series in %.1f s\n", len(set), time.Since(start).Seconds())
-	experiment(xrecs)
-}
-
-type xrec struct {
-	scale                 float64
-	test, mean, variance  []float64
-	hv                    int
-	sum                   [3]float64
-	n                     [3]int
-}
-
-var xrecs []xrec
-
-func experiment(recs []xrec) {
-	var psum [3]float64
-	var pn [3]int
-	for _, r := range recs {
-		for g := range 3 {
-			psum[g] += r.sum[g]
-			pn[g] += r.n[g]
-		}
-	}
-	for g := range 3 {
-		fmt.Printf("pooled holdout ratio group %d: %.3f (%d)\n", g, psum[g]/float64(pn[g]), pn[g])
-	}
-	type variant struct {
-		name  string
-		ratio func(r xrec, j int) float64
-	}
-	grp := func(r xrec, j int) int { return min(2, 3*j/len(r.test)) }
-	vs := []variant{
-		{"gaussian", func(xrec, int) float64 { return 1 }},
-		{"per series, all steps", func(r xrec, j int) float64 {
-			s, n := r.sum[0]+r.sum[1]+r.sum[2], r.n[0]+r.n[1]+r.n[2]
-			if n == 0 {
-				return 1
-			}
-			return s / float64(n)
-		}},
-		{"per series, by group", func(r xrec, j int) float64 {
-			g := grp(r, j)
-			if r.n[g] == 0 {
-				return 1
-			}
-			return r.sum[g] / float64(r.n[g])
-		}},
-		{"pooled, by group", func(r xrec, j int) float64 { g := grp(r, j); return psum[g] / float64(pn[g]) }},
-	}
-	for _, v := range vs {
-		var in80, in95, n int
-		var is80 float64
-		for _, r := range recs {
-			for j := range r.test {
-				sd := math.Sqrt(r.variance[j] * v.ratio(r, j))
-				e := math.Abs(r.test[j] - r.mean[j])
-				if e <= 1.2815515655446004*sd {
-					in80++
-				}
-				if e <= 1.959963984540054*sd {
-					in95++
-				}
-				lo, hi := r.mean[j]-1.2815515655446004*sd, r.mean[j]+1.2815515655446004*sd
-				is := hi - lo
-				if r.test[j] < lo {
-					is += 2 / 0.2 * (lo - r.test[j])
-				}
-				if r.test[j] > hi {
-					is += 2 / 0.2 * (r.test[j] - hi)
-				}
-				is80 += is / r.scale
-				n++
-			}
-		}
-		fmt.Printf("%-24s 80%%: %.1f%%  95%%: %.1f%%  interval score 80%%: %.3f\n", v.name, 100*float64(in80)/float64(n), 100*float64(in95)/float64(n), is80/float64(n))
-	}
 }
 
 // medianOnly is the median of ETS, ARIMA (the given family) and Theta,

@@ -158,7 +158,7 @@ func (f *Family) Fit(y []float64, opt models.FitOptions) (models.Model, error) {
 	if !ok {
 		return f.fallback(y, opt, fmt.Sprintf("series of %d observations too short for validation", len(y)))
 	}
-	scores, frozen, held := f.validate(y, m, v, opt)
+	scores, frozen := f.validate(y, m, v, opt)
 	win := f.pick(scores)
 	if win < 0 {
 		return f.fallback(y, opt, join(v.note, "every candidate failed in validation"))
@@ -182,28 +182,7 @@ func (f *Family) Fit(y []float64, opt models.FitOptions) (models.Model, error) {
 		}
 	}
 	return &Fitted{Model: model, scores: scores, winner: win, combined: f.combined(), margin: f.opt.Margin,
-		origins: v.origins, horizon: v.horizon, note: note, holdout: holdout(held[win], y, v)}, nil
-}
-
-// holdout is the record of the chosen candidate's forecasts at the
-// validation origins (models fitted at each, as validate left them):
-// their errors on the held-out periods and their forecast variances.
-func holdout(fits []models.Model, y []float64, v design) Holdout {
-	var h Holdout
-	first := len(y) - v.horizon - (v.origins-1)*v.step
-	for o, mod := range fits {
-		if mod == nil {
-			continue
-		}
-		end := first + o*v.step
-		mean, variance := mod.Forecast(v.horizon)
-		e := make([]float64, v.horizon)
-		for k := range e {
-			e[k] = y[end+k] - mean[k]
-		}
-		h.Errors, h.Variances = append(h.Errors, e), append(h.Variances, variance)
-	}
-	return h
+		origins: v.origins, horizon: v.horizon, note: note}, nil
 }
 
 // pick applies the rule of the package comment: the combination unless a
@@ -316,7 +295,7 @@ func (f *Family) plan(T, m, h int) (design, bool) {
 // validate scores every candidate at the design's origins. The first
 // origin runs each family's own search; later origins and the final refit
 // use the frozen form it found (freeze), which validate returns.
-func (f *Family) validate(y []float64, m int, v design, opt models.FitOptions) ([]Score, []models.Family, [][]models.Model) {
+func (f *Family) validate(y []float64, m int, v design, opt models.FitOptions) ([]Score, []models.Family) {
 	T := len(y)
 	first := T - v.horizon - (v.origins-1)*v.step
 	seasonal := numeric.StronglySeasonal(y[:first], m)
@@ -337,10 +316,6 @@ func (f *Family) validate(y []float64, m int, v design, opt models.FitOptions) (
 	}
 	sums := make([]float64, len(scores))
 	frozen := make([]models.Family, len(f.cands))
-	held := make([][]models.Model, len(scores))
-	for i := range held {
-		held[i] = make([]models.Model, v.origins)
-	}
 	vopt := opt
 	vopt.Horizon = v.horizon
 	fits := make([]models.Model, len(f.cands))
@@ -374,7 +349,7 @@ func (f *Family) validate(y []float64, m int, v design, opt models.FitOptions) (
 				}
 				frozen[i] = freeze(mod, cand)
 			}
-			fits[i], held[i][o] = mod, mod
+			fits[i] = mod
 			sums[i] += mase(pointForecast(mod, v.horizon), test, scale)
 		}
 		if c >= 0 && scores[c].Err == "" {
@@ -389,7 +364,6 @@ func (f *Family) validate(y []float64, m int, v design, opt models.FitOptions) (
 				continue
 			}
 			comb := Median(parts...)
-			held[c][o] = comb
 			if o == 0 {
 				scores[c].Spec = comb.Spec()
 			}
@@ -403,7 +377,7 @@ func (f *Family) validate(y []float64, m int, v design, opt models.FitOptions) (
 			scores[i].MASE = sums[i] / float64(v.origins)
 		}
 	}
-	return scores, frozen, held
+	return scores, frozen
 }
 
 // maseScale is the in-sample mean absolute error of the seasonal naive

@@ -20,19 +20,7 @@ type Fitted struct {
 	origins  int
 	horizon  int
 	note     string
-	holdout  Holdout
 }
-
-// Holdout is the chosen candidate's record at the validation origins:
-// Errors[o][k] is its error at origin o, step k+1 (actual − forecast, on
-// periods held out of its fit), Variances[o][k] its forecast variance
-// there. Empty when chosen without validation.
-type Holdout struct {
-	Errors, Variances [][]float64
-}
-
-// Holdout returns the chosen candidate's validation record.
-func (f *Fitted) Holdout() Holdout { return f.holdout }
 
 var _ models.Model = (*Fitted)(nil)
 
