@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"strings"
 	"testing"
+	"time"
 
 	"trueup/inputerr"
 	"trueup/tableio"
@@ -95,6 +96,46 @@ func TestYearOfTwoMonthsIsSetAside(t *testing.T) {
 	}
 	if last := pn.Period(pn.T - 1).String(); last != "2023" || !strings.Contains(pn.Stats.SetAside, "2024 has 2 of its 12 months") {
 		t.Errorf("panel ends %s, note %q; want 2023 and a note on 2024's 2 months", last, pn.Stats.SetAside)
+	}
+}
+
+// TestPanelSetsAsidePartialFirstPeriod: daily rows from 2021-01-04
+// summed to months. January 2021 has 28 of its 31 days, so it is set
+// aside with a note naming it and its days, and the panel starts in
+// February; with KeepFirstPeriod it stays, named among the partial
+// periods. A last month that is whole is kept either way.
+func TestPanelSetsAsidePartialFirstPeriod(t *testing.T) {
+	var rows [][3]string
+	var vals []float64
+	for d := time.Date(2021, 1, 4, 0, 0, 0, 0, time.UTC); d.Before(time.Date(2021, 7, 1, 0, 0, 0, 0, time.UTC)); d = d.AddDate(0, 0, 1) {
+		for _, s := range []string{"A", "B"} {
+			rows = append(rows, [3]string{d.Format("2006-01-02"), s, ""})
+			vals = append(vals, 10)
+		}
+	}
+	month := tableio.Month
+	pn, err := BuildPanel(rowsOf(t, rows, vals), PanelOptions{Grain: &month})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if first := pn.Period(0).String(); first != "2021-02" || pn.T != 5 || pn.Values[0][0] != 280 {
+		t.Errorf("panel starts %s with %d months, first value %v; want 2021-02, 5, 280", first, pn.T, pn.Values[0][0])
+	}
+	for _, w := range []string{"first period 2021-01", "28 of its 31 days", "starts at 2021-02"} {
+		if !strings.Contains(pn.Stats.SetAsideFirst, w) {
+			t.Errorf("set-aside note %q does not name %q", pn.Stats.SetAsideFirst, w)
+		}
+	}
+	if len(pn.Stats.Partial) != 0 || pn.Stats.SetAside != "" {
+		t.Errorf("partial %v, last set aside %q; want none", pn.Stats.Partial, pn.Stats.SetAside)
+	}
+	pn, err = BuildPanel(rowsOf(t, rows, vals), PanelOptions{Grain: &month, KeepFirstPeriod: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if first := pn.Period(0).String(); first != "2021-01" || pn.T != 6 || pn.Values[0][0] != 280 || pn.Stats.SetAsideFirst != "" ||
+		len(pn.Stats.Partial) != 1 || !strings.HasPrefix(pn.Stats.Partial[0], "2021-01 has 28 of its 31 days") {
+		t.Errorf("kept: starts %s, %d months, first value %v, note %q, partial %v", first, pn.T, pn.Values[0][0], pn.Stats.SetAsideFirst, pn.Stats.Partial)
 	}
 }
 

@@ -56,6 +56,10 @@ type PanelStats struct {
 	// SetAside says why the input's last period was left out as partial
 	// (see partialLast), "" when it was not.
 	SetAside string
+	// SetAsideFirst says why the input's first period was left out as
+	// partial (an export that starts on the 4th of a month), "" when it
+	// was not.
+	SetAsideFirst string
 	// Notes says how the periods were read where that is not plain from
 	// the file (tableio.Rows.Notes).
 	Notes []string
@@ -68,6 +72,9 @@ func (s PanelStats) InputNotes() []string {
 	out := append([]string{}, s.Notes...)
 	if s.Until != "" {
 		out = append(out, s.Until)
+	}
+	if s.SetAsideFirst != "" {
+		out = append(out, s.SetAsideFirst)
 	}
 	if s.SetAside != "" {
 		out = append(out, s.SetAside)
@@ -88,6 +95,9 @@ type PanelOptions struct {
 	// KeepLastPeriod keeps a last period that looks partial (see
 	// partialLast) instead of setting it aside.
 	KeepLastPeriod bool
+	// KeepFirstPeriod keeps a first period that the input's finer periods
+	// cover only in part (see partialEdges) instead of setting it aside.
+	KeepFirstPeriod bool
 }
 
 // BuildPanel turns input rows into one series per distinct key. Without
@@ -222,6 +232,14 @@ func BuildPanel(rows *tableio.Rows, opt PanelOptions) (*Panel, error) {
 	var partial []string
 	if target != native {
 		partial = partialEdges(nat, tgt, native, target, tMin, tMax)
+	}
+	if first := (tableio.Period{Grain: target, Index: tMin}).String() + " "; !opt.KeepFirstPeriod && T > 1 &&
+		len(partial) > 0 && strings.HasPrefix(partial[0], first) {
+		// A first period the input covers only in part (an export that
+		// starts on the 4th) understates its total, and every seasonal
+		// model's first error a season later is then an outlier in every
+		// series at once: it is set aside like a partial last period.
+		return setAsideFirst(rows, opt, tgt, tMin, partial[0])
 	}
 	pn := &Panel{
 		Grain:   target,
@@ -376,6 +394,27 @@ func setAside(rows *tableio.Rows, opt PanelOptions, tgt []int, tMax int, why str
 	last := tableio.Period{Grain: pn.Grain, Index: tMax}
 	pn.Stats.SetAside = fmt.Sprintf("last period %s looks partial: %s; it was set aside, so the forecast starts at %s and no series is taken as closed on its account",
 		last, why, last)
+	return pn, nil
+}
+
+// setAsideFirst builds the panel again without the first period tMin (at
+// the target grain; tgt holds each row's target period), why being the
+// reason.
+func setAsideFirst(rows *tableio.Rows, opt PanelOptions, tgt []int, tMin int, why string) (*Panel, error) {
+	keep := make([]int, 0, len(tgt))
+	for i, t := range tgt {
+		if t > tMin {
+			keep = append(keep, i)
+		}
+	}
+	sub := opt
+	sub.KeepFirstPeriod = true
+	pn, err := BuildPanel(subRows(rows, keep), sub)
+	if err != nil {
+		return nil, err
+	}
+	first := tableio.Period{Grain: pn.Grain, Index: tMin}
+	pn.Stats.SetAsideFirst = fmt.Sprintf("first period %s looks partial: %s; it was set aside, so the history starts at %s", first, why, first.Next(1))
 	return pn, nil
 }
 

@@ -46,6 +46,10 @@ type Source struct {
 	// is set aside with a warning, so that the series missing from it are
 	// not taken as closed and forecast as zero.
 	KeepLastPeriod bool
+	// KeepFirstPeriod keeps a first period that the input's finer periods
+	// cover only in part (a month that starts on the 4th). By default it
+	// is set aside with a warning.
+	KeepFirstPeriod bool
 }
 
 // Data is a source read, checked and arranged: the bottom series on one
@@ -114,7 +118,7 @@ func (d *Data) arrange(rows *tableio.Rows, src Source) error {
 		return err
 	}
 	if d.Panel, err = BuildPanel(rows, PanelOptions{Grain: src.Grain, SumDuplicates: src.SumDuplicates,
-		MemoryBudget: budget, Until: src.Until, KeepLastPeriod: src.KeepLastPeriod}); err != nil {
+		MemoryBudget: budget, Until: src.Until, KeepLastPeriod: src.KeepLastPeriod, KeepFirstPeriod: src.KeepFirstPeriod}); err != nil {
 		return err
 	}
 	if len(src.Chains) == 0 {

@@ -129,7 +129,7 @@ func partialSales(t *testing.T, dir string) (string, string) {
 // A partial last month is set aside with a loud warning naming it, so the
 // forecast starts at that month and no store is closed on its account;
 // --until cuts the input at a period given as a label, a date or a
-// timestamp, with the same forecasts; --keep-last-period keeps the month.
+// timestamp, with the same forecasts; --keep-partial-periods keeps the month.
 func TestPartialLastPeriodAndUntil(t *testing.T) {
 	dir := t.TempDir()
 	sales, last := partialSales(t, dir)
@@ -162,9 +162,9 @@ func TestPartialLastPeriodAndUntil(t *testing.T) {
 			t.Errorf("--until %s: forecasts differ from the default run", until)
 		}
 	}
-	rep, _ = forecast("keep", "--keep-last-period")
+	rep, _ = forecast("keep", "--keep-partial-periods")
 	if w := fmt.Sprint(rep["warnings"]); strings.Contains(w, "looks partial") || !strings.Contains(w, "8 bottom series closed before "+last) {
-		t.Errorf("--keep-last-period: warnings %s, want the stores stopping early and no partial month set aside", w)
+		t.Errorf("--keep-partial-periods: warnings %s, want the stores stopping early and no partial month set aside", w)
 	}
 	// inspect lists the partial month among its input notes.
 	if out := runOK(t, append([]string{"inspect", "--input", sales}, nest...)...); !strings.Contains(out, "input note: last period "+last) {

@@ -13,6 +13,8 @@ var renamedFlags = map[string]string{
 	"levels": "intervals",
 	"period": "season-length",
 	"nest":   "hierarchy",
+	// --keep-last-period now keeps a partial first period too.
+	"keep-last-period": "keep-partial-periods",
 }
 
 // keepOldNames registers, for each flag of cmd that renamedFlags renamed,

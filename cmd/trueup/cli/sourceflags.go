@@ -22,7 +22,7 @@ type sourceFlags struct {
 	integerTime   string
 	separator     string
 	until         string
-	keepLast      bool
+	keepPartial   bool
 }
 
 // register adds the input flags and --hierarchy.
@@ -46,9 +46,9 @@ func (f *sourceFlags) registerInput(cmd *cobra.Command) {
 	fl.StringVar(&f.integerTime, "integer-time", "auto", "read whole-number periods as years or steps (auto: four-digit numbers 1800-2200 are years)")
 	fl.StringVar(&f.separator, "separator", "", `CSV field separator: ",", ";", "|" or "tab" (default: detected from the header line)`)
 	fl.StringVar(&f.until, "until", "", "use the history up to this period only, e.g. 2001-06, 2001-06-30 or a timestamp")
-	fl.BoolVar(&f.keepLast, "keep-last-period", false, "keep a last period that looks partial (by default it is set aside with a warning)")
+	fl.BoolVar(&f.keepPartial, "keep-partial-periods", false, "keep a first or last period that looks partial (by default each is set aside with a warning)")
 	groupFlags(cmd, "Input", "input", "input-format", "time", "value", "grain", "sum-duplicates", "integer-time", "separator",
-		"until", "keep-last-period")
+		"until", "keep-partial-periods")
 }
 
 // printInputNotes prints how the input was read where that is not plain
@@ -59,8 +59,11 @@ func printInputNotes(w io.Writer, data *engine.Data) {
 	for _, n := range st.Notes {
 		fmt.Fprintln(w, "trueup: note:", n)
 	}
+	if st.SetAsideFirst != "" {
+		fmt.Fprintf(w, "trueup: WARNING: %s (--keep-partial-periods keeps it)\n", st.SetAsideFirst)
+	}
 	if st.SetAside != "" {
-		fmt.Fprintf(w, "trueup: WARNING: %s (--keep-last-period keeps it; --until PERIOD cuts the input elsewhere)\n", st.SetAside)
+		fmt.Fprintf(w, "trueup: WARNING: %s (--keep-partial-periods keeps it; --until PERIOD cuts the input elsewhere)\n", st.SetAside)
 	}
 	for _, o := range st.Outliers {
 		fmt.Fprintln(w, "trueup: warning:", o)
@@ -74,7 +77,7 @@ func (f *sourceFlags) source(needKeys bool) (engine.Source, error) {
 		return engine.Source{}, &usageError{errMissing("--input")}
 	}
 	src := engine.Source{Path: f.input, Format: tableio.Format(f.format), Time: f.time, Value: f.value,
-		SumDuplicates: f.sumDuplicates, KeepLastPeriod: f.keepLast}
+		SumDuplicates: f.sumDuplicates, KeepLastPeriod: f.keepPartial, KeepFirstPeriod: f.keepPartial}
 	if f.until != "" {
 		p, err := tableio.ParsePeriod(f.until)
 		if err != nil {
